@@ -1,0 +1,27 @@
+//! busyhour: teletraffic engineering for real traffic.
+//!
+//! Size circuit groups and agent groups by discrete-event simulation with
+//! honest 95% confidence intervals, beside the closed-form answers (Erlang B,
+//! Erlang C, Erlang A, Engset, overflow moments, Kaufman-Roberts) wherever a
+//! formula applies.
+//!
+//! Data flows one way: file -> [`scenario`] -> `Model` -> [`engine`] (one
+//! replication) -> [`stats`] summary -> [`experiment`] (many replications) ->
+//! [`report`]. [`formulas`] is a leaf that `report` and `experiment` call.
+//!
+//! # Panics and errors
+//!
+//! Anything a user's file or flag can reach returns a typed error (`thiserror`
+//! enums, one per module); a panic is always a bug in busyhour. Internal
+//! invariants of the engine are checked with `debug_assert!`.
+//!
+//! # Cautions
+//!
+//! Every figure is an estimate under the model's stated assumptions. Where a
+//! design carries emergency or life-safety calls, keep margin, validate against
+//! measured traffic and defer to local regulation and licensed practice.
+#![forbid(unsafe_code)]
+
+pub mod dist;
+pub mod formulas;
+pub mod units;

@@ -1,0 +1,1 @@
+//! Human units: durations, rates and shares.
