@@ -1,1 +1,256 @@
-//! Human units: durations, rates and shares.
+//! Human units: durations ("20s", "3m", "1h30m"), rates ("1800/h", "30/m",
+//! "0.5/s") and shares ("1%", "0.01"), parsed to seconds, calls per second and
+//! plain fractions, and printed back the same way.
+//!
+//! Owns only text <-> number conversion; knows nothing of scenarios or models.
+
+use thiserror::Error;
+
+/// A piece of text that is not the unit it should be.
+#[derive(Debug, Clone, PartialEq, Error)]
+pub enum UnitError {
+    /// Durations are a number of seconds, or numbers with h, m, s and ms
+    /// suffixes in that order ("1h30m", "90s", "2.5m").
+    #[error("'{0}' is not a duration: expected seconds or a time like \"45s\", \"3m\", \"1h30m\"")]
+    Duration(String),
+    /// Rates are a count over a unit of time ("420/h", "7/m", "0.5/s").
+    #[error("'{0}' is not a rate: expected calls per unit of time like \"420/h\", \"7/m\", \"0.5/s\"")]
+    Rate(String),
+    /// Shares are a percentage ("1%") or a fraction ("0.01") between 0 and 1.
+    #[error("'{0}' is not a share: expected a percentage like \"1%\" or a fraction from 0 to 1 like \"0.01\"")]
+    Share(String),
+    /// The text parsed but the value is out of its allowed range.
+    #[error("'{text}' is out of range: {expected}")]
+    Range {
+        /// The text as given.
+        text: String,
+        /// What was expected, in plain words.
+        expected: &'static str,
+    },
+}
+
+fn parse_number(text: &str) -> Option<f64> {
+    let t = text.trim();
+    // Reject words such as "inf", "nan", "infinity" that f64::from_str accepts.
+    if t.is_empty()
+        || !t
+            .bytes()
+            .all(|b| b.is_ascii_digit() || matches!(b, b'.' | b'-' | b'+' | b'e' | b'E'))
+    {
+        return None;
+    }
+    t.parse::<f64>().ok().filter(|x| x.is_finite())
+}
+
+/// Parse a duration to seconds: a plain number is seconds; otherwise one or
+/// more `<number><unit>` parts with units `h`, `m`, `s`, `ms` (e.g. "1h30m",
+/// "2.5m", "90s", "250ms"). The result is finite and not negative.
+///
+/// # Example
+/// ```
+/// use busyhour::units::parse_duration;
+/// assert_eq!(parse_duration("1h30m").unwrap(), 5400.0);
+/// assert_eq!(parse_duration("45").unwrap(), 45.0);
+/// ```
+pub fn parse_duration(text: &str) -> Result<f64, UnitError> {
+    let err = || UnitError::Duration(text.to_string());
+    let t = text.trim();
+    if let Some(x) = parse_number(t) {
+        return if x >= 0.0 { Ok(x) } else { Err(err()) };
+    }
+    let mut total = 0.0;
+    let mut rest = t;
+    let mut parts = 0;
+    let mut last_rank = 0u8; // units must come in decreasing size: h, m, s, ms
+    while !rest.is_empty() {
+        let num_len = rest
+            .find(|c: char| !(c.is_ascii_digit() || c == '.'))
+            .ok_or_else(err)?;
+        if num_len == 0 {
+            return Err(err());
+        }
+        let value: f64 = rest[..num_len].parse().map_err(|_| err())?;
+        rest = &rest[num_len..];
+        let (factor, rank, len) = if rest.starts_with("ms") {
+            (0.001, 4, 2)
+        } else if rest.starts_with('h') {
+            (3600.0, 1, 1)
+        } else if rest.starts_with('m') {
+            (60.0, 2, 1)
+        } else if rest.starts_with('s') {
+            (1.0, 3, 1)
+        } else {
+            return Err(err());
+        };
+        if rank <= last_rank {
+            return Err(err());
+        }
+        last_rank = rank;
+        rest = rest[len..].trim_start();
+        total += value * factor;
+        parts += 1;
+    }
+    if parts == 0 || !total.is_finite() {
+        return Err(err());
+    }
+    Ok(total)
+}
+
+/// Parse a rate to events per second: `<count>/<unit>` with unit `h`, `m`,
+/// `s` or `d` (also "/hour", "/min", "/sec", "/day"), or a plain number taken
+/// as per second. The result is finite and not negative.
+///
+/// # Example
+/// ```
+/// use busyhour::units::parse_rate;
+/// assert_eq!(parse_rate("1800/h").unwrap(), 0.5);
+/// assert_eq!(parse_rate("30/m").unwrap(), 0.5);
+/// ```
+pub fn parse_rate(text: &str) -> Result<f64, UnitError> {
+    let err = || UnitError::Rate(text.to_string());
+    let t = text.trim();
+    let (count, per) = match t.split_once('/') {
+        Some((c, u)) => {
+            let per = match u.trim() {
+                "s" | "sec" | "second" => 1.0,
+                "m" | "min" | "minute" => 60.0,
+                "h" | "hr" | "hour" => 3600.0,
+                "d" | "day" => 86400.0,
+                _ => return Err(err()),
+            };
+            (parse_number(c).ok_or_else(err)?, per)
+        }
+        None => (parse_number(t).ok_or_else(err)?, 1.0),
+    };
+    if count < 0.0 {
+        return Err(err());
+    }
+    Ok(count / per)
+}
+
+/// Parse a share: "1%" is 0.01; a plain number must lie in [0, 1].
+///
+/// # Example
+/// ```
+/// use busyhour::units::parse_share;
+/// assert_eq!(parse_share("2.5%").unwrap(), 0.025);
+/// assert_eq!(parse_share("0.8").unwrap(), 0.8);
+/// ```
+pub fn parse_share(text: &str) -> Result<f64, UnitError> {
+    let err = || UnitError::Share(text.to_string());
+    let t = text.trim();
+    let value = match t.strip_suffix('%') {
+        Some(p) => parse_number(p).ok_or_else(err)? / 100.0,
+        None => parse_number(t).ok_or_else(err)?,
+    };
+    if !(0.0..=1.0).contains(&value) {
+        return Err(UnitError::Range {
+            text: text.to_string(),
+            expected: "a share from 0% to 100%",
+        });
+    }
+    Ok(value)
+}
+
+/// Print seconds as a short human duration: "45 s", "3.5 min", "2 h".
+pub fn format_duration(seconds: f64) -> String {
+    if !seconds.is_finite() {
+        return format!("{seconds}");
+    }
+    let a = seconds.abs();
+    if a >= 3600.0 && (seconds / 3600.0).fract().abs() < 1e-9 {
+        format!("{} h", seconds / 3600.0)
+    } else if a >= 120.0 {
+        format!("{} min", trim_float(seconds / 60.0, 2))
+    } else {
+        format!("{} s", trim_float(seconds, 2))
+    }
+}
+
+/// Print a rate given per second as calls per hour: "420/h".
+pub fn format_rate(per_second: f64) -> String {
+    format!("{}/h", trim_float(per_second * 3600.0, 2))
+}
+
+/// Print a share as a percentage with enough digits for small grades of
+/// service: "1.23%", "0.0412%".
+pub fn format_share(share: f64) -> String {
+    let pct = share * 100.0;
+    if pct == 0.0 {
+        "0%".to_string()
+    } else if pct.abs() >= 10.0 {
+        format!("{pct:.1}%")
+    } else if pct.abs() >= 0.1 {
+        format!("{pct:.2}%")
+    } else {
+        format!("{pct:.3}%").replace("0.000%", &format!("{pct:.2e}%"))
+    }
+}
+
+/// A number with at most `digits` decimals and no trailing zeros.
+pub fn trim_float(x: f64, digits: usize) -> String {
+    let s = format!("{x:.digits$}");
+    if s.contains('.') {
+        s.trim_end_matches('0').trim_end_matches('.').to_string()
+    } else {
+        s
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn durations() {
+        assert_eq!(parse_duration("20s"), Ok(20.0));
+        assert_eq!(parse_duration("3m"), Ok(180.0));
+        assert_eq!(parse_duration("1h30m"), Ok(5400.0));
+        assert_eq!(parse_duration("1h 30m 15s"), Ok(5415.0));
+        assert_eq!(parse_duration("2.5m"), Ok(150.0));
+        assert_eq!(parse_duration("250ms"), Ok(0.25));
+        assert_eq!(parse_duration(" 90 "), Ok(90.0));
+        assert_eq!(parse_duration("0"), Ok(0.0));
+        for bad in [
+            "", "m", "3x", "-5s", "-5", "1m1h", "3mm", "nan", "inf", "1e999", "s3", "3 m",
+        ] {
+            assert!(parse_duration(bad).is_err(), "{bad:?} should fail");
+        }
+        let e = parse_duration("3x").unwrap_err().to_string();
+        assert!(e.contains("'3x'") && e.contains("expected"), "{e}");
+    }
+
+    #[test]
+    fn rates() {
+        assert_eq!(parse_rate("1800/h"), Ok(0.5));
+        assert_eq!(parse_rate("30/m"), Ok(0.5));
+        assert_eq!(parse_rate("0.5/s"), Ok(0.5));
+        assert_eq!(parse_rate("0.5"), Ok(0.5));
+        assert_eq!(parse_rate("86400/day"), Ok(1.0));
+        for bad in ["", "/h", "3/x", "-3/h", "NaN/h", "inf", "3/h/h"] {
+            assert!(parse_rate(bad).is_err(), "{bad:?} should fail");
+        }
+    }
+
+    #[test]
+    fn shares() {
+        assert_eq!(parse_share("1%"), Ok(0.01));
+        assert_eq!(parse_share("0.01"), Ok(0.01));
+        assert_eq!(parse_share("100%"), Ok(1.0));
+        for bad in ["", "%", "101%", "1.5", "-1%", "nan", "x%"] {
+            assert!(parse_share(bad).is_err(), "{bad:?} should fail");
+        }
+    }
+
+    #[test]
+    fn printing() {
+        assert_eq!(format_duration(45.0), "45 s");
+        assert_eq!(format_duration(180.0), "3 min");
+        assert_eq!(format_duration(7200.0), "2 h");
+        assert_eq!(format_rate(0.5), "1800/h");
+        assert_eq!(format_share(0.0123), "1.23%");
+        assert_eq!(format_share(0.25), "25.0%");
+        assert_eq!(format_share(0.0), "0%");
+        assert_eq!(trim_float(2.50, 2), "2.5");
+    }
+}
