@@ -23,5 +23,10 @@
 #![forbid(unsafe_code)]
 
 pub mod dist;
+pub mod engine;
+pub mod experiment;
 pub mod formulas;
+pub mod report;
+pub mod scenario;
+pub mod stats;
 pub mod units;

@@ -1,1 +1,46 @@
-fn main() {}
+//! The `busyhour` command: clap definitions and dispatch only. Every figure
+//! is computed by the library; errors print as one line and exit with 2.
+
+mod cli;
+
+use clap::{Parser, Subcommand};
+use std::process::ExitCode;
+
+/// Teletraffic engineering for real traffic: size circuit and agent groups by
+/// simulation, beside the closed-form formulas.
+#[derive(Parser)]
+#[command(name = "busyhour", version, about, propagate_version = true)]
+struct Cli {
+    #[command(subcommand)]
+    command: Command,
+}
+
+#[derive(Subcommand)]
+enum Command {
+    /// Simulate a scenario file and report every figure with its 95% interval.
+    Run(cli::RunArgs),
+    /// Validate a scenario file; print the compiled model and the formula view.
+    Check(cli::CheckArgs),
+    /// Closed-form teletraffic formulas (Erlang B and C, Erlang A, Engset,
+    /// overflow, multi-rate).
+    Calc(cli::calc::CalcArgs),
+}
+
+fn main() -> ExitCode {
+    let cli = Cli::parse();
+    let result = match &cli.command {
+        Command::Run(a) => cli::run(a),
+        Command::Check(a) => cli::check(a),
+        Command::Calc(a) => cli::calc::run(a).map(|()| cli::Status::Done),
+    };
+    match result {
+        Ok(status) => status.into(),
+        Err(e) => {
+            if cli::is_broken_pipe(&e) {
+                return ExitCode::SUCCESS;
+            }
+            eprintln!("busyhour: {e:#}");
+            ExitCode::from(2)
+        }
+    }
+}

@@ -1,0 +1,772 @@
+//! One replication of a [`Model`]: the event calendar, the state of every
+//! group and the random streams. Single-threaded and deterministic: the same
+//! model, seed and replication index give the same [`Tally`] bit for bit.
+//! Must not know about files, reports or other replications.
+//!
+//! # Life of a call
+//!
+//! A call is created by its stream's arrival process (Poisson, peak profile,
+//! renewal, or one of a finite set of sources) and draws its holding time once.
+//! Each attempt tries the groups of the route in order. On a group with a free
+//! server (beyond any reserved ones it may not use) and nobody waiting, it is
+//! carried and leaves at the end of its holding time. A group with every server
+//! busy but a free waiting place holds it in order of arrival; it is answered
+//! when a server frees, abandons when its patience runs out, or moves on along
+//! the route after `overflow_after`. A group that can neither serve nor hold it
+//! is overflowed, and the next group is tried. Full on every group, the attempt
+//! is blocked. A blocked or abandoned attempt may redial after a delay (the
+//! stream's `retry`), up to `max_attempts`; otherwise the call is lost. A
+//! finite source whose call has ended idles, then calls again.
+//!
+//! # Measurement
+//!
+//! Calls whose first attempt arrives in the measured period
+//! `[warmup, warmup + length)` are followed to their end; after the period the
+//! replication keeps running (arrivals included, unmeasured) until every such
+//! call is resolved, or for at most one more `length`. Time integrals are
+//! clipped to the period.
+
+pub mod calendar;
+pub mod seeds;
+
+use crate::scenario::{Arrivals, Model};
+use crate::stats::tally::{
+    GroupIntervalTally, GroupTally, StreamIntervalTally, StreamTally, Tally, WAIT_DIGITS,
+    WAIT_MAX_MS,
+};
+use calendar::Calendar;
+use hdrhistogram::Histogram;
+use rand::RngExt;
+use rand_xoshiro::Xoshiro256PlusPlus;
+use std::collections::VecDeque;
+
+/// Marks a call whose first attempt fell outside the measured period.
+const NOT_MEASURED: u32 = u32::MAX;
+
+/// A call between attempts or in service; small and `Copy`.
+#[derive(Debug, Clone, Copy)]
+struct Call {
+    stream: u32,
+    /// 1-based attempt number.
+    attempt: u32,
+    /// Interval of the first attempt (0 when intervals are off), or
+    /// `NOT_MEASURED`.
+    bin: u32,
+    /// Waited in a queue on some attempt.
+    waited: bool,
+    /// Holding time, drawn once per call (s).
+    holding: f64,
+    /// Arrival time of the current attempt (s).
+    attempt_at: f64,
+}
+
+impl Call {
+    #[inline]
+    fn measured(&self) -> bool {
+        self.bin != NOT_MEASURED
+    }
+}
+
+#[derive(Debug, Clone, Copy)]
+enum Event {
+    /// Next call of an open stream (Poisson, profile, renewal).
+    Arrival { stream: u32 },
+    /// A finite source calls.
+    SourceCall { stream: u32 },
+    /// A redial.
+    Redial { call: Call },
+    /// A carried call ends.
+    Departure { group: u32, stream: u32 },
+    /// An overflowed call leaves the virtual overflow group of `group`.
+    VirtualEnd { group: u32 },
+    /// A waiting call's patience runs out (skipped if it is no longer waiting).
+    Abandon { slot: u32, generation: u32 },
+    /// A waiting call may move on along its route.
+    OverflowTimer { slot: u32, generation: u32 },
+}
+
+/// A call waiting in a queue, kept in a slab so that abandonment and overflow
+/// timers can find it; stale references are skipped lazily.
+#[derive(Debug, Clone, Copy)]
+struct Waiting {
+    call: Call,
+    group: u32,
+    /// Position of `group` in the stream's route.
+    position: u32,
+    generation: u32,
+    active: bool,
+}
+
+/// One route entry, precompiled.
+#[derive(Debug, Clone, Copy)]
+struct Step {
+    group: u32,
+    /// Free servers needed to seize: units, plus the reserve for streams that
+    /// may not use reserved servers.
+    need: u32,
+}
+
+struct GroupState {
+    servers: u32,
+    busy: u32, // invariant: busy <= servers
+    queue_places: u32,
+    waiting: u32, // live entries in `queue`
+    queue: VecDeque<(u32, u32)>, // (slot, generation), may hold stale entries
+    overflow_after_s: Option<f64>,
+    last_change: f64,
+    virtual_busy: u32,
+    virtual_last_change: f64,
+}
+
+struct StreamRngs {
+    arrivals: Xoshiro256PlusPlus,
+    holding: Xoshiro256PlusPlus,
+    retry: Xoshiro256PlusPlus,
+    patience: Xoshiro256PlusPlus,
+}
+
+struct Sim<'m> {
+    model: &'m Model,
+    calendar: Calendar<Event>,
+    rngs: Vec<StreamRngs>,
+    routes: Vec<Vec<Step>>,
+    groups: Vec<GroupState>,
+    slab: Vec<Waiting>,
+    free_slots: Vec<u32>,
+    start: f64,
+    end: f64,
+    interval_s: f64,
+    bins: usize,
+    pending: u64,
+    tally: Tally,
+}
+
+/// Simulate replication `replication` of `model` and return its counters.
+pub fn run_replication(model: &Model, replication: u64) -> Tally {
+    let mut sim = Sim::new(model, replication);
+    sim.run();
+    sim.tally
+}
+
+impl<'m> Sim<'m> {
+    fn new(model: &'m Model, replication: u64) -> Self {
+        let plan = &model.plan;
+        let rngs = model
+            .streams
+            .iter()
+            .map(|s| StreamRngs {
+                arrivals: seeds::generator(plan.seed, replication, s.seed_key, seeds::ARRIVALS),
+                holding: seeds::generator(plan.seed, replication, s.seed_key, seeds::HOLDING),
+                retry: seeds::generator(plan.seed, replication, s.seed_key, seeds::RETRY),
+                patience: seeds::generator(plan.seed, replication, s.seed_key, seeds::PATIENCE),
+            })
+            .collect();
+        let routes = model
+            .streams
+            .iter()
+            .enumerate()
+            .map(|(si, s)| {
+                s.route
+                    .iter()
+                    .map(|&g| {
+                        let grp = &model.groups[g as usize];
+                        let reserve = if grp.reserved_for[si] { 0 } else { grp.reserve };
+                        Step {
+                            group: g,
+                            need: s.units.saturating_add(reserve),
+                        }
+                    })
+                    .collect()
+            })
+            .collect();
+        let groups = model
+            .groups
+            .iter()
+            .map(|g| GroupState {
+                servers: g.servers,
+                busy: 0,
+                queue_places: g.queue.places(),
+                waiting: 0,
+                queue: VecDeque::new(),
+                overflow_after_s: g.overflow_after_s,
+                last_change: 0.0,
+                virtual_busy: 0,
+                virtual_last_change: 0.0,
+            })
+            .collect();
+        let bins = plan.interval_count();
+        let streams = model
+            .streams
+            .iter()
+            .map(|s| StreamTally {
+                waits: s
+                    .route
+                    .iter()
+                    .any(|&g| model.groups[g as usize].queue.places() > 0)
+                    .then(|| {
+                        Histogram::new_with_bounds(1, WAIT_MAX_MS, WAIT_DIGITS)
+                            .expect("fixed, valid histogram bounds")
+                    }),
+                ..StreamTally::default()
+            })
+            .collect();
+        let n_streams = model.streams.len();
+        let n_groups = model.groups.len();
+        let tally = Tally {
+            replication,
+            streams,
+            groups: vec![GroupTally::default(); n_groups],
+            stream_intervals: vec![vec![StreamIntervalTally::default(); n_streams]; bins],
+            group_intervals: vec![vec![GroupIntervalTally::default(); n_groups]; bins],
+            events: 0,
+            peak_busy: vec![0; n_groups],
+        };
+        let capacity = 64 + model.groups.iter().map(|g| g.servers as usize).sum::<usize>().min(1 << 20);
+        Sim {
+            model,
+            calendar: Calendar::with_capacity(capacity),
+            rngs,
+            routes,
+            groups,
+            slab: Vec::new(),
+            free_slots: Vec::new(),
+            start: plan.warmup_s,
+            end: plan.warmup_s + plan.length_s,
+            interval_s: plan.interval_s.unwrap_or(plan.length_s),
+            bins,
+            pending: 0,
+            tally,
+        }
+    }
+
+    fn run(&mut self) {
+        for si in 0..self.model.streams.len() {
+            let stream = &self.model.streams[si];
+            match &stream.arrivals {
+                Arrivals::Sources { count, idle } => {
+                    for _ in 0..*count {
+                        let t = idle.sample(&mut self.rngs[si].arrivals);
+                        self.calendar.schedule(t, Event::SourceCall { stream: si as u32 });
+                    }
+                }
+                _ => {
+                    if let Some(t) = self.next_arrival(si, 0.0) {
+                        self.calendar.schedule(t, Event::Arrival { stream: si as u32 });
+                    }
+                }
+            }
+        }
+        let drain_until = self.end + self.model.plan.length_s;
+        while let Some(t) = self.calendar.peek_time() {
+            if t >= self.end && (self.pending == 0 || t >= drain_until) {
+                break;
+            }
+            let Some((now, event)) = self.calendar.pop() else { break };
+            self.tally.events += 1;
+            self.handle(now, event);
+        }
+        for g in 0..self.groups.len() {
+            self.touch(g, self.end);
+            self.touch_virtual(g, self.end);
+        }
+        // Measured calls still waiting or between redials count as pending.
+        for w in &self.slab {
+            if w.active && w.call.measured() {
+                self.tally.streams[w.call.stream as usize].pending_end += 1;
+            }
+        }
+        let mut redialling = vec![0u64; self.model.streams.len()];
+        while let Some((_, e)) = self.calendar.pop() {
+            if let Event::Redial { call } = e
+                && call.measured()
+            {
+                redialling[call.stream as usize] += 1;
+            }
+        }
+        for (s, n) in redialling.into_iter().enumerate() {
+            self.tally.streams[s].pending_end += n;
+        }
+    }
+
+    #[inline]
+    fn handle(&mut self, now: f64, event: Event) {
+        match event {
+            Event::Arrival { stream } => {
+                let si = stream as usize;
+                if let Some(t) = self.next_arrival(si, now) {
+                    self.calendar.schedule(t, Event::Arrival { stream });
+                }
+                self.new_call(si, now);
+            }
+            Event::SourceCall { stream } => self.new_call(stream as usize, now),
+            Event::Redial { mut call } => {
+                call.attempt_at = now;
+                self.attempt(call, now, 0);
+            }
+            Event::Departure { group, stream } => {
+                let g = group as usize;
+                self.touch(g, now);
+                let units = self.model.streams[stream as usize].units;
+                debug_assert!(self.groups[g].busy >= units);
+                self.groups[g].busy -= units;
+                if self.groups[g].waiting > 0 {
+                    self.serve_queue(g, now);
+                }
+                self.source_idles(stream as usize, now);
+            }
+            Event::VirtualEnd { group } => {
+                let g = group as usize;
+                self.touch_virtual(g, now);
+                self.groups[g].virtual_busy -= 1;
+            }
+            Event::Abandon { slot, generation } => {
+                let w = self.slab[slot as usize];
+                if !w.active || w.generation != generation {
+                    return; // answered or moved on meanwhile: lazily cancelled
+                }
+                self.release_slot(slot);
+                self.groups[w.group as usize].waiting -= 1;
+                self.attempt_failed(w.call, now, true);
+            }
+            Event::OverflowTimer { slot, generation } => {
+                let w = self.slab[slot as usize];
+                if !w.active || w.generation != generation {
+                    return;
+                }
+                self.move_on(slot, w, now);
+            }
+        }
+    }
+
+    /// Time of the next arrival of open stream `si` after `now`.
+    fn next_arrival(&mut self, si: usize, now: f64) -> Option<f64> {
+        let rng = &mut self.rngs[si].arrivals;
+        match &self.model.streams[si].arrivals {
+            Arrivals::Poisson { rate } => {
+                let e: f64 = rand_distr::Distribution::sample(&rand_distr::Exp1, rng);
+                Some(now + e / rate)
+            }
+            Arrivals::Renewal { between } => Some(now + between.sample(rng)),
+            Arrivals::Profile { interval_s, rates } => {
+                // Inversion of the integrated piecewise-constant rate: walk
+                // the intervals spending an Exp(1) amount of integrated rate.
+                let mut e: f64 = rand_distr::Distribution::sample(&rand_distr::Exp1, rng);
+                let mut t = now;
+                loop {
+                    let (rate, seg_end) = profile_segment(self.start, *interval_s, rates, t);
+                    let room = rate * (seg_end - t);
+                    if room > e {
+                        return Some(t + e / rate);
+                    }
+                    if seg_end.is_infinite() {
+                        return None; // rate zero for ever after
+                    }
+                    e -= room;
+                    t = seg_end;
+                }
+            }
+            Arrivals::Sources { .. } => None,
+        }
+    }
+
+    fn new_call(&mut self, si: usize, now: f64) {
+        let stream = &self.model.streams[si];
+        let holding = stream.holding.sample(&mut self.rngs[si].holding);
+        let bin = if now >= self.start && now < self.end {
+            if self.bins > 0 {
+                (((now - self.start) / self.interval_s) as usize).min(self.bins - 1) as u32
+            } else {
+                0
+            }
+        } else {
+            NOT_MEASURED
+        };
+        let call = Call {
+            stream: si as u32,
+            attempt: 1,
+            bin,
+            waited: false,
+            holding,
+            attempt_at: now,
+        };
+        if call.measured() {
+            self.pending += 1;
+            let st = &mut self.tally.streams[si];
+            st.offered += 1;
+            st.offered_holding_s += holding;
+            if self.bins > 0 {
+                let it = &mut self.tally.stream_intervals[bin as usize][si];
+                it.offered += 1;
+                it.offered_holding_s += holding;
+            }
+        }
+        self.attempt(call, now, 0);
+    }
+
+    /// Try the route from position `from` on.
+    #[inline]
+    fn attempt(&mut self, call: Call, now: f64, from: usize) {
+        let si = call.stream as usize;
+        if call.measured() && from == 0 {
+            self.tally.streams[si].attempts += 1;
+        }
+        let steps = self.routes[si].len();
+        for pos in from..steps {
+            let step = self.routes[si][pos];
+            let g = step.group as usize;
+            let grp = &self.groups[g];
+            if grp.waiting == 0 && grp.servers - grp.busy >= step.need {
+                self.seize(g, call, now);
+                return;
+            }
+            if grp.waiting < grp.queue_places {
+                self.enqueue(g, pos as u32, call, now);
+                return;
+            }
+            self.overflow(g, call.holding, now);
+        }
+        self.attempt_failed(call, now, false);
+    }
+
+    #[inline]
+    fn seize(&mut self, g: usize, mut call: Call, now: f64) {
+        let si = call.stream as usize;
+        let units = self.model.streams[si].units;
+        self.touch(g, now);
+        let grp = &mut self.groups[g];
+        grp.busy += units;
+        debug_assert!(grp.busy <= grp.servers, "busy servers above the group size");
+        if grp.busy > self.tally.peak_busy[g] {
+            self.tally.peak_busy[g] = grp.busy;
+        }
+        self.calendar.schedule(
+            now + call.holding,
+            Event::Departure {
+                group: g as u32,
+                stream: call.stream,
+            },
+        );
+        // Carried call-seconds inside the measured period, for every call
+        // (measured or not): a time integral, not a per-call count.
+        let t0 = now.max(self.start);
+        let t1 = (now + call.holding).min(self.end);
+        if t1 > t0 {
+            self.tally.streams[si].carried_s += t1 - t0;
+            if self.bins > 0 {
+                let (start, width, bins) = (self.start, self.interval_s, self.bins);
+                let iv = &mut self.tally.stream_intervals;
+                spread(start, width, bins, t0, t1, |b, dt| iv[b][si].carried_s += dt);
+            }
+        }
+        if !call.measured() {
+            return;
+        }
+        let wait = now - call.attempt_at;
+        let answer_within = self.model.streams[si].answer_within_s;
+        let within = answer_within.is_some_and(|aw| wait <= aw);
+        let st = &mut self.tally.streams[si];
+        st.answered += 1;
+        st.wait_sum_s += wait;
+        if within {
+            st.answered_within += 1;
+        }
+        if let Some(h) = st.waits.as_mut() {
+            let ms = ((wait * 1000.0).round() as u64).min(WAIT_MAX_MS);
+            h.saturating_record(ms);
+        }
+        if self.bins > 0 {
+            let it = &mut self.tally.stream_intervals[call.bin as usize][si];
+            it.answered += 1;
+            it.wait_sum_s += wait;
+            if within {
+                it.answered_within += 1;
+            }
+        }
+        call.waited |= wait > 0.0;
+        self.resolve(call, false);
+    }
+
+    /// A measured or unmeasured call's fate is known.
+    fn resolve(&mut self, call: Call, lost: bool) {
+        if !call.measured() {
+            return;
+        }
+        self.pending -= 1;
+        let si = call.stream as usize;
+        if call.waited {
+            self.tally.streams[si].waited += 1;
+        }
+        if self.bins > 0 {
+            let it = &mut self.tally.stream_intervals[call.bin as usize][si];
+            it.resolved += 1;
+            if lost {
+                it.lost += 1;
+            }
+        }
+    }
+
+    fn enqueue(&mut self, g: usize, position: u32, mut call: Call, now: f64) {
+        call.waited = true;
+        let slot = match self.free_slots.pop() {
+            Some(s) => s,
+            None => {
+                self.slab.push(Waiting {
+                    call,
+                    group: 0,
+                    position: 0,
+                    generation: 0,
+                    active: false,
+                });
+                (self.slab.len() - 1) as u32
+            }
+        };
+        let w = &mut self.slab[slot as usize];
+        w.call = call;
+        w.group = g as u32;
+        w.position = position;
+        w.generation = w.generation.wrapping_add(1);
+        w.active = true;
+        let generation = w.generation;
+        let grp = &mut self.groups[g];
+        grp.waiting += 1;
+        grp.queue.push_back((slot, generation));
+        if let Some(after) = grp.overflow_after_s {
+            self.calendar.schedule(now + after, Event::OverflowTimer { slot, generation });
+        }
+        let si = call.stream as usize;
+        if let Some(p) = &self.model.streams[si].patience {
+            let patience = p.sample(&mut self.rngs[si].patience);
+            self.calendar.schedule(now + patience, Event::Abandon { slot, generation });
+        }
+    }
+
+    fn release_slot(&mut self, slot: u32) {
+        self.slab[slot as usize].active = false;
+        self.free_slots.push(slot);
+    }
+
+    /// Answer waiting calls in order of arrival while the head can seize.
+    fn serve_queue(&mut self, g: usize, now: f64) {
+        while self.groups[g].waiting > 0 {
+            let Some(&(slot, generation)) = self.groups[g].queue.front() else { break };
+            let w = self.slab[slot as usize];
+            if !w.active || w.generation != generation || w.group as usize != g {
+                self.groups[g].queue.pop_front(); // stale: abandoned or moved on
+                continue;
+            }
+            let need = self.routes[w.call.stream as usize][w.position as usize].need;
+            let grp = &self.groups[g];
+            if grp.servers - grp.busy < need {
+                break; // strict order: the head holds the queue
+            }
+            self.groups[g].queue.pop_front();
+            self.groups[g].waiting -= 1;
+            self.release_slot(slot);
+            self.seize(g, w.call, now);
+        }
+    }
+
+    /// `overflow_after` expired: try the rest of the route; where nothing
+    /// later can serve or hold the call, it keeps its place.
+    fn move_on(&mut self, slot: u32, w: Waiting, now: f64) {
+        let si = w.call.stream as usize;
+        for pos in (w.position as usize + 1)..self.routes[si].len() {
+            let step = self.routes[si][pos];
+            let g = step.group as usize;
+            let grp = &self.groups[g];
+            let can_seize = grp.waiting == 0 && grp.servers - grp.busy >= step.need;
+            let can_wait = grp.waiting < grp.queue_places;
+            if !can_seize && !can_wait {
+                continue;
+            }
+            self.count_overflow(w.group as usize, now);
+            self.groups[w.group as usize].waiting -= 1;
+            if can_seize {
+                self.release_slot(slot);
+                self.seize(g, w.call, now);
+            } else {
+                // Same slot and generation: the pending abandon event stays
+                // valid, so the caller's patience keeps running. The entry
+                // left in the old queue is stale (its group no longer matches).
+                let entry = &mut self.slab[slot as usize];
+                entry.group = g as u32;
+                entry.position = pos as u32;
+                let generation = entry.generation;
+                let grp = &mut self.groups[g];
+                grp.waiting += 1;
+                grp.queue.push_back((slot, generation));
+                if let Some(after) = grp.overflow_after_s {
+                    self.calendar.schedule(now + after, Event::OverflowTimer { slot, generation });
+                }
+            }
+            return;
+        }
+    }
+
+    fn count_overflow(&mut self, g: usize, now: f64) {
+        if now >= self.start && now < self.end {
+            self.tally.groups[g].overflow_calls += 1;
+        }
+    }
+
+    /// The call found group `g` full (and could not wait there).
+    #[inline]
+    fn overflow(&mut self, g: usize, holding: f64, now: f64) {
+        self.count_overflow(g, now);
+        self.touch_virtual(g, now);
+        self.groups[g].virtual_busy += 1;
+        self.calendar.schedule(now + holding, Event::VirtualEnd { group: g as u32 });
+    }
+
+    fn attempt_failed(&mut self, mut call: Call, now: f64, abandoned: bool) {
+        let si = call.stream as usize;
+        if call.measured() {
+            let st = &mut self.tally.streams[si];
+            if abandoned {
+                st.attempts_abandoned += 1;
+            } else {
+                st.attempts_blocked += 1;
+                if call.attempt == 1 {
+                    st.first_blocked += 1;
+                }
+            }
+        }
+        if let Some(retry) = &self.model.streams[si].retry {
+            let chance = retry.chance_after(call.attempt);
+            let rng = &mut self.rngs[si].retry;
+            let u: f64 = rng.random();
+            if call.attempt < retry.max_attempts && u < chance {
+                let delay = retry.delay.sample(rng);
+                call.attempt += 1;
+                self.calendar.schedule(now + delay, Event::Redial { call });
+                return;
+            }
+        }
+        if call.measured() {
+            let st = &mut self.tally.streams[si];
+            if abandoned {
+                st.abandoned_final += 1;
+            } else {
+                st.blocked_final += 1;
+            }
+        }
+        self.resolve(call, true);
+        self.source_idles(si, now);
+    }
+
+    /// A finite source's call has ended: it idles, then calls again.
+    #[inline]
+    fn source_idles(&mut self, si: usize, now: f64) {
+        if let Arrivals::Sources { idle, .. } = &self.model.streams[si].arrivals {
+            let t = now + idle.sample(&mut self.rngs[si].arrivals);
+            self.calendar.schedule(t, Event::SourceCall { stream: si as u32 });
+        }
+    }
+
+    /// Bring group `g`'s time integrals up to `now` (before its busy count
+    /// changes).
+    #[inline]
+    fn touch(&mut self, g: usize, now: f64) {
+        let grp = &mut self.groups[g];
+        let t0 = grp.last_change.max(self.start);
+        let t1 = now.min(self.end);
+        grp.last_change = now;
+        if t1 <= t0 {
+            return;
+        }
+        let busy = f64::from(grp.busy);
+        let full = grp.busy >= grp.servers;
+        let gt = &mut self.tally.groups[g];
+        gt.busy_s += busy * (t1 - t0);
+        if full {
+            gt.full_s += t1 - t0;
+        }
+        if self.bins > 0 {
+            let iv = &mut self.tally.group_intervals;
+            spread(self.start, self.interval_s, self.bins, t0, t1, |b, dt| {
+                iv[b][g].busy_s += busy * dt;
+                if full {
+                    iv[b][g].full_s += dt;
+                }
+            });
+        }
+    }
+
+    fn touch_virtual(&mut self, g: usize, now: f64) {
+        let grp = &mut self.groups[g];
+        let t0 = grp.virtual_last_change.max(self.start);
+        let t1 = now.min(self.end);
+        grp.virtual_last_change = now;
+        if t1 > t0 {
+            let n = f64::from(grp.virtual_busy);
+            let gt = &mut self.tally.groups[g];
+            gt.overflow_s += n * (t1 - t0);
+            gt.overflow_sq_s += n * n * (t1 - t0);
+        }
+    }
+}
+
+/// The rate in force at time `t` of a profile that starts at `start` (the
+/// first rate also holds before it, the last after it), and when it changes.
+fn profile_segment(start: f64, interval_s: f64, rates: &[f64], t: f64) -> (f64, f64) {
+    if t < start {
+        return (rates[0], start);
+    }
+    let i = ((t - start) / interval_s) as usize;
+    if i + 1 >= rates.len() {
+        return (rates[rates.len() - 1], f64::INFINITY);
+    }
+    let mut seg_end = start + (i as f64 + 1.0) * interval_s;
+    if seg_end <= t {
+        // Guard against rounding at a boundary.
+        seg_end = t.next_up();
+    }
+    (rates[i], seg_end)
+}
+
+/// Split the span `[t0, t1)` (inside the measured period) over reporting
+/// intervals of `width` starting at `start`, calling `add(bin, seconds)`.
+#[inline]
+fn spread(start: f64, width: f64, bins: usize, t0: f64, t1: f64, mut add: impl FnMut(usize, f64)) {
+    let mut b = (((t0 - start) / width) as usize).min(bins - 1);
+    let mut t = t0;
+    while t < t1 {
+        let bin_end = if b + 1 >= bins {
+            t1
+        } else {
+            (start + (b as f64 + 1.0) * width).min(t1)
+        };
+        if bin_end > t {
+            add(b, bin_end - t);
+        }
+        t = bin_end;
+        b += 1;
+        if b >= bins {
+            break;
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn spread_splits_across_bins() {
+        let mut got = vec![0.0; 4];
+        spread(10.0, 5.0, 4, 12.0, 23.0, |b, dt| got[b] += dt);
+        assert_eq!(got, vec![3.0, 5.0, 3.0, 0.0]);
+        let mut got = vec![0.0; 2];
+        spread(0.0, 5.0, 2, 9.0, 10.0, |b, dt| got[b] += dt);
+        assert_eq!(got, vec![0.0, 1.0]);
+    }
+
+    #[test]
+    fn profile_segments() {
+        let r = [1.0, 2.0, 3.0];
+        assert_eq!(profile_segment(100.0, 10.0, &r, 50.0), (1.0, 100.0));
+        assert_eq!(profile_segment(100.0, 10.0, &r, 105.0), (1.0, 110.0));
+        assert_eq!(profile_segment(100.0, 10.0, &r, 115.0), (2.0, 120.0));
+        assert_eq!(profile_segment(100.0, 10.0, &r, 125.0), (3.0, f64::INFINITY));
+    }
+}

@@ -1,0 +1,191 @@
+//! Many replications: run in parallel with rayon, combined in replication
+//! order so results are identical for any thread count; a fixed count or
+//! precision-driven stopping. Must not parse files or print.
+
+use crate::engine;
+use crate::scenario::{Model, Replications};
+use crate::stats::{self, Estimate, FigureId, Scope};
+use std::sync::atomic::{AtomicBool, AtomicU64, Ordering};
+use std::time::Instant;
+use thiserror::Error;
+
+/// Replications run first when a precision goal is set.
+pub const PRECISION_FIRST_BATCH: u32 = 10;
+
+/// A run that could not be carried out.
+#[derive(Debug, Error)]
+pub enum ExperimentError {
+    /// The worker threads could not be started.
+    #[error("cannot start {threads} worker threads: {reason}")]
+    Threads {
+        /// Threads asked for.
+        threads: usize,
+        /// Why.
+        reason: String,
+    },
+}
+
+/// How to run.
+#[derive(Default)]
+pub struct RunOptions<'a> {
+    /// Worker threads (None: one per core).
+    pub threads: Option<usize>,
+    /// Called after each finished replication with (done, planned).
+    pub progress: Option<&'a (dyn Fn(u64, u64) + Sync)>,
+    /// When set, no new replication starts; the figures of the finished ones
+    /// are returned, marked partial.
+    pub stop: Option<&'a AtomicBool>,
+}
+
+/// Whether a precision goal was reached.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct PrecisionStatus {
+    /// Relative half-width asked for.
+    pub target: f64,
+    /// Largest relative half-width among the key figures.
+    pub achieved: f64,
+    /// Whether every key figure reached the target.
+    pub met: bool,
+}
+
+/// The result of many replications.
+#[derive(Debug, Clone)]
+pub struct Outcome {
+    /// The figures, in order.
+    pub layout: Vec<FigureId>,
+    /// Estimates, one per figure of the layout.
+    pub estimates: Vec<Estimate>,
+    /// Figure values of each replication, in replication order.
+    pub per_replication: Vec<Vec<f64>>,
+    /// Replications run.
+    pub replications: u64,
+    /// Events processed in all replications.
+    pub events: u64,
+    /// Wall-clock seconds.
+    pub wall_s: f64,
+    /// Precision goal status, when one was set.
+    pub precision: Option<PrecisionStatus>,
+    /// Stopped early on request: fewer replications than planned.
+    pub partial: bool,
+}
+
+impl Outcome {
+    /// The estimate of figure `name` in `scope`, if reported.
+    pub fn get(&self, scope: Scope, name: &str) -> Option<Estimate> {
+        self.layout
+            .iter()
+            .position(|f| f.scope == scope && f.name == name)
+            .map(|i| self.estimates[i])
+    }
+}
+
+/// Run `model` as its plan (or `replications`, when given) says.
+pub fn run(model: &Model, replications: Option<Replications>, opts: &RunOptions) -> Result<Outcome, ExperimentError> {
+    let started = Instant::now();
+    let pool = rayon::ThreadPoolBuilder::new()
+        .num_threads(opts.threads.unwrap_or(0))
+        .build()
+        .map_err(|e| ExperimentError::Threads {
+            threads: opts.threads.unwrap_or(0),
+            reason: e.to_string(),
+        })?;
+    let layout = stats::layout(model);
+    let plan = replications.unwrap_or_else(|| model.plan.replications.clone());
+    let done = AtomicU64::new(0);
+    let mut per_replication: Vec<Vec<f64>> = Vec::new();
+    let mut events = 0u64;
+    let mut partial = false;
+    let mut run_batch = |from: u64, to: u64, planned: u64, per_rep: &mut Vec<Vec<f64>>| -> bool {
+        let results: Vec<Option<(Vec<f64>, u64)>> = pool.install(|| {
+            use rayon::prelude::*;
+            (from..to)
+                .into_par_iter()
+                .map(|r| {
+                    if opts.stop.is_some_and(|s| s.load(Ordering::Relaxed)) {
+                        return None;
+                    }
+                    let tally = engine::run_replication(model, r);
+                    let values = stats::figures(model, &layout, &tally);
+                    let n = done.fetch_add(1, Ordering::Relaxed) + 1;
+                    if let Some(p) = opts.progress {
+                        p(n, planned);
+                    }
+                    Some((values, tally.events))
+                })
+                .collect()
+        });
+        // Keep replications in index order up to the first one missing, so a
+        // partial result is still a prefix and stays reproducible.
+        for r in results {
+            match r {
+                Some((values, ev)) => {
+                    per_rep.push(values);
+                    events += ev;
+                }
+                None => return false,
+            }
+        }
+        true
+    };
+    let mut precision = None;
+    match plan {
+        Replications::Fixed(n) => {
+            partial = !run_batch(0, u64::from(n), u64::from(n), &mut per_replication);
+        }
+        Replications::Precision { target, max } => {
+            let max = u64::from(max);
+            let mut next = u64::from(PRECISION_FIRST_BATCH).min(max);
+            let mut have = 0u64;
+            loop {
+                if !run_batch(have, next, max, &mut per_replication) {
+                    partial = true;
+                    break;
+                }
+                have = next;
+                let estimates = estimates_of(&layout, &per_replication);
+                let achieved = worst_relative(&layout, &estimates);
+                let met = achieved <= target;
+                precision = Some(PrecisionStatus { target, achieved, met });
+                if met || have >= max {
+                    break;
+                }
+                // Replications needed grow with the square of the ratio of
+                // half-widths; aim 10% beyond, at least 10 more, at most max.
+                let ratio = if achieved.is_finite() { achieved / target } else { 2.0 };
+                let wanted = (have as f64 * ratio * ratio * 1.1).ceil() as u64;
+                next = wanted.max(have + 10).min(max);
+            }
+        }
+    }
+    let estimates = estimates_of(&layout, &per_replication);
+    Ok(Outcome {
+        replications: per_replication.len() as u64,
+        layout,
+        estimates,
+        per_replication,
+        events,
+        wall_s: started.elapsed().as_secs_f64(),
+        precision,
+        partial,
+    })
+}
+
+/// Estimates of every figure from per-replication values in index order.
+pub fn estimates_of(layout: &[FigureId], per_replication: &[Vec<f64>]) -> Vec<Estimate> {
+    (0..layout.len())
+        .map(|i| stats::estimate(per_replication.iter().map(move |v| v[i])))
+        .collect()
+}
+
+/// The key figures of a precision goal: every stream's loss and every group's
+/// carried traffic. Returns the largest relative half-width among them.
+pub fn worst_relative(layout: &[FigureId], estimates: &[Estimate]) -> f64 {
+    layout
+        .iter()
+        .zip(estimates)
+        .filter(|(f, _)| {
+            matches!((f.scope, f.name), (Scope::Stream(_), "loss") | (Scope::Group(_), "carried_traffic"))
+        })
+        .map(|(_, e)| if e.replications == 0 { 0.0 } else { e.relative_half_width() })
+        .fold(0.0, f64::max)
+}

@@ -1,0 +1,602 @@
+//! Output people can use: the terminal table, JSON with the design's figure
+//! names, long-format CSV, and atomic file writing. Reads a finished
+//! [`Outcome`]; must not run the engine.
+
+pub mod reference;
+
+use crate::experiment::Outcome;
+use crate::scenario::{Arrivals, Model, Queue, Replications};
+use crate::stats::{self, Estimate, FigureId, Scope};
+use crate::units::{format_duration, format_share, trim_float};
+use serde_json::{Map, Value, json};
+use std::collections::HashMap;
+use std::io::Write;
+use std::path::Path;
+
+pub use reference::{Formula, formula_column, formula_view};
+
+/// The caution printed under every report.
+pub const CAUTION: &str = "Estimates under the stated model assumptions, not guarantees. \
+Where the design carries emergency or life-safety calls, keep margin, validate against \
+measured traffic, and defer to local regulation and licensed practice.";
+
+/// Everything a report needs.
+pub struct RunReport<'a> {
+    /// The model that was run.
+    pub model: &'a Model,
+    /// Its results.
+    pub outcome: &'a Outcome,
+    /// The scenario file, as the user named it.
+    pub file: &'a str,
+    /// Closed-form values beside the estimates.
+    pub formulas: HashMap<FigureId, Formula>,
+}
+
+impl<'a> RunReport<'a> {
+    /// Assemble a report, computing the formula column.
+    pub fn new(model: &'a Model, outcome: &'a Outcome, file: &'a str) -> Self {
+        RunReport {
+            model,
+            outcome,
+            file,
+            formulas: formula_column(model),
+        }
+    }
+}
+
+/// How a figure is printed.
+#[derive(Clone, Copy, PartialEq)]
+enum Kind {
+    Share,
+    Erlangs,
+    Seconds,
+    Count,
+    Ratio,
+}
+
+fn kind(name: &str) -> Kind {
+    match name {
+        "offered_calls" | "overflow_calls" => Kind::Count,
+        "offered_traffic" | "carried_traffic" | "overflow_mean" => Kind::Erlangs,
+        "wait_mean" | "wait_p50" | "wait_p90" | "wait_p99" => Kind::Seconds,
+        "attempts_per_call" | "overflow_peakedness" => Kind::Ratio,
+        _ => Kind::Share,
+    }
+}
+
+fn label(name: &str) -> &'static str {
+    match name {
+        "offered_calls" => "offered calls",
+        "offered_traffic" => "offered traffic",
+        "attempts_per_call" => "attempts per call",
+        "first_attempt_blocking" => "first-attempt blocking",
+        "attempt_blocking" => "attempt blocking",
+        "loss" => "loss (calls never served)",
+        "abandonment" => "abandonment",
+        "wait_probability" => "probability of waiting",
+        "carried_traffic" => "carried traffic",
+        "wait_mean" => "mean wait (answered)",
+        "wait_p50" => "wait, median",
+        "wait_p90" => "wait, 90th percentile",
+        "wait_p99" => "wait, 99th percentile",
+        "service_level" => "service level",
+        "occupancy" => "occupancy",
+        "time_congestion" => "time congestion",
+        "overflow_calls" => "overflow calls",
+        "overflow_mean" => "overflow traffic, mean",
+        "overflow_peakedness" => "overflow peakedness",
+        _ => "figure",
+    }
+}
+
+fn fmt_value(k: Kind, x: f64) -> String {
+    if x.is_nan() {
+        return "-".into();
+    }
+    match k {
+        Kind::Share => format_share(x),
+        Kind::Erlangs => format!("{} E", trim_float(x, 3)),
+        Kind::Seconds => format!("{} s", trim_float(x, 2)),
+        Kind::Count => trim_float(x, 1),
+        Kind::Ratio => trim_float(x, 3),
+    }
+}
+
+fn fmt_half_width(k: Kind, h: f64) -> String {
+    if !h.is_finite() {
+        return "± ?".into();
+    }
+    match k {
+        Kind::Share => format!("± {}", format_share(h)),
+        Kind::Erlangs => format!("± {}", trim_float(h, 3)),
+        Kind::Seconds => format!("± {}", trim_float(h, 2)),
+        Kind::Count => format!("± {}", trim_float(h, 1)),
+        Kind::Ratio => format!("± {}", trim_float(h, 3)),
+    }
+}
+
+fn estimate_json(e: &Estimate, formula: Option<&Formula>) -> Value {
+    let mut m = Map::new();
+    m.insert("mean".into(), json!(finite_or_null(e.mean)));
+    m.insert("half_width".into(), json!(finite_or_null(e.half_width)));
+    m.insert("replications".into(), json!(e.replications));
+    if let Some(f) = formula {
+        m.insert("formula".into(), json!({ "name": f.name, "value": finite_or_null(f.value) }));
+    }
+    Value::Object(m)
+}
+
+fn finite_or_null(x: f64) -> Option<f64> {
+    x.is_finite().then_some(x)
+}
+
+/// Describe how the run was made, in one line.
+fn run_line(r: &RunReport) -> String {
+    let p = &r.model.plan;
+    let mut s = format!(
+        "{} replications of {} measured after {} warm-up, seed {}",
+        r.outcome.replications,
+        format_duration(p.length_s),
+        format_duration(p.warmup_s),
+        p.seed
+    );
+    if let Some(pr) = r.outcome.precision {
+        s.push_str(&format!(
+            "; precision goal {} {} (worst key figure {})",
+            format_share(pr.target),
+            if pr.met { "met" } else { "NOT met: replication cap reached" },
+            format_share(pr.achieved)
+        ));
+    }
+    s
+}
+
+/// The JSON document of a run.
+pub fn to_json(r: &RunReport) -> Value {
+    let model = r.model;
+    let o = r.outcome;
+    let mut by_scope: HashMap<Scope, Map<String, Value>> = HashMap::new();
+    for (i, f) in o.layout.iter().enumerate() {
+        by_scope
+            .entry(f.scope)
+            .or_default()
+            .insert(f.name.to_string(), estimate_json(&o.estimates[i], r.formulas.get(f)));
+    }
+    let streams: Vec<Value> = model
+        .streams
+        .iter()
+        .enumerate()
+        .map(|(s, st)| {
+            let mut m = by_scope.remove(&Scope::Stream(s)).unwrap_or_default();
+            m.insert("name".into(), json!(st.name));
+            Value::Object(m)
+        })
+        .collect();
+    let groups: Vec<Value> = model
+        .groups
+        .iter()
+        .enumerate()
+        .map(|(g, gr)| {
+            let mut m = by_scope.remove(&Scope::Group(g)).unwrap_or_default();
+            m.insert("name".into(), json!(gr.name));
+            m.insert("servers".into(), json!(gr.servers));
+            Value::Object(m)
+        })
+        .collect();
+    let mut doc = json!({
+        "scenario": model.title,
+        "file": r.file,
+        "version": env!("CARGO_PKG_VERSION"),
+        "seed": model.plan.seed,
+        "replications": o.replications,
+        "warmup_s": model.plan.warmup_s,
+        "length_s": model.plan.length_s,
+        "partial": o.partial,
+        "streams": streams,
+        "groups": groups,
+    });
+    if let Some(p) = o.precision {
+        doc["precision"] = json!({ "target": p.target, "achieved": finite_or_null(p.achieved), "met": p.met });
+    }
+    let bins = model.plan.interval_count();
+    if bins > 0 {
+        let width = model.plan.interval_s.unwrap_or(model.plan.length_s);
+        let intervals: Vec<Value> = (0..bins)
+            .map(|b| {
+                let streams: Vec<Value> = model
+                    .streams
+                    .iter()
+                    .enumerate()
+                    .map(|(s, st)| {
+                        let mut m = by_scope.remove(&Scope::StreamInterval(b, s)).unwrap_or_default();
+                        m.insert("name".into(), json!(st.name));
+                        Value::Object(m)
+                    })
+                    .collect();
+                let groups: Vec<Value> = model
+                    .groups
+                    .iter()
+                    .enumerate()
+                    .map(|(g, gr)| {
+                        let mut m = by_scope.remove(&Scope::GroupInterval(b, g)).unwrap_or_default();
+                        m.insert("name".into(), json!(gr.name));
+                        Value::Object(m)
+                    })
+                    .collect();
+                json!({
+                    "start_s": b as f64 * width,
+                    "end_s": b as f64 * width + stats::interval_length(model, b),
+                    "streams": streams,
+                    "groups": groups,
+                })
+            })
+            .collect();
+        doc["intervals"] = Value::Array(intervals);
+        if let Some(w) = worst_interval(r) {
+            doc["worst_interval"] = json!(w);
+        }
+    }
+    doc["caution"] = json!(CAUTION);
+    doc
+}
+
+/// The interval with the highest loss of any stream (ties: the highest time
+/// congestion of any group); None without intervals.
+pub fn worst_interval(r: &RunReport) -> Option<usize> {
+    let bins = r.model.plan.interval_count();
+    if bins == 0 {
+        return None;
+    }
+    let mut score = vec![(0.0f64, 0.0f64); bins];
+    for (i, f) in r.outcome.layout.iter().enumerate() {
+        let m = r.outcome.estimates[i].mean;
+        if m.is_nan() {
+            continue;
+        }
+        match (f.scope, f.name) {
+            (Scope::StreamInterval(b, _), "loss") => score[b].0 = score[b].0.max(m),
+            (Scope::GroupInterval(b, _), "time_congestion") => score[b].1 = score[b].1.max(m),
+            _ => {}
+        }
+    }
+    (0..bins).max_by(|&a, &b| score[a].partial_cmp(&score[b]).unwrap_or(std::cmp::Ordering::Equal).then(b.cmp(&a)))
+}
+
+/// Long-format CSV: one row per figure.
+pub fn to_csv(r: &RunReport) -> String {
+    let mut w = csv::Writer::from_writer(Vec::new());
+    let width = r.model.plan.interval_s.unwrap_or(r.model.plan.length_s);
+    let _ = w.write_record([
+        "kind", "name", "interval_start_s", "figure", "mean", "half_width", "replications", "formula", "formula_value",
+    ]);
+    for (i, f) in r.outcome.layout.iter().enumerate() {
+        let e = &r.outcome.estimates[i];
+        let (kind, name, start) = match f.scope {
+            Scope::Stream(s) => ("stream", &r.model.streams[s].name, String::new()),
+            Scope::Group(g) => ("group", &r.model.groups[g].name, String::new()),
+            Scope::StreamInterval(b, s) => ("stream", &r.model.streams[s].name, trim_float(b as f64 * width, 3)),
+            Scope::GroupInterval(b, g) => ("group", &r.model.groups[g].name, trim_float(b as f64 * width, 3)),
+        };
+        let num = |x: f64| if x.is_finite() { format!("{x}") } else { String::new() };
+        let (fname, fval) = r
+            .formulas
+            .get(f)
+            .map_or((String::new(), String::new()), |fo| (fo.name.to_string(), num(fo.value)));
+        let _ = w.write_record([
+            kind,
+            name,
+            &start,
+            f.name,
+            &num(e.mean),
+            &num(e.half_width),
+            &e.replications.to_string(),
+            &fname,
+            &fval,
+        ]);
+    }
+    String::from_utf8(w.into_inner().unwrap_or_default()).unwrap_or_default()
+}
+
+/// Column-aligned text with a header row.
+fn align(rows: &[Vec<String>], indent: &str) -> String {
+    let cols = rows.iter().map(Vec::len).max().unwrap_or(0);
+    let widths: Vec<usize> = (0..cols)
+        .map(|c| rows.iter().filter_map(|r| r.get(c)).map(|s| s.chars().count()).max().unwrap_or(0))
+        .collect();
+    let mut out = String::new();
+    for row in rows {
+        let mut line = String::from(indent);
+        for (c, cell) in row.iter().enumerate() {
+            let pad = widths[c] - cell.chars().count();
+            line.push_str(cell);
+            if c + 1 < row.len() {
+                line.push_str(&" ".repeat(pad + 2));
+            }
+        }
+        out.push_str(line.trim_end());
+        out.push('\n');
+    }
+    out
+}
+
+fn figure_rows(r: &RunReport, scope: Scope, first: &str) -> Vec<Vec<String>> {
+    let mut rows = Vec::new();
+    for (i, f) in r.outcome.layout.iter().enumerate() {
+        if f.scope != scope {
+            continue;
+        }
+        let e = &r.outcome.estimates[i];
+        let k = kind(f.name);
+        let formula = r
+            .formulas
+            .get(f)
+            .map_or(String::new(), |fo| format!("{} ({})", fmt_value(k, fo.value), fo.name));
+        rows.push(vec![
+            if rows.is_empty() { first.to_string() } else { String::new() },
+            label(f.name).to_string(),
+            fmt_value(k, e.mean),
+            if e.mean.is_nan() { String::new() } else { fmt_half_width(k, e.half_width) },
+            formula,
+        ]);
+    }
+    rows
+}
+
+/// The terminal table of a run.
+pub fn to_table(r: &RunReport) -> String {
+    let model = r.model;
+    let mut out = String::new();
+    out.push_str(&format!("{}  ({})\n", model.title, r.file));
+    out.push_str(&run_line(r));
+    out.push_str("\nFigures are means with 95% confidence half-widths across replications.\n");
+    if r.outcome.partial {
+        out.push_str("PARTIAL RESULT: the run was interrupted; only the finished replications are shown.\n");
+    }
+    let header = |first: &str| {
+        vec![first.to_string(), "figure".into(), "simulated".into(), "95% ±".into(), "formula".into()]
+    };
+    out.push_str("\nStreams\n");
+    let mut rows = vec![header("stream")];
+    for (s, st) in model.streams.iter().enumerate() {
+        rows.extend(figure_rows(r, Scope::Stream(s), &st.name));
+    }
+    out.push_str(&align(&rows, "  "));
+    out.push_str("\nGroups\n");
+    let mut rows = vec![header("group")];
+    for (g, gr) in model.groups.iter().enumerate() {
+        rows.extend(figure_rows(r, Scope::Group(g), &format!("{} ({})", gr.name, gr.servers)));
+    }
+    out.push_str(&align(&rows, "  "));
+    let bins = model.plan.interval_count();
+    if bins > 0 {
+        let width = model.plan.interval_s.unwrap_or(model.plan.length_s);
+        let worst = worst_interval(r);
+        out.push_str("\nBy interval (from the end of the warm-up)\n");
+        let mut head = vec!["interval".to_string()];
+        for st in &model.streams {
+            head.push(format!("{} offered", st.name));
+            head.push(format!("{} loss", st.name));
+        }
+        for gr in &model.groups {
+            head.push(format!("{} occupancy", gr.name));
+        }
+        let mut rows = vec![head];
+        let get = |scope: Scope, name: &str| r.outcome.get(scope, name).map_or(f64::NAN, |e| e.mean);
+        for b in 0..bins {
+            let start = b as f64 * width;
+            let mut row = vec![format!(
+                "{}-{}{}",
+                clock(start),
+                clock(start + stats::interval_length(model, b)),
+                if worst == Some(b) { " worst" } else { "" }
+            )];
+            for s in 0..model.streams.len() {
+                row.push(fmt_value(Kind::Erlangs, get(Scope::StreamInterval(b, s), "offered_traffic")));
+                row.push(fmt_value(Kind::Share, get(Scope::StreamInterval(b, s), "loss")));
+            }
+            for g in 0..model.groups.len() {
+                row.push(fmt_value(Kind::Share, get(Scope::GroupInterval(b, g), "occupancy")));
+            }
+            rows.push(row);
+        }
+        out.push_str(&align(&rows, "  "));
+    }
+    out.push_str(&format!(
+        "\n{} events in {:.2} s\n",
+        r.outcome.events, r.outcome.wall_s
+    ));
+    out.push_str(&format!("Caution: {CAUTION}\n"));
+    out
+}
+
+fn clock(seconds: f64) -> String {
+    let m = (seconds / 60.0).round() as u64;
+    format!("{}:{:02}", m / 60, m % 60)
+}
+
+/// The compiled model in plain words, for `check`.
+pub fn describe_model(model: &Model, file: &str) -> String {
+    let p = &model.plan;
+    let mut out = format!("{}  ({file})\n", model.title);
+    let reps = match &p.replications {
+        Replications::Fixed(n) => format!("{n} replications"),
+        Replications::Precision { target, max } => {
+            format!("replications until key figures are within {} (at most {max})", format_share(*target))
+        }
+    };
+    out.push_str(&format!(
+        "Run: {reps}, each {} measured after {} warm-up, seed {}{}\n",
+        format_duration(p.length_s),
+        format_duration(p.warmup_s),
+        p.seed,
+        p.interval_s.map_or(String::new(), |i| format!(", figures per {}", format_duration(i)))
+    ));
+    out.push_str("\nGroups\n");
+    for g in &model.groups {
+        let queue = match g.queue {
+            Queue::None => "no queue (blocked calls overflow or are cleared)".to_string(),
+            Queue::Limited(q) => format!("queue of {q} places"),
+            Queue::Unlimited => "unlimited queue".to_string(),
+        };
+        out.push_str(&format!("  {}: {} servers, {queue}", g.name, g.servers));
+        if let Some(a) = g.overflow_after_s {
+            out.push_str(&format!(", waiting calls move on after {}", format_duration(a)));
+        }
+        if g.reserve > 0 {
+            let names: Vec<&str> = model
+                .streams
+                .iter()
+                .enumerate()
+                .filter(|(s, _)| g.reserved_for[*s])
+                .map(|(_, s)| s.name.as_str())
+                .collect();
+            out.push_str(&format!(", last {} servers reserved for {}", g.reserve, names.join(", ")));
+        }
+        out.push('\n');
+    }
+    out.push_str("\nStreams\n");
+    for s in &model.streams {
+        let arrivals = match &s.arrivals {
+            Arrivals::Poisson { rate } => format!("Poisson, {}/h", trim_float(rate * 3600.0, 2)),
+            Arrivals::Profile { interval_s, rates } => format!(
+                "Poisson peak profile of {} intervals of {}, {}/h to {}/h",
+                rates.len(),
+                format_duration(*interval_s),
+                trim_float(rates.iter().cloned().fold(f64::INFINITY, f64::min) * 3600.0, 1),
+                trim_float(rates.iter().cloned().fold(0.0, f64::max) * 3600.0, 1)
+            ),
+            Arrivals::Renewal { between } => format!("renewal, time between calls {}", between.describe()),
+            Arrivals::Sources { count, idle } => format!("{count} sources, idle time {}", idle.describe()),
+        };
+        let route: Vec<&str> = s.route.iter().map(|&g| model.groups[g as usize].name.as_str()).collect();
+        out.push_str(&format!("  {}: {arrivals}\n", s.name));
+        match s.offered_traffic(p.length_s) {
+            Some(a) => out.push_str(&format!("    offered traffic {} erlangs (first attempts)\n", trim_float(a, 3))),
+            None => out.push_str("    offered traffic depends on how many sources are idle\n"),
+        }
+        out.push_str(&format!("    holding {}\n", s.holding.describe()));
+        out.push_str(&format!("    route {}", route.join(" -> ")));
+        if s.units > 1 {
+            out.push_str(&format!(", {} servers per call", s.units));
+        }
+        out.push('\n');
+        if let Some(rt) = &s.retry {
+            let chances: Vec<String> = rt.chances.iter().map(|c| format_share(*c)).collect();
+            out.push_str(&format!(
+                "    redials: chance {}, delay {}, at most {} attempts\n",
+                chances.join(" then "),
+                rt.delay.describe(),
+                rt.max_attempts
+            ));
+        }
+        if let Some(pt) = &s.patience {
+            out.push_str(&format!("    patience {}\n", pt.describe()));
+        }
+        if let Some(aw) = s.answer_within_s {
+            out.push_str(&format!("    service level: answered within {}\n", format_duration(aw)));
+        }
+    }
+    out
+}
+
+/// Write `contents` to `path` through a temporary file in the same folder
+/// and a rename, so a crash never leaves a half-written file and an existing
+/// file is replaced only by a complete new one.
+pub fn write_atomically(path: &Path, contents: &[u8]) -> std::io::Result<()> {
+    let dir = path.parent().filter(|d| !d.as_os_str().is_empty()).unwrap_or(Path::new("."));
+    let name = path.file_name().ok_or_else(|| {
+        std::io::Error::new(std::io::ErrorKind::InvalidInput, "the output path names no file")
+    })?;
+    let tmp = dir.join(format!(".{}.{}.tmp", name.to_string_lossy(), std::process::id()));
+    let result = (|| {
+        let mut f = std::fs::File::create(&tmp)?;
+        f.write_all(contents)?;
+        f.sync_all()?;
+        std::fs::rename(&tmp, path)
+    })();
+    if result.is_err() {
+        let _ = std::fs::remove_file(&tmp);
+    }
+    result
+}
+
+/// The formula view of `check` as text: what the closed forms say for this
+/// model, and where none applies.
+pub fn formula_view_text(model: &Model, view: &HashMap<FigureId, Formula>) -> String {
+    let mut out = String::from("\nFormula view (closed forms where their assumptions hold)\n");
+    let mut rows = Vec::new();
+    let mut entries: Vec<(&FigureId, &Formula)> = view.iter().collect();
+    entries.sort_by_key(|(f, _)| {
+        let (kind, i) = match f.scope {
+            Scope::Stream(s) => (0, s),
+            Scope::Group(g) => (1, g),
+            Scope::StreamInterval(_, s) => (2, s),
+            Scope::GroupInterval(_, g) => (3, g),
+        };
+        (kind, i, order_of(f.name))
+    });
+    for (f, fo) in entries {
+        let who = match f.scope {
+            Scope::Stream(s) | Scope::StreamInterval(_, s) => format!("stream {}", model.streams[s].name),
+            Scope::Group(g) | Scope::GroupInterval(_, g) => format!("group {}", model.groups[g].name),
+        };
+        rows.push(vec![who, label(f.name).to_string(), fmt_value(kind(f.name), fo.value), fo.name.to_string()]);
+    }
+    // Mark repeated names once.
+    for i in (1..rows.len()).rev() {
+        if rows[i][0] == rows[i - 1][0] {
+            rows[i][0] = String::new();
+        }
+    }
+    if rows.is_empty() {
+        out.push_str("  No closed form applies to this design: the simulation is the only answer.\n");
+    } else {
+        out.push_str(&align(&rows, "  "));
+    }
+    let covered = |scope: Scope| view.keys().any(|f| f.scope == scope);
+    let bare: Vec<&str> = model
+        .streams
+        .iter()
+        .enumerate()
+        .filter(|(s, _)| !covered(Scope::Stream(*s)))
+        .map(|(_, st)| st.name.as_str())
+        .collect();
+    if !rows.is_empty() && !bare.is_empty() {
+        out.push_str(&format!("  No closed form for stream(s) {}: simulation only.\n", bare.join(", ")));
+    }
+    out
+}
+
+fn order_of(name: &str) -> usize {
+    [
+        "offered_traffic", "first_attempt_blocking", "loss", "abandonment", "wait_probability", "carried_traffic",
+        "wait_mean", "service_level", "occupancy", "time_congestion", "overflow_mean", "overflow_peakedness",
+    ]
+    .iter()
+    .position(|n| *n == name)
+    .unwrap_or(99)
+}
+
+/// The formula view of `check` as JSON.
+pub fn formula_view_json(model: &Model, view: &HashMap<FigureId, Formula>) -> Value {
+    let pick = |scope: Scope| -> Value {
+        let mut m = Map::new();
+        for (f, fo) in view.iter().filter(|(f, _)| f.scope == scope) {
+            m.insert(f.name.to_string(), json!({ "name": fo.name, "value": finite_or_null(fo.value) }));
+        }
+        Value::Object(m)
+    };
+    json!({
+        "scenario": model.title,
+        "streams": model.streams.iter().enumerate().map(|(s, st)| json!({
+            "name": st.name,
+            "offered_traffic": st.offered_traffic(model.plan.length_s),
+            "formulas": pick(Scope::Stream(s)),
+        })).collect::<Vec<_>>(),
+        "groups": model.groups.iter().enumerate().map(|(g, gr)| json!({
+            "name": gr.name,
+            "servers": gr.servers,
+            "formulas": pick(Scope::Group(g)),
+        })).collect::<Vec<_>>(),
+    })
+}

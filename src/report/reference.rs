@@ -1,0 +1,348 @@
+//! The formula column: closed-form values beside simulated figures wherever a
+//! formula's assumptions hold for the model, so the engineer sees how far the
+//! simulated design moves from the textbook. Calls `formulas`; changes nothing.
+//!
+//! Which formula applies where:
+//! - Erlang B: a loss group offered Poisson traffic directly (first choice of
+//!   every stream that uses it), one server per call, no reservation. Erlang B
+//!   is insensitive to the holding-time law (Sevastyanov), so any law
+//!   qualifies. For streams that redial it is the no-redial reference of
+//!   first attempts alone; the overflow mean A*B is insensitive too, Riordan's
+//!   peakedness holds for exponential holding only.
+//! - Equivalent random (Wilkinson, Rapp): loss of a stream routed over a first
+//!   group that meets the Erlang B conditions and then a final group that is
+//!   offered only such overflow and direct Poisson traffic; exponential holding.
+//! - Kaufman-Roberts: a loss group whose direct Poisson streams take different
+//!   numbers of servers per call.
+//! - Erlang C: an unlimited queue on a single group, Poisson arrivals,
+//!   exponential holding with one mean, no patience limit.
+//! - Erlang A: the same with exponential patience of one mean.
+//! - Engset: one finite-source stream alone on a loss group (insensitive to
+//!   the holding and idle laws).
+
+use crate::formulas::{engset, erlang_a, erlang_b, erlang_c, multirate, overflow};
+use crate::scenario::{Arrivals, Model, Queue, Stream};
+use crate::stats::{FigureId, Scope, group_figures, stream_figures};
+use std::collections::HashMap;
+
+/// A closed-form value and the method that gave it.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Formula {
+    /// Method, e.g. "Erlang B".
+    pub name: &'static str,
+    /// Its value, in the figure's unit.
+    pub value: f64,
+}
+
+/// Column builder: keeps only figures the layout reports.
+struct Column<'m> {
+    model: &'m Model,
+    map: HashMap<FigureId, Formula>,
+}
+
+impl Column<'_> {
+    fn stream(&mut self, s: usize, name: &'static str, method: &'static str, value: f64) {
+        if value.is_finite() && stream_figures(self.model, s).contains(&name) {
+            self.map.insert(FigureId { scope: Scope::Stream(s), name }, Formula { name: method, value });
+        }
+    }
+    fn group(&mut self, g: usize, name: &'static str, method: &'static str, value: f64) {
+        if value.is_finite() && group_figures(self.model, g).contains(&name) {
+            self.map.insert(FigureId { scope: Scope::Group(g), name }, Formula { name: method, value });
+        }
+    }
+}
+
+fn poisson_rate(s: &Stream) -> Option<f64> {
+    match s.arrivals {
+        Arrivals::Poisson { rate } => Some(rate),
+        _ => None,
+    }
+}
+
+fn is_exponential(law: &crate::dist::Law) -> bool {
+    law.name() == "exponential"
+}
+
+/// Streams whose route includes group `g`, with the position of `g`.
+fn users(model: &Model, g: usize) -> Vec<(usize, usize)> {
+    model
+        .streams
+        .iter()
+        .enumerate()
+        .filter_map(|(s, st)| st.route.iter().position(|&x| x as usize == g).map(|p| (s, p)))
+        .collect()
+}
+
+/// Offered Poisson traffic of group `g` if it is a loss group offered only
+/// direct (first-choice) Poisson traffic, one server per call, no
+/// reservation. The flag says whether every holding law is exponential.
+fn direct_poisson_load(model: &Model, g: usize, allow_units: bool) -> Option<(f64, bool)> {
+    let grp = &model.groups[g];
+    if grp.queue != Queue::None || grp.reserve > 0 {
+        return None;
+    }
+    let mut traffic = 0.0;
+    let mut exponential = true;
+    let u = users(model, g);
+    if u.is_empty() {
+        return None;
+    }
+    for (s, pos) in u {
+        let st = &model.streams[s];
+        if pos != 0 || (!allow_units && st.units != 1) {
+            return None;
+        }
+        traffic += poisson_rate(st)? * st.holding.mean();
+        exponential &= is_exponential(&st.holding);
+    }
+    Some((traffic, exponential))
+}
+
+/// Closed-form values for the figures of `model` where one applies.
+pub fn formula_column(model: &Model) -> HashMap<FigureId, Formula> {
+    let mut col = Column { model, map: HashMap::new() };
+    for g in 0..model.groups.len() {
+        erlang_b_group(&mut col, g);
+        multirate_group(&mut col, g);
+        queue_group(&mut col, g);
+        engset_group(&mut col, g);
+    }
+    equivalent_random(&mut col);
+    col.map
+}
+
+fn erlang_b_group(col: &mut Column, g: usize) {
+    let model = col.model;
+    let Some((a, exponential)) = direct_poisson_load(model, g, false) else { return };
+    let n = model.groups[g].servers;
+    let Ok(b) = erlang_b::blocking(n, a) else { return };
+    col.group(g, "time_congestion", "Erlang B", b);
+    // Carried traffic only where no redials add load.
+    let users = users(model, g);
+    let redials = users.iter().any(|&(s, _)| model.streams[s].retry.is_some());
+    if !redials {
+        col.group(g, "carried_traffic", "Erlang B", a * (1.0 - b));
+        col.group(g, "occupancy", "Erlang B", a * (1.0 - b) / f64::from(n));
+    }
+    col.group(g, "overflow_mean", "Erlang B: A*B", a * b);
+    if exponential && let Ok(m) = overflow::riordan(n, a) {
+        col.group(g, "overflow_peakedness", "Riordan", m.peakedness());
+    }
+    for (s, _) in users {
+        let st = &model.streams[s];
+        if st.route.len() != 1 {
+            col.stream(s, "first_attempt_blocking", "Erlang B", b);
+            continue;
+        }
+        if st.retry.is_some() {
+            col.stream(s, "first_attempt_blocking", "Erlang B, no redials", b);
+            col.stream(s, "loss", "Erlang B, no redials", b);
+        } else {
+            col.stream(s, "first_attempt_blocking", "Erlang B", b);
+            col.stream(s, "loss", "Erlang B", b);
+            if let Some(rate) = poisson_rate(st) {
+                col.stream(s, "carried_traffic", "Erlang B", rate * st.holding.mean() * (1.0 - b));
+            }
+        }
+    }
+}
+
+fn multirate_group(col: &mut Column, g: usize) {
+    let model = col.model;
+    let users = users(model, g);
+    if users.iter().all(|&(s, _)| model.streams[s].units == 1) {
+        return;
+    }
+    if direct_poisson_load(model, g, true).is_none() || users.iter().any(|&(s, _)| model.streams[s].route.len() != 1) {
+        return;
+    }
+    let classes: Vec<(f64, u32)> = users
+        .iter()
+        .map(|&(s, _)| {
+            let st = &model.streams[s];
+            (poisson_rate(st).unwrap_or(0.0) * st.holding.mean(), st.units)
+        })
+        .collect();
+    let Ok(blocking) = multirate::kaufman_roberts(model.groups[g].servers, &classes) else { return };
+    let mut carried = 0.0;
+    for (i, &(s, _)) in users.iter().enumerate() {
+        let b = blocking[i];
+        let (a, units) = classes[i];
+        let method = if model.streams[s].retry.is_some() { "Kaufman-Roberts, no redials" } else { "Kaufman-Roberts" };
+        col.stream(s, "first_attempt_blocking", method, b);
+        col.stream(s, "loss", method, b);
+        if model.streams[s].retry.is_none() {
+            col.stream(s, "carried_traffic", method, a * (1.0 - b));
+        }
+        carried += a * f64::from(units) * (1.0 - b);
+    }
+    if users.iter().all(|&(s, _)| model.streams[s].retry.is_none()) {
+        col.group(g, "carried_traffic", "Kaufman-Roberts", carried);
+        col.group(g, "occupancy", "Kaufman-Roberts", carried / f64::from(model.groups[g].servers));
+    }
+}
+
+fn queue_group(col: &mut Column, g: usize) {
+    let model = col.model;
+    let grp = &model.groups[g];
+    if grp.queue != Queue::Unlimited || grp.reserve > 0 || grp.overflow_after_s.is_some() {
+        return;
+    }
+    let users = users(model, g);
+    let mut traffic = 0.0;
+    let mut holding = None::<f64>;
+    let mut patience = None::<Option<f64>>;
+    for &(s, _) in &users {
+        let st = &model.streams[s];
+        if st.route.len() != 1 || st.units != 1 || st.retry.is_some() || !is_exponential(&st.holding) {
+            return;
+        }
+        let Some(rate) = poisson_rate(st) else { return };
+        let h = st.holding.mean();
+        if holding.is_some_and(|x| (x - h).abs() > 1e-12 * h) {
+            return; // M/M/N needs one holding-time mean
+        }
+        holding = Some(h);
+        let p = match &st.patience {
+            None => None,
+            Some(l) if is_exponential(l) => Some(l.mean()),
+            Some(_) => return,
+        };
+        if patience.is_some_and(|x| x != p) {
+            return;
+        }
+        patience = Some(p);
+        traffic += rate * h;
+    }
+    let (Some(h), Some(patience)) = (holding, patience) else { return };
+    let n = grp.servers;
+    match patience {
+        None => {
+            let (Ok(c), Ok(w)) = (erlang_c::wait_probability(n, traffic), erlang_c::mean_wait(n, traffic, h)) else {
+                return;
+            };
+            col.group(g, "carried_traffic", "Erlang C", traffic);
+            col.group(g, "occupancy", "Erlang C", traffic / f64::from(n));
+            for &(s, _) in &users {
+                let st = &model.streams[s];
+                col.stream(s, "wait_probability", "Erlang C", c);
+                col.stream(s, "wait_mean", "Erlang C", w);
+                col.stream(s, "loss", "Erlang C", 0.0);
+                if let Some(aw) = st.answer_within_s
+                    && let Ok(sl) = erlang_c::service_level(n, traffic, h, aw)
+                {
+                    col.stream(s, "service_level", "Erlang C", sl);
+                }
+            }
+        }
+        Some(theta) => {
+            let Ok(ea) = erlang_a::solve(n, traffic, h, theta) else { return };
+            col.group(g, "carried_traffic", "Erlang A", traffic * (1.0 - ea.abandonment));
+            col.group(g, "occupancy", "Erlang A", traffic * (1.0 - ea.abandonment) / f64::from(n));
+            for &(s, _) in &users {
+                let st = &model.streams[s];
+                col.stream(s, "wait_probability", "Erlang A", ea.wait_probability);
+                col.stream(s, "abandonment", "Erlang A", ea.abandonment);
+                col.stream(s, "loss", "Erlang A", ea.abandonment);
+                col.stream(s, "wait_mean", "Erlang A", ea.mean_wait_answered_s);
+                if let Some(aw) = st.answer_within_s {
+                    col.stream(s, "service_level", "Erlang A", ea.service_level(aw));
+                }
+            }
+        }
+    }
+}
+
+fn engset_group(col: &mut Column, g: usize) {
+    let model = col.model;
+    let grp = &model.groups[g];
+    let users = users(model, g);
+    if grp.queue != Queue::None || grp.reserve > 0 || users.len() != 1 {
+        return;
+    }
+    let s = users[0].0;
+    let st = &model.streams[s];
+    let Arrivals::Sources { count, idle } = &st.arrivals else { return };
+    if st.route.len() != 1 || st.units != 1 || st.retry.is_some() {
+        return;
+    }
+    let beta = st.holding.mean() / idle.mean();
+    let Ok(e) = engset::solve(*count, grp.servers, beta) else { return };
+    col.group(g, "time_congestion", "Engset", e.time_congestion);
+    col.group(g, "carried_traffic", "Engset", e.carried_traffic);
+    col.group(g, "occupancy", "Engset", e.carried_traffic / f64::from(grp.servers));
+    col.stream(s, "first_attempt_blocking", "Engset (call congestion)", e.call_congestion);
+    col.stream(s, "loss", "Engset (call congestion)", e.call_congestion);
+    col.stream(s, "carried_traffic", "Engset", e.carried_traffic);
+}
+
+/// Loss of streams routed first group -> final group, by the equivalent
+/// random method, where the final group is offered only overflow from
+/// Erlang B first groups (exponential holding) and direct Poisson traffic.
+fn equivalent_random(col: &mut Column) {
+    let model = col.model;
+    for f in 0..model.groups.len() {
+        let fg = &model.groups[f];
+        if fg.queue != Queue::None || fg.reserve > 0 {
+            continue;
+        }
+        let mut primaries: Vec<(usize, f64, u32)> = Vec::new();
+        let mut direct = 0.0;
+        let mut ok = true;
+        let mut two_step = Vec::new();
+        for (s, pos) in users(model, f) {
+            let st = &model.streams[s];
+            let Some(rate) = poisson_rate(st) else { ok = false; break };
+            if st.units != 1 || st.retry.is_some() || !is_exponential(&st.holding) {
+                ok = false;
+                break;
+            }
+            match (pos, st.route.len()) {
+                (0, 1) => direct += rate * st.holding.mean(),
+                (1, 2) => {
+                    let p = st.route[0] as usize;
+                    match direct_poisson_load(model, p, false) {
+                        Some((a, true)) => {
+                            if !primaries.iter().any(|x| x.0 == p) {
+                                primaries.push((p, a, model.groups[p].servers));
+                            }
+                            two_step.push((s, p));
+                        }
+                        _ => {
+                            ok = false;
+                            break;
+                        }
+                    }
+                }
+                _ => {
+                    ok = false;
+                    break;
+                }
+            }
+        }
+        if !ok || primaries.is_empty() {
+            continue;
+        }
+        // Every stream of each primary group must overflow to this group.
+        if primaries.iter().any(|&(p, _, _)| {
+            users(model, p).iter().any(|&(s, _)| model.streams[s].route.get(1).is_none_or(|&x| x as usize != f))
+        }) {
+            continue;
+        }
+        let list: Vec<(f64, u32)> = primaries.iter().map(|&(_, a, n)| (a, n)).collect();
+        let Ok(fin) = overflow::final_group(&list, direct, fg.servers) else { continue };
+        for (s, p) in two_step {
+            let n = model.groups[p].servers;
+            let a = primaries.iter().find(|x| x.0 == p).map_or(0.0, |x| x.1);
+            if let Ok(b) = erlang_b::blocking(n, a) {
+                col.stream(s, "loss", "equivalent random (approx.)", b * fin.final_blocking);
+            }
+        }
+    }
+}
+
+/// The formula view of `check`: the same values as the run's formula column.
+pub fn formula_view(model: &Model) -> HashMap<FigureId, Formula> {
+    formula_column(model)
+}

@@ -1,0 +1,578 @@
+//! The scenario file format: TOML text -> serde types (`spec`) -> validation ->
+//! compiled, index-based [`Model`]. Owns every rule about what a valid design
+//! is; must not simulate or report.
+
+pub mod model;
+pub mod spec;
+
+pub use model::{Arrivals, Group, Model, Queue, Replications, Retry, RunPlan, Stream};
+
+use crate::dist::{self, Law};
+use crate::units;
+use spec::{Amount, ArrivalSpec, ChanceSpec, LawSpec, QueueSpec, ScenarioSpec};
+use std::collections::HashMap;
+use std::path::{Path, PathBuf};
+use thiserror::Error;
+
+/// Limits that keep a typo from becoming a run of days or an allocation of
+/// terabytes. Larger designs are real but belong to a different tool.
+pub const MAX_SERVERS: i64 = 1_000_000;
+/// Longest warm-up or measured period accepted (s): ten years.
+pub const MAX_LENGTH_S: f64 = 10.0 * 365.0 * 86400.0;
+/// Most replications accepted.
+pub const MAX_REPLICATIONS: i64 = 1_000_000;
+/// Most finite sources, waiting places or attempts per call accepted.
+pub const MAX_COUNT: i64 = 10_000_000;
+/// Most reporting intervals per replication.
+pub const MAX_INTERVALS: f64 = 100_000.0;
+/// Replications used when the file gives neither a count nor a precision.
+pub const DEFAULT_REPLICATIONS: u32 = 20;
+/// Replication cap for a precision goal when the file gives none.
+pub const DEFAULT_MAX_REPLICATIONS: u32 = 1000;
+
+/// A scenario file that cannot be used. Every variant names the file; the
+/// message says what is wrong and what is expected.
+#[derive(Debug, Error)]
+pub enum ScenarioError {
+    /// The file cannot be read (missing, a directory, no permission, not UTF-8).
+    #[error("{file}: cannot read the scenario: {reason}")]
+    Read {
+        /// The scenario file.
+        file: String,
+        /// Why.
+        reason: String,
+    },
+    /// TOML syntax, a wrong type or an unknown key, located by the parser.
+    #[error("{file}:{line}:{column}: {message}")]
+    Syntax {
+        /// The scenario file.
+        file: String,
+        /// 1-based line.
+        line: usize,
+        /// 1-based column.
+        column: usize,
+        /// The parser's message.
+        message: String,
+    },
+    /// A value breaks a rule of the design; `key` is the path to it.
+    #[error("{file}: {key}: {message}")]
+    Invalid {
+        /// The scenario file.
+        file: String,
+        /// Key path, e.g. `stream "office".route[1]`.
+        key: String,
+        /// What is wrong and what is expected.
+        message: String,
+    },
+}
+
+/// Largest scenario file read (bytes); a bigger one is surely not a scenario.
+const MAX_FILE_BYTES: u64 = 16 * 1024 * 1024;
+
+/// Read, parse and validate a scenario file.
+pub fn load(path: &Path) -> Result<Model, ScenarioError> {
+    let file = path.display().to_string();
+    let read_err = |reason: String| ScenarioError::Read {
+        file: file.clone(),
+        reason,
+    };
+    let meta = std::fs::metadata(path).map_err(|e| read_err(e.to_string()))?;
+    if meta.is_dir() {
+        return Err(read_err("it is a directory, not a file".into()));
+    }
+    if meta.len() > MAX_FILE_BYTES {
+        return Err(read_err(format!(
+            "{} bytes is far too large for a scenario file (limit {MAX_FILE_BYTES})",
+            meta.len()
+        )));
+    }
+    let bytes = std::fs::read(path).map_err(|e| read_err(e.to_string()))?;
+    let text = String::from_utf8(bytes)
+        .map_err(|e| read_err(format!("not UTF-8 text (byte {})", e.utf8_error().valid_up_to())))?;
+    let base = path.parent().map(Path::to_path_buf).unwrap_or_default();
+    let default_title = path
+        .file_stem()
+        .map(|s| s.to_string_lossy().into_owned())
+        .unwrap_or_default();
+    parse(&text, &file, &base, &default_title)
+}
+
+/// Parse and validate scenario text. `file` names it in errors; `base` is the
+/// folder that empirical data paths are relative to.
+pub fn parse(text: &str, file: &str, base: &Path, default_title: &str) -> Result<Model, ScenarioError> {
+    let spec: ScenarioSpec = toml::from_str(text).map_err(|e| {
+        let (line, column) = e
+            .span()
+            .map(|s| line_column(text, s.start))
+            .unwrap_or((1, 1));
+        ScenarioError::Syntax {
+            file: file.to_string(),
+            line,
+            column,
+            message: e.message().trim().replace('\n', " "),
+        }
+    })?;
+    Compiler {
+        file: file.to_string(),
+        base: base.to_path_buf(),
+    }
+    .compile(spec, default_title)
+}
+
+fn line_column(text: &str, offset: usize) -> (usize, usize) {
+    let before = &text[..offset.min(text.len())];
+    let line = before.matches('\n').count() + 1;
+    let column = before.rsplit('\n').next().map_or(0, |l| l.chars().count()) + 1;
+    (line, column)
+}
+
+/// FNV-1a, 64 bits: a fixed, documented hash of a stream's name for its
+/// random-number key (std's hasher may change between Rust versions).
+pub fn name_key(name: &str) -> u64 {
+    let mut h: u64 = 0xcbf2_9ce4_8422_2325;
+    for b in name.bytes() {
+        h ^= u64::from(b);
+        h = h.wrapping_mul(0x0000_0100_0000_01b3);
+    }
+    h
+}
+
+struct Compiler {
+    file: String,
+    base: PathBuf,
+}
+
+type R<T> = Result<T, ScenarioError>;
+
+impl Compiler {
+    fn err(&self, key: impl Into<String>, message: impl Into<String>) -> ScenarioError {
+        ScenarioError::Invalid {
+            file: self.file.clone(),
+            key: key.into(),
+            message: message.into(),
+        }
+    }
+
+    fn duration(&self, key: &str, a: &Amount) -> R<f64> {
+        let s = match a {
+            Amount::Number(x) if x.is_finite() && *x >= 0.0 => *x,
+            Amount::Number(x) => {
+                return Err(self.err(key, format!("{x} is not a duration: expected seconds >= 0 or a time like \"3m\"")));
+            }
+            Amount::Text(t) => units::parse_duration(t).map_err(|e| self.err(key, e.to_string()))?,
+        };
+        if s > MAX_LENGTH_S {
+            return Err(self.err(key, format!("{a} is longer than the limit of ten years")));
+        }
+        Ok(s)
+    }
+
+    fn positive_duration(&self, key: &str, a: &Amount) -> R<f64> {
+        let s = self.duration(key, a)?;
+        if s <= 0.0 {
+            return Err(self.err(key, format!("{a} must be longer than zero")));
+        }
+        Ok(s)
+    }
+
+    fn rate(&self, key: &str, a: &Amount, allow_zero: bool) -> R<f64> {
+        let r = match a {
+            Amount::Number(x) => {
+                return Err(self.err(
+                    key,
+                    format!("{x} has no unit: write the rate with its unit, like \"{x}/h\" or \"{x}/m\""),
+                ));
+            }
+            Amount::Text(t) => units::parse_rate(t).map_err(|e| self.err(key, e.to_string()))?,
+        };
+        if r == 0.0 && !allow_zero {
+            return Err(self.err(key, format!("{a}: a rate must be above zero")));
+        }
+        if r > 1e7 {
+            return Err(self.err(key, format!("{a} is above the limit of 10 million calls per second")));
+        }
+        Ok(r)
+    }
+
+    fn share(&self, key: &str, a: &Amount) -> R<f64> {
+        match a {
+            Amount::Number(x) if (0.0..=1.0).contains(x) => Ok(*x),
+            Amount::Number(x) => Err(self.err(key, format!("{x} is not a share: expected a fraction from 0 to 1 or a percentage like \"70%\""))),
+            Amount::Text(t) => units::parse_share(t).map_err(|e| self.err(key, e.to_string())),
+        }
+    }
+
+    fn count(&self, key: &str, v: i64, min: i64, max: i64) -> R<u32> {
+        if v < min || v > max {
+            return Err(self.err(key, format!("{v} is out of range: expected a whole number from {min} to {max}")));
+        }
+        Ok(v as u32)
+    }
+
+    fn compile(&self, spec: ScenarioSpec, default_title: &str) -> R<Model> {
+        let plan = self.plan(&spec.simulation)?;
+        if spec.groups.is_empty() {
+            return Err(self.err("group", "the scenario has no [[group]]: add at least one circuit or agent group"));
+        }
+        if spec.streams.is_empty() {
+            return Err(self.err("stream", "the scenario has no [[stream]]: add at least one traffic stream"));
+        }
+        let mut group_index = HashMap::new();
+        for (i, g) in spec.groups.iter().enumerate() {
+            let key = format!("group[{}].name", i + 1);
+            check_name(&g.name).map_err(|m| self.err(&key, m))?;
+            if group_index.insert(g.name.as_str(), i).is_some() {
+                return Err(self.err(key, format!("the name \"{}\" is used by two groups: names must be unique", g.name)));
+            }
+        }
+        let mut stream_index = HashMap::new();
+        for (i, s) in spec.streams.iter().enumerate() {
+            let key = format!("stream[{}].name", i + 1);
+            check_name(&s.name).map_err(|m| self.err(&key, m))?;
+            if stream_index.insert(s.name.as_str(), i).is_some() {
+                return Err(self.err(key, format!("the name \"{}\" is used by two streams: names must be unique", s.name)));
+            }
+        }
+        let n_streams = spec.streams.len();
+        let mut groups = Vec::with_capacity(spec.groups.len());
+        for g in &spec.groups {
+            let k = |field: &str| format!("group \"{}\".{field}", g.name);
+            let servers = self.count(&k("servers"), g.servers, 1, MAX_SERVERS)?;
+            let queue = match &g.queue {
+                None | Some(QueueSpec::Places(0)) => Queue::None,
+                Some(QueueSpec::Places(q)) => Queue::Limited(self.count(&k("queue"), *q, 0, MAX_COUNT)?),
+                Some(QueueSpec::Text(t)) if t == "unlimited" => Queue::Unlimited,
+                Some(QueueSpec::Text(t)) => {
+                    return Err(self.err(k("queue"), format!("\"{t}\" is not a queue size: expected a whole number of waiting places or \"unlimited\"")));
+                }
+            };
+            let overflow_after_s = match &g.overflow_after {
+                None => None,
+                Some(_) if queue == Queue::None => {
+                    return Err(self.err(k("overflow_after"), "only a group with waiting places (queue > 0) can pass waiting calls on"));
+                }
+                Some(a) => Some(self.positive_duration(&k("overflow_after"), a)?),
+            };
+            let mut reserved_for = vec![false; n_streams];
+            let reserve = match &g.reserve {
+                None => 0,
+                Some(r) => {
+                    let reserve = self.count(&k("reserve.servers"), r.servers, 0, MAX_SERVERS)?;
+                    if reserve >= servers {
+                        return Err(self.err(k("reserve.servers"), format!("reserving {reserve} of {servers} servers leaves none for other traffic: reserve fewer than the group has")));
+                    }
+                    if r.for_streams.is_empty() {
+                        return Err(self.err(k("reserve.for"), "name at least one stream that may use the reserved servers"));
+                    }
+                    for (j, name) in r.for_streams.iter().enumerate() {
+                        match stream_index.get(name.as_str()) {
+                            Some(&s) => reserved_for[s] = true,
+                            None => {
+                                return Err(self.err(format!("{}[{}]", k("reserve.for"), j + 1), format!("no stream is named \"{name}\"")));
+                            }
+                        }
+                    }
+                    reserve
+                }
+            };
+            groups.push(Group {
+                name: g.name.clone(),
+                servers,
+                queue,
+                overflow_after_s,
+                reserve,
+                reserved_for,
+            });
+        }
+        let mut streams = Vec::with_capacity(n_streams);
+        for s in &spec.streams {
+            let k = |field: &str| format!("stream \"{}\".{field}", s.name);
+            let arrivals = self.arrivals(&k("arrivals"), &s.arrivals)?;
+            let holding = self.law(&k("holding"), &s.holding)?;
+            if s.route.is_empty() {
+                return Err(self.err(k("route"), "the route is empty: name at least one group"));
+            }
+            let mut route = Vec::with_capacity(s.route.len());
+            for (j, name) in s.route.iter().enumerate() {
+                let key = format!("{}[{}]", k("route"), j + 1);
+                let gi = *group_index
+                    .get(name.as_str())
+                    .ok_or_else(|| self.err(&key, format!("no group is named \"{name}\"")))?;
+                if route.contains(&(gi as u32)) {
+                    return Err(self.err(key, format!("the group \"{name}\" appears twice in the route")));
+                }
+                route.push(gi as u32);
+            }
+            let units = match s.units {
+                None => 1,
+                Some(u) => self.count(&k("units"), u, 1, MAX_SERVERS)?,
+            };
+            if route.iter().all(|&g| groups[g as usize].servers < units) {
+                return Err(self.err(k("units"), format!("a call takes {units} servers but no group on the route has that many")));
+            }
+            let retry = match &s.retry {
+                None => None,
+                Some(r) => {
+                    let chances = match &r.chance {
+                        ChanceSpec::One(a) => vec![self.share(&k("retry.chance"), a)?],
+                        ChanceSpec::Each(list) => {
+                            if list.is_empty() {
+                                return Err(self.err(k("retry.chance"), "the list of chances is empty"));
+                            }
+                            list.iter()
+                                .enumerate()
+                                .map(|(j, a)| self.share(&format!("{}[{}]", k("retry.chance"), j + 1), a))
+                                .collect::<R<Vec<f64>>>()?
+                        }
+                    };
+                    Some(Retry {
+                        chances,
+                        delay: self.law(&k("retry.delay"), &r.delay)?,
+                        max_attempts: self.count(&k("retry.max_attempts"), r.max_attempts, 1, 1000)?,
+                    })
+                }
+            };
+            let patience = match &s.patience {
+                None => None,
+                Some(p) => Some(self.law(&k("patience"), p)?),
+            };
+            let answer_within_s = match &s.answer_within {
+                None => None,
+                Some(a) => Some(self.duration(&k("answer_within"), a)?),
+            };
+            streams.push(Stream {
+                name: s.name.clone(),
+                arrivals,
+                holding,
+                route,
+                units,
+                retry,
+                patience,
+                answer_within_s,
+                seed_key: name_key(&s.name),
+            });
+        }
+        Ok(Model {
+            title: spec.title.unwrap_or_else(|| default_title.to_string()),
+            plan,
+            groups,
+            streams,
+        })
+    }
+
+    fn plan(&self, s: &spec::SimulationSpec) -> R<RunPlan> {
+        let warmup_s = match &s.warmup {
+            None => 0.0,
+            Some(a) => self.duration("simulation.warmup", a)?,
+        };
+        let length_s = self.positive_duration("simulation.length", &s.length)?;
+        let replications = match (s.replications, &s.precision) {
+            (Some(_), Some(_)) => {
+                return Err(self.err("simulation", "give either replications or precision, not both"));
+            }
+            (Some(n), None) => {
+                if s.max_replications.is_some() {
+                    return Err(self.err("simulation.max_replications", "max_replications goes with precision, not with a fixed number of replications"));
+                }
+                Replications::Fixed(self.count("simulation.replications", n, 2, MAX_REPLICATIONS)?)
+            }
+            (None, Some(p)) => {
+                let target = self.share("simulation.precision", p)?;
+                if !(target > 0.0 && target < 1.0) {
+                    return Err(self.err("simulation.precision", format!("{p}: expected a relative half-width above 0% and below 100%, like \"2%\"")));
+                }
+                let max = match s.max_replications {
+                    None => DEFAULT_MAX_REPLICATIONS,
+                    Some(m) => self.count("simulation.max_replications", m, 2, MAX_REPLICATIONS)?,
+                };
+                Replications::Precision { target, max }
+            }
+            (None, None) => Replications::Fixed(DEFAULT_REPLICATIONS),
+        };
+        let seed = match s.seed {
+            None => 1,
+            Some(v) if v >= 0 => v as u64,
+            Some(v) => return Err(self.err("simulation.seed", format!("{v}: the seed must be a whole number >= 0"))),
+        };
+        let interval_s = match &s.interval {
+            None => None,
+            Some(a) => {
+                let i = self.positive_duration("simulation.interval", a)?;
+                if i > length_s {
+                    return Err(self.err("simulation.interval", format!("{a} is longer than the measured length")));
+                }
+                if length_s / i > MAX_INTERVALS {
+                    return Err(self.err("simulation.interval", format!("{a} makes more than {MAX_INTERVALS} intervals: choose a longer interval")));
+                }
+                Some(i)
+            }
+        };
+        Ok(RunPlan {
+            warmup_s,
+            length_s,
+            replications,
+            seed,
+            interval_s,
+        })
+    }
+
+    fn arrivals(&self, key: &str, a: &ArrivalSpec) -> R<Arrivals> {
+        let unexpected = |field: &str, present: bool| -> R<()> {
+            if present {
+                Err(self.err(format!("{key}.{field}"), format!("{field} is not a parameter of {} arrivals", a.law)))
+            } else {
+                Ok(())
+            }
+        };
+        match a.law.as_str() {
+            "poisson" => {
+                unexpected("between", a.between.is_some())?;
+                unexpected("count", a.count.is_some())?;
+                unexpected("idle", a.idle.is_some())?;
+                match (&a.rate, &a.rates) {
+                    (Some(r), None) => {
+                        unexpected("interval", a.interval.is_some())?;
+                        Ok(Arrivals::Poisson {
+                            rate: self.rate(&format!("{key}.rate"), r, false)?,
+                        })
+                    }
+                    (None, Some(list)) => {
+                        let interval_s = match &a.interval {
+                            Some(i) => self.positive_duration(&format!("{key}.interval"), i)?,
+                            None => return Err(self.err(format!("{key}.interval"), "a peak profile (rates = [...]) needs the interval each rate covers, like interval = \"15m\"")),
+                        };
+                        if list.is_empty() {
+                            return Err(self.err(format!("{key}.rates"), "the profile has no rates"));
+                        }
+                        let rates = list
+                            .iter()
+                            .enumerate()
+                            .map(|(j, r)| self.rate(&format!("{key}.rates[{}]", j + 1), r, true))
+                            .collect::<R<Vec<f64>>>()?;
+                        if rates.iter().all(|&r| r == 0.0) {
+                            return Err(self.err(format!("{key}.rates"), "every rate in the profile is zero"));
+                        }
+                        Ok(Arrivals::Profile { interval_s, rates })
+                    }
+                    (Some(_), Some(_)) => Err(self.err(key, "give either rate (constant) or rates (a peak profile), not both")),
+                    (None, None) => Err(self.err(key, "poisson arrivals need a rate, like rate = \"600/h\", or a profile, rates = [...] with interval")),
+                }
+            }
+            "renewal" => {
+                for (f, p) in [("rate", a.rate.is_some()), ("rates", a.rates.is_some()), ("interval", a.interval.is_some()), ("count", a.count.is_some()), ("idle", a.idle.is_some())] {
+                    unexpected(f, p)?;
+                }
+                let between = a
+                    .between
+                    .as_ref()
+                    .ok_or_else(|| self.err(format!("{key}.between"), "renewal arrivals need the law of the time between arrivals, like between = { law = \"gamma\", mean = \"6s\", cv = 0.5 }"))?;
+                Ok(Arrivals::Renewal {
+                    between: self.law(&format!("{key}.between"), between)?,
+                })
+            }
+            "sources" => {
+                for (f, p) in [("rate", a.rate.is_some()), ("rates", a.rates.is_some()), ("interval", a.interval.is_some()), ("between", a.between.is_some())] {
+                    unexpected(f, p)?;
+                }
+                let count = match a.count {
+                    Some(c) => self.count(&format!("{key}.count"), c, 1, MAX_COUNT)?,
+                    None => return Err(self.err(format!("{key}.count"), "finite sources need a count, like count = 60")),
+                };
+                let idle = a
+                    .idle
+                    .as_ref()
+                    .ok_or_else(|| self.err(format!("{key}.idle"), "finite sources need the law of a source's idle time, like idle = { law = \"exponential\", mean = \"20m\" }"))?;
+                Ok(Arrivals::Sources {
+                    count,
+                    idle: self.law(&format!("{key}.idle"), idle)?,
+                })
+            }
+            other => Err(self.err(format!("{key}.law"), format!("\"{other}\" is not an arrival law: expected \"poisson\", \"renewal\" or \"sources\""))),
+        }
+    }
+
+    fn law(&self, key: &str, l: &LawSpec) -> R<Law> {
+        let name = l.law.as_str();
+        let allowed: &[&str] = match name {
+            "exponential" | "deterministic" => &["mean"],
+            "erlang" => &["mean", "k"],
+            "gamma" | "weibull" => &["mean", "cv", "shape"],
+            "lognormal" | "hyperexponential" | "uniform" => &["mean", "cv"],
+            "empirical" => &["file", "column", "scale"],
+            other => {
+                return Err(self.err(format!("{key}.law"), format!("\"{other}\" is not a law: expected one of exponential, erlang, gamma, lognormal, hyperexponential, deterministic, uniform, weibull, empirical")));
+            }
+        };
+        let present = [
+            ("mean", l.mean.is_some()),
+            ("cv", l.cv.is_some()),
+            ("shape", l.shape.is_some()),
+            ("k", l.k.is_some()),
+            ("file", l.file.is_some()),
+            ("column", l.column.is_some()),
+            ("scale", l.scale.is_some()),
+        ];
+        for (field, is) in present {
+            if is && !allowed.contains(&field) {
+                return Err(self.err(format!("{key}.{field}"), format!("{field} is not a parameter of the {name} law (it takes {})", allowed.join(", "))));
+            }
+        }
+        let law_err = |e: dist::LawError| self.err(key, e.to_string());
+        if name == "empirical" {
+            let file = l
+                .file
+                .as_ref()
+                .ok_or_else(|| self.err(format!("{key}.file"), "an empirical law needs file = \"data.csv\" (relative to the scenario file)"))?;
+            let scale = l.scale.unwrap_or(1.0);
+            if !(scale > 0.0 && scale.is_finite()) {
+                return Err(self.err(format!("{key}.scale"), format!("{scale}: the scale must be a finite number above zero")));
+            }
+            let path = self.base.join(file);
+            let values = dist::empirical::read_column(&path, l.column.as_deref(), scale)
+                .map_err(|e| self.err(format!("{key}.file"), e.to_string()))?;
+            return Law::empirical(values).map_err(law_err);
+        }
+        let mean = match &l.mean {
+            Some(m) => self.positive_duration(&format!("{key}.mean"), m)?,
+            None => return Err(self.err(format!("{key}.mean"), format!("the {name} law needs a mean, like mean = \"3m\""))),
+        };
+        let need_cv = |what: &str| self.err(key, format!("the {name} law needs {what}"));
+        match name {
+            "exponential" => Law::exponential(mean),
+            "deterministic" => Law::deterministic(mean),
+            "erlang" => {
+                let k = l.k.ok_or_else(|| need_cv("its number of phases, like k = 3"))?;
+                let k = self.count(&format!("{key}.k"), k, 1, 1000)?;
+                Law::erlang(mean, k)
+            }
+            "gamma" | "weibull" => match (l.cv, l.shape) {
+                (Some(_), Some(_)) => return Err(self.err(key, "give either cv or shape, not both")),
+                (Some(cv), None) if name == "gamma" => Law::gamma(mean, cv),
+                (Some(cv), None) => Law::weibull(mean, cv),
+                (None, Some(s)) if name == "gamma" => Law::gamma_shape(mean, s),
+                (None, Some(s)) => Law::weibull_shape(mean, s),
+                (None, None) => return Err(need_cv("a cv (or a shape), like cv = 0.8")),
+            },
+            "lognormal" | "hyperexponential" | "uniform" => {
+                let cv = l.cv.ok_or_else(|| need_cv("a cv, like cv = 1.2"))?;
+                match name {
+                    "lognormal" => Law::lognormal(mean, cv),
+                    "hyperexponential" => Law::hyperexponential(mean, cv),
+                    _ => Law::uniform(mean, cv),
+                }
+            }
+            _ => unreachable!("law names are checked above"),
+        }
+        .map_err(law_err)
+    }
+}
+
+fn check_name(name: &str) -> Result<(), String> {
+    if name.trim().is_empty() {
+        return Err("the name is empty".into());
+    }
+    if name.len() > 200 || name.chars().any(char::is_control) {
+        return Err(format!("{name:?} is not a usable name: keep it short, with no control characters"));
+    }
+    Ok(())
+}

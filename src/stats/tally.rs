@@ -1,0 +1,126 @@
+//! Raw counters of one replication, filled by the engine. Counts of calls
+//! refer to calls whose first attempt arrived in the measured period
+//! ("measured calls"), followed to their end; time integrals are clipped to
+//! the measured period.
+
+use hdrhistogram::Histogram;
+
+/// Waits are recorded in milliseconds up to this bound (1000 hours); a longer
+/// wait is clamped to it.
+pub const WAIT_MAX_MS: u64 = 3_600_000_000;
+/// Significant digits kept by the wait histogram: 2 gives 1% resolution in
+/// fixed memory (about 60 KiB per stream).
+pub const WAIT_DIGITS: u8 = 2;
+
+/// Counters of one stream.
+#[derive(Debug, Clone, Default)]
+pub struct StreamTally {
+    /// Measured calls (first attempts in the measured period).
+    pub offered: u64,
+    /// Sum of the holding times of measured calls (s).
+    pub offered_holding_s: f64,
+    /// Attempts of measured calls, redials included.
+    pub attempts: u64,
+    /// First attempts that found every group on the route full.
+    pub first_blocked: u64,
+    /// Attempts that found every group on the route full.
+    pub attempts_blocked: u64,
+    /// Attempts that abandoned a queue.
+    pub attempts_abandoned: u64,
+    /// Calls answered.
+    pub answered: u64,
+    /// Calls answered within the stream's `answer_within`.
+    pub answered_within: u64,
+    /// Calls that ended blocked on their last allowed attempt.
+    pub blocked_final: u64,
+    /// Calls that ended by abandoning (and not redialling).
+    pub abandoned_final: u64,
+    /// Resolved calls that waited in a queue on at least one attempt.
+    pub waited: u64,
+    /// Measured calls still unresolved when the replication stopped.
+    pub pending_end: u64,
+    /// Sum of the waits of answered calls (s).
+    pub wait_sum_s: f64,
+    /// Call-seconds carried inside the measured period.
+    pub carried_s: f64,
+    /// Waits of answered calls (ms), for streams that can wait.
+    pub waits: Option<Histogram<u64>>,
+}
+
+impl StreamTally {
+    /// Calls whose fate is known.
+    pub fn resolved(&self) -> u64 {
+        self.offered - self.pending_end
+    }
+    /// Calls never served.
+    pub fn lost(&self) -> u64 {
+        self.blocked_final + self.abandoned_final
+    }
+}
+
+/// Counters of one group.
+#[derive(Debug, Clone, Default)]
+pub struct GroupTally {
+    /// Server-seconds busy inside the measured period.
+    pub busy_s: f64,
+    /// Seconds with every server busy.
+    pub full_s: f64,
+    /// Calls that found the group full and did not wait there (moved on along
+    /// the route or were blocked), counted when it happened in the period.
+    pub overflow_calls: u64,
+    /// Integral of the virtual overflow group's occupancy (erlang-seconds).
+    pub overflow_s: f64,
+    /// Integral of its square.
+    pub overflow_sq_s: f64,
+}
+
+/// Counters of one stream in one reporting interval (calls by the interval of
+/// their first attempt).
+#[derive(Debug, Clone, Copy, Default)]
+pub struct StreamIntervalTally {
+    /// Measured calls arriving in the interval.
+    pub offered: u64,
+    /// Sum of their holding times (s).
+    pub offered_holding_s: f64,
+    /// Of them, resolved.
+    pub resolved: u64,
+    /// Of them, never served.
+    pub lost: u64,
+    /// Of them, answered.
+    pub answered: u64,
+    /// Of them, answered within `answer_within`.
+    pub answered_within: u64,
+    /// Sum of waits of the answered ones (s).
+    pub wait_sum_s: f64,
+    /// Call-seconds carried inside the interval (whatever their arrival).
+    pub carried_s: f64,
+}
+
+/// Counters of one group in one reporting interval.
+#[derive(Debug, Clone, Copy, Default)]
+pub struct GroupIntervalTally {
+    /// Server-seconds busy inside the interval.
+    pub busy_s: f64,
+    /// Seconds with every server busy.
+    pub full_s: f64,
+}
+
+/// Everything one replication measured.
+#[derive(Debug, Clone)]
+pub struct Tally {
+    /// Replication index.
+    pub replication: u64,
+    /// Per stream.
+    pub streams: Vec<StreamTally>,
+    /// Per group.
+    pub groups: Vec<GroupTally>,
+    /// Per interval, per stream.
+    pub stream_intervals: Vec<Vec<StreamIntervalTally>>,
+    /// Per interval, per group.
+    pub group_intervals: Vec<Vec<GroupIntervalTally>>,
+    /// Events processed (for throughput figures).
+    pub events: u64,
+    /// Most calls ever in progress on any group at once (a check of the
+    /// engine's invariants: never above the group size).
+    pub peak_busy: Vec<u32>,
+}
