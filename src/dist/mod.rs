@@ -1,55 +1,431 @@
-//! Stand-in for the laws module while it is written on its own branch.
-use rand_distr::Distribution;
-use std::path::Path;
-use thiserror::Error;
+//! Probability laws for holding times, inter-arrival times, patience and redial
+//! delays, built from mean and cv (or shape); empirical laws from data.
+//!
+//! This module owns the laws' parameterisation, validation, sampling and
+//! distribution functions. It knows nothing of scenarios, streams or the
+//! engine: it takes plain seconds and a generator passed in by the caller
+//! (the laws never store a generator, so each replication owns its streams).
+//!
+//! # Example
+//!
+//! ```
+//! use busyhour::dist::Law;
+//! use rand::SeedableRng;
+//! use rand_xoshiro::Xoshiro256PlusPlus;
+//!
+//! let holding = Law::lognormal(180.0, 1.1).unwrap();
+//! assert_eq!(holding.describe(), "lognormal, mean 180 s, cv 1.10");
+//! let mut rng = Xoshiro256PlusPlus::seed_from_u64(7);
+//! let t = holding.sample(&mut rng);
+//! assert!(t > 0.0);
+//! ```
+//!
+//! # Performance
+//!
+//! Every constructor precomputes the derived constants (the `rand_distr`
+//! samplers live inside the variants), so [`Law::sample`] does no allocation
+//! and no parameter arithmetic beyond one multiply.
 
-#[derive(Debug, Error)]
-pub enum LawError {
-    #[error("bad law: {0}")]
-    Bad(String),
-}
-#[derive(Debug, Clone)]
+mod deterministic;
+pub mod empirical;
+mod erlang;
+mod error;
+mod exponential;
+mod gamma;
+mod hyperexponential;
+mod lognormal;
+mod uniform;
+mod weibull;
+
+use rand::Rng;
+
+pub use deterministic::Deterministic;
+pub use empirical::{Empirical, EmpiricalError, MAX_LINE_BYTES, read_column};
+pub use erlang::{ERLANG_SUM_MAX_K, Erlang};
+pub use error::LawError;
+pub use exponential::Exponential;
+pub use gamma::Gamma;
+pub use hyperexponential::Hyperexponential;
+pub use lognormal::Lognormal;
+pub use uniform::{UNIFORM_MAX_CV, Uniform};
+pub use weibull::{
+    WEIBULL_SHAPE_MAX, WEIBULL_SHAPE_MIN, Weibull, weibull_cv_of_shape, weibull_shape_of_cv,
+};
+
+use error::is_positive_finite;
+
+/// A probability law for a non-negative time (seconds).
+///
+/// Build one with the constructors below; each validates its parameters
+/// (rejecting NaN, infinities, zero and negative values, and cvs the law
+/// cannot have) and precomputes what sampling needs.
+#[derive(Debug, Clone, PartialEq)]
 pub enum Law {
-    Exponential(f64),
-    Deterministic(f64),
-    Lognormal(f64, f64, rand_distr::LogNormal<f64>),
+    /// Exponential law (cv 1).
+    Exponential(Exponential),
+    /// Erlang-k law (cv 1/sqrt k).
+    Erlang(Erlang),
+    /// Gamma law.
+    Gamma(Gamma),
+    /// Lognormal law.
+    Lognormal(Lognormal),
+    /// Two-phase hyperexponential with balanced means (cv >= 1).
+    Hyperexponential(Hyperexponential),
+    /// A constant time (cv 0).
+    Deterministic(Deterministic),
+    /// Uniform law symmetric about its mean (cv <= 1/sqrt 3).
+    Uniform(Uniform),
+    /// Weibull law.
+    Weibull(Weibull),
+    /// Law interpolated from measured values.
+    Empirical(Empirical),
 }
+
 impl Law {
+    /// Exponential law with mean `mean` seconds: F(x) = 1 - exp(-x / mean).
+    /// See [`Exponential`].
     pub fn exponential(mean: f64) -> Result<Law, LawError> {
-        if !(mean > 0.0 && mean.is_finite()) { return Err(LawError::Bad(format!("{mean}"))); }
-        Ok(Law::Exponential(mean))
+        Exponential::new(mean).map(Law::Exponential)
     }
-    pub fn deterministic(mean: f64) -> Result<Law, LawError> { Ok(Law::Deterministic(mean)) }
+
+    /// Erlang law of k phases, each exponential with mean `mean / k`; cv = 1/sqrt(k).
+    /// See [`Erlang`].
+    pub fn erlang(mean: f64, k: u32) -> Result<Law, LawError> {
+        Erlang::new(mean, k).map(Law::Erlang)
+    }
+
+    /// Gamma law from mean and cv: shape 1/cv^2, scale mean cv^2. See [`Gamma`].
+    pub fn gamma(mean: f64, cv: f64) -> Result<Law, LawError> {
+        Gamma::from_cv(mean, cv).map(Law::Gamma)
+    }
+
+    /// Gamma law from mean and shape a: scale mean / a, cv 1/sqrt(a). See [`Gamma`].
+    pub fn gamma_shape(mean: f64, shape: f64) -> Result<Law, LawError> {
+        Gamma::from_shape(mean, shape).map(Law::Gamma)
+    }
+
+    /// Lognormal law from mean and cv: sigma^2 = ln(1 + cv^2),
+    /// mu = ln(mean) - sigma^2/2. See [`Lognormal`].
     pub fn lognormal(mean: f64, cv: f64) -> Result<Law, LawError> {
-        let s2 = (1.0 + cv * cv).ln();
-        Ok(Law::Lognormal(mean, cv, rand_distr::LogNormal::new(mean.ln() - s2 / 2.0, s2.sqrt()).map_err(|e| LawError::Bad(e.to_string()))?))
+        Lognormal::new(mean, cv).map(Law::Lognormal)
     }
-    pub fn erlang(_mean: f64, _k: u32) -> Result<Law, LawError> { Err(LawError::Bad("todo".into())) }
-    pub fn gamma(_mean: f64, _cv: f64) -> Result<Law, LawError> { Err(LawError::Bad("todo".into())) }
-    pub fn gamma_shape(_mean: f64, _s: f64) -> Result<Law, LawError> { Err(LawError::Bad("todo".into())) }
-    pub fn hyperexponential(_mean: f64, _cv: f64) -> Result<Law, LawError> { Err(LawError::Bad("todo".into())) }
-    pub fn uniform(_mean: f64, _cv: f64) -> Result<Law, LawError> { Err(LawError::Bad("todo".into())) }
-    pub fn weibull(_mean: f64, _cv: f64) -> Result<Law, LawError> { Err(LawError::Bad("todo".into())) }
-    pub fn weibull_shape(_mean: f64, _s: f64) -> Result<Law, LawError> { Err(LawError::Bad("todo".into())) }
-    pub fn empirical(_v: Vec<f64>) -> Result<Law, LawError> { Err(LawError::Bad("todo".into())) }
-    pub fn mean(&self) -> f64 { match self { Law::Exponential(m) | Law::Deterministic(m) | Law::Lognormal(m, _, _) => *m } }
-    pub fn cv(&self) -> f64 { match self { Law::Exponential(_) => 1.0, Law::Deterministic(_) => 0.0, Law::Lognormal(_, c, _) => *c } }
-    pub fn name(&self) -> &'static str { match self { Law::Exponential(_) => "exponential", Law::Deterministic(_) => "deterministic", Law::Lognormal(..) => "lognormal" } }
-    pub fn describe(&self) -> String { format!("{}, mean {} s, cv {:.2}", self.name(), self.mean(), self.cv()) }
-    pub fn scaled(&self, f: f64) -> Law { match self { Law::Exponential(m) => Law::Exponential(m * f), Law::Deterministic(m) => Law::Deterministic(m * f), Law::Lognormal(m, c, _) => Law::lognormal(m * f, *c).unwrap() } }
-    #[inline]
-    pub fn sample<R: rand::Rng + ?Sized>(&self, rng: &mut R) -> f64 {
+
+    /// Two-phase hyperexponential with balanced means, cv >= 1 (cv = 1 is the
+    /// exponential law). See [`Hyperexponential`] for the formulas and source.
+    pub fn hyperexponential(mean: f64, cv: f64) -> Result<Law, LawError> {
+        Hyperexponential::new(mean, cv).map(Law::Hyperexponential)
+    }
+
+    /// A constant time `mean` seconds. See [`Deterministic`].
+    pub fn deterministic(mean: f64) -> Result<Law, LawError> {
+        Deterministic::new(mean).map(Law::Deterministic)
+    }
+
+    /// Uniform law on [mean - h, mean + h], h = mean cv sqrt(3); needs
+    /// cv <= 1/sqrt(3) so that the lower end is >= 0. See [`Uniform`].
+    pub fn uniform(mean: f64, cv: f64) -> Result<Law, LawError> {
+        Uniform::new(mean, cv).map(Law::Uniform)
+    }
+
+    /// Weibull law from mean and cv: the shape k solves
+    /// cv^2 = G(1+2/k)/G(1+1/k)^2 - 1 by bisection (cv falls as k grows), the
+    /// scale is mean / G(1+1/k). See [`Weibull`].
+    pub fn weibull(mean: f64, cv: f64) -> Result<Law, LawError> {
+        Weibull::from_cv(mean, cv).map(Law::Weibull)
+    }
+
+    /// Weibull law from mean and shape k: scale mean / G(1+1/k). See [`Weibull`].
+    pub fn weibull_shape(mean: f64, shape: f64) -> Result<Law, LawError> {
+        Weibull::from_shape(mean, shape).map(Law::Weibull)
+    }
+
+    /// Empirical law from measured values (seconds, finite, >= 0, not all 0):
+    /// the data's distribution function interpolated linearly between the
+    /// order statistics placed at Hazen's positions (i - 1/2)/n, with point
+    /// masses 1/(2n) on the smallest and largest value (Hyndman and Fan 1996,
+    /// definition 5). Its mean equals the data mean exactly. See [`Empirical`].
+    pub fn empirical(values: Vec<f64>) -> Result<Law, LawError> {
+        Empirical::new(values).map(Law::Empirical)
+    }
+
+    /// Mean (seconds).
+    pub fn mean(&self) -> f64 {
         match self {
-            Law::Exponential(m) => { let e: f64 = rand_distr::Exp1.sample(rng); e * m }
-            Law::Deterministic(m) => *m,
-            Law::Lognormal(_, _, d) => d.sample(rng),
+            Law::Exponential(l) => l.mean(),
+            Law::Erlang(l) => l.mean(),
+            Law::Gamma(l) => l.mean(),
+            Law::Lognormal(l) => l.mean(),
+            Law::Hyperexponential(l) => l.mean(),
+            Law::Deterministic(l) => l.mean(),
+            Law::Uniform(l) => l.mean(),
+            Law::Weibull(l) => l.mean(),
+            Law::Empirical(l) => l.mean(),
+        }
+    }
+
+    /// Coefficient of variation (standard deviation / mean).
+    pub fn cv(&self) -> f64 {
+        match self {
+            Law::Exponential(l) => l.cv(),
+            Law::Erlang(l) => l.cv(),
+            Law::Gamma(l) => l.cv(),
+            Law::Lognormal(l) => l.cv(),
+            Law::Hyperexponential(l) => l.cv(),
+            Law::Deterministic(l) => l.cv(),
+            Law::Uniform(l) => l.cv(),
+            Law::Weibull(l) => l.cv(),
+            Law::Empirical(l) => l.cv(),
+        }
+    }
+
+    /// Distribution function F(x) = P(X <= x); 0 for x < 0, NaN for NaN.
+    /// Each law's formula is in its type's doc.
+    pub fn cdf(&self, x: f64) -> f64 {
+        match self {
+            Law::Exponential(l) => l.cdf(x),
+            Law::Erlang(l) => l.cdf(x),
+            Law::Gamma(l) => l.cdf(x),
+            Law::Lognormal(l) => l.cdf(x),
+            Law::Hyperexponential(l) => l.cdf(x),
+            Law::Deterministic(l) => l.cdf(x),
+            Law::Uniform(l) => l.cdf(x),
+            Law::Weibull(l) => l.cdf(x),
+            Law::Empirical(l) => l.cdf(x),
+        }
+    }
+
+    /// The law's name as written in a scenario file (`law = "..."`).
+    pub fn name(&self) -> &'static str {
+        match self {
+            Law::Exponential(_) => "exponential",
+            Law::Erlang(_) => "erlang",
+            Law::Gamma(_) => "gamma",
+            Law::Lognormal(_) => "lognormal",
+            Law::Hyperexponential(_) => "hyperexponential",
+            Law::Deterministic(_) => "deterministic",
+            Law::Uniform(_) => "uniform",
+            Law::Weibull(_) => "weibull",
+            Law::Empirical(_) => "empirical",
+        }
+    }
+
+    /// The law in plain words, e.g. "lognormal, mean 180 s, cv 1.10".
+    pub fn describe(&self) -> String {
+        let mean = seconds(self.mean());
+        let cv = self.cv();
+        match self {
+            Law::Exponential(_) => format!("exponential, mean {mean} s, cv 1"),
+            Law::Erlang(l) => format!("erlang with {} phases, mean {mean} s, cv {cv:.2}", l.k()),
+            Law::Gamma(l) => format!(
+                "gamma, mean {mean} s, cv {cv:.2} (shape {})",
+                significant(l.shape(), 3)
+            ),
+            Law::Lognormal(_) => format!("lognormal, mean {mean} s, cv {cv:.2}"),
+            Law::Hyperexponential(_) => format!("hyperexponential, mean {mean} s, cv {cv:.2}"),
+            Law::Deterministic(_) => format!("deterministic, {mean} s"),
+            Law::Uniform(l) => {
+                let (lo, hi) = l.bounds();
+                format!(
+                    "uniform from {} s to {} s, mean {mean} s, cv {cv:.2}",
+                    seconds(lo),
+                    seconds(hi)
+                )
+            }
+            Law::Weibull(l) => format!(
+                "weibull, mean {mean} s, cv {cv:.2} (shape {})",
+                significant(l.shape(), 3)
+            ),
+            Law::Empirical(l) => {
+                let v = l.values();
+                format!(
+                    "empirical from {} values ({} s to {} s), mean {mean} s, cv {cv:.2}",
+                    l.len(),
+                    seconds(v[0]),
+                    seconds(v[v.len() - 1])
+                )
+            }
+        }
+    }
+
+    /// One draw (seconds, >= 0) using the caller's generator.
+    ///
+    /// No allocation; the number of generator words used depends on the law
+    /// (none for deterministic). Method per law: see each type's Numerics.
+    #[inline]
+    pub fn sample<R: Rng + ?Sized>(&self, rng: &mut R) -> f64 {
+        match self {
+            Law::Exponential(l) => l.sample(rng),
+            Law::Erlang(l) => l.sample(rng),
+            Law::Gamma(l) => l.sample(rng),
+            Law::Lognormal(l) => l.sample(rng),
+            Law::Hyperexponential(l) => l.sample(rng),
+            Law::Deterministic(l) => l.sample(),
+            Law::Uniform(l) => l.sample(rng),
+            Law::Weibull(l) => l.sample(rng),
+            Law::Empirical(l) => l.sample(rng),
+        }
+    }
+
+    /// The same law with its mean multiplied by `factor` and its shape (cv,
+    /// k, shape) unchanged; an empirical law has every value multiplied. All
+    /// these laws are scale families, so X' = factor X in distribution.
+    ///
+    /// # Panics
+    ///
+    /// If `factor` is not finite and > 0, or the scaled law leaves
+    /// floating-point range. Use [`Law::try_scaled`] for a factor that comes
+    /// from a user.
+    pub fn scaled(&self, factor: f64) -> Law {
+        match self.try_scaled(factor) {
+            Ok(law) => law,
+            Err(e) => panic!("Law::scaled: {e}"),
+        }
+    }
+
+    /// As [`Law::scaled`], returning an error instead of panicking.
+    pub fn try_scaled(&self, factor: f64) -> Result<Law, LawError> {
+        if !is_positive_finite(factor) {
+            return Err(LawError::ScaleFactor { value: factor });
+        }
+        let mean = self.mean() * factor;
+        if !mean.is_finite() {
+            return Err(LawError::OutOfRange {
+                law: self.name(),
+                mean: self.mean(),
+                what: "scale factor",
+                value: factor,
+            });
+        }
+        match self {
+            Law::Exponential(_) => Law::exponential(mean),
+            Law::Erlang(l) => Law::erlang(mean, l.k()),
+            Law::Gamma(l) => Law::gamma_shape(mean, l.shape()),
+            Law::Lognormal(l) => Law::lognormal(mean, l.cv()),
+            Law::Hyperexponential(l) => Law::hyperexponential(mean, l.cv()),
+            Law::Deterministic(_) => Law::deterministic(mean),
+            Law::Uniform(l) => Law::uniform(mean, l.cv()),
+            Law::Weibull(l) => l.scaled(factor).map(Law::Weibull),
+            Law::Empirical(l) => l.scaled(factor).map(Law::Empirical),
         }
     }
 }
-pub mod empirical {
+
+/// Seconds for a message: four significant figures, no trailing zeros.
+fn seconds(x: f64) -> String {
+    significant(x, 4)
+}
+
+/// `x` to `digits` significant figures, trailing zeros dropped; scientific
+/// notation outside [1e-3, 1e15).
+fn significant(x: f64, digits: usize) -> String {
+    if x == 0.0 || !x.is_finite() {
+        return format!("{x}");
+    }
+    let magnitude = x.abs().log10().floor();
+    if !(-3.0..15.0).contains(&magnitude) {
+        return format!("{:.*e}", digits.saturating_sub(1), x);
+    }
+    let decimals = (digits as f64 - 1.0 - magnitude).max(0.0) as usize;
+    let s = format!("{x:.decimals$}");
+    if s.contains('.') {
+        s.trim_end_matches('0').trim_end_matches('.').to_string()
+    } else {
+        s
+    }
+}
+
+#[cfg(test)]
+mod tests {
     use super::*;
-    #[derive(Debug, Error)]
-    #[error("{0}")]
-    pub struct EmpiricalError(pub String);
-    pub fn read_column(_p: &Path, _c: Option<&str>, _s: f64) -> Result<Vec<f64>, EmpiricalError> { Err(EmpiricalError("todo".into())) }
+
+    #[test]
+    fn significant_figures() {
+        assert_eq!(significant(180.0, 4), "180");
+        assert_eq!(significant(0.5, 4), "0.5");
+        assert_eq!(significant(1234.567, 4), "1235");
+        assert_eq!(significant(12.3456, 4), "12.35");
+        assert_eq!(significant(86400.0, 4), "86400");
+        assert_eq!(significant(2.0e-5, 4), "2.000e-5");
+    }
+
+    #[test]
+    fn describe_in_plain_words() {
+        let cases = [
+            (Law::exponential(40.0), "exponential, mean 40 s, cv 1"),
+            (
+                Law::erlang(180.0, 3),
+                "erlang with 3 phases, mean 180 s, cv 0.58",
+            ),
+            (Law::gamma(6.0, 0.5), "gamma, mean 6 s, cv 0.50 (shape 4)"),
+            (Law::lognormal(180.0, 1.1), "lognormal, mean 180 s, cv 1.10"),
+            (
+                Law::hyperexponential(60.0, 2.0),
+                "hyperexponential, mean 60 s, cv 2.00",
+            ),
+            (Law::deterministic(90.0), "deterministic, 90 s"),
+            (
+                Law::uniform(100.0, 0.2),
+                "uniform from 65.36 s to 134.6 s, mean 100 s, cv 0.20",
+            ),
+            (
+                Law::weibull_shape(100.0, 2.0),
+                "weibull, mean 100 s, cv 0.52 (shape 2)",
+            ),
+            (
+                Law::empirical(vec![3.0, 1.0, 2.0]),
+                "empirical from 3 values (1 s to 3 s), mean 2 s, cv 0.37",
+            ),
+        ];
+        for (law, text) in cases {
+            assert_eq!(law.unwrap().describe(), text);
+        }
+    }
+
+    #[test]
+    fn names_match_the_scenario_file() {
+        let names: Vec<&str> = [
+            Law::exponential(1.0),
+            Law::erlang(1.0, 2),
+            Law::gamma(1.0, 0.5),
+            Law::lognormal(1.0, 0.5),
+            Law::hyperexponential(1.0, 1.5),
+            Law::deterministic(1.0),
+            Law::uniform(1.0, 0.5),
+            Law::weibull(1.0, 0.5),
+            Law::empirical(vec![1.0]),
+        ]
+        .into_iter()
+        .map(|l| l.unwrap().name())
+        .collect();
+        assert_eq!(
+            names,
+            [
+                "exponential",
+                "erlang",
+                "gamma",
+                "lognormal",
+                "hyperexponential",
+                "deterministic",
+                "uniform",
+                "weibull",
+                "empirical"
+            ]
+        );
+    }
+
+    #[test]
+    fn try_scaled_rejects_bad_factors() {
+        let law = Law::exponential(60.0).unwrap();
+        for bad in [f64::NAN, f64::INFINITY, 0.0, -2.0] {
+            assert!(matches!(
+                law.try_scaled(bad),
+                Err(LawError::ScaleFactor { .. })
+            ));
+        }
+        assert!(matches!(
+            law.try_scaled(1e308),
+            Err(LawError::OutOfRange { .. })
+        ));
+        assert_eq!(law.scaled(2.0).mean(), 120.0);
+    }
 }

@@ -1,0 +1,73 @@
+//! The deterministic law: every draw is the same time.
+
+use super::error::{LawError, check_mean};
+
+/// A constant time: every draw equals the mean.
+///
+/// # Formula
+///
+/// F(x) = 0 for x < m, 1 for x >= m; mean m, cv 0.
+///
+/// # Numerics
+///
+/// Sampling draws no random numbers, so a deterministic holding time leaves
+/// the stream's generator where it was.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Deterministic {
+    value: f64, // > 0, finite
+}
+
+impl Deterministic {
+    /// Builds the law; the time must be finite and > 0 (seconds).
+    pub fn new(mean: f64) -> Result<Self, LawError> {
+        check_mean("deterministic", mean)?;
+        Ok(Deterministic { value: mean })
+    }
+
+    /// Mean (seconds): the constant itself.
+    pub fn mean(&self) -> f64 {
+        self.value
+    }
+
+    /// Coefficient of variation: always 0.
+    pub fn cv(&self) -> f64 {
+        0.0
+    }
+
+    /// Unit step at the constant.
+    pub fn cdf(&self, x: f64) -> f64 {
+        if x.is_nan() {
+            f64::NAN
+        } else if x >= self.value {
+            1.0
+        } else {
+            0.0
+        }
+    }
+
+    /// The constant; no random numbers are used.
+    #[inline]
+    pub fn sample(&self) -> f64 {
+        self.value
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn rejects_bad_means() {
+        for bad in [f64::NAN, f64::INFINITY, -2.5, 0.0] {
+            assert!(Deterministic::new(bad).is_err(), "mean {bad} accepted");
+        }
+    }
+
+    #[test]
+    fn step_at_the_value() {
+        let law = Deterministic::new(90.0).unwrap();
+        assert_eq!(law.cdf(89.999), 0.0);
+        assert_eq!(law.cdf(90.0), 1.0);
+        assert_eq!(law.sample(), 90.0);
+    }
+}

@@ -1,0 +1,127 @@
+//! The uniform law, symmetric about its mean.
+
+use rand::Rng;
+use rand_distr::{Distribution, Uniform as UniformSampler};
+
+use super::error::{LawError, check_cv, check_mean};
+
+/// Largest cv of a uniform law on [m - h, m + h] that stays at or above 0: 1 / sqrt(3).
+pub const UNIFORM_MAX_CV: f64 = 0.577_350_269_189_625_8;
+
+/// Uniform law on [m - h, m + h] with half-width h = m cv sqrt(3).
+///
+/// # Formula
+///
+/// The variance of a uniform law on an interval of width w is w^2 / 12, so
+/// cv = h / (m sqrt 3); F(x) = (x - (m - h)) / (2 h) on the interval (Johnson,
+/// Kotz and Balakrishnan, *Continuous Univariate Distributions* vol. 2, 2nd
+/// ed., 1995, ch. 26). The lower end is >= 0 only when cv <= 1 / sqrt(3).
+///
+/// # Numerics
+///
+/// A draw is `low + width * U` with U from `rand_distr::Uniform` (53-bit
+/// uniform on [0, 1)). A cv within 1e-12 (relative) above 1 / sqrt(3) is
+/// accepted and its lower end, a rounding error below 0, is set to 0.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Uniform {
+    mean: f64, // > 0, finite
+    cv: f64,   // in (0, 1/sqrt 3]
+    low: f64,  // >= 0
+    high: f64, // > low
+    sampler: UniformSampler<f64>,
+}
+
+impl Uniform {
+    /// Builds the law from its mean (seconds, finite > 0) and cv in (0, 1/sqrt 3].
+    pub fn new(mean: f64, cv: f64) -> Result<Self, LawError> {
+        check_mean("uniform", mean)?;
+        check_cv("uniform", cv)?;
+        if cv > UNIFORM_MAX_CV * (1.0 + 1e-12) {
+            return Err(LawError::UniformCv { value: cv });
+        }
+        let half_width = mean * cv * 3f64.sqrt();
+        let low = (mean - half_width).max(0.0);
+        let high = mean + half_width;
+        let sampler = UniformSampler::new(low, high).map_err(|_| LawError::OutOfRange {
+            law: "uniform",
+            mean,
+            what: "cv",
+            value: cv,
+        })?;
+        Ok(Uniform {
+            mean,
+            cv,
+            low,
+            high,
+            sampler,
+        })
+    }
+
+    /// Mean (seconds).
+    pub fn mean(&self) -> f64 {
+        self.mean
+    }
+
+    /// Coefficient of variation.
+    pub fn cv(&self) -> f64 {
+        self.cv
+    }
+
+    /// The interval [low, high] (seconds).
+    pub fn bounds(&self) -> (f64, f64) {
+        (self.low, self.high)
+    }
+
+    /// F(x) = (x - low) / (high - low), clamped to [0, 1].
+    pub fn cdf(&self, x: f64) -> f64 {
+        if x.is_nan() {
+            return f64::NAN;
+        }
+        ((x - self.low) / (self.high - self.low)).clamp(0.0, 1.0)
+    }
+
+    /// One draw: an affine map of a 53-bit uniform.
+    #[inline]
+    pub fn sample<R: Rng + ?Sized>(&self, rng: &mut R) -> f64 {
+        self.sampler.sample(rng)
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn rejects_bad_parameters() {
+        for bad in [f64::NAN, f64::INFINITY, -1.0, 0.0] {
+            assert!(Uniform::new(bad, 0.2).is_err(), "mean {bad} accepted");
+            assert!(Uniform::new(60.0, bad).is_err(), "cv {bad} accepted");
+        }
+        // cv so small that the interval collapses in f64.
+        assert!(matches!(
+            Uniform::new(60.0, 1e-300),
+            Err(LawError::OutOfRange { .. })
+        ));
+    }
+
+    #[test]
+    fn cv_limit_is_one_over_root_three() {
+        let msg = Uniform::new(60.0, 0.6).unwrap_err().to_string();
+        assert!(msg.starts_with("cv 0.6 is impossible for uniform"), "{msg}");
+        let edge = Uniform::new(60.0, 1.0 / 3f64.sqrt()).unwrap();
+        let (lo, hi) = edge.bounds();
+        assert_eq!(lo, 0.0);
+        assert!((hi - 120.0).abs() < 1e-12);
+        assert!((UNIFORM_MAX_CV - 1.0 / 3f64.sqrt()).abs() < 1e-16);
+    }
+
+    #[test]
+    fn interval_follows_the_variance_formula() {
+        // Var = w^2 / 12 for a uniform law of width w (JKB vol. 2, ch. 26).
+        let law = Uniform::new(100.0, 0.2).unwrap();
+        let (lo, hi) = law.bounds();
+        let w = hi - lo;
+        assert!(((w * w / 12.0).sqrt() / 100.0 - 0.2).abs() < 1e-12);
+        assert!((law.cdf(100.0) - 0.5).abs() < 1e-12);
+    }
+}
