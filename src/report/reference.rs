@@ -132,8 +132,7 @@ fn erlang_b_group(col: &mut Column, g: usize) {
     for (s, _) in users {
         let st = &model.streams[s];
         if st.route.len() != 1 {
-            col.stream(s, "first_attempt_blocking", "Erlang B", b);
-            continue;
+            continue; // blocked only when every group on the route is full
         }
         if st.retry.is_some() {
             col.stream(s, "first_attempt_blocking", "Erlang B, no redials", b);
