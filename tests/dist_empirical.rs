@@ -12,10 +12,8 @@ struct TempFile(PathBuf);
 
 impl TempFile {
     fn new(case: &str, contents: &[u8]) -> TempFile {
-        let path = std::env::temp_dir().join(format!(
-            "busyhour-dist-{}-{case}.csv",
-            std::process::id()
-        ));
+        let path =
+            std::env::temp_dir().join(format!("busyhour-dist-{}-{case}.csv", std::process::id()));
         std::fs::write(&path, contents).unwrap();
         TempFile(path)
     }
@@ -42,7 +40,10 @@ fn header_and_column_choice() {
         "header",
         b"hold,wait , \"agent\"\r\n180,3,A\r\n\"95\", 0 ,B\r\n\r\n7.25,1,C\r\n",
     );
-    assert_eq!(read_column(&f.0, None, 1.0).unwrap(), vec![180.0, 95.0, 7.25]);
+    assert_eq!(
+        read_column(&f.0, None, 1.0).unwrap(),
+        vec![180.0, 95.0, 7.25]
+    );
     assert_eq!(
         read_column(&f.0, Some("wait"), 1.0).unwrap(),
         vec![3.0, 0.0, 1.0]
@@ -63,7 +64,10 @@ fn header_and_column_choice() {
 #[test]
 fn byte_order_mark_is_ignored() {
     let f = TempFile::new("bom", "\u{feff}hold\n5\n6\n".as_bytes());
-    assert_eq!(read_column(&f.0, Some("hold"), 1.0).unwrap(), vec![5.0, 6.0]);
+    assert_eq!(
+        read_column(&f.0, Some("hold"), 1.0).unwrap(),
+        vec![5.0, 6.0]
+    );
 }
 
 #[test]
@@ -78,7 +82,10 @@ fn missing_file() {
     let path = std::env::temp_dir().join("busyhour-dist-no-such-file.csv");
     let e = read_column(&path, None, 1.0).unwrap_err();
     assert!(matches!(e, EmpiricalError::Missing { .. }), "{e}");
-    assert_eq!(e.to_string(), format!("data file {} not found", path.display()));
+    assert_eq!(
+        e.to_string(),
+        format!("data file {} not found", path.display())
+    );
 }
 
 #[test]
@@ -116,7 +123,10 @@ fn negative_value_names_the_line() {
         matches!(e, EmpiricalError::Negative { line: 3, value, .. } if value == -3.5),
         "{e}"
     );
-    assert!(e.to_string().ends_with("line 3: value -3.5 is negative (durations are >= 0)"));
+    assert!(
+        e.to_string()
+            .ends_with("line 3: value -3.5 is negative (durations are >= 0)")
+    );
 }
 
 #[test]
@@ -129,29 +139,54 @@ fn nan_and_infinity_are_rejected() {
     // A first line "nan" parses as a number, so the file is headerless.
     let f = TempFile::new("nan-first", b"nan\n5\n");
     let e = read_column(&f.0, None, 1.0).unwrap_err();
-    assert!(matches!(e, EmpiricalError::NotFinite { line: 1, .. }), "{e}");
+    assert!(
+        matches!(e, EmpiricalError::NotFinite { line: 1, .. }),
+        "{e}"
+    );
 }
 
 #[test]
 fn column_errors() {
     let f = TempFile::new("columns", b"hold,wait\n1,2\n3\n");
     let e = read_column(&f.0, Some("talk"), 1.0).unwrap_err();
-    assert!(e.to_string().ends_with("has no column \"talk\" (its columns: hold, wait)"), "{e}");
+    assert!(
+        e.to_string()
+            .ends_with("has no column \"talk\" (its columns: hold, wait)"),
+        "{e}"
+    );
     let e = read_column(&f.0, Some("wait"), 1.0).unwrap_err();
     assert!(
-        matches!(e, EmpiricalError::MissingField { line: 3, fields: 1, position: 2, .. }),
+        matches!(
+            e,
+            EmpiricalError::MissingField {
+                line: 3,
+                fields: 1,
+                position: 2,
+                ..
+            }
+        ),
         "{e}"
     );
     let f = TempFile::new("empty-field", b"hold,wait\n1,\n");
     let e = read_column(&f.0, Some("wait"), 1.0).unwrap_err();
-    assert!(matches!(e, EmpiricalError::EmptyField { line: 2, .. }), "{e}");
+    assert!(
+        matches!(e, EmpiricalError::EmptyField { line: 2, .. }),
+        "{e}"
+    );
     let f = TempFile::new("no-header", b"4\n5\n");
     let e = read_column(&f.0, Some("hold"), 1.0).unwrap_err();
     assert!(matches!(e, EmpiricalError::NoHeader { line: 1, .. }), "{e}");
     let f = TempFile::new("headerless-wide", b"4,7\n5,8\n");
     let e = read_column(&f.0, None, 1.0).unwrap_err();
     assert!(
-        matches!(e, EmpiricalError::HeaderlessColumns { line: 1, fields: 2, .. }),
+        matches!(
+            e,
+            EmpiricalError::HeaderlessColumns {
+                line: 1,
+                fields: 2,
+                ..
+            }
+        ),
         "{e}"
     );
 }
@@ -163,7 +198,10 @@ fn absurd_inputs_stop_early() {
     long.extend(std::iter::repeat_n(b'7', MAX_LINE_BYTES + 10));
     let f = TempFile::new("long", &long);
     let e = read_column(&f.0, None, 1.0).unwrap_err();
-    assert!(matches!(e, EmpiricalError::LineTooLong { line: 2, .. }), "{e}");
+    assert!(
+        matches!(e, EmpiricalError::LineTooLong { line: 2, .. }),
+        "{e}"
+    );
     // A line of exactly the cap is still read.
     let mut edge = b"hold\n".to_vec();
     edge.extend(std::iter::repeat_n(b' ', MAX_LINE_BYTES - 1));

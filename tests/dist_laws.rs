@@ -62,7 +62,11 @@ fn ks_statistic(sorted: &[f64], cdf: impl Fn(f64) -> f64, cdf_left: impl Fn(f64)
 /// KS test of `law` against a continuous reference distribution function.
 fn ks_continuous(law: &Law, seed: u64, reference: impl Fn(f64) -> f64) {
     let mut x = draws(law, seed, KS_N);
-    assert!(x.iter().all(|v| v.is_finite() && *v >= 0.0), "{}", law.describe());
+    assert!(
+        x.iter().all(|v| v.is_finite() && *v >= 0.0),
+        "{}",
+        law.describe()
+    );
     x.sort_by(f64::total_cmp);
     let d = ks_statistic(&x, &reference, &reference);
     let crit = ks_critical(KS_N);
@@ -98,8 +102,7 @@ fn moments(law: &Law, seed: u64, mean: f64, cv: f64, shape: Shape) {
     let var = x.iter().map(|v| (v - m) * (v - m)).sum::<f64>() / (n - 1.0);
     let cv_hat = var.sqrt() / m;
     let se_mean = mean * cv / n.sqrt();
-    let var_cv =
-        cv * cv / n * ((shape.kurtosis - 1.0) / 4.0 + cv * cv - shape.skewness * cv);
+    let var_cv = cv * cv / n * ((shape.kurtosis - 1.0) / 4.0 + cv * cv - shape.skewness * cv);
     let se_cv = var_cv.sqrt();
     assert!(
         (m - mean).abs() < 5.0 * se_mean,
@@ -135,8 +138,15 @@ fn cdf_agrees(law: &Law, reference: impl Fn(f64) -> f64) {
 /// parameter mapping in these tests is checked too.
 fn reference_moments(d: &impl statrs::statistics::Distribution<f64>, mean: f64, cv: f64) {
     let (m, s) = (d.mean().unwrap(), d.std_dev().unwrap());
-    assert!((m - mean).abs() < 1e-9 * mean, "reference mean {m} vs {mean}");
-    assert!((s / m - cv).abs() < 1e-9 * cv.max(1.0), "reference cv {} vs {cv}", s / m);
+    assert!(
+        (m - mean).abs() < 1e-9 * mean,
+        "reference mean {m} vs {mean}"
+    );
+    assert!(
+        (s / m - cv).abs() < 1e-9 * cv.max(1.0),
+        "reference cv {} vs {cv}",
+        s / m
+    );
 }
 
 // ---------------------------------------------------------------- exponential
@@ -152,7 +162,16 @@ fn exponential_against_statrs() {
     ks_continuous(&law, 101, |x| reference.cdf(x));
     cdf_agrees(&law, |x| reference.cdf(x));
     // Exponential: skewness 2, kurtosis 9 (JKB vol. 1, ch. 19).
-    moments(&law, 201, mean, 1.0, Shape { skewness: 2.0, kurtosis: 9.0 });
+    moments(
+        &law,
+        201,
+        mean,
+        1.0,
+        Shape {
+            skewness: 2.0,
+            kurtosis: 9.0,
+        },
+    );
 }
 
 // ---------------------------------------------------------------- erlang
@@ -179,7 +198,13 @@ fn erlang_against_statrs() {
         assert!((law.cv() - cv).abs() < 1e-15);
         ks_continuous(&law, seed, |x| reference.cdf(x));
         cdf_agrees(&law, |x| reference.cdf(x));
-        moments(&law, seed + 100, mean, cv, gamma_shape_moments(f64::from(k)));
+        moments(
+            &law,
+            seed + 100,
+            mean,
+            cv,
+            gamma_shape_moments(f64::from(k)),
+        );
     }
 }
 
@@ -293,7 +318,16 @@ fn uniform_against_statrs() {
         ks_continuous(&law, seed, |x| reference.cdf(x));
         cdf_agrees(&law, |x| reference.cdf(x));
         // Uniform: skewness 0, kurtosis 9/5.
-        moments(&law, seed + 100, mean, cv, Shape { skewness: 0.0, kurtosis: 1.8 });
+        moments(
+            &law,
+            seed + 100,
+            mean,
+            cv,
+            Shape {
+                skewness: 0.0,
+                kurtosis: 1.8,
+            },
+        );
     }
 }
 
@@ -332,7 +366,11 @@ fn weibull_against_statrs() {
         let Law::Weibull(w) = &law else {
             panic!("not weibull")
         };
-        assert!((w.shape() - k).abs() < 1e-9 * k, "shape {} vs {k}", w.shape());
+        assert!(
+            (w.shape() - k).abs() < 1e-9 * k,
+            "shape {} vs {k}",
+            w.shape()
+        );
         ks_continuous(&law, seed, |x| reference.cdf(x));
         cdf_agrees(&law, |x| reference.cdf(x));
         moments(&law, seed + 100, mean, cv, weibull_shape_moments(k));
@@ -358,8 +396,8 @@ fn weibull_from_shape_against_statrs() {
 /// spread uniformly over each gap between neighbouring order statistics (a
 /// point mass where the gap is empty).
 struct Pieces {
-    atoms: Vec<(f64, f64)>,        // (value, mass)
-    spans: Vec<(f64, f64, f64)>,   // (from, to, mass), from < to
+    atoms: Vec<(f64, f64)>,      // (value, mass)
+    spans: Vec<(f64, f64, f64)>, // (from, to, mass), from < to
 }
 
 impl Pieces {
@@ -401,9 +439,7 @@ impl Pieces {
         let spans: f64 = self
             .spans
             .iter()
-            .map(|&(a, b, p)| {
-                p * (b.powi(j + 1) - a.powi(j + 1)) / (f64::from(j + 1) * (b - a))
-            })
+            .map(|&(a, b, p)| p * (b.powi(j + 1) - a.powi(j + 1)) / (f64::from(j + 1) * (b - a)))
             .sum();
         atoms + spans
     }
@@ -413,7 +449,10 @@ impl Pieces {
 /// rounded to whole seconds.
 fn holding_data(count: usize) -> Vec<f64> {
     let source = Law::lognormal(150.0, 1.2).unwrap();
-    draws(&source, 7, count).into_iter().map(f64::round).collect()
+    draws(&source, 7, count)
+        .into_iter()
+        .map(f64::round)
+        .collect()
 }
 
 #[test]
@@ -429,24 +468,40 @@ fn empirical_against_independent_piecewise_linear_cdf() {
         x.sort_by(f64::total_cmp);
         let lo = data.iter().copied().fold(f64::INFINITY, f64::min);
         let hi = data.iter().copied().fold(0.0, f64::max);
-        assert!(x[0] >= lo && x[x.len() - 1] <= hi, "draw outside the data range");
+        assert!(
+            x[0] >= lo && x[x.len() - 1] <= hi,
+            "draw outside the data range"
+        );
         // With point masses the Kolmogorov critical value is conservative.
         let d = ks_statistic(&x, |v| pieces.cdf(v, false), |v| pieces.cdf(v, true));
         assert!(d < ks_critical(KS_N), "{}: KS distance {d}", law.describe());
         for q in [0.0, 0.1, 0.35, 0.5, 0.9, 0.999] {
             let v = lo + q * (hi - lo);
-            assert!((law.cdf(v) - pieces.cdf(v, false)).abs() < 1e-12, "cdf at {v}");
+            assert!(
+                (law.cdf(v) - pieces.cdf(v, false)).abs() < 1e-12,
+                "cdf at {v}"
+            );
         }
         // Mean of the law = data mean (exactly, by the type-5 construction).
         let data_mean = data.iter().sum::<f64>() / data.len() as f64;
         let m1 = pieces.raw_moment(1);
         assert!((m1 - data_mean).abs() < 1e-9 * data_mean);
         assert!((law.mean() - data_mean).abs() < 1e-12 * data_mean);
-        let (m2, m3, m4) = (pieces.raw_moment(2), pieces.raw_moment(3), pieces.raw_moment(4));
+        let (m2, m3, m4) = (
+            pieces.raw_moment(2),
+            pieces.raw_moment(3),
+            pieces.raw_moment(4),
+        );
         let cv = (m2 - m1 * m1).max(0.0).sqrt() / m1;
         assert!((law.cv() - cv).abs() < 1e-9, "cv {} vs {cv}", law.cv());
         if cv > 0.0 {
-            moments(&law, seed + 100, data_mean, cv, shape_from_raw(m1, m2, m3, m4));
+            moments(
+                &law,
+                seed + 100,
+                data_mean,
+                cv,
+                shape_from_raw(m1, m2, m3, m4),
+            );
         }
     }
 }
@@ -481,7 +536,11 @@ fn scaled_is_the_same_shape_times_the_factor() {
         assert!((big.cv() - law.cv()).abs() < 1e-12, "{}", law.describe());
         let (a, b) = (draws(&law, 190, 1000), draws(&big, 190, 1000));
         for (x, y) in a.iter().zip(&b) {
-            assert!((y - c * x).abs() <= 1e-9 * y.abs(), "{}: {y} vs {c} * {x}", law.describe());
+            assert!(
+                (y - c * x).abs() <= 1e-9 * y.abs(),
+                "{}: {y} vs {c} * {x}",
+                law.describe()
+            );
         }
     }
 }

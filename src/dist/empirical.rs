@@ -77,8 +77,17 @@ impl Empirical {
         }
         let n = count as f64;
         let mean = neumaier_sum(values.iter().copied()) / n;
-        if !(mean > 0.0) {
+        if mean == 0.0 {
             return Err(LawError::DataAllZero { count });
+        }
+        let out_of_range = LawError::OutOfRange {
+            law: "empirical",
+            mean,
+            what: "largest value",
+            value: values[count - 1],
+        };
+        if !is_positive_finite(mean) {
+            return Err(out_of_range);
         }
         // Exact variance of the law: uniform pieces over each gap (mass 1/n)
         // plus point masses 1/(2n) at both ends, taken about the mean.
@@ -89,7 +98,12 @@ impl Empirical {
             (a * a + a * b + b * b) / 3.0
         }));
         let variance = (gaps + 0.5 * (first * first + last * last)) / n;
-        let cv = variance.max(0.0).sqrt() / mean;
+        // Each term is >= 0 (a^2 + ab + b^2 = (a + b/2)^2 + 3b^2/4); NaN or
+        // infinity means the squares left f64 range.
+        if !(0.0..f64::INFINITY).contains(&variance) {
+            return Err(out_of_range);
+        }
+        let cv = variance.sqrt() / mean;
         if count == 1 {
             values.push(values[0]);
         }
@@ -374,6 +388,20 @@ pub enum EmpiricalError {
 /// content, a missing column or field, a non-number, NaN or infinity, a
 /// negative value, or a value that overflows when scaled: each error names
 /// the file and the 1-based line number and quotes the offending text.
+///
+/// # Example
+///
+/// ```
+/// use busyhour::dist::{read_column, Law};
+///
+/// let path = std::env::temp_dir().join(format!("busyhour-doc-{}.csv", std::process::id()));
+/// std::fs::write(&path, "agent,talk_min\nA,2.5\nB,4\nC,1.5\n").unwrap();
+/// let seconds = read_column(&path, Some("talk_min"), 60.0).unwrap();
+/// assert_eq!(seconds, vec![150.0, 240.0, 90.0]);
+/// let holding = Law::empirical(seconds).unwrap();
+/// assert_eq!(holding.mean(), 160.0);
+/// # std::fs::remove_file(&path).unwrap();
+/// ```
 pub fn read_column(
     path: &Path,
     column: Option<&str>,
@@ -623,6 +651,15 @@ mod tests {
             Empirical::new(vec![0.0, 0.0]),
             Err(LawError::DataAllZero { count: 2 })
         );
+        // Finite values whose sum or squares leave f64 range.
+        assert!(matches!(
+            Empirical::new(vec![1e308, 1e308]),
+            Err(LawError::OutOfRange { .. })
+        ));
+        assert!(matches!(
+            Empirical::new(vec![1.0, 1e300]),
+            Err(LawError::OutOfRange { .. })
+        ));
     }
 
     #[test]

@@ -42,7 +42,7 @@ impl Hyperexponential {
     /// Builds the law from its mean (seconds, finite > 0) and cv (finite, >= 1).
     pub fn new(mean: f64, cv: f64) -> Result<Self, LawError> {
         check_mean("hyperexponential", mean)?;
-        if !(cv >= 1.0) || !cv.is_finite() {
+        if !(1.0..f64::INFINITY).contains(&cv) {
             return Err(LawError::HyperexponentialCv { value: cv });
         }
         let c2 = cv * cv;
