@@ -27,14 +27,21 @@ use super::error::{LawError, is_positive_finite};
 ///
 /// # Formula
 ///
-/// Q(u) = x(1) for u < 1/(2n); x(n) for u >= 1 - 1/(2n); otherwise, with
-/// t = n u - 1/2 (so 0 <= t <= n - 1) and i = floor(t) (0-based),
-/// Q(u) = x[i] + (t - i)(x[i+1] - x[i]).
-/// F(x) = 0 for x < x(1), 1 for x >= x(n), and in between
-/// F(x) = (i + 1/2 + (x - x[i]) / (x[i+1] - x[i])) / n for x[i] <= x < x[i+1].
+/// With 1-based order statistics x(1) <= ... <= x(n):
+///
+/// ```text
+/// Q(u) = x(1)                            for u < 1/(2n)
+/// Q(u) = x(i) + (t - i)(x(i+1) - x(i))   for 1/(2n) <= u < 1 - 1/(2n),
+///                                        t = n u + 1/2, i = floor(t)
+/// Q(u) = x(n)                            for u >= 1 - 1/(2n)
+///
+/// F(x) = 0                                          for x < x(1)
+/// F(x) = (i - 1/2 + (x - x(i)) / (x(i+1) - x(i))) / n for x(i) <= x < x(i+1)
+/// F(x) = 1                                          for x >= x(n)
+/// ```
 ///
 /// The mean of this law equals the data mean exactly: each gap contributes
-/// (x[i] + x[i+1]) / (2n), the end masses x(1) / (2n) and x(n) / (2n), and the
+/// (x(i) + x(i+1)) / (2n), the end masses x(1) / (2n) and x(n) / (2n), and the
 /// sum is (x(1) + ... + x(n)) / n. Its variance is slightly different from the
 /// data's (the interpolation spreads each gap); [`Empirical::cv`] gives the
 /// law's own, computed exactly.
