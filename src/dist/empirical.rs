@@ -27,14 +27,21 @@ use super::error::{LawError, is_positive_finite};
 ///
 /// # Formula
 ///
-/// Q(u) = x(1) for u < 1/(2n); x(n) for u >= 1 - 1/(2n); otherwise, with
-/// t = n u - 1/2 (so 0 <= t <= n - 1) and i = floor(t) (0-based),
-/// Q(u) = x[i] + (t - i)(x[i+1] - x[i]).
-/// F(x) = 0 for x < x(1), 1 for x >= x(n), and in between
-/// F(x) = (i + 1/2 + (x - x[i]) / (x[i+1] - x[i])) / n for x[i] <= x < x[i+1].
+/// With 1-based order statistics x(1) <= ... <= x(n):
+///
+/// ```text
+/// Q(u) = x(1)                            for u < 1/(2n)
+/// Q(u) = x(i) + (t - i)(x(i+1) - x(i))   for 1/(2n) <= u < 1 - 1/(2n),
+///                                        t = n u + 1/2, i = floor(t)
+/// Q(u) = x(n)                            for u >= 1 - 1/(2n)
+///
+/// F(x) = 0                                          for x < x(1)
+/// F(x) = (i - 1/2 + (x - x(i)) / (x(i+1) - x(i))) / n for x(i) <= x < x(i+1)
+/// F(x) = 1                                          for x >= x(n)
+/// ```
 ///
 /// The mean of this law equals the data mean exactly: each gap contributes
-/// (x[i] + x[i+1]) / (2n), the end masses x(1) / (2n) and x(n) / (2n), and the
+/// (x(i) + x(i+1)) / (2n), the end masses x(1) / (2n) and x(n) / (2n), and the
 /// sum is (x(1) + ... + x(n)) / n. Its variance is slightly different from the
 /// data's (the interpolation spreads each gap); [`Empirical::cv`] gives the
 /// law's own, computed exactly.
@@ -77,8 +84,17 @@ impl Empirical {
         }
         let n = count as f64;
         let mean = neumaier_sum(values.iter().copied()) / n;
-        if !(mean > 0.0) {
+        if mean == 0.0 {
             return Err(LawError::DataAllZero { count });
+        }
+        let out_of_range = LawError::OutOfRange {
+            law: "empirical",
+            mean,
+            what: "largest value",
+            value: values[count - 1],
+        };
+        if !is_positive_finite(mean) {
+            return Err(out_of_range);
         }
         // Exact variance of the law: uniform pieces over each gap (mass 1/n)
         // plus point masses 1/(2n) at both ends, taken about the mean.
@@ -89,7 +105,12 @@ impl Empirical {
             (a * a + a * b + b * b) / 3.0
         }));
         let variance = (gaps + 0.5 * (first * first + last * last)) / n;
-        let cv = variance.max(0.0).sqrt() / mean;
+        // Each term is >= 0 (a^2 + ab + b^2 = (a + b/2)^2 + 3b^2/4); NaN or
+        // infinity means the squares left f64 range.
+        if !(0.0..f64::INFINITY).contains(&variance) {
+            return Err(out_of_range);
+        }
+        let cv = variance.sqrt() / mean;
         if count == 1 {
             values.push(values[0]);
         }
@@ -374,6 +395,20 @@ pub enum EmpiricalError {
 /// content, a missing column or field, a non-number, NaN or infinity, a
 /// negative value, or a value that overflows when scaled: each error names
 /// the file and the 1-based line number and quotes the offending text.
+///
+/// # Example
+///
+/// ```
+/// use busyhour::dist::{read_column, Law};
+///
+/// let path = std::env::temp_dir().join(format!("busyhour-doc-{}.csv", std::process::id()));
+/// std::fs::write(&path, "agent,talk_min\nA,2.5\nB,4\nC,1.5\n").unwrap();
+/// let seconds = read_column(&path, Some("talk_min"), 60.0).unwrap();
+/// assert_eq!(seconds, vec![150.0, 240.0, 90.0]);
+/// let holding = Law::empirical(seconds).unwrap();
+/// assert_eq!(holding.mean(), 160.0);
+/// # std::fs::remove_file(&path).unwrap();
+/// ```
 pub fn read_column(
     path: &Path,
     column: Option<&str>,
@@ -623,6 +658,15 @@ mod tests {
             Empirical::new(vec![0.0, 0.0]),
             Err(LawError::DataAllZero { count: 2 })
         );
+        // Finite values whose sum or squares leave f64 range.
+        assert!(matches!(
+            Empirical::new(vec![1e308, 1e308]),
+            Err(LawError::OutOfRange { .. })
+        ));
+        assert!(matches!(
+            Empirical::new(vec![1.0, 1e300]),
+            Err(LawError::OutOfRange { .. })
+        ));
     }
 
     #[test]

@@ -3,7 +3,7 @@
 use rand::Rng;
 use rand_distr::{Distribution, Exp1, Gamma};
 
-use super::error::{LawError, check_mean};
+use super::error::{LawError, check_mean, is_positive_finite};
 use super::gamma::regularized_lower_gamma;
 
 /// Largest k sampled as a plain sum of k exponential draws.
@@ -50,7 +50,7 @@ impl Erlang {
             return Err(LawError::ErlangPhases);
         }
         let phase_mean = mean / f64::from(k);
-        if !(phase_mean > 0.0) {
+        if !is_positive_finite(phase_mean) {
             return Err(LawError::OutOfRange {
                 law: "erlang",
                 mean,

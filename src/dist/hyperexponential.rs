@@ -33,6 +33,7 @@ pub struct Hyperexponential {
     mean: f64,        // > 0, finite
     cv: f64,          // >= 1, finite
     p1: f64,          // in [1/2, 1)
+    p2: f64,          // 1 - p1, computed without cancellation
     mean_1: f64,      // m / (2 p1), the shorter phase
     mean_2: f64,      // m / (2 p2), the longer phase, >= mean_1
     threshold_2: u64, // p2 * 2^64, rounded down
@@ -42,7 +43,7 @@ impl Hyperexponential {
     /// Builds the law from its mean (seconds, finite > 0) and cv (finite, >= 1).
     pub fn new(mean: f64, cv: f64) -> Result<Self, LawError> {
         check_mean("hyperexponential", mean)?;
-        if !(cv >= 1.0) || !cv.is_finite() {
+        if !(1.0..f64::INFINITY).contains(&cv) {
             return Err(LawError::HyperexponentialCv { value: cv });
         }
         let c2 = cv * cv;
@@ -65,6 +66,7 @@ impl Hyperexponential {
             mean,
             cv,
             p1,
+            p2,
             mean_1,
             mean_2,
             threshold_2,
@@ -83,7 +85,7 @@ impl Hyperexponential {
 
     /// The two phases as (probability, mean seconds), shorter phase first.
     pub fn phases(&self) -> [(f64, f64); 2] {
-        [(self.p1, self.mean_1), (1.0 - self.p1, self.mean_2)]
+        [(self.p1, self.mean_1), (self.p2, self.mean_2)]
     }
 
     /// F(x) = p1 (1 - exp(-x / m1)) + p2 (1 - exp(-x / m2)).
@@ -94,8 +96,7 @@ impl Hyperexponential {
         if x <= 0.0 {
             return 0.0;
         }
-        let p2 = 1.0 - self.p1;
-        -self.p1 * (-x / self.mean_1).exp_m1() - p2 * (-x / self.mean_2).exp_m1()
+        -self.p1 * (-x / self.mean_1).exp_m1() - self.p2 * (-x / self.mean_2).exp_m1()
     }
 
     /// One draw: a raw 64-bit word picks the phase, a ziggurat exponential its length.

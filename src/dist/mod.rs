@@ -112,6 +112,17 @@ impl Law {
 
     /// Two-phase hyperexponential with balanced means, cv >= 1 (cv = 1 is the
     /// exponential law). See [`Hyperexponential`] for the formulas and source.
+    ///
+    /// # Example
+    ///
+    /// ```
+    /// use busyhour::dist::Law;
+    ///
+    /// let law = Law::hyperexponential(60.0, 2.0).unwrap();
+    /// assert_eq!((law.mean(), law.cv()), (60.0, 2.0));
+    /// let err = Law::hyperexponential(60.0, 0.5).unwrap_err();
+    /// assert!(err.to_string().contains("it needs cv >= 1"));
+    /// ```
     pub fn hyperexponential(mean: f64, cv: f64) -> Result<Law, LawError> {
         Hyperexponential::new(mean, cv).map(Law::Hyperexponential)
     }
@@ -130,6 +141,16 @@ impl Law {
     /// Weibull law from mean and cv: the shape k solves
     /// cv^2 = G(1+2/k)/G(1+1/k)^2 - 1 by bisection (cv falls as k grows), the
     /// scale is mean / G(1+1/k). See [`Weibull`].
+    ///
+    /// # Example
+    ///
+    /// ```
+    /// use busyhour::dist::Law;
+    ///
+    /// // cv 1 is the exponential law, Weibull shape 1.
+    /// let Law::Weibull(w) = Law::weibull(100.0, 1.0).unwrap() else { unreachable!() };
+    /// assert!((w.shape() - 1.0).abs() < 1e-9);
+    /// ```
     pub fn weibull(mean: f64, cv: f64) -> Result<Law, LawError> {
         Weibull::from_cv(mean, cv).map(Law::Weibull)
     }
@@ -144,6 +165,17 @@ impl Law {
     /// order statistics placed at Hazen's positions (i - 1/2)/n, with point
     /// masses 1/(2n) on the smallest and largest value (Hyndman and Fan 1996,
     /// definition 5). Its mean equals the data mean exactly. See [`Empirical`].
+    ///
+    /// # Example
+    ///
+    /// ```
+    /// use busyhour::dist::Law;
+    ///
+    /// let law = Law::empirical(vec![40.0, 75.0, 120.0, 600.0]).unwrap();
+    /// assert_eq!(law.mean(), 208.75);
+    /// assert_eq!(law.cdf(40.0), 0.125); // (1 - 1/2) / 4
+    /// assert_eq!(law.cdf(600.0), 1.0);
+    /// ```
     pub fn empirical(values: Vec<f64>) -> Result<Law, LawError> {
         Empirical::new(values).map(Law::Empirical)
     }
