@@ -151,7 +151,7 @@ pub fn figures(model: &Model, layout: &[FigureId], t: &Tally) -> Vec<f64> {
                 let quantile = |q: f64| {
                     st.waits
                         .as_ref()
-                        .filter(|h| h.len() > 0)
+                        .filter(|h| !h.is_empty())
                         .map_or(f64::NAN, |h| h.value_at_quantile(q) as f64 / 1000.0)
                 };
                 match f.name {
