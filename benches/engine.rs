@@ -40,9 +40,18 @@ fn single_group(c: &mut Criterion) {
     let calls = (1.5 * 3600.0 * (hours + 10.0 / 60.0)) as u64;
     g.throughput(Throughput::Elements(calls));
     let m = model(107, 90.0, r#"{ law = "exponential", mean = "60s" }"#, hours);
-    g.bench_function("107 servers, 90 E, exponential", |b| b.iter(|| run_replication(&m, 0)));
-    let m = model(107, 90.0, r#"{ law = "lognormal", mean = "60s", cv = 1.5 }"#, hours);
-    g.bench_function("107 servers, 90 E, lognormal cv 1.5", |b| b.iter(|| run_replication(&m, 0)));
+    g.bench_function("107 servers, 90 E, exponential", |b| {
+        b.iter(|| run_replication(&m, 0))
+    });
+    let m = model(
+        107,
+        90.0,
+        r#"{ law = "lognormal", mean = "60s", cv = 1.5 }"#,
+        hours,
+    );
+    g.bench_function("107 servers, 90 E, lognormal cv 1.5", |b| {
+        b.iter(|| run_replication(&m, 0))
+    });
     g.finish();
 }
 

@@ -19,6 +19,8 @@ struct Cli {
 enum Command {
     /// Simulate a scenario file and report every figure with its 95% interval.
     Run(cli::RunArgs),
+    /// Find the fewest servers on one group for which every goal holds.
+    Size(cli::SizeArgs),
     /// Validate a scenario file; print the compiled model and the formula view.
     Check(cli::CheckArgs),
     /// Closed-form teletraffic formulas (Erlang B and C, Erlang A, Engset,
@@ -30,6 +32,7 @@ fn main() -> ExitCode {
     let cli = Cli::parse();
     let result = match &cli.command {
         Command::Run(a) => cli::run(a),
+        Command::Size(a) => cli::size(a),
         Command::Check(a) => cli::check(a),
         Command::Calc(a) => cli::calc::run(a).map(|()| cli::Status::Done),
     };

@@ -14,10 +14,14 @@ pub enum UnitError {
     #[error("'{0}' is not a duration: expected seconds or a time like \"45s\", \"3m\", \"1h30m\"")]
     Duration(String),
     /// Rates are a count over a unit of time ("420/h", "7/m", "0.5/s").
-    #[error("'{0}' is not a rate: expected calls per unit of time like \"420/h\", \"7/m\", \"0.5/s\"")]
+    #[error(
+        "'{0}' is not a rate: expected calls per unit of time like \"420/h\", \"7/m\", \"0.5/s\""
+    )]
     Rate(String),
     /// Shares are a percentage ("1%") or a fraction ("0.01") between 0 and 1.
-    #[error("'{0}' is not a share: expected a percentage like \"1%\" or a fraction from 0 to 1 like \"0.01\"")]
+    #[error(
+        "'{0}' is not a share: expected a percentage like \"1%\" or a fraction from 0 to 1 like \"0.01\""
+    )]
     Share(String),
     /// The text parsed but the value is out of its allowed range.
     #[error("'{text}' is out of range: {expected}")]

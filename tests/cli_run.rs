@@ -41,16 +41,28 @@ fn every_shipped_scenario_runs_in_every_format() {
         let table = busyhour(&["run", s, "--replications", "4"]);
         assert!(table.status.success(), "{s}: {}", stderr(&table));
         let text = stdout(&table);
-        assert!(text.contains("Streams") && text.contains("Groups") && text.contains("Caution"), "{text}");
+        assert!(
+            text.contains("Streams") && text.contains("Groups") && text.contains("Caution"),
+            "{text}"
+        );
 
         let json = busyhour(&["run", s, "--replications", "4", "--json"]);
         assert!(json.status.success(), "{s}: {}", stderr(&json));
         let v: Value = serde_json::from_str(&stdout(&json)).expect("valid JSON");
         assert_eq!(v["replications"], 4);
         for stream in v["streams"].as_array().unwrap() {
-            for key in ["offered_calls", "first_attempt_blocking", "loss", "carried_traffic"] {
+            for key in [
+                "offered_calls",
+                "first_attempt_blocking",
+                "loss",
+                "carried_traffic",
+            ] {
                 let e = &stream[key];
-                assert!(e["mean"].is_number(), "{s}: stream {} lacks {key}", stream["name"]);
+                assert!(
+                    e["mean"].is_number(),
+                    "{s}: stream {} lacks {key}",
+                    stream["name"]
+                );
                 assert!(e["half_width"].is_number());
                 assert_eq!(e["replications"], 4);
             }
@@ -65,21 +77,33 @@ fn every_shipped_scenario_runs_in_every_format() {
         let csv = busyhour(&["run", s, "--replications", "4", "--csv"]);
         assert!(csv.status.success());
         let text = stdout(&csv);
-        assert!(text.starts_with("kind,name,interval_start_s,figure,mean,half_width,replications,formula,formula_value"));
+        assert!(text.starts_with(
+            "kind,name,interval_start_s,figure,mean,half_width,replications,formula,formula_value"
+        ));
         assert!(text.lines().count() > 5);
     }
 }
 
 #[test]
 fn the_formula_column_appears_where_a_formula_applies() {
-    let o = busyhour(&["run", "scenarios/campus-overflow.toml", "--replications", "4", "--json"]);
+    let o = busyhour(&[
+        "run",
+        "scenarios/campus-overflow.toml",
+        "--replications",
+        "4",
+        "--json",
+    ]);
     let v: Value = serde_json::from_str(&stdout(&o)).unwrap();
     let office = &v["groups"][1];
     assert_eq!(office["name"], "office-trunks");
     assert_eq!(office["time_congestion"]["formula"]["name"], "Erlang B");
     assert_eq!(office["overflow_peakedness"]["formula"]["name"], "Riordan");
     // Lognormal holding on the plant group: no Riordan peakedness there.
-    assert!(v["groups"][0]["overflow_peakedness"].get("formula").is_none());
+    assert!(
+        v["groups"][0]["overflow_peakedness"]
+            .get("formula")
+            .is_none()
+    );
 }
 
 #[test]
@@ -92,13 +116,25 @@ fn same_seed_same_json_and_threads_do_not_matter() {
     assert_eq!(stdout(&a), stdout(&b));
     assert_eq!(stdout(&b), stdout(&c));
     let d = busyhour(&["run", s, "--replications", "6", "--json", "--seed", "12345"]);
-    assert_ne!(stdout(&a), stdout(&d), "a different seed must give different figures");
+    assert_ne!(
+        stdout(&a),
+        stdout(&d),
+        "a different seed must give different figures"
+    );
 }
 
 #[test]
 fn out_file_is_complete_and_leaves_no_temporary_file() {
     let out = scratch("result.json");
-    let o = busyhour(&["run", "scenarios/video-link.toml", "--replications", "3", "--json", "--out", out.to_str().unwrap()]);
+    let o = busyhour(&[
+        "run",
+        "scenarios/video-link.toml",
+        "--replications",
+        "3",
+        "--json",
+        "--out",
+        out.to_str().unwrap(),
+    ]);
     assert!(o.status.success(), "{}", stderr(&o));
     assert!(stdout(&o).is_empty());
     let v: Value = serde_json::from_str(&std::fs::read_to_string(&out).unwrap()).unwrap();
@@ -121,7 +157,10 @@ fn check_describes_the_model_and_the_formula_view() {
     assert!(text.contains("The scenario is valid."));
     let j = busyhour(&["check", "scenarios/campus-overflow.toml", "--json"]);
     let v: Value = serde_json::from_str(&stdout(&j)).unwrap();
-    assert_eq!(v["groups"][1]["formulas"]["time_congestion"]["name"], "Erlang B");
+    assert_eq!(
+        v["groups"][1]["formulas"]["time_congestion"]["name"],
+        "Erlang B"
+    );
 }
 
 /// Write `text` as a scenario and check `run` and `check` refuse it with
@@ -131,11 +170,26 @@ fn refused(name: &str, text: &str, needle: &str) {
     std::fs::write(&path, text).unwrap();
     for cmd in ["check", "run"] {
         let o = busyhour(&[cmd, path.to_str().unwrap()]);
-        assert_eq!(o.status.code(), Some(2), "{name}: {cmd} should exit 2; stderr: {}", stderr(&o));
+        assert_eq!(
+            o.status.code(),
+            Some(2),
+            "{name}: {cmd} should exit 2; stderr: {}",
+            stderr(&o)
+        );
         let err = stderr(&o);
-        assert_eq!(err.trim_end().lines().count(), 1, "{name}: one line expected, got:\n{err}");
-        assert!(err.contains(path.to_str().unwrap()), "{name}: file not named: {err}");
-        assert!(err.contains(needle), "{name}: expected {needle:?} in: {err}");
+        assert_eq!(
+            err.trim_end().lines().count(),
+            1,
+            "{name}: one line expected, got:\n{err}"
+        );
+        assert!(
+            err.contains(path.to_str().unwrap()),
+            "{name}: file not named: {err}"
+        );
+        assert!(
+            err.contains(needle),
+            "{name}: expected {needle:?} in: {err}"
+        );
         assert!(stdout(&o).is_empty(), "{name}: nothing on stdout");
     }
 }
@@ -156,21 +210,75 @@ route = ["g"]
 
 #[test]
 fn bad_scenarios_get_one_line_and_exit_2() {
-    refused("unknown-key.toml", &GOOD.replace("servers = 5", "servers = 5\nsevers = 3"), "unknown field `severs`");
-    refused("route.toml", &GOOD.replace("route = [\"g\"]", "route = [\"g\", \"nowhere\"]"), "stream \"s\".route[2]: no group is named \"nowhere\"");
-    refused("dup.toml", &format!("{GOOD}\n[[group]]\nname = \"g\"\nservers = 2\n"), "used by two groups");
-    refused("negative-rate.toml", &GOOD.replace("100/h", "-100/h"), "stream \"s\".arrivals.rate");
-    refused("zero-rate.toml", &GOOD.replace("100/h", "0/h"), "above zero");
-    refused("bad-cv.toml", &GOOD.replace("{ law = \"exponential\", mean = \"2m\" }", "{ law = \"hyperexponential\", mean = \"2m\", cv = 0.5 }"), "cv");
-    refused("empty-route.toml", &GOOD.replace("route = [\"g\"]", "route = []"), "route is empty");
-    refused("syntax.toml", &GOOD.replace("servers = 5", "servers = = 5"), ":7:11:");
-    refused("type.toml", &GOOD.replace("servers = 5", "servers = \"five\""), "invalid type");
-    refused("nan.toml", &GOOD.replace("mean = \"2m\"", "mean = \"nan\""), "not a duration");
-    refused("huge.toml", &GOOD.replace("servers = 5", "servers = 1000000000000"), "out of range");
-    refused("long.toml", &GOOD.replace("length = \"1h\"", "length = \"1000000000h\""), "ten years");
+    refused(
+        "unknown-key.toml",
+        &GOOD.replace("servers = 5", "servers = 5\nsevers = 3"),
+        "unknown field `severs`",
+    );
+    refused(
+        "route.toml",
+        &GOOD.replace("route = [\"g\"]", "route = [\"g\", \"nowhere\"]"),
+        "stream \"s\".route[2]: no group is named \"nowhere\"",
+    );
+    refused(
+        "dup.toml",
+        &format!("{GOOD}\n[[group]]\nname = \"g\"\nservers = 2\n"),
+        "used by two groups",
+    );
+    refused(
+        "negative-rate.toml",
+        &GOOD.replace("100/h", "-100/h"),
+        "stream \"s\".arrivals.rate",
+    );
+    refused(
+        "zero-rate.toml",
+        &GOOD.replace("100/h", "0/h"),
+        "above zero",
+    );
+    refused(
+        "bad-cv.toml",
+        &GOOD.replace(
+            "{ law = \"exponential\", mean = \"2m\" }",
+            "{ law = \"hyperexponential\", mean = \"2m\", cv = 0.5 }",
+        ),
+        "cv",
+    );
+    refused(
+        "empty-route.toml",
+        &GOOD.replace("route = [\"g\"]", "route = []"),
+        "route is empty",
+    );
+    refused(
+        "syntax.toml",
+        &GOOD.replace("servers = 5", "servers = = 5"),
+        ":7:11:",
+    );
+    refused(
+        "type.toml",
+        &GOOD.replace("servers = 5", "servers = \"five\""),
+        "invalid type",
+    );
+    refused(
+        "nan.toml",
+        &GOOD.replace("mean = \"2m\"", "mean = \"nan\""),
+        "not a duration",
+    );
+    refused(
+        "huge.toml",
+        &GOOD.replace("servers = 5", "servers = 1000000000000"),
+        "out of range",
+    );
+    refused(
+        "long.toml",
+        &GOOD.replace("length = \"1h\"", "length = \"1000000000h\""),
+        "ten years",
+    );
     refused(
         "missing-data.toml",
-        &GOOD.replace("{ law = \"exponential\", mean = \"2m\" }", "{ law = \"empirical\", file = \"no-such-file.csv\" }"),
+        &GOOD.replace(
+            "{ law = \"exponential\", mean = \"2m\" }",
+            "{ law = \"empirical\", file = \"no-such-file.csv\" }",
+        ),
         "no-such-file.csv",
     );
     let data = scratch("talk.csv");
@@ -183,8 +291,19 @@ fn bad_scenarios_get_one_line_and_exit_2() {
         ),
         "line 4",
     );
-    refused("reserve.toml", &GOOD.replace("servers = 5", "servers = 5\nreserve = { servers = 5, for = [\"s\"] }"), "reserve fewer");
-    refused("units.toml", &GOOD.replace("route = [\"g\"]", "route = [\"g\"]\nunits = 6"), "no group on the route has that many");
+    refused(
+        "reserve.toml",
+        &GOOD.replace(
+            "servers = 5",
+            "servers = 5\nreserve = { servers = 5, for = [\"s\"] }",
+        ),
+        "reserve fewer",
+    );
+    refused(
+        "units.toml",
+        &GOOD.replace("route = [\"g\"]", "route = [\"g\"]\nunits = 6"),
+        "no group on the route has that many",
+    );
 }
 
 #[test]

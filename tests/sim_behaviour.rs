@@ -54,7 +54,12 @@ answer_within = "{t}s"
     let w = c * h / (nf - a);
     let sl = 1.0 - c * (-(nf - a) * t / h).exp();
     let s = Scope::Stream(0);
-    assert_covers("probability of waiting", o.get(s, "wait_probability").unwrap(), c, 4.0);
+    assert_covers(
+        "probability of waiting",
+        o.get(s, "wait_probability").unwrap(),
+        c,
+        4.0,
+    );
     assert_covers("mean wait", o.get(s, "wait_mean").unwrap(), w, 4.0);
     assert_covers("service level", o.get(s, "service_level").unwrap(), sl, 4.0);
     assert_precise("mean wait", o.get(s, "wait_mean").unwrap(), 0.1);
@@ -63,7 +68,10 @@ answer_within = "{t}s"
         let p50 = h * (2.0 * c).ln() / (nf - a);
         let e = o.get(s, "wait_p50").unwrap();
         // Histogram resolution is 1%: widen by that.
-        assert!((e.mean - p50).abs() <= 4.0 * e.half_width + 0.02 * p50, "p50 {e:?} vs {p50}");
+        assert!(
+            (e.mean - p50).abs() <= 4.0 * e.half_width + 0.02 * p50,
+            "p50 {e:?} vs {p50}"
+        );
     }
 }
 
@@ -75,9 +83,17 @@ fn exponential_patience_matches_the_erlang_a_birth_death_chain() {
     let (n, a, h, theta) = (10u32, 11.0f64, 120.0f64, 60.0f64);
     let lambda = a / h;
     let nn = n as usize;
-    let p = birth_death(nn + 400, |_| lambda, |k| k.min(nn) as f64 / h + k.saturating_sub(nn) as f64 / theta);
+    let p = birth_death(
+        nn + 400,
+        |_| lambda,
+        |k| k.min(nn) as f64 / h + k.saturating_sub(nn) as f64 / theta,
+    );
     let wait: f64 = p[nn..].iter().sum();
-    let abandon_rate: f64 = p.iter().enumerate().map(|(k, pk)| k.saturating_sub(nn) as f64 / theta * pk).sum();
+    let abandon_rate: f64 = p
+        .iter()
+        .enumerate()
+        .map(|(k, pk)| k.saturating_sub(nn) as f64 / theta * pk)
+        .sum();
     let abandonment = abandon_rate / lambda;
     let text = format!(
         r#"
@@ -101,9 +117,24 @@ route = ["agents"]
     );
     let o = run(&model(&text));
     let s = Scope::Stream(0);
-    assert_covers("P(wait), Erlang A", o.get(s, "wait_probability").unwrap(), wait, 4.0);
-    assert_covers("abandonment, Erlang A", o.get(s, "abandonment").unwrap(), abandonment, 4.0);
-    assert_covers("loss = abandonment here", o.get(s, "loss").unwrap(), abandonment, 4.0);
+    assert_covers(
+        "P(wait), Erlang A",
+        o.get(s, "wait_probability").unwrap(),
+        wait,
+        4.0,
+    );
+    assert_covers(
+        "abandonment, Erlang A",
+        o.get(s, "abandonment").unwrap(),
+        abandonment,
+        4.0,
+    );
+    assert_covers(
+        "loss = abandonment here",
+        o.get(s, "loss").unwrap(),
+        abandonment,
+        4.0,
+    );
     assert_precise("abandonment", o.get(s, "abandonment").unwrap(), 0.05);
 }
 
@@ -139,7 +170,12 @@ route = ["lines"]
 "#
     );
     let o = run(&model(&text));
-    assert_covers("Engset time congestion", o.get(Scope::Group(0), "time_congestion").unwrap(), time_congestion, 4.0);
+    assert_covers(
+        "Engset time congestion",
+        o.get(Scope::Group(0), "time_congestion").unwrap(),
+        time_congestion,
+        4.0,
+    );
     let cc = o.get(Scope::Stream(0), "first_attempt_blocking").unwrap();
     assert_covers("Engset call congestion", cc, call_congestion, 4.0);
     assert_precise("call congestion", cc, 0.05);
@@ -162,7 +198,14 @@ fn two_classes_on_one_link_match_kaufman_roberts_by_enumeration() {
     }
     let top = states.iter().map(|s| s.1).fold(f64::NEG_INFINITY, f64::max);
     let total: f64 = states.iter().map(|s| (s.1 - top).exp()).sum();
-    let blocked = |b: usize| states.iter().filter(|s| s.0 + b > c).map(|s| (s.1 - top).exp()).sum::<f64>() / total;
+    let blocked = |b: usize| {
+        states
+            .iter()
+            .filter(|s| s.0 + b > c)
+            .map(|s| (s.1 - top).exp())
+            .sum::<f64>()
+            / total
+    };
     let (exact1, exact2) = (blocked(b1), blocked(b2));
     let text = format!(
         r#"
@@ -190,9 +233,23 @@ units = {b2}
         r2 = a2 * 60.0
     );
     let o = run(&model(&text));
-    assert_covers("voice blocking", o.get(Scope::Stream(0), "loss").unwrap(), exact1, 4.0);
-    assert_covers("video blocking", o.get(Scope::Stream(1), "loss").unwrap(), exact2, 4.0);
-    assert_precise("video blocking", o.get(Scope::Stream(1), "loss").unwrap(), 0.05);
+    assert_covers(
+        "voice blocking",
+        o.get(Scope::Stream(0), "loss").unwrap(),
+        exact1,
+        4.0,
+    );
+    assert_covers(
+        "video blocking",
+        o.get(Scope::Stream(1), "loss").unwrap(),
+        exact2,
+        4.0,
+    );
+    assert_precise(
+        "video blocking",
+        o.get(Scope::Stream(1), "loss").unwrap(),
+        0.05,
+    );
 }
 
 fn ln_fact(n: usize) -> f64 {
@@ -248,9 +305,15 @@ fn redials_match_the_two_dimensional_markov_chain() {
         pi.iter_mut().for_each(|x| *x /= t);
     }
     let mass_top: f64 = (0..=n).map(|i| pi[idx(i, kmax)]).sum();
-    assert!(mass_top < 1e-12, "truncation at K = {kmax} is not negligible");
+    assert!(
+        mass_top < 1e-12,
+        "truncation at K = {kmax} is not negligible"
+    );
     let p_full: f64 = (0..=kmax).map(|k| pi[idx(n, k)]).sum();
-    let redial_rate: f64 = (0..=n).flat_map(|i| (0..=kmax).map(move |k| (i, k))).map(|(i, k)| k as f64 * nu * pi[idx(i, k)]).sum();
+    let redial_rate: f64 = (0..=n)
+        .flat_map(|i| (0..=kmax).map(move |k| (i, k)))
+        .map(|(i, k)| k as f64 * nu * pi[idx(i, k)])
+        .sum();
     let blocked_redials: f64 = (0..=kmax).map(|k| k as f64 * nu * pi[idx(n, k)]).sum();
     let attempt_rate = lambda + redial_rate;
     let blocked_rate = lambda * p_full + blocked_redials;
@@ -281,10 +344,25 @@ retry = {{ chance = "{pc}%", delay = {{ law = "exponential", mean = "{d}s" }}, m
     );
     let o = run(&model(&text));
     let s = Scope::Stream(0);
-    assert_covers("first-attempt blocking with redials", o.get(s, "first_attempt_blocking").unwrap(), first_blocking, 4.0);
-    assert_covers("attempt blocking", o.get(s, "attempt_blocking").unwrap(), attempt_blocking, 4.0);
+    assert_covers(
+        "first-attempt blocking with redials",
+        o.get(s, "first_attempt_blocking").unwrap(),
+        first_blocking,
+        4.0,
+    );
+    assert_covers(
+        "attempt blocking",
+        o.get(s, "attempt_blocking").unwrap(),
+        attempt_blocking,
+        4.0,
+    );
     assert_covers("loss with redials", o.get(s, "loss").unwrap(), loss, 4.0);
-    assert_covers("attempts per call", o.get(s, "attempts_per_call").unwrap(), attempts_per_call, 4.0);
+    assert_covers(
+        "attempts per call",
+        o.get(s, "attempts_per_call").unwrap(),
+        attempts_per_call,
+        4.0,
+    );
     assert_precise("loss", o.get(s, "loss").unwrap(), 0.05);
 }
 
@@ -295,7 +373,11 @@ fn trunk_reservation_matches_the_one_dimensional_chain() {
     // Akinpelu 1984 / Roberts' reservation analysis).
     let (n, r, h) = (10usize, 2usize, 60.0f64);
     let (lp, lo) = (3.0 / h, 6.0 / h);
-    let pi = birth_death(n, |k| if k < n - r { lp + lo } else { lp }, |k| k as f64 / h);
+    let pi = birth_death(
+        n,
+        |k| if k < n - r { lp + lo } else { lp },
+        |k| k as f64 / h,
+    );
     let protected = pi[n];
     let other: f64 = pi[n - r..].iter().sum();
     let text = format!(
@@ -328,7 +410,10 @@ route = ["trunks"]
     let g = o.get(Scope::Stream(1), "loss").unwrap();
     assert_covers("protected stream blocking", e, protected, 4.0);
     assert_covers("other stream blocking", g, other, 4.0);
-    assert!(e.mean + e.half_width < g.mean - g.half_width, "reservation must protect: {e:?} vs {g:?}");
+    assert!(
+        e.mean + e.half_width < g.mean - g.half_width,
+        "reservation must protect: {e:?} vs {g:?}"
+    );
 }
 
 #[test]
@@ -369,7 +454,9 @@ route = ["huge"]
     );
     let o = run(&model(&text));
     for (b, exact) in expected.iter().enumerate() {
-        let e = o.get(Scope::GroupInterval(b, 0), "carried_traffic").unwrap();
+        let e = o
+            .get(Scope::GroupInterval(b, 0), "carried_traffic")
+            .unwrap();
         assert_covers(&format!("mean busy in interval {b}"), e, *exact, 4.0);
         assert_precise("interval busy", e, 0.05);
     }

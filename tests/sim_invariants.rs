@@ -18,7 +18,10 @@ fn shipped() -> Vec<busyhour::scenario::Model> {
         .collect();
     names.sort();
     assert!(names.len() >= 4, "the shipped scenarios are missing");
-    names.iter().map(|p| scenario::load(p).unwrap_or_else(|e| panic!("{e}"))).collect()
+    names
+        .iter()
+        .map(|p| scenario::load(p).unwrap_or_else(|e| panic!("{e}")))
+        .collect()
 }
 
 const MIXED: &str = r#"
@@ -84,9 +87,15 @@ fn calls_are_conserved_and_groups_never_overfill() {
                 assert!(st.wait_sum_s >= 0.0);
             }
             for (g, peak) in t.peak_busy.iter().enumerate() {
-                assert!(*peak <= m.groups[g].servers, "{}: group {g} overfilled", m.title);
+                assert!(
+                    *peak <= m.groups[g].servers,
+                    "{}: group {g} overfilled",
+                    m.title
+                );
                 let gt = &t.groups[g];
-                assert!(gt.busy_s <= f64::from(m.groups[g].servers) * m.plan.length_s * (1.0 + 1e-12));
+                assert!(
+                    gt.busy_s <= f64::from(m.groups[g].servers) * m.plan.length_s * (1.0 + 1e-12)
+                );
                 assert!(gt.full_s <= m.plan.length_s * (1.0 + 1e-12));
             }
             // Interval counts add up to the whole.
@@ -107,8 +116,14 @@ fn shares_lie_between_zero_and_one() {
     for (f, e) in o.layout.iter().zip(&o.estimates) {
         let share = matches!(
             f.name,
-            "first_attempt_blocking" | "attempt_blocking" | "loss" | "abandonment" | "wait_probability"
-                | "service_level" | "occupancy" | "time_congestion"
+            "first_attempt_blocking"
+                | "attempt_blocking"
+                | "loss"
+                | "abandonment"
+                | "wait_probability"
+                | "service_level"
+                | "occupancy"
+                | "time_congestion"
         );
         if share && e.replications > 0 {
             assert!((0.0..=1.0).contains(&e.mean), "{f:?} = {e:?}");
@@ -120,15 +135,31 @@ fn shares_lie_between_zero_and_one() {
 fn same_seed_same_bits_whatever_the_thread_count() {
     let m = model(MIXED);
     let run_with = |threads| {
-        experiment::run(&m, Some(Replications::Fixed(6)), &RunOptions { threads: Some(threads), ..Default::default() })
-            .unwrap()
+        experiment::run(
+            &m,
+            Some(Replications::Fixed(6)),
+            &RunOptions {
+                threads: Some(threads),
+                ..Default::default()
+            },
+        )
+        .unwrap()
     };
     let one = run_with(1);
     let two = run_with(2);
-    let bits = |o: &experiment::Outcome| -> Vec<u64> { o.per_replication.iter().flatten().map(|x| x.to_bits()).collect() };
+    let bits = |o: &experiment::Outcome| -> Vec<u64> {
+        o.per_replication
+            .iter()
+            .flatten()
+            .map(|x| x.to_bits())
+            .collect()
+    };
     assert_eq!(bits(&one), bits(&two));
     let est = |o: &experiment::Outcome| -> Vec<(u64, u64)> {
-        o.estimates.iter().map(|e| (e.mean.to_bits(), e.half_width.to_bits())).collect()
+        o.estimates
+            .iter()
+            .map(|e| (e.mean.to_bits(), e.half_width.to_bits()))
+            .collect()
     };
     assert_eq!(est(&one), est(&two));
 }
@@ -164,7 +195,10 @@ route = ["b"]
     let b = run_replication(&model(&base.replace("RATE", "90/h")), 0);
     assert_eq!(a.streams[0].offered, b.streams[0].offered);
     assert_eq!(a.streams[0].first_blocked, b.streams[0].first_blocked);
-    assert_eq!(a.streams[0].carried_s.to_bits(), b.streams[0].carried_s.to_bits());
+    assert_eq!(
+        a.streams[0].carried_s.to_bits(),
+        b.streams[0].carried_s.to_bits()
+    );
     assert_ne!(a.streams[1].offered, b.streams[1].offered);
 }
 
@@ -203,7 +237,14 @@ fn value_stability_of_a_fixed_seed() {
     let got: Vec<(u64, u64, u64, u64)> = t
         .streams
         .iter()
-        .map(|s| (s.offered, s.answered, s.attempts, s.blocked_final + s.abandoned_final))
+        .map(|s| {
+            (
+                s.offered,
+                s.answered,
+                s.attempts,
+                s.blocked_final + s.abandoned_final,
+            )
+        })
         .collect();
     assert_eq!(got, PINNED, "random-number use changed");
 }

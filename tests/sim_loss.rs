@@ -34,18 +34,41 @@ route = ["g"]
 #[test]
 fn single_group_loss_matches_erlang_b_from_light_to_heavy_load() {
     // Erlang B (A. K. Erlang, 1917) via the truncated Poisson law from statrs.
-    let cases = [(1u32, 0.5f64), (5, 3.0), (10, 7.0), (30, 25.0), (100, 110.0), (500, 480.0)];
+    let cases = [
+        (1u32, 0.5f64),
+        (5, 3.0),
+        (10, 7.0),
+        (30, 25.0),
+        (100, 110.0),
+        (500, 480.0),
+    ];
     for (n, a) in cases {
-        let m = model(&single_group(n, a, r#"{ law = "exponential", mean = "60s" }"#, 20, 60.0));
+        let m = model(&single_group(
+            n,
+            a,
+            r#"{ law = "exponential", mean = "60s" }"#,
+            20,
+            60.0,
+        ));
         let o = run(&m);
         let exact = erlang_b_statrs(u64::from(n), a);
         let loss = o.get(Scope::Stream(0), "loss").unwrap();
         assert_covers(&format!("loss N={n} A={a}"), loss, exact, 4.0);
         assert_precise(&format!("loss N={n} A={a}"), loss, 0.25);
         let tc = o.get(Scope::Group(0), "time_congestion").unwrap();
-        assert_covers(&format!("time congestion N={n} A={a} (PASTA)"), tc, exact, 4.0);
+        assert_covers(
+            &format!("time congestion N={n} A={a} (PASTA)"),
+            tc,
+            exact,
+            4.0,
+        );
         let carried = o.get(Scope::Group(0), "carried_traffic").unwrap();
-        assert_covers(&format!("carried N={n} A={a}"), carried, a * (1.0 - exact), 4.0);
+        assert_covers(
+            &format!("carried N={n} A={a}"),
+            carried,
+            a * (1.0 - exact),
+            4.0,
+        );
     }
 }
 
@@ -132,7 +155,12 @@ route = ["first", "final"]
         let mean = o.get(Scope::Group(0), "overflow_mean").unwrap();
         let peak = o.get(Scope::Group(0), "overflow_peakedness").unwrap();
         assert_covers(&format!("overflow mean N={n} A={a}"), mean, m, 4.0);
-        assert_covers(&format!("overflow peakedness N={n} A={a}"), peak, v / m, 4.0);
+        assert_covers(
+            &format!("overflow peakedness N={n} A={a}"),
+            peak,
+            v / m,
+            4.0,
+        );
         assert_precise("peakedness", peak, 0.05);
         // The final group is large enough to carry all the overflow, so its
         // carried traffic is the overflow mean too.
@@ -213,5 +241,10 @@ route = ["first", "second"]
     assert_covers("two-group chain loss", loss, exact, 4.0);
     assert_precise("chain loss", loss, 0.05);
     let first_block = o.get(Scope::Stream(0), "first_attempt_blocking").unwrap();
-    assert_covers("blocked on every group of the route", first_block, exact, 4.0);
+    assert_covers(
+        "blocked on every group of the route",
+        first_block,
+        exact,
+        4.0,
+    );
 }

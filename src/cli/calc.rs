@@ -2,4 +2,6 @@
 use clap::Args;
 #[derive(Args)]
 pub struct CalcArgs {}
-pub fn run(_a: &CalcArgs) -> anyhow::Result<()> { anyhow::bail!("not yet") }
+pub fn run(_a: &CalcArgs) -> anyhow::Result<()> {
+    anyhow::bail!("not yet")
+}

@@ -64,6 +64,15 @@ pub struct OutputArgs {
 pub struct RunArgs {
     /// The scenario file (TOML).
     pub scenario: PathBuf,
+    #[command(flatten)]
+    pub reps: ReplicationArgs,
+    #[command(flatten)]
+    pub output: OutputArgs,
+}
+
+/// How many replications, and with which seed and threads.
+#[derive(Args, Clone)]
+pub struct ReplicationArgs {
     /// Run exactly N replications (overrides the file).
     #[arg(long, value_name = "N", conflicts_with = "precision")]
     pub replications: Option<u32>,
@@ -80,6 +89,27 @@ pub struct RunArgs {
     /// Worker threads (default: one per core). Results do not depend on it.
     #[arg(long, value_name = "T", value_parser = clap::value_parser!(u32).range(1..=1024))]
     pub threads: Option<u32>,
+}
+
+/// `busyhour size`.
+#[derive(Args)]
+pub struct SizeArgs {
+    /// The scenario file (TOML).
+    pub scenario: PathBuf,
+    /// The group to size.
+    #[arg(long, value_name = "GROUP")]
+    pub group: String,
+    /// A goal every answer must meet, as [stream.]figure<=value or >=value:
+    /// "loss<=1%", "office.service_level>=80%", "wait_p90<=30s",
+    /// "occupancy>=60%". Repeat for several goals.
+    #[arg(long, value_name = "GOAL", required = true)]
+    pub goal: Vec<String>,
+    #[command(flatten)]
+    pub reps: ReplicationArgs,
+    /// Most replications at one size while a goal's interval straddles its
+    /// bound (default: 10 times the starting count, at most 2000).
+    #[arg(long = "decide-within", value_name = "N")]
+    pub decide_within: Option<u32>,
     #[command(flatten)]
     pub output: OutputArgs,
 }
@@ -94,7 +124,10 @@ pub struct CheckArgs {
     pub json: bool,
 }
 
-fn replications_override(a: &RunArgs, model: &scenario::Model) -> Result<Option<Replications>> {
+fn replications_override(
+    a: &ReplicationArgs,
+    model: &scenario::Model,
+) -> Result<Option<Replications>> {
     if let Some(n) = a.replications {
         if n < 2 {
             bail!("--replications {n}: at least 2 are needed for a confidence interval");
@@ -104,7 +137,9 @@ fn replications_override(a: &RunArgs, model: &scenario::Model) -> Result<Option<
     if let Some(p) = &a.precision {
         let target = units::parse_share(p).with_context(|| "--precision")?;
         if !(target > 0.0 && target < 1.0) {
-            bail!("--precision '{p}': expected a relative half-width above 0% and below 100%, like \"2%\"");
+            bail!(
+                "--precision '{p}': expected a relative half-width above 0% and below 100%, like \"2%\""
+            );
         }
         let max = match (a.max_replications, &model.plan.replications) {
             (Some(m), _) if m < 2 => bail!("--max-replications {m}: at least 2 are needed"),
@@ -124,9 +159,11 @@ fn progress_bar(quiet: bool) -> Option<indicatif::ProgressBar> {
     }
     let bar = indicatif::ProgressBar::new(0);
     bar.set_style(
-        indicatif::ProgressStyle::with_template("{elapsed_precise} [{bar:40}] {pos}/{len} replications")
-            .unwrap_or_else(|_| indicatif::ProgressStyle::default_bar())
-            .progress_chars("=> "),
+        indicatif::ProgressStyle::with_template(
+            "{elapsed_precise} [{bar:40}] {pos}/{len} replications",
+        )
+        .unwrap_or_else(|_| indicatif::ProgressStyle::default_bar())
+        .progress_chars("=> "),
     );
     Some(bar)
 }
@@ -148,10 +185,10 @@ fn emit(output: &OutputArgs, text: &str) -> Result<()> {
 /// `busyhour run`.
 pub fn run(a: &RunArgs) -> Result<Status> {
     let mut model = scenario::load(&a.scenario)?;
-    if let Some(seed) = a.seed {
+    if let Some(seed) = a.reps.seed {
         model.plan.seed = seed;
     }
-    let reps = replications_override(a, &model)?;
+    let reps = replications_override(&a.reps, &model)?;
     let bar = progress_bar(a.output.quiet);
     let progress = |done: u64, planned: u64| {
         if let Some(b) = &bar {
@@ -160,7 +197,7 @@ pub fn run(a: &RunArgs) -> Result<Status> {
         }
     };
     let opts = RunOptions {
-        threads: a.threads.map(|t| t as usize),
+        threads: a.reps.threads.map(|t| t as usize),
         progress: Some(&progress),
         stop: None,
     };
@@ -180,7 +217,11 @@ pub fn run(a: &RunArgs) -> Result<Status> {
         report::to_table(&r)
     };
     emit(&a.output, &text)?;
-    Ok(if outcome.partial { Status::Interrupted } else { Status::Done })
+    Ok(if outcome.partial {
+        Status::Interrupted
+    } else {
+        Status::Done
+    })
 }
 
 /// `busyhour check`.
@@ -201,4 +242,74 @@ pub fn check(a: &CheckArgs) -> Result<Status> {
     let mut out = std::io::stdout().lock();
     out.write_all(text.as_bytes())?;
     Ok(Status::Done)
+}
+
+/// `busyhour size`.
+pub fn size(a: &SizeArgs) -> Result<Status> {
+    use busyhour::experiment::size::{self, Goal, SizeOptions};
+    let mut model = scenario::load(&a.scenario)?;
+    if let Some(seed) = a.reps.seed {
+        model.plan.seed = seed;
+    }
+    let group = model.group_index(&a.group).with_context(|| {
+        format!(
+            "--group {}: no group of {} has that name",
+            a.group,
+            a.scenario.display()
+        )
+    })?;
+    let goals = a
+        .goal
+        .iter()
+        .map(|g| Goal::parse(g, &model, group))
+        .collect::<Result<Vec<_>, _>>()?;
+    let replications =
+        replications_override(&a.reps, &model)?.unwrap_or_else(|| model.plan.replications.clone());
+    let start = match &replications {
+        Replications::Fixed(n) => *n,
+        Replications::Precision { max, .. } => *max,
+    };
+    let max_replications = match a.decide_within {
+        Some(m) if m < 2 => bail!("--decide-within {m}: at least 2 replications are needed"),
+        Some(m) => m,
+        None => (start.saturating_mul(10)).clamp(start, 2000),
+    };
+    let bar = progress_bar(a.output.quiet);
+    let progress = |done: u64, _planned: u64| {
+        if let Some(b) = &bar {
+            b.set_message(format!("{done} replications"));
+            b.tick();
+        }
+    };
+    let opts = RunOptions {
+        threads: a.reps.threads.map(|t| t as usize),
+        progress: Some(&progress),
+        stop: None,
+    };
+    let how = SizeOptions {
+        replications,
+        max_replications,
+    };
+    let result = size::size(&model, group, goals, &how, &opts)?;
+    if let Some(b) = &bar {
+        b.finish_and_clear();
+    }
+    let file = a.scenario.display().to_string();
+    let text = if a.output.json {
+        let mut s = serde_json::to_string_pretty(&report::size_json(&model, &file, &result))?;
+        s.push('\n');
+        s
+    } else if a.output.csv {
+        bail!("size prints a table or --json; --csv is for run and sweep");
+    } else {
+        report::size_table(&model, &file, &result)
+    };
+    emit(&a.output, &text)?;
+    Ok(if result.partial {
+        Status::Interrupted
+    } else if result.servers.is_some() {
+        Status::Done
+    } else {
+        Status::Failed
+    })
 }

@@ -109,7 +109,7 @@ struct GroupState {
     servers: u32,
     busy: u32, // invariant: busy <= servers
     queue_places: u32,
-    waiting: u32, // live entries in `queue`
+    waiting: u32,                // live entries in `queue`
     queue: VecDeque<(u32, u32)>, // (slot, generation), may hold stale entries
     overflow_after_s: Option<f64>,
     last_change: f64,
@@ -223,7 +223,13 @@ impl<'m> Sim<'m> {
             events: 0,
             peak_busy: vec![0; n_groups],
         };
-        let capacity = 64 + model.groups.iter().map(|g| g.servers as usize).sum::<usize>().min(1 << 20);
+        let capacity = 64
+            + model
+                .groups
+                .iter()
+                .map(|g| g.servers as usize)
+                .sum::<usize>()
+                .min(1 << 20);
         Sim {
             model,
             calendar: Lanes::with_capacity(capacity),
@@ -250,7 +256,8 @@ impl<'m> Sim<'m> {
                 Arrivals::Sources { count, idle } => {
                     for _ in 0..*count {
                         let t = idle.sample(&mut self.rngs[si].arrivals);
-                        self.calendar.schedule(t, Event::SourceCall { stream: si as u32 });
+                        self.calendar
+                            .schedule(t, Event::SourceCall { stream: si as u32 });
                     }
                 }
                 _ => {
@@ -265,7 +272,9 @@ impl<'m> Sim<'m> {
             if t >= self.end && (self.pending == 0 || t >= drain_until) {
                 break;
             }
-            let Some((now, next)) = self.calendar.pop() else { break };
+            let Some((now, next)) = self.calendar.pop() else {
+                break;
+            };
             self.tally.events += 1;
             match next {
                 Next::Arrival(stream) => {
@@ -464,7 +473,9 @@ impl<'m> Sim<'m> {
             if self.bins > 0 {
                 let (start, width, bins) = (self.start, self.interval_s, self.bins);
                 let iv = &mut self.tally.stream_intervals;
-                spread(start, width, bins, t0, t1, |b, dt| iv[b][si].carried_s += dt);
+                spread(start, width, bins, t0, t1, |b, dt| {
+                    iv[b][si].carried_s += dt
+                });
             }
         }
         if !call.measured() {
@@ -540,12 +551,14 @@ impl<'m> Sim<'m> {
         grp.waiting += 1;
         grp.queue.push_back((slot, generation));
         if let Some(after) = grp.overflow_after_s {
-            self.calendar.schedule(now + after, Event::OverflowTimer { slot, generation });
+            self.calendar
+                .schedule(now + after, Event::OverflowTimer { slot, generation });
         }
         let si = call.stream as usize;
         if let Some(p) = &self.model.streams[si].patience {
             let patience = p.sample(&mut self.rngs[si].patience);
-            self.calendar.schedule(now + patience, Event::Abandon { slot, generation });
+            self.calendar
+                .schedule(now + patience, Event::Abandon { slot, generation });
         }
     }
 
@@ -557,7 +570,9 @@ impl<'m> Sim<'m> {
     /// Answer waiting calls in order of arrival while the head can seize.
     fn serve_queue(&mut self, g: usize, now: f64) {
         while self.groups[g].waiting > 0 {
-            let Some(&(slot, generation)) = self.groups[g].queue.front() else { break };
+            let Some(&(slot, generation)) = self.groups[g].queue.front() else {
+                break;
+            };
             let w = self.slab[slot as usize];
             if !w.active || w.generation != generation || w.group as usize != g {
                 self.groups[g].queue.pop_front(); // stale: abandoned or moved on
@@ -605,7 +620,8 @@ impl<'m> Sim<'m> {
                 grp.waiting += 1;
                 grp.queue.push_back((slot, generation));
                 if let Some(after) = grp.overflow_after_s {
-                    self.calendar.schedule(now + after, Event::OverflowTimer { slot, generation });
+                    self.calendar
+                        .schedule(now + after, Event::OverflowTimer { slot, generation });
                 }
             }
             return;
@@ -624,7 +640,8 @@ impl<'m> Sim<'m> {
         self.count_overflow(g, now);
         self.touch_virtual(g, now);
         self.groups[g].virtual_busy += 1;
-        self.calendar.schedule(now + holding, Event::VirtualEnd { group: g as u32 });
+        self.calendar
+            .schedule(now + holding, Event::VirtualEnd { group: g as u32 });
     }
 
     fn attempt_failed(&mut self, mut call: Call, now: f64, abandoned: bool) {
@@ -678,7 +695,8 @@ impl<'m> Sim<'m> {
     fn source_idles(&mut self, si: usize, now: f64) {
         if let Arrivals::Sources { idle, .. } = &self.model.streams[si].arrivals {
             let t = now + idle.sample(&mut self.rngs[si].arrivals);
-            self.calendar.schedule(t, Event::SourceCall { stream: si as u32 });
+            self.calendar
+                .schedule(t, Event::SourceCall { stream: si as u32 });
         }
     }
 
@@ -774,7 +792,11 @@ mod tests {
     fn events_stay_small() {
         // The calendar moves events on every push and pop: keep them at
         // 12 bytes (a tag and two u32).
-        assert!(std::mem::size_of::<Event>() <= 12, "{}", std::mem::size_of::<Event>());
+        assert!(
+            std::mem::size_of::<Event>() <= 12,
+            "{}",
+            std::mem::size_of::<Event>()
+        );
     }
 
     #[test]
@@ -793,6 +815,9 @@ mod tests {
         assert_eq!(profile_segment(100.0, 10.0, &r, 50.0), (1.0, 100.0));
         assert_eq!(profile_segment(100.0, 10.0, &r, 105.0), (1.0, 110.0));
         assert_eq!(profile_segment(100.0, 10.0, &r, 115.0), (2.0, 120.0));
-        assert_eq!(profile_segment(100.0, 10.0, &r, 125.0), (3.0, f64::INFINITY));
+        assert_eq!(
+            profile_segment(100.0, 10.0, &r, 125.0),
+            (3.0, f64::INFINITY)
+        );
     }
 }

@@ -2,6 +2,8 @@
 //! order so results are identical for any thread count; a fixed count or
 //! precision-driven stopping. Must not parse files or print.
 
+pub mod size;
+
 use crate::engine;
 use crate::scenario::{Model, Replications};
 use crate::stats::{self, Estimate, FigureId, Scope};
@@ -79,95 +81,181 @@ impl Outcome {
     }
 }
 
-/// Run `model` as its plan (or `replications`, when given) says.
-pub fn run(model: &Model, replications: Option<Replications>, opts: &RunOptions) -> Result<Outcome, ExperimentError> {
-    let started = Instant::now();
-    let pool = rayon::ThreadPoolBuilder::new()
-        .num_threads(opts.threads.unwrap_or(0))
-        .build()
-        .map_err(|e| ExperimentError::Threads {
-            threads: opts.threads.unwrap_or(0),
-            reason: e.to_string(),
-        })?;
-    let layout = stats::layout(model);
-    let plan = replications.unwrap_or_else(|| model.plan.replications.clone());
-    let done = AtomicU64::new(0);
-    let mut per_replication: Vec<Vec<f64>> = Vec::new();
-    let mut events = 0u64;
-    let mut partial = false;
-    let mut run_batch = |from: u64, to: u64, planned: u64, per_rep: &mut Vec<Vec<f64>>| -> bool {
-        let results: Vec<Option<(Vec<f64>, u64)>> = pool.install(|| {
+/// Figure values of replications 0..n of one model, in replication order.
+#[derive(Debug, Clone, Default)]
+pub struct Accumulated {
+    /// Figure values of each replication.
+    pub per_replication: Vec<Vec<f64>>,
+    /// Events processed.
+    pub events: u64,
+}
+
+/// A pool of workers that runs replications and reports progress.
+pub struct Runner<'a> {
+    pool: rayon::ThreadPool,
+    opts: &'a RunOptions<'a>,
+    done: AtomicU64,
+}
+
+impl<'a> Runner<'a> {
+    /// Start the workers.
+    pub fn new(opts: &'a RunOptions<'a>) -> Result<Self, ExperimentError> {
+        let pool = rayon::ThreadPoolBuilder::new()
+            .num_threads(opts.threads.unwrap_or(0))
+            .build()
+            .map_err(|e| ExperimentError::Threads {
+                threads: opts.threads.unwrap_or(0),
+                reason: e.to_string(),
+            })?;
+        Ok(Runner {
+            pool,
+            opts,
+            done: AtomicU64::new(0),
+        })
+    }
+
+    /// Whether a stop was requested.
+    pub fn stopped(&self) -> bool {
+        self.opts.stop.is_some_and(|s| s.load(Ordering::Relaxed))
+    }
+
+    /// Run replications `acc.len()..to` of `model` and append their figure
+    /// values. Returns false when stopped early; `acc` then holds a prefix
+    /// of complete replications, so a partial result stays reproducible.
+    pub fn extend(
+        &self,
+        model: &Model,
+        layout: &[FigureId],
+        acc: &mut Accumulated,
+        to: u64,
+        planned: u64,
+    ) -> bool {
+        let from = acc.per_replication.len() as u64;
+        if to <= from {
+            return true;
+        }
+        let results: Vec<Option<(Vec<f64>, u64)>> = self.pool.install(|| {
             use rayon::prelude::*;
             (from..to)
                 .into_par_iter()
                 .map(|r| {
-                    if opts.stop.is_some_and(|s| s.load(Ordering::Relaxed)) {
+                    if self.stopped() {
                         return None;
                     }
                     let tally = engine::run_replication(model, r);
-                    let values = stats::figures(model, &layout, &tally);
-                    let n = done.fetch_add(1, Ordering::Relaxed) + 1;
-                    if let Some(p) = opts.progress {
+                    let values = stats::figures(model, layout, &tally);
+                    let n = self.done.fetch_add(1, Ordering::Relaxed) + 1;
+                    if let Some(p) = self.opts.progress {
                         p(n, planned);
                     }
                     Some((values, tally.events))
                 })
                 .collect()
         });
-        // Keep replications in index order up to the first one missing, so a
-        // partial result is still a prefix and stays reproducible.
         for r in results {
             match r {
-                Some((values, ev)) => {
-                    per_rep.push(values);
-                    events += ev;
+                Some((values, events)) => {
+                    acc.per_replication.push(values);
+                    acc.events += events;
                 }
                 None => return false,
             }
         }
         true
-    };
-    let mut precision = None;
-    match plan {
-        Replications::Fixed(n) => {
-            partial = !run_batch(0, u64::from(n), u64::from(n), &mut per_replication);
-        }
-        Replications::Precision { target, max } => {
-            let max = u64::from(max);
-            let mut next = u64::from(PRECISION_FIRST_BATCH).min(max);
-            let mut have = 0u64;
-            loop {
-                if !run_batch(have, next, max, &mut per_replication) {
-                    partial = true;
-                    break;
+    }
+
+    /// Run `model` to the plan: a fixed count, or a precision goal.
+    pub fn run_plan(
+        &self,
+        model: &Model,
+        plan: &Replications,
+        acc: &mut Accumulated,
+    ) -> (Option<PrecisionStatus>, bool) {
+        let layout = stats::layout(model);
+        match *plan {
+            Replications::Fixed(n) => (
+                None,
+                !self.extend(model, &layout, acc, u64::from(n), u64::from(n)),
+            ),
+            Replications::Precision { target, max } => {
+                let max = u64::from(max);
+                let mut next = u64::from(PRECISION_FIRST_BATCH)
+                    .min(max)
+                    .max(acc.per_replication.len() as u64);
+                loop {
+                    if !self.extend(model, &layout, acc, next, max) {
+                        return (None, true);
+                    }
+                    let have = acc.per_replication.len() as u64;
+                    let estimates = estimates_of(&layout, &acc.per_replication);
+                    let achieved = worst_relative(&layout, &estimates);
+                    let met = achieved <= target;
+                    if met || have >= max {
+                        return (
+                            Some(PrecisionStatus {
+                                target,
+                                achieved,
+                                met,
+                            }),
+                            false,
+                        );
+                    }
+                    // Replications needed grow with the square of the ratio
+                    // of half-widths; aim 10% beyond, at least 10 more, at
+                    // most max.
+                    let ratio = if achieved.is_finite() {
+                        achieved / target
+                    } else {
+                        2.0
+                    };
+                    let wanted = (have as f64 * ratio * ratio * 1.1).ceil() as u64;
+                    next = wanted.max(have + 10).min(max);
                 }
-                have = next;
-                let estimates = estimates_of(&layout, &per_replication);
-                let achieved = worst_relative(&layout, &estimates);
-                let met = achieved <= target;
-                precision = Some(PrecisionStatus { target, achieved, met });
-                if met || have >= max {
-                    break;
-                }
-                // Replications needed grow with the square of the ratio of
-                // half-widths; aim 10% beyond, at least 10 more, at most max.
-                let ratio = if achieved.is_finite() { achieved / target } else { 2.0 };
-                let wanted = (have as f64 * ratio * ratio * 1.1).ceil() as u64;
-                next = wanted.max(have + 10).min(max);
             }
         }
     }
-    let estimates = estimates_of(&layout, &per_replication);
-    Ok(Outcome {
-        replications: per_replication.len() as u64,
-        layout,
-        estimates,
-        per_replication,
-        events,
-        wall_s: started.elapsed().as_secs_f64(),
+}
+
+/// Run `model` as its plan (or `replications`, when given) says.
+pub fn run(
+    model: &Model,
+    replications: Option<Replications>,
+    opts: &RunOptions,
+) -> Result<Outcome, ExperimentError> {
+    let started = Instant::now();
+    let runner = Runner::new(opts)?;
+    let plan = replications.unwrap_or_else(|| model.plan.replications.clone());
+    let mut acc = Accumulated::default();
+    let (precision, partial) = runner.run_plan(model, &plan, &mut acc);
+    Ok(outcome_of(
+        model,
+        acc,
+        started.elapsed().as_secs_f64(),
         precision,
         partial,
-    })
+    ))
+}
+
+/// Assemble an outcome from accumulated replications.
+pub fn outcome_of(
+    model: &Model,
+    acc: Accumulated,
+    wall_s: f64,
+    precision: Option<PrecisionStatus>,
+    partial: bool,
+) -> Outcome {
+    let layout = stats::layout(model);
+    let estimates = estimates_of(&layout, &acc.per_replication);
+    Outcome {
+        replications: acc.per_replication.len() as u64,
+        layout,
+        estimates,
+        per_replication: acc.per_replication,
+        events: acc.events,
+        wall_s,
+        precision,
+        partial,
+    }
 }
 
 /// Estimates of every figure from per-replication values in index order.
@@ -184,8 +272,17 @@ pub fn worst_relative(layout: &[FigureId], estimates: &[Estimate]) -> f64 {
         .iter()
         .zip(estimates)
         .filter(|(f, _)| {
-            matches!((f.scope, f.name), (Scope::Stream(_), "loss") | (Scope::Group(_), "carried_traffic"))
+            matches!(
+                (f.scope, f.name),
+                (Scope::Stream(_), "loss") | (Scope::Group(_), "carried_traffic")
+            )
         })
-        .map(|(_, e)| if e.replications == 0 { 0.0 } else { e.relative_half_width() })
+        .map(|(_, e)| {
+            if e.replications == 0 {
+                0.0
+            } else {
+                e.relative_half_width()
+            }
+        })
         .fold(0.0, f64::max)
 }

@@ -231,9 +231,7 @@ pub fn blocking_continuous(servers: f64, traffic: f64) -> Result<f64, FormulaErr
     let mut j = Scaled::from_f64(fractional_lower_mass(frac, traffic));
     let steps = whole as u32;
     for k in 1..=steps {
-        j = Scaled::ONE
-            .add(j)
-            .mul_f64((frac + f64::from(k)) / traffic);
+        j = Scaled::ONE.add(j).mul_f64((frac + f64::from(k)) / traffic);
     }
     Ok(Scaled::ONE.add(j).recip().to_f64())
 }

@@ -28,7 +28,12 @@ impl OverflowMoments {
 }
 
 /// Riordan's formula with `B` and `1 - B` already known.
-fn riordan_moments(servers: f64, traffic: f64, blocking: f64, carried_share: f64) -> OverflowMoments {
+fn riordan_moments(
+    servers: f64,
+    traffic: f64,
+    blocking: f64,
+    carried_share: f64,
+) -> OverflowMoments {
     let mean = traffic * blocking;
     // N + 1 + M - A written as N + 1 - A(1 - B): no cancellation.
     let denominator = servers + 1.0 - traffic * carried_share;

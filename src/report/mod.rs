@@ -121,7 +121,10 @@ fn estimate_json(e: &Estimate, formula: Option<&Formula>) -> Value {
     m.insert("half_width".into(), json!(finite_or_null(e.half_width)));
     m.insert("replications".into(), json!(e.replications));
     if let Some(f) = formula {
-        m.insert("formula".into(), json!({ "name": f.name, "value": finite_or_null(f.value) }));
+        m.insert(
+            "formula".into(),
+            json!({ "name": f.name, "value": finite_or_null(f.value) }),
+        );
     }
     Value::Object(m)
 }
@@ -144,7 +147,11 @@ fn run_line(r: &RunReport) -> String {
         s.push_str(&format!(
             "; precision goal {} {} (worst key figure {})",
             format_share(pr.target),
-            if pr.met { "met" } else { "NOT met: replication cap reached" },
+            if pr.met {
+                "met"
+            } else {
+                "NOT met: replication cap reached"
+            },
             format_share(pr.achieved)
         ));
     }
@@ -157,10 +164,10 @@ pub fn to_json(r: &RunReport) -> Value {
     let o = r.outcome;
     let mut by_scope: HashMap<Scope, Map<String, Value>> = HashMap::new();
     for (i, f) in o.layout.iter().enumerate() {
-        by_scope
-            .entry(f.scope)
-            .or_default()
-            .insert(f.name.to_string(), estimate_json(&o.estimates[i], r.formulas.get(f)));
+        by_scope.entry(f.scope).or_default().insert(
+            f.name.to_string(),
+            estimate_json(&o.estimates[i], r.formulas.get(f)),
+        );
     }
     let streams: Vec<Value> = model
         .streams
@@ -196,7 +203,8 @@ pub fn to_json(r: &RunReport) -> Value {
         "groups": groups,
     });
     if let Some(p) = o.precision {
-        doc["precision"] = json!({ "target": p.target, "achieved": finite_or_null(p.achieved), "met": p.met });
+        doc["precision"] =
+            json!({ "target": p.target, "achieved": finite_or_null(p.achieved), "met": p.met });
     }
     let bins = model.plan.interval_count();
     if bins > 0 {
@@ -208,7 +216,9 @@ pub fn to_json(r: &RunReport) -> Value {
                     .iter()
                     .enumerate()
                     .map(|(s, st)| {
-                        let mut m = by_scope.remove(&Scope::StreamInterval(b, s)).unwrap_or_default();
+                        let mut m = by_scope
+                            .remove(&Scope::StreamInterval(b, s))
+                            .unwrap_or_default();
                         m.insert("name".into(), json!(st.name));
                         Value::Object(m)
                     })
@@ -218,7 +228,9 @@ pub fn to_json(r: &RunReport) -> Value {
                     .iter()
                     .enumerate()
                     .map(|(g, gr)| {
-                        let mut m = by_scope.remove(&Scope::GroupInterval(b, g)).unwrap_or_default();
+                        let mut m = by_scope
+                            .remove(&Scope::GroupInterval(b, g))
+                            .unwrap_or_default();
                         m.insert("name".into(), json!(gr.name));
                         Value::Object(m)
                     })
@@ -259,7 +271,12 @@ pub fn worst_interval(r: &RunReport) -> Option<usize> {
             _ => {}
         }
     }
-    (0..bins).max_by(|&a, &b| score[a].partial_cmp(&score[b]).unwrap_or(std::cmp::Ordering::Equal).then(b.cmp(&a)))
+    (0..bins).max_by(|&a, &b| {
+        score[a]
+            .partial_cmp(&score[b])
+            .unwrap_or(std::cmp::Ordering::Equal)
+            .then(b.cmp(&a))
+    })
 }
 
 /// Long-format CSV: one row per figure.
@@ -267,21 +284,45 @@ pub fn to_csv(r: &RunReport) -> String {
     let mut w = csv::Writer::from_writer(Vec::new());
     let width = r.model.plan.interval_s.unwrap_or(r.model.plan.length_s);
     let _ = w.write_record([
-        "kind", "name", "interval_start_s", "figure", "mean", "half_width", "replications", "formula", "formula_value",
+        "kind",
+        "name",
+        "interval_start_s",
+        "figure",
+        "mean",
+        "half_width",
+        "replications",
+        "formula",
+        "formula_value",
     ]);
     for (i, f) in r.outcome.layout.iter().enumerate() {
         let e = &r.outcome.estimates[i];
         let (kind, name, start) = match f.scope {
             Scope::Stream(s) => ("stream", &r.model.streams[s].name, String::new()),
             Scope::Group(g) => ("group", &r.model.groups[g].name, String::new()),
-            Scope::StreamInterval(b, s) => ("stream", &r.model.streams[s].name, trim_float(b as f64 * width, 3)),
-            Scope::GroupInterval(b, g) => ("group", &r.model.groups[g].name, trim_float(b as f64 * width, 3)),
+            Scope::StreamInterval(b, s) => (
+                "stream",
+                &r.model.streams[s].name,
+                trim_float(b as f64 * width, 3),
+            ),
+            Scope::GroupInterval(b, g) => (
+                "group",
+                &r.model.groups[g].name,
+                trim_float(b as f64 * width, 3),
+            ),
         };
-        let num = |x: f64| if x.is_finite() { format!("{x}") } else { String::new() };
+        let num = |x: f64| {
+            if x.is_finite() {
+                format!("{x}")
+            } else {
+                String::new()
+            }
+        };
         let (fname, fval) = r
             .formulas
             .get(f)
-            .map_or((String::new(), String::new()), |fo| (fo.name.to_string(), num(fo.value)));
+            .map_or((String::new(), String::new()), |fo| {
+                (fo.name.to_string(), num(fo.value))
+            });
         let _ = w.write_record([
             kind,
             name,
@@ -301,7 +342,13 @@ pub fn to_csv(r: &RunReport) -> String {
 fn align(rows: &[Vec<String>], indent: &str) -> String {
     let cols = rows.iter().map(Vec::len).max().unwrap_or(0);
     let widths: Vec<usize> = (0..cols)
-        .map(|c| rows.iter().filter_map(|r| r.get(c)).map(|s| s.chars().count()).max().unwrap_or(0))
+        .map(|c| {
+            rows.iter()
+                .filter_map(|r| r.get(c))
+                .map(|s| s.chars().count())
+                .max()
+                .unwrap_or(0)
+        })
         .collect();
     let mut out = String::new();
     for row in rows {
@@ -327,15 +374,22 @@ fn figure_rows(r: &RunReport, scope: Scope, first: &str) -> Vec<Vec<String>> {
         }
         let e = &r.outcome.estimates[i];
         let k = kind(f.name);
-        let formula = r
-            .formulas
-            .get(f)
-            .map_or(String::new(), |fo| format!("{} ({})", fmt_value(k, fo.value), fo.name));
+        let formula = r.formulas.get(f).map_or(String::new(), |fo| {
+            format!("{} ({})", fmt_value(k, fo.value), fo.name)
+        });
         rows.push(vec![
-            if rows.is_empty() { first.to_string() } else { String::new() },
+            if rows.is_empty() {
+                first.to_string()
+            } else {
+                String::new()
+            },
             label(f.name).to_string(),
             fmt_value(k, e.mean),
-            if e.mean.is_nan() { String::new() } else { fmt_half_width(k, e.half_width) },
+            if e.mean.is_nan() {
+                String::new()
+            } else {
+                fmt_half_width(k, e.half_width)
+            },
             formula,
         ]);
     }
@@ -350,10 +404,18 @@ pub fn to_table(r: &RunReport) -> String {
     out.push_str(&run_line(r));
     out.push_str("\nFigures are means with 95% confidence half-widths across replications.\n");
     if r.outcome.partial {
-        out.push_str("PARTIAL RESULT: the run was interrupted; only the finished replications are shown.\n");
+        out.push_str(
+            "PARTIAL RESULT: the run was interrupted; only the finished replications are shown.\n",
+        );
     }
     let header = |first: &str| {
-        vec![first.to_string(), "figure".into(), "simulated".into(), "95% ±".into(), "formula".into()]
+        vec![
+            first.to_string(),
+            "figure".into(),
+            "simulated".into(),
+            "95% ±".into(),
+            "formula".into(),
+        ]
     };
     out.push_str("\nStreams\n");
     let mut rows = vec![header("stream")];
@@ -364,7 +426,11 @@ pub fn to_table(r: &RunReport) -> String {
     out.push_str("\nGroups\n");
     let mut rows = vec![header("group")];
     for (g, gr) in model.groups.iter().enumerate() {
-        rows.extend(figure_rows(r, Scope::Group(g), &format!("{} ({})", gr.name, gr.servers)));
+        rows.extend(figure_rows(
+            r,
+            Scope::Group(g),
+            &format!("{} ({})", gr.name, gr.servers),
+        ));
     }
     out.push_str(&align(&rows, "  "));
     let bins = model.plan.interval_count();
@@ -381,7 +447,8 @@ pub fn to_table(r: &RunReport) -> String {
             head.push(format!("{} occupancy", gr.name));
         }
         let mut rows = vec![head];
-        let get = |scope: Scope, name: &str| r.outcome.get(scope, name).map_or(f64::NAN, |e| e.mean);
+        let get =
+            |scope: Scope, name: &str| r.outcome.get(scope, name).map_or(f64::NAN, |e| e.mean);
         for b in 0..bins {
             let start = b as f64 * width;
             let mut row = vec![format!(
@@ -391,11 +458,20 @@ pub fn to_table(r: &RunReport) -> String {
                 if worst == Some(b) { " worst" } else { "" }
             )];
             for s in 0..model.streams.len() {
-                row.push(fmt_value(Kind::Erlangs, get(Scope::StreamInterval(b, s), "offered_traffic")));
-                row.push(fmt_value(Kind::Share, get(Scope::StreamInterval(b, s), "loss")));
+                row.push(fmt_value(
+                    Kind::Erlangs,
+                    get(Scope::StreamInterval(b, s), "offered_traffic"),
+                ));
+                row.push(fmt_value(
+                    Kind::Share,
+                    get(Scope::StreamInterval(b, s), "loss"),
+                ));
             }
             for g in 0..model.groups.len() {
-                row.push(fmt_value(Kind::Share, get(Scope::GroupInterval(b, g), "occupancy")));
+                row.push(fmt_value(
+                    Kind::Share,
+                    get(Scope::GroupInterval(b, g), "occupancy"),
+                ));
             }
             rows.push(row);
         }
@@ -421,7 +497,10 @@ pub fn describe_model(model: &Model, file: &str) -> String {
     let reps = match &p.replications {
         Replications::Fixed(n) => format!("{n} replications"),
         Replications::Precision { target, max } => {
-            format!("replications until key figures are within {} (at most {max})", format_share(*target))
+            format!(
+                "replications until key figures are within {} (at most {max})",
+                format_share(*target)
+            )
         }
     };
     out.push_str(&format!(
@@ -429,7 +508,10 @@ pub fn describe_model(model: &Model, file: &str) -> String {
         format_duration(p.length_s),
         format_duration(p.warmup_s),
         p.seed,
-        p.interval_s.map_or(String::new(), |i| format!(", figures per {}", format_duration(i)))
+        p.interval_s.map_or(String::new(), |i| format!(
+            ", figures per {}",
+            format_duration(i)
+        ))
     ));
     out.push_str("\nGroups\n");
     for g in &model.groups {
@@ -440,7 +522,10 @@ pub fn describe_model(model: &Model, file: &str) -> String {
         };
         out.push_str(&format!("  {}: {} servers, {queue}", g.name, g.servers));
         if let Some(a) = g.overflow_after_s {
-            out.push_str(&format!(", waiting calls move on after {}", format_duration(a)));
+            out.push_str(&format!(
+                ", waiting calls move on after {}",
+                format_duration(a)
+            ));
         }
         if g.reserve > 0 {
             let names: Vec<&str> = model
@@ -450,7 +535,11 @@ pub fn describe_model(model: &Model, file: &str) -> String {
                 .filter(|(s, _)| g.reserved_for[*s])
                 .map(|(_, s)| s.name.as_str())
                 .collect();
-            out.push_str(&format!(", last {} servers reserved for {}", g.reserve, names.join(", ")));
+            out.push_str(&format!(
+                ", last {} servers reserved for {}",
+                g.reserve,
+                names.join(", ")
+            ));
         }
         out.push('\n');
     }
@@ -462,16 +551,30 @@ pub fn describe_model(model: &Model, file: &str) -> String {
                 "Poisson peak profile of {} intervals of {}, {}/h to {}/h",
                 rates.len(),
                 format_duration(*interval_s),
-                trim_float(rates.iter().cloned().fold(f64::INFINITY, f64::min) * 3600.0, 1),
+                trim_float(
+                    rates.iter().cloned().fold(f64::INFINITY, f64::min) * 3600.0,
+                    1
+                ),
                 trim_float(rates.iter().cloned().fold(0.0, f64::max) * 3600.0, 1)
             ),
-            Arrivals::Renewal { between } => format!("renewal, time between calls {}", between.describe()),
-            Arrivals::Sources { count, idle } => format!("{count} sources, idle time {}", idle.describe()),
+            Arrivals::Renewal { between } => {
+                format!("renewal, time between calls {}", between.describe())
+            }
+            Arrivals::Sources { count, idle } => {
+                format!("{count} sources, idle time {}", idle.describe())
+            }
         };
-        let route: Vec<&str> = s.route.iter().map(|&g| model.groups[g as usize].name.as_str()).collect();
+        let route: Vec<&str> = s
+            .route
+            .iter()
+            .map(|&g| model.groups[g as usize].name.as_str())
+            .collect();
         out.push_str(&format!("  {}: {arrivals}\n", s.name));
         match s.offered_traffic(p.length_s) {
-            Some(a) => out.push_str(&format!("    offered traffic {} erlangs (first attempts)\n", trim_float(a, 3))),
+            Some(a) => out.push_str(&format!(
+                "    offered traffic {} erlangs (first attempts)\n",
+                trim_float(a, 3)
+            )),
             None => out.push_str("    offered traffic depends on how many sources are idle\n"),
         }
         out.push_str(&format!("    holding {}\n", s.holding.describe()));
@@ -493,7 +596,10 @@ pub fn describe_model(model: &Model, file: &str) -> String {
             out.push_str(&format!("    patience {}\n", pt.describe()));
         }
         if let Some(aw) = s.answer_within_s {
-            out.push_str(&format!("    service level: answered within {}\n", format_duration(aw)));
+            out.push_str(&format!(
+                "    service level: answered within {}\n",
+                format_duration(aw)
+            ));
         }
     }
     out
@@ -503,11 +609,21 @@ pub fn describe_model(model: &Model, file: &str) -> String {
 /// and a rename, so a crash never leaves a half-written file and an existing
 /// file is replaced only by a complete new one.
 pub fn write_atomically(path: &Path, contents: &[u8]) -> std::io::Result<()> {
-    let dir = path.parent().filter(|d| !d.as_os_str().is_empty()).unwrap_or(Path::new("."));
+    let dir = path
+        .parent()
+        .filter(|d| !d.as_os_str().is_empty())
+        .unwrap_or(Path::new("."));
     let name = path.file_name().ok_or_else(|| {
-        std::io::Error::new(std::io::ErrorKind::InvalidInput, "the output path names no file")
+        std::io::Error::new(
+            std::io::ErrorKind::InvalidInput,
+            "the output path names no file",
+        )
     })?;
-    let tmp = dir.join(format!(".{}.{}.tmp", name.to_string_lossy(), std::process::id()));
+    let tmp = dir.join(format!(
+        ".{}.{}.tmp",
+        name.to_string_lossy(),
+        std::process::id()
+    ));
     let result = (|| {
         let mut f = std::fs::File::create(&tmp)?;
         f.write_all(contents)?;
@@ -537,10 +653,19 @@ pub fn formula_view_text(model: &Model, view: &HashMap<FigureId, Formula>) -> St
     });
     for (f, fo) in entries {
         let who = match f.scope {
-            Scope::Stream(s) | Scope::StreamInterval(_, s) => format!("stream {}", model.streams[s].name),
-            Scope::Group(g) | Scope::GroupInterval(_, g) => format!("group {}", model.groups[g].name),
+            Scope::Stream(s) | Scope::StreamInterval(_, s) => {
+                format!("stream {}", model.streams[s].name)
+            }
+            Scope::Group(g) | Scope::GroupInterval(_, g) => {
+                format!("group {}", model.groups[g].name)
+            }
         };
-        rows.push(vec![who, label(f.name).to_string(), fmt_value(kind(f.name), fo.value), fo.name.to_string()]);
+        rows.push(vec![
+            who,
+            label(f.name).to_string(),
+            fmt_value(kind(f.name), fo.value),
+            fo.name.to_string(),
+        ]);
     }
     // Mark repeated names once.
     for i in (1..rows.len()).rev() {
@@ -549,7 +674,9 @@ pub fn formula_view_text(model: &Model, view: &HashMap<FigureId, Formula>) -> St
         }
     }
     if rows.is_empty() {
-        out.push_str("  No closed form applies to this design: the simulation is the only answer.\n");
+        out.push_str(
+            "  No closed form applies to this design: the simulation is the only answer.\n",
+        );
     } else {
         out.push_str(&align(&rows, "  "));
     }
@@ -562,15 +689,28 @@ pub fn formula_view_text(model: &Model, view: &HashMap<FigureId, Formula>) -> St
         .map(|(_, st)| st.name.as_str())
         .collect();
     if !rows.is_empty() && !bare.is_empty() {
-        out.push_str(&format!("  No closed form for stream(s) {}: simulation only.\n", bare.join(", ")));
+        out.push_str(&format!(
+            "  No closed form for stream(s) {}: simulation only.\n",
+            bare.join(", ")
+        ));
     }
     out
 }
 
 fn order_of(name: &str) -> usize {
     [
-        "offered_traffic", "first_attempt_blocking", "loss", "abandonment", "wait_probability", "carried_traffic",
-        "wait_mean", "service_level", "occupancy", "time_congestion", "overflow_mean", "overflow_peakedness",
+        "offered_traffic",
+        "first_attempt_blocking",
+        "loss",
+        "abandonment",
+        "wait_probability",
+        "carried_traffic",
+        "wait_mean",
+        "service_level",
+        "occupancy",
+        "time_congestion",
+        "overflow_mean",
+        "overflow_peakedness",
     ]
     .iter()
     .position(|n| *n == name)
@@ -582,7 +722,10 @@ pub fn formula_view_json(model: &Model, view: &HashMap<FigureId, Formula>) -> Va
     let pick = |scope: Scope| -> Value {
         let mut m = Map::new();
         for (f, fo) in view.iter().filter(|(f, _)| f.scope == scope) {
-            m.insert(f.name.to_string(), json!({ "name": fo.name, "value": finite_or_null(fo.value) }));
+            m.insert(
+                f.name.to_string(),
+                json!({ "name": fo.name, "value": finite_or_null(fo.value) }),
+            );
         }
         Value::Object(m)
     };
@@ -598,5 +741,121 @@ pub fn formula_view_json(model: &Model, view: &HashMap<FigureId, Formula>) -> Va
             "servers": gr.servers,
             "formulas": pick(Scope::Group(g)),
         })).collect::<Vec<_>>(),
+    })
+}
+
+/// Print a goal's bound in the figure's unit.
+fn goal_value(figure: &str, x: f64) -> String {
+    fmt_value(kind(figure), x)
+}
+
+/// The sizing report as text.
+pub fn size_table(model: &Model, file: &str, r: &crate::experiment::size::SizeResult) -> String {
+    use crate::experiment::size::Verdict;
+    let g = &model.groups[r.group];
+    let mut out = format!("Sizing group \"{}\" of {}  ({file})\n", g.name, model.title);
+    let goals: Vec<&str> = r.goals.iter().map(|g| g.text.as_str()).collect();
+    out.push_str(&format!("Goals: {}\n", goals.join(", ")));
+    out.push_str(&format!(
+        "A goal holds at a size when its whole interval lies on the right side of the bound; with up to {} looks \
+at one size the intervals are {:.2}% (Bonferroni), 95% overall.\n\n",
+        r.looks,
+        100.0 - 5.0 / f64::from(r.looks)
+    ));
+    match r.servers {
+        Some(n) => out.push_str(&format!("Answer: {n} servers")),
+        None if r.partial => out.push_str("No answer: the search was interrupted"),
+        None => out.push_str(&format!(
+            "No answer: no size up to {} servers meets every goal",
+            r.limit
+        )),
+    }
+    match r.formula_servers {
+        Some(f) => out.push_str(&format!("   (closed form alone: {f})\n")),
+        None => out.push_str("   (no closed form covers these goals)\n"),
+    }
+    if r.uncertain {
+        out.push_str(
+            "Note: at one server fewer the goals could not be decided within the replication cap; \
+the answer is the smallest size shown to meet them, and may be one more than needed.\n",
+        );
+    }
+    let mut rows = vec![vec!["goal".to_string()]];
+    let cols: Vec<&crate::experiment::size::Evaluation> =
+        [r.at_answer.as_ref(), r.one_fewer.as_ref()]
+            .into_iter()
+            .flatten()
+            .collect();
+    for e in &cols {
+        rows[0].push(format!("at {} servers", e.servers));
+        rows[0].push(String::new());
+    }
+    if !cols.is_empty() {
+        for (i, goal) in r.goals.iter().enumerate() {
+            let mut row = vec![format!(
+                "{} (bound {})",
+                goal.text,
+                goal_value(goal.figure, goal.bound)
+            )];
+            for e in &cols {
+                let (v, est) = e.goals[i];
+                let k = kind(goal.figure);
+                row.push(format!(
+                    "{} {}",
+                    fmt_value(k, est.mean),
+                    fmt_half_width(k, est.half_width)
+                ));
+                row.push(match v {
+                    Verdict::Holds => "holds".into(),
+                    Verdict::Fails => "FAILS".into(),
+                    Verdict::Undecided => "undecided".into(),
+                });
+            }
+            rows.push(row);
+        }
+        out.push('\n');
+        out.push_str(&align(&rows, "  "));
+    }
+    let tried: Vec<String> = r
+        .tried
+        .iter()
+        .map(|(n, reps, v)| format!("{n} ({reps} reps, {})", v.word()))
+        .collect();
+    out.push_str(&format!("\nSizes tried: {}\n", tried.join(", ")));
+    out.push_str(&format!("Took {:.2} s.\nCaution: {CAUTION}\n", r.wall_s));
+    out
+}
+
+/// The sizing report as JSON.
+pub fn size_json(model: &Model, file: &str, r: &crate::experiment::size::SizeResult) -> Value {
+    let eval_json = |e: &crate::experiment::size::Evaluation| {
+        json!({
+            "servers": e.servers,
+            "replications": e.outcome.replications,
+            "verdict": e.verdict().word(),
+            "goals": r.goals.iter().zip(&e.goals).map(|(g, (v, est))| json!({
+                "goal": g.text,
+                "verdict": v.word(),
+                "estimate": estimate_json(est, None),
+            })).collect::<Vec<_>>(),
+        })
+    };
+    json!({
+        "scenario": model.title,
+        "file": file,
+        "group": model.groups[r.group].name,
+        "goals": r.goals.iter().map(|g| json!({
+            "goal": g.text, "figure": g.figure, "at_most": g.at_most, "bound": g.bound,
+        })).collect::<Vec<_>>(),
+        "servers": r.servers,
+        "formula_servers": r.formula_servers,
+        "uncertain": r.uncertain,
+        "looks": r.looks,
+        "partial": r.partial,
+        "at_answer": r.at_answer.as_ref().map(eval_json),
+        "one_fewer": r.one_fewer.as_ref().map(eval_json),
+        "tried": r.tried.iter().map(|(n, reps, v)| json!({"servers": n, "replications": reps, "verdict": v.word()})).collect::<Vec<_>>(),
+        "wall_s": r.wall_s,
+        "caution": CAUTION,
     })
 }

@@ -43,12 +43,30 @@ struct Column<'m> {
 impl Column<'_> {
     fn stream(&mut self, s: usize, name: &'static str, method: &'static str, value: f64) {
         if value.is_finite() && stream_figures(self.model, s).contains(&name) {
-            self.map.insert(FigureId { scope: Scope::Stream(s), name }, Formula { name: method, value });
+            self.map.insert(
+                FigureId {
+                    scope: Scope::Stream(s),
+                    name,
+                },
+                Formula {
+                    name: method,
+                    value,
+                },
+            );
         }
     }
     fn group(&mut self, g: usize, name: &'static str, method: &'static str, value: f64) {
         if value.is_finite() && group_figures(self.model, g).contains(&name) {
-            self.map.insert(FigureId { scope: Scope::Group(g), name }, Formula { name: method, value });
+            self.map.insert(
+                FigureId {
+                    scope: Scope::Group(g),
+                    name,
+                },
+                Formula {
+                    name: method,
+                    value,
+                },
+            );
         }
     }
 }
@@ -70,7 +88,12 @@ fn users(model: &Model, g: usize) -> Vec<(usize, usize)> {
         .streams
         .iter()
         .enumerate()
-        .filter_map(|(s, st)| st.route.iter().position(|&x| x as usize == g).map(|p| (s, p)))
+        .filter_map(|(s, st)| {
+            st.route
+                .iter()
+                .position(|&x| x as usize == g)
+                .map(|p| (s, p))
+        })
         .collect()
 }
 
@@ -101,7 +124,10 @@ fn direct_poisson_load(model: &Model, g: usize, allow_units: bool) -> Option<(f6
 
 /// Closed-form values for the figures of `model` where one applies.
 pub fn formula_column(model: &Model) -> HashMap<FigureId, Formula> {
-    let mut col = Column { model, map: HashMap::new() };
+    let mut col = Column {
+        model,
+        map: HashMap::new(),
+    };
     for g in 0..model.groups.len() {
         erlang_b_group(&mut col, g);
         multirate_group(&mut col, g);
@@ -114,9 +140,13 @@ pub fn formula_column(model: &Model) -> HashMap<FigureId, Formula> {
 
 fn erlang_b_group(col: &mut Column, g: usize) {
     let model = col.model;
-    let Some((a, exponential)) = direct_poisson_load(model, g, false) else { return };
+    let Some((a, exponential)) = direct_poisson_load(model, g, false) else {
+        return;
+    };
     let n = model.groups[g].servers;
-    let Ok(b) = erlang_b::blocking(n, a) else { return };
+    let Ok(b) = erlang_b::blocking(n, a) else {
+        return;
+    };
     col.group(g, "time_congestion", "Erlang B", b);
     // Carried traffic only where no redials add load.
     let users = users(model, g);
@@ -141,7 +171,12 @@ fn erlang_b_group(col: &mut Column, g: usize) {
             col.stream(s, "first_attempt_blocking", "Erlang B", b);
             col.stream(s, "loss", "Erlang B", b);
             if let Some(rate) = poisson_rate(st) {
-                col.stream(s, "carried_traffic", "Erlang B", rate * st.holding.mean() * (1.0 - b));
+                col.stream(
+                    s,
+                    "carried_traffic",
+                    "Erlang B",
+                    rate * st.holding.mean() * (1.0 - b),
+                );
             }
         }
     }
@@ -153,22 +188,35 @@ fn multirate_group(col: &mut Column, g: usize) {
     if users.iter().all(|&(s, _)| model.streams[s].units == 1) {
         return;
     }
-    if direct_poisson_load(model, g, true).is_none() || users.iter().any(|&(s, _)| model.streams[s].route.len() != 1) {
+    if direct_poisson_load(model, g, true).is_none()
+        || users
+            .iter()
+            .any(|&(s, _)| model.streams[s].route.len() != 1)
+    {
         return;
     }
     let classes: Vec<(f64, u32)> = users
         .iter()
         .map(|&(s, _)| {
             let st = &model.streams[s];
-            (poisson_rate(st).unwrap_or(0.0) * st.holding.mean(), st.units)
+            (
+                poisson_rate(st).unwrap_or(0.0) * st.holding.mean(),
+                st.units,
+            )
         })
         .collect();
-    let Ok(blocking) = multirate::kaufman_roberts(model.groups[g].servers, &classes) else { return };
+    let Ok(blocking) = multirate::kaufman_roberts(model.groups[g].servers, &classes) else {
+        return;
+    };
     let mut carried = 0.0;
     for (i, &(s, _)) in users.iter().enumerate() {
         let b = blocking[i];
         let (a, units) = classes[i];
-        let method = if model.streams[s].retry.is_some() { "Kaufman-Roberts, no redials" } else { "Kaufman-Roberts" };
+        let method = if model.streams[s].retry.is_some() {
+            "Kaufman-Roberts, no redials"
+        } else {
+            "Kaufman-Roberts"
+        };
         col.stream(s, "first_attempt_blocking", method, b);
         col.stream(s, "loss", method, b);
         if model.streams[s].retry.is_none() {
@@ -178,7 +226,12 @@ fn multirate_group(col: &mut Column, g: usize) {
     }
     if users.iter().all(|&(s, _)| model.streams[s].retry.is_none()) {
         col.group(g, "carried_traffic", "Kaufman-Roberts", carried);
-        col.group(g, "occupancy", "Kaufman-Roberts", carried / f64::from(model.groups[g].servers));
+        col.group(
+            g,
+            "occupancy",
+            "Kaufman-Roberts",
+            carried / f64::from(model.groups[g].servers),
+        );
     }
 }
 
@@ -194,7 +247,11 @@ fn queue_group(col: &mut Column, g: usize) {
     let mut patience = None::<Option<f64>>;
     for &(s, _) in &users {
         let st = &model.streams[s];
-        if st.route.len() != 1 || st.units != 1 || st.retry.is_some() || !is_exponential(&st.holding) {
+        if st.route.len() != 1
+            || st.units != 1
+            || st.retry.is_some()
+            || !is_exponential(&st.holding)
+        {
             return;
         }
         let Some(rate) = poisson_rate(st) else { return };
@@ -214,11 +271,16 @@ fn queue_group(col: &mut Column, g: usize) {
         patience = Some(p);
         traffic += rate * h;
     }
-    let (Some(h), Some(patience)) = (holding, patience) else { return };
+    let (Some(h), Some(patience)) = (holding, patience) else {
+        return;
+    };
     let n = grp.servers;
     match patience {
         None => {
-            let (Ok(c), Ok(w)) = (erlang_c::wait_probability(n, traffic), erlang_c::mean_wait(n, traffic, h)) else {
+            let (Ok(c), Ok(w)) = (
+                erlang_c::wait_probability(n, traffic),
+                erlang_c::mean_wait(n, traffic, h),
+            ) else {
                 return;
             };
             col.group(g, "carried_traffic", "Erlang C", traffic);
@@ -236,9 +298,21 @@ fn queue_group(col: &mut Column, g: usize) {
             }
         }
         Some(theta) => {
-            let Ok(ea) = erlang_a::solve(n, traffic, h, theta) else { return };
-            col.group(g, "carried_traffic", "Erlang A", traffic * (1.0 - ea.abandonment));
-            col.group(g, "occupancy", "Erlang A", traffic * (1.0 - ea.abandonment) / f64::from(n));
+            let Ok(ea) = erlang_a::solve(n, traffic, h, theta) else {
+                return;
+            };
+            col.group(
+                g,
+                "carried_traffic",
+                "Erlang A",
+                traffic * (1.0 - ea.abandonment),
+            );
+            col.group(
+                g,
+                "occupancy",
+                "Erlang A",
+                traffic * (1.0 - ea.abandonment) / f64::from(n),
+            );
             for &(s, _) in &users {
                 let st = &model.streams[s];
                 col.stream(s, "wait_probability", "Erlang A", ea.wait_probability);
@@ -262,16 +336,30 @@ fn engset_group(col: &mut Column, g: usize) {
     }
     let s = users[0].0;
     let st = &model.streams[s];
-    let Arrivals::Sources { count, idle } = &st.arrivals else { return };
+    let Arrivals::Sources { count, idle } = &st.arrivals else {
+        return;
+    };
     if st.route.len() != 1 || st.units != 1 || st.retry.is_some() {
         return;
     }
     let beta = st.holding.mean() / idle.mean();
-    let Ok(e) = engset::solve(*count, grp.servers, beta) else { return };
+    let Ok(e) = engset::solve(*count, grp.servers, beta) else {
+        return;
+    };
     col.group(g, "time_congestion", "Engset", e.time_congestion);
     col.group(g, "carried_traffic", "Engset", e.carried_traffic);
-    col.group(g, "occupancy", "Engset", e.carried_traffic / f64::from(grp.servers));
-    col.stream(s, "first_attempt_blocking", "Engset (call congestion)", e.call_congestion);
+    col.group(
+        g,
+        "occupancy",
+        "Engset",
+        e.carried_traffic / f64::from(grp.servers),
+    );
+    col.stream(
+        s,
+        "first_attempt_blocking",
+        "Engset (call congestion)",
+        e.call_congestion,
+    );
     col.stream(s, "loss", "Engset (call congestion)", e.call_congestion);
     col.stream(s, "carried_traffic", "Engset", e.carried_traffic);
 }
@@ -292,7 +380,10 @@ fn equivalent_random(col: &mut Column) {
         let mut two_step = Vec::new();
         for (s, pos) in users(model, f) {
             let st = &model.streams[s];
-            let Some(rate) = poisson_rate(st) else { ok = false; break };
+            let Some(rate) = poisson_rate(st) else {
+                ok = false;
+                break;
+            };
             if st.units != 1 || st.retry.is_some() || !is_exponential(&st.holding) {
                 ok = false;
                 break;
@@ -325,17 +416,29 @@ fn equivalent_random(col: &mut Column) {
         }
         // Every stream of each primary group must overflow to this group.
         if primaries.iter().any(|&(p, _, _)| {
-            users(model, p).iter().any(|&(s, _)| model.streams[s].route.get(1).is_none_or(|&x| x as usize != f))
+            users(model, p).iter().any(|&(s, _)| {
+                model.streams[s]
+                    .route
+                    .get(1)
+                    .is_none_or(|&x| x as usize != f)
+            })
         }) {
             continue;
         }
         let list: Vec<(f64, u32)> = primaries.iter().map(|&(_, a, n)| (a, n)).collect();
-        let Ok(fin) = overflow::final_group(&list, direct, fg.servers) else { continue };
+        let Ok(fin) = overflow::final_group(&list, direct, fg.servers) else {
+            continue;
+        };
         for (s, p) in two_step {
             let n = model.groups[p].servers;
             let a = primaries.iter().find(|x| x.0 == p).map_or(0.0, |x| x.1);
             if let Ok(b) = erlang_b::blocking(n, a) {
-                col.stream(s, "loss", "equivalent random (approx.)", b * fin.final_blocking);
+                col.stream(
+                    s,
+                    "loss",
+                    "equivalent random (approx.)",
+                    b * fin.final_blocking,
+                );
             }
         }
     }

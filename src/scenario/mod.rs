@@ -87,8 +87,12 @@ pub fn load(path: &Path) -> Result<Model, ScenarioError> {
         )));
     }
     let bytes = std::fs::read(path).map_err(|e| read_err(e.to_string()))?;
-    let text = String::from_utf8(bytes)
-        .map_err(|e| read_err(format!("not UTF-8 text (byte {})", e.utf8_error().valid_up_to())))?;
+    let text = String::from_utf8(bytes).map_err(|e| {
+        read_err(format!(
+            "not UTF-8 text (byte {})",
+            e.utf8_error().valid_up_to()
+        ))
+    })?;
     let base = path.parent().map(Path::to_path_buf).unwrap_or_default();
     let default_title = path
         .file_stem()
@@ -99,7 +103,12 @@ pub fn load(path: &Path) -> Result<Model, ScenarioError> {
 
 /// Parse and validate scenario text. `file` names it in errors; `base` is the
 /// folder that empirical data paths are relative to.
-pub fn parse(text: &str, file: &str, base: &Path, default_title: &str) -> Result<Model, ScenarioError> {
+pub fn parse(
+    text: &str,
+    file: &str,
+    base: &Path,
+    default_title: &str,
+) -> Result<Model, ScenarioError> {
     let spec: ScenarioSpec = toml::from_str(text).map_err(|e| {
         let (line, column) = e
             .span()
@@ -157,9 +166,14 @@ impl Compiler {
         let s = match a {
             Amount::Number(x) if x.is_finite() && *x >= 0.0 => *x,
             Amount::Number(x) => {
-                return Err(self.err(key, format!("{x} is not a duration: expected seconds >= 0 or a time like \"3m\"")));
+                return Err(self.err(
+                    key,
+                    format!("{x} is not a duration: expected seconds >= 0 or a time like \"3m\""),
+                ));
             }
-            Amount::Text(t) => units::parse_duration(t).map_err(|e| self.err(key, e.to_string()))?,
+            Amount::Text(t) => {
+                units::parse_duration(t).map_err(|e| self.err(key, e.to_string()))?
+            }
         };
         if s > MAX_LENGTH_S {
             return Err(self.err(key, format!("{a} is longer than the limit of ten years")));
@@ -180,7 +194,9 @@ impl Compiler {
             Amount::Number(x) => {
                 return Err(self.err(
                     key,
-                    format!("{x} has no unit: write the rate with its unit, like \"{x}/h\" or \"{x}/m\""),
+                    format!(
+                        "{x} has no unit: write the rate with its unit, like \"{x}/h\" or \"{x}/m\""
+                    ),
                 ));
             }
             Amount::Text(t) => units::parse_rate(t).map_err(|e| self.err(key, e.to_string()))?,
@@ -189,7 +205,10 @@ impl Compiler {
             return Err(self.err(key, format!("{a}: a rate must be above zero")));
         }
         if r > 1e7 {
-            return Err(self.err(key, format!("{a} is above the limit of 10 million calls per second")));
+            return Err(self.err(
+                key,
+                format!("{a} is above the limit of 10 million calls per second"),
+            ));
         }
         Ok(r)
     }
@@ -204,7 +223,10 @@ impl Compiler {
 
     fn count(&self, key: &str, v: i64, min: i64, max: i64) -> R<u32> {
         if v < min || v > max {
-            return Err(self.err(key, format!("{v} is out of range: expected a whole number from {min} to {max}")));
+            return Err(self.err(
+                key,
+                format!("{v} is out of range: expected a whole number from {min} to {max}"),
+            ));
         }
         Ok(v as u32)
     }
@@ -212,17 +234,29 @@ impl Compiler {
     fn compile(&self, spec: ScenarioSpec, default_title: &str) -> R<Model> {
         let plan = self.plan(&spec.simulation)?;
         if spec.groups.is_empty() {
-            return Err(self.err("group", "the scenario has no [[group]]: add at least one circuit or agent group"));
+            return Err(self.err(
+                "group",
+                "the scenario has no [[group]]: add at least one circuit or agent group",
+            ));
         }
         if spec.streams.is_empty() {
-            return Err(self.err("stream", "the scenario has no [[stream]]: add at least one traffic stream"));
+            return Err(self.err(
+                "stream",
+                "the scenario has no [[stream]]: add at least one traffic stream",
+            ));
         }
         let mut group_index = HashMap::new();
         for (i, g) in spec.groups.iter().enumerate() {
             let key = format!("group[{}].name", i + 1);
             check_name(&g.name).map_err(|m| self.err(&key, m))?;
             if group_index.insert(g.name.as_str(), i).is_some() {
-                return Err(self.err(key, format!("the name \"{}\" is used by two groups: names must be unique", g.name)));
+                return Err(self.err(
+                    key,
+                    format!(
+                        "the name \"{}\" is used by two groups: names must be unique",
+                        g.name
+                    ),
+                ));
             }
         }
         let mut stream_index = HashMap::new();
@@ -230,7 +264,13 @@ impl Compiler {
             let key = format!("stream[{}].name", i + 1);
             check_name(&s.name).map_err(|m| self.err(&key, m))?;
             if stream_index.insert(s.name.as_str(), i).is_some() {
-                return Err(self.err(key, format!("the name \"{}\" is used by two streams: names must be unique", s.name)));
+                return Err(self.err(
+                    key,
+                    format!(
+                        "the name \"{}\" is used by two streams: names must be unique",
+                        s.name
+                    ),
+                ));
             }
         }
         let n_streams = spec.streams.len();
@@ -240,7 +280,9 @@ impl Compiler {
             let servers = self.count(&k("servers"), g.servers, 1, MAX_SERVERS)?;
             let queue = match &g.queue {
                 None | Some(QueueSpec::Places(0)) => Queue::None,
-                Some(QueueSpec::Places(q)) => Queue::Limited(self.count(&k("queue"), *q, 0, MAX_COUNT)?),
+                Some(QueueSpec::Places(q)) => {
+                    Queue::Limited(self.count(&k("queue"), *q, 0, MAX_COUNT)?)
+                }
                 Some(QueueSpec::Text(t)) if t == "unlimited" => Queue::Unlimited,
                 Some(QueueSpec::Text(t)) => {
                     return Err(self.err(k("queue"), format!("\"{t}\" is not a queue size: expected a whole number of waiting places or \"unlimited\"")));
@@ -249,7 +291,10 @@ impl Compiler {
             let overflow_after_s = match &g.overflow_after {
                 None => None,
                 Some(_) if queue == Queue::None => {
-                    return Err(self.err(k("overflow_after"), "only a group with waiting places (queue > 0) can pass waiting calls on"));
+                    return Err(self.err(
+                        k("overflow_after"),
+                        "only a group with waiting places (queue > 0) can pass waiting calls on",
+                    ));
                 }
                 Some(a) => Some(self.positive_duration(&k("overflow_after"), a)?),
             };
@@ -262,13 +307,19 @@ impl Compiler {
                         return Err(self.err(k("reserve.servers"), format!("reserving {reserve} of {servers} servers leaves none for other traffic: reserve fewer than the group has")));
                     }
                     if r.for_streams.is_empty() {
-                        return Err(self.err(k("reserve.for"), "name at least one stream that may use the reserved servers"));
+                        return Err(self.err(
+                            k("reserve.for"),
+                            "name at least one stream that may use the reserved servers",
+                        ));
                     }
                     for (j, name) in r.for_streams.iter().enumerate() {
                         match stream_index.get(name.as_str()) {
                             Some(&s) => reserved_for[s] = true,
                             None => {
-                                return Err(self.err(format!("{}[{}]", k("reserve.for"), j + 1), format!("no stream is named \"{name}\"")));
+                                return Err(self.err(
+                                    format!("{}[{}]", k("reserve.for"), j + 1),
+                                    format!("no stream is named \"{name}\""),
+                                ));
                             }
                         }
                     }
@@ -299,7 +350,10 @@ impl Compiler {
                     .get(name.as_str())
                     .ok_or_else(|| self.err(&key, format!("no group is named \"{name}\"")))?;
                 if route.contains(&(gi as u32)) {
-                    return Err(self.err(key, format!("the group \"{name}\" appears twice in the route")));
+                    return Err(self.err(
+                        key,
+                        format!("the group \"{name}\" appears twice in the route"),
+                    ));
                 }
                 route.push(gi as u32);
             }
@@ -308,7 +362,10 @@ impl Compiler {
                 Some(u) => self.count(&k("units"), u, 1, MAX_SERVERS)?,
             };
             if route.iter().all(|&g| groups[g as usize].servers < units) {
-                return Err(self.err(k("units"), format!("a call takes {units} servers but no group on the route has that many")));
+                return Err(self.err(
+                    k("units"),
+                    format!("a call takes {units} servers but no group on the route has that many"),
+                ));
             }
             let retry = match &s.retry {
                 None => None,
@@ -317,18 +374,27 @@ impl Compiler {
                         ChanceSpec::One(a) => vec![self.share(&k("retry.chance"), a)?],
                         ChanceSpec::Each(list) => {
                             if list.is_empty() {
-                                return Err(self.err(k("retry.chance"), "the list of chances is empty"));
+                                return Err(
+                                    self.err(k("retry.chance"), "the list of chances is empty")
+                                );
                             }
                             list.iter()
                                 .enumerate()
-                                .map(|(j, a)| self.share(&format!("{}[{}]", k("retry.chance"), j + 1), a))
+                                .map(|(j, a)| {
+                                    self.share(&format!("{}[{}]", k("retry.chance"), j + 1), a)
+                                })
                                 .collect::<R<Vec<f64>>>()?
                         }
                     };
                     Some(Retry {
                         chances,
                         delay: self.law(&k("retry.delay"), &r.delay)?,
-                        max_attempts: self.count(&k("retry.max_attempts"), r.max_attempts, 1, 1000)?,
+                        max_attempts: self.count(
+                            &k("retry.max_attempts"),
+                            r.max_attempts,
+                            1,
+                            1000,
+                        )?,
                     })
                 }
             };
@@ -368,13 +434,21 @@ impl Compiler {
         let length_s = self.positive_duration("simulation.length", &s.length)?;
         let replications = match (s.replications, &s.precision) {
             (Some(_), Some(_)) => {
-                return Err(self.err("simulation", "give either replications or precision, not both"));
+                return Err(self.err(
+                    "simulation",
+                    "give either replications or precision, not both",
+                ));
             }
             (Some(n), None) => {
                 if s.max_replications.is_some() {
                     return Err(self.err("simulation.max_replications", "max_replications goes with precision, not with a fixed number of replications"));
                 }
-                Replications::Fixed(self.count("simulation.replications", n, 2, MAX_REPLICATIONS)?)
+                Replications::Fixed(self.count(
+                    "simulation.replications",
+                    n,
+                    2,
+                    MAX_REPLICATIONS,
+                )?)
             }
             (None, Some(p)) => {
                 let target = self.share("simulation.precision", p)?;
@@ -392,14 +466,22 @@ impl Compiler {
         let seed = match s.seed {
             None => 1,
             Some(v) if v >= 0 => v as u64,
-            Some(v) => return Err(self.err("simulation.seed", format!("{v}: the seed must be a whole number >= 0"))),
+            Some(v) => {
+                return Err(self.err(
+                    "simulation.seed",
+                    format!("{v}: the seed must be a whole number >= 0"),
+                ));
+            }
         };
         let interval_s = match &s.interval {
             None => None,
             Some(a) => {
                 let i = self.positive_duration("simulation.interval", a)?;
                 if i > length_s {
-                    return Err(self.err("simulation.interval", format!("{a} is longer than the measured length")));
+                    return Err(self.err(
+                        "simulation.interval",
+                        format!("{a} is longer than the measured length"),
+                    ));
                 }
                 if length_s / i > MAX_INTERVALS {
                     return Err(self.err("simulation.interval", format!("{a} makes more than {MAX_INTERVALS} intervals: choose a longer interval")));
@@ -419,7 +501,10 @@ impl Compiler {
     fn arrivals(&self, key: &str, a: &ArrivalSpec) -> R<Arrivals> {
         let unexpected = |field: &str, present: bool| -> R<()> {
             if present {
-                Err(self.err(format!("{key}.{field}"), format!("{field} is not a parameter of {} arrivals", a.law)))
+                Err(self.err(
+                    format!("{key}.{field}"),
+                    format!("{field} is not a parameter of {} arrivals", a.law),
+                ))
             } else {
                 Ok(())
             }
@@ -514,18 +599,29 @@ impl Compiler {
         ];
         for (field, is) in present {
             if is && !allowed.contains(&field) {
-                return Err(self.err(format!("{key}.{field}"), format!("{field} is not a parameter of the {name} law (it takes {})", allowed.join(", "))));
+                return Err(self.err(
+                    format!("{key}.{field}"),
+                    format!(
+                        "{field} is not a parameter of the {name} law (it takes {})",
+                        allowed.join(", ")
+                    ),
+                ));
             }
         }
         let law_err = |e: dist::LawError| self.err(key, e.to_string());
         if name == "empirical" {
-            let file = l
-                .file
-                .as_ref()
-                .ok_or_else(|| self.err(format!("{key}.file"), "an empirical law needs file = \"data.csv\" (relative to the scenario file)"))?;
+            let file = l.file.as_ref().ok_or_else(|| {
+                self.err(
+                    format!("{key}.file"),
+                    "an empirical law needs file = \"data.csv\" (relative to the scenario file)",
+                )
+            })?;
             let scale = l.scale.unwrap_or(1.0);
             if !(scale > 0.0 && scale.is_finite()) {
-                return Err(self.err(format!("{key}.scale"), format!("{scale}: the scale must be a finite number above zero")));
+                return Err(self.err(
+                    format!("{key}.scale"),
+                    format!("{scale}: the scale must be a finite number above zero"),
+                ));
             }
             let path = self.base.join(file);
             let values = dist::empirical::read_column(&path, l.column.as_deref(), scale)
@@ -534,19 +630,27 @@ impl Compiler {
         }
         let mean = match &l.mean {
             Some(m) => self.positive_duration(&format!("{key}.mean"), m)?,
-            None => return Err(self.err(format!("{key}.mean"), format!("the {name} law needs a mean, like mean = \"3m\""))),
+            None => {
+                return Err(self.err(
+                    format!("{key}.mean"),
+                    format!("the {name} law needs a mean, like mean = \"3m\""),
+                ));
+            }
         };
         let need_cv = |what: &str| self.err(key, format!("the {name} law needs {what}"));
         match name {
             "exponential" => Law::exponential(mean),
             "deterministic" => Law::deterministic(mean),
             "erlang" => {
-                let k = l.k.ok_or_else(|| need_cv("its number of phases, like k = 3"))?;
+                let k =
+                    l.k.ok_or_else(|| need_cv("its number of phases, like k = 3"))?;
                 let k = self.count(&format!("{key}.k"), k, 1, 1000)?;
                 Law::erlang(mean, k)
             }
             "gamma" | "weibull" => match (l.cv, l.shape) {
-                (Some(_), Some(_)) => return Err(self.err(key, "give either cv or shape, not both")),
+                (Some(_), Some(_)) => {
+                    return Err(self.err(key, "give either cv or shape, not both"));
+                }
                 (Some(cv), None) if name == "gamma" => Law::gamma(mean, cv),
                 (Some(cv), None) => Law::weibull(mean, cv),
                 (None, Some(s)) if name == "gamma" => Law::gamma_shape(mean, s),
@@ -572,7 +676,9 @@ fn check_name(name: &str) -> Result<(), String> {
         return Err("the name is empty".into());
     }
     if name.len() > 200 || name.chars().any(char::is_control) {
-        return Err(format!("{name:?} is not a usable name: keep it short, with no control characters"));
+        return Err(format!(
+            "{name:?} is not a usable name: keep it short, with no control characters"
+        ));
     }
     Ok(())
 }

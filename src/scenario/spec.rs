@@ -2,8 +2,8 @@
 //! rejected. Nothing here is checked beyond its type; `compile` turns these into
 //! a validated `Model`.
 
-use serde::de::{self, Deserializer, Visitor};
 use serde::Deserialize;
+use serde::de::{self, Deserializer, Visitor};
 use std::fmt;
 
 /// A number or a text with a unit, as the user wrote it ("3m" or 180).

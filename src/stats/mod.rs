@@ -41,10 +41,12 @@ pub fn stream_can_wait(model: &Model, s: usize) -> bool {
 
 /// Whether group `g` passes calls on to another group on some route.
 pub fn group_overflows(model: &Model, g: usize) -> bool {
-    model
-        .streams
-        .iter()
-        .any(|s| s.route.iter().position(|&x| x as usize == g).is_some_and(|p| p + 1 < s.route.len()))
+    model.streams.iter().any(|s| {
+        s.route
+            .iter()
+            .position(|&x| x as usize == g)
+            .is_some_and(|p| p + 1 < s.route.len())
+    })
 }
 
 /// The figures a model reports, in a fixed order: streams, groups, then
@@ -54,24 +56,36 @@ pub fn layout(model: &Model) -> Vec<FigureId> {
     let mut out = Vec::new();
     for (s, stream) in model.streams.iter().enumerate() {
         for name in stream_figures(model, s) {
-            out.push(FigureId { scope: Scope::Stream(s), name });
+            out.push(FigureId {
+                scope: Scope::Stream(s),
+                name,
+            });
         }
         let _ = stream;
     }
     for g in 0..model.groups.len() {
         for name in group_figures(model, g) {
-            out.push(FigureId { scope: Scope::Group(g), name });
+            out.push(FigureId {
+                scope: Scope::Group(g),
+                name,
+            });
         }
     }
     for b in 0..model.plan.interval_count() {
         for s in 0..model.streams.len() {
             for name in stream_interval_figures(model, s) {
-                out.push(FigureId { scope: Scope::StreamInterval(b, s), name });
+                out.push(FigureId {
+                    scope: Scope::StreamInterval(b, s),
+                    name,
+                });
             }
         }
         for g in 0..model.groups.len() {
             for name in ["carried_traffic", "occupancy", "time_congestion"] {
-                out.push(FigureId { scope: Scope::GroupInterval(b, g), name });
+                out.push(FigureId {
+                    scope: Scope::GroupInterval(b, g),
+                    name,
+                });
             }
         }
     }
@@ -118,7 +132,12 @@ pub fn group_figures(model: &Model, g: usize) -> Vec<&'static str> {
 
 /// Names of the per-interval figures of stream `s`.
 pub fn stream_interval_figures(model: &Model, s: usize) -> Vec<&'static str> {
-    let mut v = vec!["offered_calls", "offered_traffic", "loss", "carried_traffic"];
+    let mut v = vec![
+        "offered_calls",
+        "offered_traffic",
+        "loss",
+        "carried_traffic",
+    ];
     if stream_can_wait(model, s) {
         v.push("wait_mean");
     }
@@ -246,8 +265,13 @@ impl Estimate {
 
 /// The 0.975 quantile of Student's t with `df` degrees of freedom.
 pub fn t_quantile_975(df: u64) -> f64 {
+    t_quantile(df, 0.975)
+}
+
+/// The `p` quantile of Student's t with `df` degrees of freedom (statrs).
+pub fn t_quantile(df: u64, p: f64) -> f64 {
     StudentsT::new(0.0, 1.0, df as f64)
-        .map(|t| t.inverse_cdf(0.975))
+        .map(|t| t.inverse_cdf(p))
         .unwrap_or(f64::INFINITY)
 }
 
@@ -275,7 +299,10 @@ pub fn estimate(values: impl Iterator<Item = f64> + Clone) -> Estimate {
             replications: 1,
         };
     }
-    let ss: f64 = values.filter(|x| !x.is_nan()).map(|x| (x - mean) * (x - mean)).sum();
+    let ss: f64 = values
+        .filter(|x| !x.is_nan())
+        .map(|x| (x - mean) * (x - mean))
+        .sum();
     let sd = (ss / (n - 1) as f64).sqrt();
     Estimate {
         mean,

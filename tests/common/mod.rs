@@ -8,8 +8,13 @@ use std::path::Path;
 
 /// Compile scenario text (empirical files relative to the crate root).
 pub fn model(text: &str) -> Model {
-    scenario::parse(text, "test.toml", Path::new(env!("CARGO_MANIFEST_DIR")), "test")
-        .unwrap_or_else(|e| panic!("test scenario does not compile: {e}"))
+    scenario::parse(
+        text,
+        "test.toml",
+        Path::new(env!("CARGO_MANIFEST_DIR")),
+        "test",
+    )
+    .unwrap_or_else(|e| panic!("test scenario does not compile: {e}"))
 }
 
 /// Run a model with its own plan.

@@ -1,0 +1,588 @@
+//! Sizing: the fewest servers on one group for which every goal holds, where a
+//! goal holds only when its whole 95% interval lies on the right side of the
+//! bound. Candidates share common random numbers (the same seeds at every
+//! size), so neighbouring sizes are compared fairly.
+
+use super::{Accumulated, ExperimentError, Outcome, RunOptions, Runner, outcome_of};
+use crate::report::formula_column;
+use crate::scenario::{Model, Replications};
+use crate::stats::{self, Estimate, FigureId, Scope};
+use crate::units;
+use std::collections::BTreeMap;
+use std::time::Instant;
+use thiserror::Error;
+
+/// A goal that cannot be understood.
+#[derive(Debug, Error, PartialEq)]
+pub enum GoalError {
+    /// The text is not `[name.]figure<=value` or `>=`.
+    #[error(
+        "goal '{0}': expected [stream.]figure<=value or >=value, like \"loss<=1%\" or \"office.service_level>=80%\""
+    )]
+    Syntax(String),
+    /// The figure cannot be a goal.
+    #[error("goal '{goal}': '{figure}' is not a figure a goal can name (use one of {allowed})")]
+    Figure {
+        /// The goal text.
+        goal: String,
+        /// The figure named.
+        figure: String,
+        /// The figures allowed.
+        allowed: &'static str,
+    },
+    /// The stream or group prefix names nothing.
+    #[error("goal '{goal}': no {what} is named \"{name}\"")]
+    Name {
+        /// The goal text.
+        goal: String,
+        /// "stream" or "group".
+        what: &'static str,
+        /// The name given.
+        name: String,
+    },
+    /// The bound is not a value of the figure's unit.
+    #[error("goal '{goal}': {reason}")]
+    Value {
+        /// The goal text.
+        goal: String,
+        /// What is wrong.
+        reason: String,
+    },
+    /// No stream of the model reports the figure.
+    #[error(
+        "goal '{0}': no stream in this scenario reports that figure (waits need a queue, service level needs answer_within, attempt figures need retry)"
+    )]
+    NotReported(String),
+}
+
+const STREAM_GOALS: &[&str] = &[
+    "loss",
+    "first_attempt_blocking",
+    "attempt_blocking",
+    "abandonment",
+    "wait_probability",
+    "wait_mean",
+    "wait_p50",
+    "wait_p90",
+    "wait_p99",
+    "service_level",
+    "attempts_per_call",
+];
+const GROUP_GOALS: &[&str] = &["occupancy", "time_congestion"];
+const ALLOWED: &str = "loss, first_attempt_blocking, attempt_blocking, abandonment, wait_probability, \
+wait_mean, wait_p50, wait_p90, wait_p99, service_level, attempts_per_call, occupancy, time_congestion";
+
+/// A design goal on one figure.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Goal {
+    /// As the user wrote it.
+    pub text: String,
+    /// The figure's name.
+    pub figure: &'static str,
+    /// The figures the goal applies to (every stream that reports it, or the
+    /// named one; a group figure applies to the named or the sized group).
+    pub targets: Vec<FigureId>,
+    /// True for `<=`, false for `>=`.
+    pub at_most: bool,
+    /// The bound, in the figure's unit (share, seconds or ratio).
+    pub bound: f64,
+}
+
+/// Whether a goal holds, fails, or cannot be decided at this precision.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Verdict {
+    /// The whole interval is on the right side of the bound.
+    Holds,
+    /// The whole interval is on the wrong side.
+    Fails,
+    /// The interval straddles the bound.
+    Undecided,
+}
+
+impl Verdict {
+    /// A word for reports.
+    pub fn word(self) -> &'static str {
+        match self {
+            Verdict::Holds => "holds",
+            Verdict::Fails => "fails",
+            Verdict::Undecided => "undecided",
+        }
+    }
+}
+
+impl Goal {
+    /// Parse `[name.]figure<=value` (or `>=`) against a model; `group` is the
+    /// group being sized (group figures without a prefix refer to it).
+    pub fn parse(text: &str, model: &Model, group: usize) -> Result<Goal, GoalError> {
+        let syntax = || GoalError::Syntax(text.to_string());
+        let t = text.trim();
+        let (left, at_most, right) = if let Some((l, r)) = t.split_once("<=") {
+            (l, true, r)
+        } else if let Some((l, r)) = t.split_once(">=") {
+            (l, false, r)
+        } else if let Some((l, r)) = t.split_once('<') {
+            (l, true, r)
+        } else if let Some((l, r)) = t.split_once('>') {
+            (l, false, r)
+        } else {
+            return Err(syntax());
+        };
+        let left = left.trim();
+        let (prefix, figure) = match left.rsplit_once('.') {
+            Some((p, f)) => (Some(p.trim()), f.trim()),
+            None => (None, left),
+        };
+        if figure.is_empty() || right.trim().is_empty() {
+            return Err(syntax());
+        }
+        let is_stream = STREAM_GOALS.contains(&figure);
+        let name = STREAM_GOALS
+            .iter()
+            .chain(GROUP_GOALS)
+            .find(|n| **n == figure)
+            .copied()
+            .ok_or_else(|| GoalError::Figure {
+                goal: text.to_string(),
+                figure: figure.to_string(),
+                allowed: ALLOWED,
+            })?;
+        let value_err = |reason: String| GoalError::Value {
+            goal: text.to_string(),
+            reason,
+        };
+        let right = right.trim();
+        let bound = match name {
+            "wait_mean" | "wait_p50" | "wait_p90" | "wait_p99" => {
+                units::parse_duration(right).map_err(|e| value_err(e.to_string()))?
+            }
+            "attempts_per_call" => right
+                .parse::<f64>()
+                .ok()
+                .filter(|x| x.is_finite() && *x >= 1.0)
+                .ok_or_else(|| value_err(format!("'{right}' is not a number of attempts >= 1")))?,
+            _ => units::parse_share(right).map_err(|e| value_err(e.to_string()))?,
+        };
+        let targets: Vec<FigureId> = if is_stream {
+            let streams: Vec<usize> = match prefix {
+                Some(p) => vec![model.stream_index(p).ok_or_else(|| GoalError::Name {
+                    goal: text.to_string(),
+                    what: "stream",
+                    name: p.to_string(),
+                })?],
+                None => (0..model.streams.len()).collect(),
+            };
+            streams
+                .into_iter()
+                .filter(|&s| stats::stream_figures(model, s).contains(&name))
+                .map(|s| FigureId {
+                    scope: Scope::Stream(s),
+                    name,
+                })
+                .collect()
+        } else {
+            let g = match prefix {
+                Some(p) => model.group_index(p).ok_or_else(|| GoalError::Name {
+                    goal: text.to_string(),
+                    what: "group",
+                    name: p.to_string(),
+                })?,
+                None => group,
+            };
+            vec![FigureId {
+                scope: Scope::Group(g),
+                name,
+            }]
+        };
+        if targets.is_empty() {
+            return Err(GoalError::NotReported(text.to_string()));
+        }
+        Ok(Goal {
+            text: text.trim().to_string(),
+            figure: name,
+            targets,
+            at_most,
+            bound,
+        })
+    }
+
+    /// Whether the figure falls as servers are added (blocking, waits,
+    /// occupancy) rather than rises (service level).
+    fn falls_with_servers(&self) -> bool {
+        self.figure != "service_level"
+    }
+
+    /// Whether the goal is met by adding servers (a lower bound on the size)
+    /// rather than by removing them (an upper bound, like a minimum occupancy).
+    pub fn wants_more_servers(&self) -> bool {
+        self.at_most == self.falls_with_servers()
+    }
+
+    /// The verdict on one estimate, its 95% interval widened to the
+    /// confidence of one of `looks` repeated looks (see [`look_scale`]).
+    pub fn judge(&self, e: &Estimate, looks: u32) -> Verdict {
+        if e.replications < 2 || !e.half_width.is_finite() {
+            return Verdict::Undecided;
+        }
+        let hw = e.half_width * look_scale(e.replications, looks);
+        let (lo, hi) = (e.mean - hw, e.mean + hw);
+        let (good, bad) = if self.at_most {
+            (hi <= self.bound, lo > self.bound)
+        } else {
+            (lo >= self.bound, hi < self.bound)
+        };
+        if good {
+            Verdict::Holds
+        } else if bad {
+            Verdict::Fails
+        } else {
+            Verdict::Undecided
+        }
+    }
+
+    /// The verdict over every target figure of an outcome: holds if all hold,
+    /// fails if any fails. Also returns the worst target's estimate.
+    pub fn judge_outcome(&self, o: &Outcome, looks: u32) -> (Verdict, Estimate) {
+        let mut verdict = Verdict::Holds;
+        let mut worst: Option<Estimate> = None;
+        for f in &self.targets {
+            let Some(e) = o.get(f.scope, f.name) else {
+                continue;
+            };
+            let v = self.judge(&e, looks);
+            let rank = |v: Verdict| match v {
+                Verdict::Holds => 0,
+                Verdict::Undecided => 1,
+                Verdict::Fails => 2,
+            };
+            let worse = match worst {
+                None => true,
+                Some(w) => {
+                    rank(v) > rank(verdict)
+                        || (rank(v) == rank(verdict)
+                            && if self.at_most {
+                                e.mean > w.mean
+                            } else {
+                                e.mean < w.mean
+                            })
+                }
+            };
+            if worse {
+                worst = Some(e);
+            }
+            if rank(v) > rank(verdict) {
+                verdict = v;
+            }
+        }
+        let worst = worst.unwrap_or(Estimate {
+            mean: f64::NAN,
+            half_width: f64::NAN,
+            replications: 0,
+        });
+        (verdict, worst)
+    }
+}
+
+/// Factor that widens a 95% Student-t half-width from `replications` values
+/// to the Bonferroni level 1 - 0.05 / `looks`: a size is looked at again
+/// each time replications are added while a goal is undecided, and each look
+/// is a chance of a wrong verdict, so the chance of any wrong verdict over
+/// all looks stays at most 5%.
+pub fn look_scale(replications: u64, looks: u32) -> f64 {
+    if looks <= 1 || replications < 2 {
+        return 1.0;
+    }
+    let df = replications - 1;
+    stats::t_quantile(df, 1.0 - 0.025 / f64::from(looks)) / stats::t_quantile_975(df)
+}
+
+/// The result at one size.
+#[derive(Debug, Clone)]
+pub struct Evaluation {
+    /// Servers on the sized group.
+    pub servers: u32,
+    /// The run at that size.
+    pub outcome: Outcome,
+    /// Per goal: the verdict and the deciding estimate.
+    pub goals: Vec<(Verdict, Estimate)>,
+}
+
+impl Evaluation {
+    /// The combined verdict of every goal.
+    pub fn verdict(&self) -> Verdict {
+        if self.goals.iter().any(|g| g.0 == Verdict::Fails) {
+            Verdict::Fails
+        } else if self.goals.iter().any(|g| g.0 == Verdict::Undecided) {
+            Verdict::Undecided
+        } else {
+            Verdict::Holds
+        }
+    }
+}
+
+/// What sizing found.
+#[derive(Debug, Clone)]
+pub struct SizeResult {
+    /// The sized group.
+    pub group: usize,
+    /// The goals.
+    pub goals: Vec<Goal>,
+    /// The fewest servers meeting every goal, if any size up to the limit does.
+    pub servers: Option<u32>,
+    /// The evaluation at the answer.
+    pub at_answer: Option<Evaluation>,
+    /// The evaluation at one server fewer (showing a goal failing there).
+    pub one_fewer: Option<Evaluation>,
+    /// The closed-form answer, when formulas cover every goal.
+    pub formula_servers: Option<u32>,
+    /// Every size tried: (servers, replications, verdict).
+    pub tried: Vec<(u32, u64, Verdict)>,
+    /// Confidence of each verdict: 1 - 0.05 / looks (Bonferroni).
+    pub looks: u32,
+    /// One server fewer could not be decided within the replication cap:
+    /// the answer is conservative.
+    pub uncertain: bool,
+    /// The largest size searched.
+    pub limit: u32,
+    /// Seconds taken.
+    pub wall_s: f64,
+    /// Interrupted: the search did not finish.
+    pub partial: bool,
+}
+
+/// How to search.
+#[derive(Debug, Clone)]
+pub struct SizeOptions {
+    /// Replications at each size to begin with (or a precision goal).
+    pub replications: Replications,
+    /// Most replications at one size while a goal is undecided.
+    pub max_replications: u32,
+}
+
+/// The fewest servers for which the formula column meets every goal, when
+/// every goal's figures have a formula at every size tried.
+pub fn formula_answer(model: &Model, group: usize, goals: &[Goal], limit: u32) -> Option<u32> {
+    let meets = |n: u32| -> Option<bool> {
+        let m = model.with_servers(group, n);
+        let col = formula_column(&m);
+        let mut all = true;
+        for g in goals {
+            for f in &g.targets {
+                let v = col.get(f)?.value;
+                let ok = if g.at_most {
+                    v <= g.bound
+                } else {
+                    v >= g.bound
+                };
+                all &= ok;
+            }
+        }
+        Some(all)
+    };
+    if goals.iter().any(|g| !g.wants_more_servers()) {
+        return None;
+    }
+    // Monotone in servers: bisection on [1, limit]. The formulas must apply
+    // at the limit; below it a size where one does not apply (an unstable
+    // queue has no Erlang C value) does not meet the goals.
+    if !meets(limit)? {
+        return None;
+    }
+    let (mut lo, mut hi) = (0u32, limit); // meets(lo) false (or lo = 0), meets(hi) true
+    while hi - lo > 1 {
+        let mid = lo + (hi - lo) / 2;
+        if meets(mid) == Some(true) {
+            hi = mid;
+        } else {
+            lo = mid;
+        }
+    }
+    Some(hi)
+}
+
+/// Find the fewest servers on `group` meeting every goal.
+pub fn size(
+    model: &Model,
+    group: usize,
+    goals: Vec<Goal>,
+    how: &SizeOptions,
+    opts: &RunOptions,
+) -> Result<SizeResult, ExperimentError> {
+    let started = Instant::now();
+    let runner = Runner::new(opts)?;
+    let offered: f64 = model
+        .streams
+        .iter()
+        .map(|s| s.offered_traffic(model.plan.length_s).unwrap_or(0.0) * f64::from(s.units))
+        .sum();
+    let current = model.groups[group].servers;
+    let limit = ((offered * 4.0 + 100.0) as u32)
+        .max(current.saturating_mul(4))
+        .min(crate::scenario::MAX_SERVERS as u32);
+    let formula_servers = formula_answer(model, group, &goals, limit);
+    let mut runs: BTreeMap<u32, Accumulated> = BTreeMap::new();
+    let mut evaluations: BTreeMap<u32, Evaluation> = BTreeMap::new();
+    let mut tried = Vec::new();
+    let mut partial = false;
+
+    let first_count = match how.replications {
+        Replications::Fixed(n) => n,
+        Replications::Precision { .. } => super::PRECISION_FIRST_BATCH,
+    }
+    .max(2);
+    // Looks at one size: the first, then one per doubling up to the cap.
+    let looks = 1
+        + (f64::from(how.max_replications.max(first_count)) / f64::from(first_count))
+            .log2()
+            .ceil() as u32;
+    let mut evaluate = |n: u32, runs: &mut BTreeMap<u32, Accumulated>| -> Option<Evaluation> {
+        let m = model.with_servers(group, n);
+        let layout = stats::layout(&m);
+        let acc = runs.entry(n).or_default();
+        let (_, stopped) = runner.run_plan(&m, &how.replications, acc);
+        if stopped {
+            return None;
+        }
+        loop {
+            let o = outcome_of(&m, acc.clone(), 0.0, None, false);
+            let goals_v: Vec<(Verdict, Estimate)> =
+                goals.iter().map(|g| g.judge_outcome(&o, looks)).collect();
+            let e = Evaluation {
+                servers: n,
+                outcome: o,
+                goals: goals_v,
+            };
+            let have = acc.per_replication.len() as u64;
+            let cap = u64::from(how.max_replications);
+            // Goals that are undecided get more replications, up to the cap;
+            // a goal that already fails decides the size on its own.
+            if e.verdict() != Verdict::Undecided || have >= cap {
+                tried.push((n, have, e.verdict()));
+                return Some(e);
+            }
+            let next = (have * 2).min(cap);
+            if !runner.extend(&m, &layout, acc, next, next) {
+                return None;
+            }
+        }
+    };
+
+    // Galloping search from the formula's answer (or the file's size) to
+    // bracket the answer, then bisection between the largest size that does
+    // not meet the goals (`lo`, 0 when none is known) and the smallest that
+    // does (`hi`). Undecided counts as not met: the answer is conservative.
+    let lower_goals_hold = |e: &Evaluation| {
+        e.goals
+            .iter()
+            .zip(&goals)
+            .all(|((v, _), g)| !g.wants_more_servers() || *v == Verdict::Holds)
+    };
+    let mut lo: u32 = 0;
+    let mut hi: Option<u32> = None;
+    let start = formula_servers.unwrap_or(current).clamp(1, limit);
+    let mut probe = |n: u32, evaluations: &mut BTreeMap<u32, Evaluation>| -> Option<bool> {
+        if let Some(e) = evaluations.get(&n) {
+            return Some(lower_goals_hold(e));
+        }
+        let e = evaluate(n, &mut runs)?;
+        let holds = lower_goals_hold(&e);
+        evaluations.insert(n, e);
+        Some(holds)
+    };
+    'search: {
+        let Some(first) = probe(start, &mut evaluations) else {
+            partial = true;
+            break 'search;
+        };
+        let mut step = 1u32;
+        if first {
+            hi = Some(start);
+            while let Some(h) = hi.filter(|&h| h > 1) {
+                let cand = h.saturating_sub(step).max(1);
+                match probe(cand, &mut evaluations) {
+                    None => {
+                        partial = true;
+                        break 'search;
+                    }
+                    Some(true) => hi = Some(cand),
+                    Some(false) => {
+                        lo = cand;
+                        break;
+                    }
+                }
+                step *= 2;
+            }
+        } else {
+            lo = start;
+            while lo < limit {
+                let cand = lo.saturating_add(step).min(limit);
+                match probe(cand, &mut evaluations) {
+                    None => {
+                        partial = true;
+                        break 'search;
+                    }
+                    Some(true) => {
+                        hi = Some(cand);
+                        break;
+                    }
+                    Some(false) => lo = cand,
+                }
+                step *= 2;
+            }
+        }
+        while let Some(h) = hi.filter(|&h| h > lo + 1) {
+            let mid = lo + (h - lo) / 2;
+            match probe(mid, &mut evaluations) {
+                None => {
+                    partial = true;
+                    break 'search;
+                }
+                Some(true) => hi = Some(mid),
+                Some(false) => lo = mid,
+            }
+        }
+    }
+    let servers = if partial { None } else { hi };
+    // The answer must also meet the goals that bound the size from above.
+    let upper_ok = servers.is_none_or(|s| {
+        evaluations[&s]
+            .goals
+            .iter()
+            .zip(&goals)
+            .all(|((v, _), g)| g.wants_more_servers() || *v == Verdict::Holds)
+    });
+    let servers = servers.filter(|_| upper_ok);
+    let at_answer = servers.and_then(|s| evaluations.get(&s).cloned());
+    let one_fewer = servers.and_then(|s| {
+        if s > 1 {
+            evaluations.get(&(s - 1)).cloned()
+        } else {
+            None
+        }
+    });
+    let uncertain = one_fewer
+        .as_ref()
+        .is_some_and(|e| e.verdict() == Verdict::Undecided);
+    Ok(SizeResult {
+        group,
+        goals,
+        servers,
+        at_answer,
+        one_fewer,
+        formula_servers,
+        tried,
+        uncertain,
+        looks,
+        limit,
+        wall_s: started.elapsed().as_secs_f64(),
+        partial,
+    })
+}
+
+/// The paired (common random numbers) difference b - a of figure `index`
+/// across replications both outcomes share, as a 95% Student-t estimate.
+pub fn paired_difference(a: &Outcome, b: &Outcome, index_a: usize, index_b: usize) -> Estimate {
+    let n = a.per_replication.len().min(b.per_replication.len());
+    stats::estimate(
+        (0..n).map(move |r| b.per_replication[r][index_b] - a.per_replication[r][index_a]),
+    )
+}
