@@ -21,6 +21,8 @@ enum Command {
     Run(cli::RunArgs),
     /// Find the fewest servers on one group for which every goal holds.
     Size(cli::SizeArgs),
+    /// Run the scenario at a series of load scales or group sizes.
+    Sweep(cli::SweepArgs),
     /// Validate a scenario file; print the compiled model and the formula view.
     Check(cli::CheckArgs),
     /// Closed-form teletraffic formulas (Erlang B and C, Erlang A, Engset,
@@ -33,6 +35,7 @@ fn main() -> ExitCode {
     let result = match &cli.command {
         Command::Run(a) => cli::run(a),
         Command::Size(a) => cli::size(a),
+        Command::Sweep(a) => cli::sweep(a),
         Command::Check(a) => cli::check(a),
         Command::Calc(a) => cli::calc::run(a).map(|()| cli::Status::Done),
     };

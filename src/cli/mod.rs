@@ -91,6 +91,32 @@ pub struct ReplicationArgs {
     pub threads: Option<u32>,
 }
 
+/// `busyhour sweep`.
+#[derive(Args)]
+pub struct SweepArgs {
+    /// The scenario file (TOML).
+    pub scenario: PathBuf,
+    /// Multiply arrival rates by each factor of start:end:step, for every
+    /// stream or one ("office=0.8:1.6:0.1").
+    #[arg(
+        long,
+        value_name = "[STREAM=]RANGE",
+        conflicts_with = "servers",
+        required_unless_present = "servers"
+    )]
+    pub scale: Option<String>,
+    /// Set one group's servers to each size of start:end[:step] ("trunks=40:60").
+    #[arg(long, value_name = "GROUP=RANGE")]
+    pub servers: Option<String>,
+    /// A figure to show (repeatable; default: loss, service level, occupancy).
+    #[arg(long, value_name = "NAME")]
+    pub figure: Vec<String>,
+    #[command(flatten)]
+    pub reps: ReplicationArgs,
+    #[command(flatten)]
+    pub output: OutputArgs,
+}
+
 /// `busyhour size`.
 #[derive(Args)]
 pub struct SizeArgs {
@@ -311,5 +337,68 @@ pub fn size(a: &SizeArgs) -> Result<Status> {
         Status::Done
     } else {
         Status::Failed
+    })
+}
+
+/// `busyhour sweep`.
+pub fn sweep(a: &SweepArgs) -> Result<Status> {
+    use busyhour::experiment::sweep::{self, Sweep};
+    let mut model = scenario::load(&a.scenario)?;
+    if let Some(seed) = a.reps.seed {
+        model.plan.seed = seed;
+    }
+    let spec = match (&a.scale, &a.servers) {
+        (Some(s), _) => Sweep::parse_scale(s, &model).context("--scale")?,
+        (None, Some(s)) => Sweep::parse_servers(s, &model).context("--servers")?,
+        (None, None) => bail!("give --scale or --servers"),
+    };
+    let known: Vec<&str> = busyhour::stats::layout(&model)
+        .iter()
+        .map(|f| f.name)
+        .collect();
+    for f in &a.figure {
+        if !known.contains(&f.as_str()) {
+            bail!("--figure {f}: this scenario reports no figure of that name");
+        }
+    }
+    let plan =
+        replications_override(&a.reps, &model)?.unwrap_or_else(|| model.plan.replications.clone());
+    let bar = progress_bar(a.output.quiet);
+    let progress = |done: u64, _planned: u64| {
+        if let Some(b) = &bar {
+            b.set_message(format!("{done} replications"));
+            b.tick();
+        }
+    };
+    let opts = RunOptions {
+        threads: a.reps.threads.map(|t| t as usize),
+        progress: Some(&progress),
+        stop: None,
+    };
+    let (steps, partial) = sweep::run(&model, &spec, &plan, &opts)?;
+    if let Some(b) = &bar {
+        b.finish_and_clear();
+    }
+    let file = a.scenario.display().to_string();
+    let label = spec.label(&model);
+    let text = if a.output.json {
+        let mut s =
+            serde_json::to_string_pretty(&report::sweep_json(&file, &label, &steps, partial))?;
+        s.push('\n');
+        s
+    } else if a.output.csv {
+        report::sweep_csv(&model, &steps)
+    } else {
+        let columns = steps
+            .first()
+            .map(|st| report::sweep_columns(&st.model, &st.outcome, &a.figure))
+            .unwrap_or_default();
+        report::sweep_table(&model, &file, &label, &steps, &columns, partial)
+    };
+    emit(&a.output, &text)?;
+    Ok(if partial {
+        Status::Interrupted
+    } else {
+        Status::Done
     })
 }

@@ -3,6 +3,7 @@
 //! precision-driven stopping. Must not parse files or print.
 
 pub mod size;
+pub mod sweep;
 
 use crate::engine;
 use crate::scenario::{Model, Replications};

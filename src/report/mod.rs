@@ -859,3 +859,167 @@ pub fn size_json(model: &Model, file: &str, r: &crate::experiment::size::SizeRes
         "caution": CAUTION,
     })
 }
+
+/// The figures a sweep shows: the chosen names, or by default every
+/// stream's loss (and service level where reported) and every group's
+/// occupancy. Returns (scope, figure) pairs present in the first step.
+pub fn sweep_columns(model: &Model, outcome: &Outcome, chosen: &[String]) -> Vec<FigureId> {
+    let wanted = |f: &FigureId| -> bool {
+        if chosen.is_empty() {
+            matches!(
+                (f.scope, f.name),
+                (Scope::Stream(_), "loss")
+                    | (Scope::Stream(_), "service_level")
+                    | (Scope::Group(_), "occupancy")
+            )
+        } else {
+            matches!(f.scope, Scope::Stream(_) | Scope::Group(_))
+                && chosen.iter().any(|c| c == f.name)
+        }
+    };
+    let _ = model;
+    outcome
+        .layout
+        .iter()
+        .filter(|f| wanted(f))
+        .copied()
+        .collect()
+}
+
+fn column_name(model: &Model, f: &FigureId) -> String {
+    match f.scope {
+        Scope::Stream(s) | Scope::StreamInterval(_, s) => {
+            format!("{} {}", model.streams[s].name, f.name)
+        }
+        Scope::Group(g) | Scope::GroupInterval(_, g) => {
+            format!("{} {}", model.groups[g].name, f.name)
+        }
+    }
+}
+
+/// The sweep as a table: one row per step.
+pub fn sweep_table(
+    model: &Model,
+    file: &str,
+    label: &str,
+    steps: &[crate::experiment::sweep::Step],
+    columns: &[FigureId],
+    partial: bool,
+) -> String {
+    let mut out = format!("Load sweep of {}  ({file})\n", model.title);
+    if let Some(first) = steps.first() {
+        out.push_str(&format!(
+            "{} replications per step, the same seeds at every step; [formula] where a closed form applies.\n",
+            first.outcome.replications
+        ));
+    }
+    if partial {
+        out.push_str("PARTIAL RESULT: interrupted; only the finished steps are shown.\n");
+    }
+    let mut head = vec![label.to_string(), "offered traffic".to_string()];
+    head.extend(columns.iter().map(|f| column_name(model, f)));
+    let mut rows = vec![head];
+    for st in steps {
+        let formulas = formula_column(&st.model);
+        let offered: f64 = st
+            .model
+            .streams
+            .iter()
+            .filter_map(|s| s.offered_traffic(st.model.plan.length_s))
+            .sum();
+        let mut row = vec![trim_float(st.value, 3), fmt_value(Kind::Erlangs, offered)];
+        for f in columns {
+            let k = kind(f.name);
+            let cell = match st.outcome.get(f.scope, f.name) {
+                Some(e) if !e.mean.is_nan() => {
+                    let mut c = format!(
+                        "{} {}",
+                        fmt_value(k, e.mean),
+                        fmt_half_width(k, e.half_width)
+                    );
+                    if let Some(fo) = formulas.get(f) {
+                        c.push_str(&format!(" [{}]", fmt_value(k, fo.value)));
+                    }
+                    c
+                }
+                _ => "-".into(),
+            };
+            row.push(cell);
+        }
+        rows.push(row);
+    }
+    out.push('\n');
+    out.push_str(&align(&rows, "  "));
+    out.push_str(&format!("\nCaution: {CAUTION}\n"));
+    out
+}
+
+/// The sweep as long-format CSV.
+pub fn sweep_csv(model: &Model, steps: &[crate::experiment::sweep::Step]) -> String {
+    let mut w = csv::Writer::from_writer(Vec::new());
+    let _ = w.write_record([
+        "value",
+        "kind",
+        "name",
+        "figure",
+        "mean",
+        "half_width",
+        "replications",
+        "formula",
+        "formula_value",
+    ]);
+    let num = |x: f64| {
+        if x.is_finite() {
+            format!("{x}")
+        } else {
+            String::new()
+        }
+    };
+    for st in steps {
+        let formulas = formula_column(&st.model);
+        for (i, f) in st.outcome.layout.iter().enumerate() {
+            let (kind, name) = match f.scope {
+                Scope::Stream(s) => ("stream", &model.streams[s].name),
+                Scope::Group(g) => ("group", &model.groups[g].name),
+                _ => continue,
+            };
+            let e = &st.outcome.estimates[i];
+            let (fname, fval) = formulas
+                .get(f)
+                .map_or((String::new(), String::new()), |fo| {
+                    (fo.name.to_string(), num(fo.value))
+                });
+            let _ = w.write_record([
+                &num(st.value),
+                kind,
+                name,
+                f.name,
+                &num(e.mean),
+                &num(e.half_width),
+                &e.replications.to_string(),
+                &fname,
+                &fval,
+            ]);
+        }
+    }
+    String::from_utf8(w.into_inner().unwrap_or_default()).unwrap_or_default()
+}
+
+/// The sweep as JSON: one run document per step.
+pub fn sweep_json(
+    file: &str,
+    label: &str,
+    steps: &[crate::experiment::sweep::Step],
+    partial: bool,
+) -> Value {
+    json!({
+        "file": file,
+        "swept": label,
+        "partial": partial,
+        "steps": steps.iter().map(|st| {
+            let r = RunReport::new(&st.model, &st.outcome, file);
+            json!({ "value": st.value, "result": to_json(&r) })
+        }).collect::<Vec<_>>(),
+        "caution": CAUTION,
+    })
+}

@@ -1,0 +1,233 @@
+//! Load sweeps: the same design run at a series of load scales (all streams or
+//! one) or group sizes, every step with the same seeds (common random
+//! numbers), for peak-hour stress tests.
+
+use super::{Accumulated, ExperimentError, Outcome, RunOptions, Runner, outcome_of};
+use crate::scenario::{Model, Replications};
+use std::time::Instant;
+use thiserror::Error;
+
+/// Most steps in one sweep.
+pub const MAX_STEPS: usize = 1000;
+
+/// A sweep that cannot be understood.
+#[derive(Debug, Error, PartialEq)]
+pub enum SweepError {
+    /// Not `start:end[:step]`.
+    #[error(
+        "'{0}': expected a range start:end:step like \"0.8:1.6:0.1\" (servers: \"40:60\" or \"40:60:5\")"
+    )]
+    Range(String),
+    /// Values out of their domain.
+    #[error("'{text}': {reason}")]
+    Values {
+        /// The text.
+        text: String,
+        /// What is wrong.
+        reason: String,
+    },
+    /// The named stream or group does not exist.
+    #[error("'{text}': no {what} is named \"{name}\"")]
+    Name {
+        /// The text.
+        text: String,
+        /// "stream" or "group".
+        what: &'static str,
+        /// The name.
+        name: String,
+    },
+}
+
+/// What a sweep varies.
+#[derive(Debug, Clone, PartialEq)]
+pub enum Sweep {
+    /// Arrival rates multiplied by each value (all streams, or one).
+    Scale {
+        /// Stream index, or all.
+        stream: Option<usize>,
+        /// The factors.
+        values: Vec<f64>,
+    },
+    /// One group's servers set to each value.
+    Servers {
+        /// Group index.
+        group: usize,
+        /// The sizes.
+        values: Vec<u32>,
+    },
+}
+
+fn parse_range(text: &str, default_step: Option<f64>) -> Result<Vec<f64>, SweepError> {
+    let bad = || SweepError::Range(text.to_string());
+    let parts: Vec<&str> = text.split(':').map(str::trim).collect();
+    let num = |s: &str| {
+        s.parse::<f64>()
+            .ok()
+            .filter(|x| x.is_finite())
+            .ok_or_else(bad)
+    };
+    let (start, end, step) = match (parts.as_slice(), default_step) {
+        ([a, b, c], _) => (num(a)?, num(b)?, num(c)?),
+        ([a, b], Some(step)) => (num(a)?, num(b)?, step),
+        _ => return Err(bad()),
+    };
+    if !(step > 0.0) || end < start {
+        return Err(SweepError::Values {
+            text: text.to_string(),
+            reason: "the end must not be below the start and the step must be above zero".into(),
+        });
+    }
+    let count = ((end - start) / step + 1e-9).floor() as usize + 1;
+    if count > MAX_STEPS {
+        return Err(SweepError::Values {
+            text: text.to_string(),
+            reason: format!("{count} steps is more than the limit of {MAX_STEPS}"),
+        });
+    }
+    // Computed from the index, not by repeated addition, so 0.8:1.6:0.1 ends
+    // at 1.6 and not at 1.5999999.
+    Ok((0..count).map(|i| start + i as f64 * step).collect())
+}
+
+impl Sweep {
+    /// Parse `--scale [stream=]start:end:step`.
+    pub fn parse_scale(text: &str, model: &Model) -> Result<Sweep, SweepError> {
+        let (stream, range) = match text.split_once('=') {
+            Some((name, r)) => (
+                Some(
+                    model
+                        .stream_index(name.trim())
+                        .ok_or_else(|| SweepError::Name {
+                            text: text.to_string(),
+                            what: "stream",
+                            name: name.trim().to_string(),
+                        })?,
+                ),
+                r,
+            ),
+            None => (None, text),
+        };
+        let values = parse_range(range, None)?;
+        if values.iter().any(|v| !(*v > 0.0) || *v > 1000.0) {
+            return Err(SweepError::Values {
+                text: text.to_string(),
+                reason: "scale factors must be above 0 and at most 1000".into(),
+            });
+        }
+        Ok(Sweep::Scale { stream, values })
+    }
+
+    /// Parse `--servers group=start:end[:step]`.
+    pub fn parse_servers(text: &str, model: &Model) -> Result<Sweep, SweepError> {
+        let (name, range) = text
+            .split_once('=')
+            .ok_or_else(|| SweepError::Range(text.to_string()))?;
+        let group = model
+            .group_index(name.trim())
+            .ok_or_else(|| SweepError::Name {
+                text: text.to_string(),
+                what: "group",
+                name: name.trim().to_string(),
+            })?;
+        let values = parse_range(range, Some(1.0))?;
+        if values
+            .iter()
+            .any(|v| v.fract() != 0.0 || *v < 1.0 || *v > crate::scenario::MAX_SERVERS as f64)
+        {
+            return Err(SweepError::Values {
+                text: text.to_string(),
+                reason: "server counts must be whole numbers from 1 to 1000000".into(),
+            });
+        }
+        Ok(Sweep::Servers {
+            group,
+            values: values.into_iter().map(|v| v as u32).collect(),
+        })
+    }
+
+    /// The swept values as numbers.
+    pub fn values(&self) -> Vec<f64> {
+        match self {
+            Sweep::Scale { values, .. } => values.clone(),
+            Sweep::Servers { values, .. } => values.iter().map(|&v| f64::from(v)).collect(),
+        }
+    }
+
+    /// The model at step `i`.
+    pub fn model_at(&self, model: &Model, i: usize) -> Model {
+        match self {
+            Sweep::Scale { stream, values } => model.with_load_scaled(values[i], *stream),
+            Sweep::Servers { group, values } => model.with_servers(*group, values[i]),
+        }
+    }
+
+    /// Axis label of the swept value.
+    pub fn label(&self, model: &Model) -> String {
+        match self {
+            Sweep::Scale { stream: None, .. } => "load scale (x forecast)".into(),
+            Sweep::Scale {
+                stream: Some(s), ..
+            } => format!("load scale of {} (x forecast)", model.streams[*s].name),
+            Sweep::Servers { group, .. } => format!("servers on {}", model.groups[*group].name),
+        }
+    }
+}
+
+/// One step of a sweep.
+#[derive(Debug, Clone)]
+pub struct Step {
+    /// The swept value.
+    pub value: f64,
+    /// The model run at this step.
+    pub model: Model,
+    /// Its results.
+    pub outcome: Outcome,
+}
+
+/// Run every step; stops early (returning the finished steps) on request.
+pub fn run(
+    model: &Model,
+    sweep: &Sweep,
+    plan: &Replications,
+    opts: &RunOptions,
+) -> Result<(Vec<Step>, bool), ExperimentError> {
+    let runner = Runner::new(opts)?;
+    let mut steps = Vec::new();
+    for (i, value) in sweep.values().into_iter().enumerate() {
+        let started = Instant::now();
+        let m = sweep.model_at(model, i);
+        let mut acc = Accumulated::default();
+        let (precision, stopped) = runner.run_plan(&m, plan, &mut acc);
+        if stopped {
+            return Ok((steps, true));
+        }
+        let outcome = outcome_of(&m, acc, started.elapsed().as_secs_f64(), precision, false);
+        steps.push(Step {
+            value,
+            model: m,
+            outcome,
+        });
+    }
+    Ok((steps, false))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn ranges_end_where_they_should() {
+        let v = parse_range("0.8:1.6:0.1", None).unwrap();
+        assert_eq!(v.len(), 9);
+        assert!((v[8] - 1.6).abs() < 1e-12);
+        assert_eq!(
+            parse_range("40:44", Some(1.0)).unwrap(),
+            vec![40.0, 41.0, 42.0, 43.0, 44.0]
+        );
+        assert!(parse_range("1:0:0.1", None).is_err());
+        assert!(parse_range("0:1:0", None).is_err());
+        assert!(parse_range("0:1", None).is_err());
+        assert!(parse_range("0:1e9:1", None).is_err());
+        assert!(parse_range("a:b:c", None).is_err());
+    }
+}
