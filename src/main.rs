@@ -32,6 +32,7 @@ enum Command {
 
 fn main() -> ExitCode {
     let cli = Cli::parse();
+    cli::install_interrupt_handler();
     let result = match &cli.command {
         Command::Run(a) => cli::run(a),
         Command::Size(a) => cli::size(a),

@@ -331,3 +331,34 @@ fn bad_flags_exit_2() {
         assert_eq!(o.status.code(), Some(2), "{args:?}: {}", stderr(&o));
     }
 }
+
+#[test]
+fn interrupt_prints_a_partial_result_and_exits_130() {
+    let path = scratch("long.toml");
+    std::fs::write(
+        &path,
+        GOOD.replace("length = \"1h\"", "length = \"300h\"")
+            .replace("replications = 2", "replications = 10000"),
+    )
+    .unwrap();
+    let child = Command::new(env!("CARGO_BIN_EXE_busyhour"))
+        .args(["run", path.to_str().unwrap(), "--json", "--threads", "2"])
+        .stdout(std::process::Stdio::piped())
+        .stderr(std::process::Stdio::piped())
+        .spawn()
+        .unwrap();
+    std::thread::sleep(std::time::Duration::from_millis(1500));
+    let status = Command::new("kill")
+        .args(["-INT", &child.id().to_string()])
+        .status()
+        .unwrap();
+    assert!(status.success());
+    let o = child.wait_with_output().unwrap();
+    assert_eq!(o.status.code(), Some(130), "{}", stderr(&o));
+    let v: Value =
+        serde_json::from_str(&stdout(&o)).expect("complete JSON of the finished replications");
+    assert_eq!(v["partial"], true);
+    let n = v["replications"].as_u64().unwrap();
+    assert!(n > 0 && n < 10000, "{n}");
+    assert!(stderr(&o).contains("interrupted"));
+}

@@ -12,6 +12,7 @@ use clap::Args;
 use std::io::{IsTerminal, Write};
 use std::path::PathBuf;
 use std::process::ExitCode;
+use std::sync::atomic::{AtomicBool, Ordering};
 
 /// How a command ended, as an exit status.
 pub enum Status {
@@ -39,6 +40,23 @@ pub fn is_broken_pipe(e: &anyhow::Error) -> bool {
         c.downcast_ref::<std::io::Error>()
             .is_some_and(|io| io.kind() == std::io::ErrorKind::BrokenPipe)
     })
+}
+
+/// Set by the first Ctrl-C or SIGTERM: no new replication starts, finished
+/// ones are reported as a partial result (exit 130). A second signal exits
+/// at once.
+static STOP: AtomicBool = AtomicBool::new(false);
+
+/// Install the interrupt handler (once per process).
+pub fn install_interrupt_handler() {
+    let _ = ctrlc::set_handler(|| {
+        if STOP.swap(true, Ordering::SeqCst) {
+            std::process::exit(130);
+        }
+        eprintln!(
+            "busyhour: interrupted; finishing the replications in progress (press Ctrl-C again to quit at once)"
+        );
+    });
 }
 
 /// Output format flags shared by the commands that print figures.
@@ -225,7 +243,7 @@ pub fn run(a: &RunArgs) -> Result<Status> {
     let opts = RunOptions {
         threads: a.reps.threads.map(|t| t as usize),
         progress: Some(&progress),
-        stop: None,
+        stop: Some(&STOP),
     };
     let outcome = experiment::run(&model, reps, &opts)?;
     if let Some(b) = &bar {
@@ -310,7 +328,7 @@ pub fn size(a: &SizeArgs) -> Result<Status> {
     let opts = RunOptions {
         threads: a.reps.threads.map(|t| t as usize),
         progress: Some(&progress),
-        stop: None,
+        stop: Some(&STOP),
     };
     let how = SizeOptions {
         replications,
@@ -373,7 +391,7 @@ pub fn sweep(a: &SweepArgs) -> Result<Status> {
     let opts = RunOptions {
         threads: a.reps.threads.map(|t| t as usize),
         progress: Some(&progress),
-        stop: None,
+        stop: Some(&STOP),
     };
     let (steps, partial) = sweep::run(&model, &spec, &plan, &opts)?;
     if let Some(b) = &bar {
