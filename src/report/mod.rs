@@ -396,18 +396,18 @@ fn figure_rows(r: &RunReport, scope: Scope, first: &str) -> Vec<Vec<String>> {
     rows
 }
 
-/// The terminal table of a run.
-pub fn to_table(r: &RunReport) -> String {
+/// A titled table: the first row is the header.
+pub struct Table {
+    /// Heading above the table.
+    pub title: String,
+    /// Header row, then data rows.
+    pub rows: Vec<Vec<String>>,
+}
+
+/// The tables of a run report, shared by the terminal and HTML outputs.
+pub fn run_tables(r: &RunReport) -> Vec<Table> {
     let model = r.model;
-    let mut out = String::new();
-    out.push_str(&format!("{}  ({})\n", model.title, r.file));
-    out.push_str(&run_line(r));
-    out.push_str("\nFigures are means with 95% confidence half-widths across replications.\n");
-    if r.outcome.partial {
-        out.push_str(
-            "PARTIAL RESULT: the run was interrupted; only the finished replications are shown.\n",
-        );
-    }
+    let mut tables = Vec::new();
     let header = |first: &str| {
         vec![
             first.to_string(),
@@ -417,13 +417,14 @@ pub fn to_table(r: &RunReport) -> String {
             "formula".into(),
         ]
     };
-    out.push_str("\nStreams\n");
     let mut rows = vec![header("stream")];
     for (s, st) in model.streams.iter().enumerate() {
         rows.extend(figure_rows(r, Scope::Stream(s), &st.name));
     }
-    out.push_str(&align(&rows, "  "));
-    out.push_str("\nGroups\n");
+    tables.push(Table {
+        title: "Streams".into(),
+        rows,
+    });
     let mut rows = vec![header("group")];
     for (g, gr) in model.groups.iter().enumerate() {
         rows.extend(figure_rows(
@@ -432,16 +433,29 @@ pub fn to_table(r: &RunReport) -> String {
             &format!("{} ({})", gr.name, gr.servers),
         ));
     }
-    out.push_str(&align(&rows, "  "));
+    tables.push(Table {
+        title: "Groups".into(),
+        rows,
+    });
     let bins = model.plan.interval_count();
     if bins > 0 {
         let width = model.plan.interval_s.unwrap_or(model.plan.length_s);
         let worst = worst_interval(r);
-        out.push_str("\nBy interval (from the end of the warm-up)\n");
         let mut head = vec!["interval".to_string()];
-        for st in &model.streams {
+        let interval_formula = |s: usize| {
+            (0..bins).find_map(|b| {
+                r.formulas.get(&FigureId {
+                    scope: Scope::StreamInterval(b, s),
+                    name: "loss",
+                })
+            })
+        };
+        for (s, st) in model.streams.iter().enumerate() {
             head.push(format!("{} offered", st.name));
             head.push(format!("{} loss", st.name));
+            if let Some(f) = interval_formula(s) {
+                head.push(format!("[{}]", f.name));
+            }
         }
         for gr in &model.groups {
             head.push(format!("{} occupancy", gr.name));
@@ -466,6 +480,13 @@ pub fn to_table(r: &RunReport) -> String {
                     Kind::Share,
                     get(Scope::StreamInterval(b, s), "loss"),
                 ));
+                if interval_formula(s).is_some() {
+                    let f = r.formulas.get(&FigureId {
+                        scope: Scope::StreamInterval(b, s),
+                        name: "loss",
+                    });
+                    row.push(f.map_or("-".into(), |f| fmt_value(Kind::Share, f.value)));
+                }
             }
             for g in 0..model.groups.len() {
                 row.push(fmt_value(
@@ -475,7 +496,29 @@ pub fn to_table(r: &RunReport) -> String {
             }
             rows.push(row);
         }
-        out.push_str(&align(&rows, "  "));
+        tables.push(Table {
+            title: "By interval (from the end of the warm-up)".into(),
+            rows,
+        });
+    }
+    tables
+}
+
+/// The terminal table of a run.
+pub fn to_table(r: &RunReport) -> String {
+    let model = r.model;
+    let mut out = String::new();
+    out.push_str(&format!("{}  ({})\n", model.title, r.file));
+    out.push_str(&run_line(r));
+    out.push_str("\nFigures are means with 95% confidence half-widths across replications.\n");
+    if r.outcome.partial {
+        out.push_str(
+            "PARTIAL RESULT: the run was interrupted; only the finished replications are shown.\n",
+        );
+    }
+    for t in run_tables(r) {
+        out.push_str(&format!("\n{}\n", t.title));
+        out.push_str(&align(&t.rows, "  "));
     }
     out.push_str(&format!(
         "\n{} events in {:.2} s\n",

@@ -55,6 +55,27 @@ impl Column<'_> {
             );
         }
     }
+    fn stream_interval(
+        &mut self,
+        b: usize,
+        s: usize,
+        name: &'static str,
+        method: &'static str,
+        value: f64,
+    ) {
+        if value.is_finite() {
+            self.map.insert(
+                FigureId {
+                    scope: Scope::StreamInterval(b, s),
+                    name,
+                },
+                Formula {
+                    name: method,
+                    value,
+                },
+            );
+        }
+    }
     fn group(&mut self, g: usize, name: &'static str, method: &'static str, value: f64) {
         if value.is_finite() && group_figures(self.model, g).contains(&name) {
             self.map.insert(
@@ -135,6 +156,9 @@ pub fn formula_column(model: &Model) -> HashMap<FigureId, Formula> {
         engset_group(&mut col, g);
     }
     equivalent_random(&mut col);
+    for g in 0..model.groups.len() {
+        profile_group(&mut col, g);
+    }
     col.map
 }
 
@@ -439,6 +463,86 @@ fn equivalent_random(col: &mut Column) {
                     "equivalent random (approx.)",
                     b * fin.final_blocking,
                 );
+            }
+        }
+    }
+}
+
+/// Mean Poisson rate (calls/s) over `[t0, t1)` after the warm-up, for
+/// constant and peak-profile Poisson arrivals.
+fn window_rate(a: &Arrivals, t0: f64, t1: f64) -> Option<f64> {
+    match a {
+        Arrivals::Poisson { rate } => Some(*rate),
+        Arrivals::Profile { interval_s, rates } => {
+            let mut total = 0.0;
+            for (i, r) in rates.iter().enumerate() {
+                let s = i as f64 * interval_s;
+                let e = if i + 1 == rates.len() {
+                    f64::INFINITY
+                } else {
+                    s + interval_s
+                };
+                let overlap = e.min(t1) - s.max(t0);
+                if overlap > 0.0 {
+                    total += r * overlap;
+                }
+            }
+            Some(total / (t1 - t0))
+        }
+        _ => None,
+    }
+}
+
+/// A loss group offered direct Poisson traffic of which some follows a peak
+/// profile: Erlang B of the average load for the whole period, and of each
+/// interval's own load (a stationary approximation that ignores the lag of
+/// calls in progress), so the report shows how far the peak moves from both.
+fn profile_group(col: &mut Column, g: usize) {
+    let model = col.model;
+    let grp = &model.groups[g];
+    let users = users(model, g);
+    if grp.queue != Queue::None || grp.reserve > 0 || users.is_empty() {
+        return;
+    }
+    let mut profiled = false;
+    for &(s, _) in &users {
+        let st = &model.streams[s];
+        if st.route.len() != 1 || st.units != 1 || st.retry.is_some() {
+            return;
+        }
+        match st.arrivals {
+            Arrivals::Poisson { .. } => {}
+            Arrivals::Profile { .. } => profiled = true,
+            _ => return,
+        }
+    }
+    if !profiled {
+        return;
+    }
+    let n = grp.servers;
+    let length = model.plan.length_s;
+    let load = |t0: f64, t1: f64| -> f64 {
+        users
+            .iter()
+            .map(|&(s, _)| {
+                let st = &model.streams[s];
+                window_rate(&st.arrivals, t0, t1).unwrap_or(0.0) * st.holding.mean()
+            })
+            .sum()
+    };
+    if let Ok(b) = erlang_b::blocking(n, load(0.0, length)) {
+        for &(s, _) in &users {
+            col.stream(s, "loss", "Erlang B, average load", b);
+        }
+        col.group(g, "time_congestion", "Erlang B, average load", b);
+    }
+    let width = model.plan.interval_s.unwrap_or(length);
+    for bin in 0..model.plan.interval_count() {
+        let t0 = bin as f64 * width;
+        let t1 = (t0 + width).min(length);
+        if let Ok(b) = erlang_b::blocking(n, load(t0, t1)) {
+            for &(s, _) in &users {
+                col.stream_interval(bin, s, "loss", "Erlang B, interval load", b);
             }
         }
     }
