@@ -23,6 +23,8 @@ enum Command {
     Size(cli::SizeArgs),
     /// Run the scenario at a series of load scales or group sizes.
     Sweep(cli::SweepArgs),
+    /// Combine the part files of a sharded run into its result.
+    Merge(cli::MergeArgs),
     /// Validate a scenario file; print the compiled model and the formula view.
     Check(cli::CheckArgs),
     /// Closed-form teletraffic formulas (Erlang B and C, Erlang A, Engset,
@@ -37,6 +39,7 @@ fn main() -> ExitCode {
         Command::Run(a) => cli::run(a),
         Command::Size(a) => cli::size(a),
         Command::Sweep(a) => cli::sweep(a),
+        Command::Merge(a) => cli::merge(a),
         Command::Check(a) => cli::check(a),
         Command::Calc(a) => cli::calc::run(a).map(|()| cli::Status::Done),
     };

@@ -84,6 +84,25 @@ pub struct RunArgs {
     pub scenario: PathBuf,
     #[command(flatten)]
     pub reps: ReplicationArgs,
+    /// Run only shard I of N (a contiguous slice of the replications, with
+    /// the seeds of the whole run) and write its raw part file to --out, for
+    /// `busyhour merge`.
+    #[arg(long, value_name = "I/N", requires = "out")]
+    pub shard: Option<String>,
+    #[command(flatten)]
+    pub output: OutputArgs,
+}
+
+/// `busyhour merge`.
+#[derive(Args)]
+pub struct MergeArgs {
+    /// Part files written by `run --shard I/N --out FILE`.
+    #[arg(required = true, value_name = "PART")]
+    pub parts: Vec<PathBuf>,
+    /// The scenario the parts were run from (default: the path recorded in
+    /// the parts).
+    #[arg(long, value_name = "FILE")]
+    pub scenario: Option<PathBuf>,
     #[command(flatten)]
     pub output: OutputArgs,
 }
@@ -233,6 +252,9 @@ pub fn run(a: &RunArgs) -> Result<Status> {
         model.plan.seed = seed;
     }
     let reps = replications_override(&a.reps, &model)?;
+    if let Some(spec) = &a.shard {
+        return run_shard(a, &model, reps, spec);
+    }
     let bar = progress_bar(a.output.quiet);
     let progress = |done: u64, planned: u64| {
         if let Some(b) = &bar {
@@ -419,4 +441,82 @@ pub fn sweep(a: &SweepArgs) -> Result<Status> {
     } else {
         Status::Done
     })
+}
+
+/// `busyhour run --shard I/N --out PART`.
+fn run_shard(
+    a: &RunArgs,
+    model: &scenario::Model,
+    reps: Option<Replications>,
+    spec: &str,
+) -> Result<Status> {
+    use busyhour::experiment::shard::{self, ShardSpec};
+    let shard = ShardSpec::parse(spec)?;
+    let total = match reps.as_ref().unwrap_or(&model.plan.replications) {
+        Replications::Fixed(n) => u64::from(*n),
+        Replications::Precision { .. } => bail!(
+            "--shard needs a fixed number of replications: run a pilot with --precision first, \
+then shard with --replications N (see the README, \"Beyond one machine\")"
+        ),
+    };
+    if a.output.json || a.output.csv {
+        bail!("--shard writes a raw part file; use --json or --csv with `busyhour merge`");
+    }
+    let bar = progress_bar(a.output.quiet);
+    let progress = |done: u64, planned: u64| {
+        if let Some(b) = &bar {
+            b.set_length(planned);
+            b.set_position(done);
+        }
+    };
+    let opts = RunOptions {
+        threads: a.reps.threads.map(|t| t as usize),
+        progress: Some(&progress),
+        stop: Some(&STOP),
+    };
+    let file = a.scenario.display().to_string();
+    let part = shard::run_shard(model, &file, total, shard, &opts)??;
+    if let Some(b) = &bar {
+        b.finish_and_clear();
+    }
+    let mut text = serde_json::to_string(&part)?;
+    text.push('\n');
+    emit(&a.output, &text)?;
+    Ok(if part.partial {
+        Status::Interrupted
+    } else {
+        Status::Done
+    })
+}
+
+/// `busyhour merge`.
+pub fn merge(a: &MergeArgs) -> Result<Status> {
+    use busyhour::experiment::shard;
+    let mut parts = Vec::new();
+    for p in &a.parts {
+        let name = p.display().to_string();
+        let text =
+            std::fs::read_to_string(p).with_context(|| format!("{name}: cannot read the part"))?;
+        parts.push((name.clone(), shard::read_part(&text, &name)?));
+    }
+    let recorded = parts[0].1.file.clone();
+    let scenario_path = a
+        .scenario
+        .clone()
+        .unwrap_or_else(|| PathBuf::from(&recorded));
+    let loaded = scenario::load(&scenario_path)?;
+    let model = shard::model_for(&loaded, &parts);
+    let outcome = shard::merge(&model, &scenario_path.display().to_string(), &parts)?;
+    let r = RunReport::new(&model, &outcome, &recorded);
+    let text = if a.output.json {
+        let mut s = serde_json::to_string_pretty(&report::to_json(&r))?;
+        s.push('\n');
+        s
+    } else if a.output.csv {
+        report::to_csv(&r)
+    } else {
+        report::to_table(&r)
+    };
+    emit(&a.output, &text)?;
+    Ok(Status::Done)
 }

@@ -2,6 +2,7 @@
 //! order so results are identical for any thread count; a fixed count or
 //! precision-driven stopping. Must not parse files or print.
 
+pub mod shard;
 pub mod size;
 pub mod sweep;
 
@@ -132,6 +133,21 @@ impl<'a> Runner<'a> {
         planned: u64,
     ) -> bool {
         let from = acc.per_replication.len() as u64;
+        self.run_range(model, layout, from, to, planned, acc)
+    }
+
+    /// Run replications `from..to` of `model` and append their figure values
+    /// to `acc` in index order. Returns false when stopped early; `acc` then
+    /// has a prefix of the range.
+    pub fn run_range(
+        &self,
+        model: &Model,
+        layout: &[FigureId],
+        from: u64,
+        to: u64,
+        planned: u64,
+        acc: &mut Accumulated,
+    ) -> bool {
         if to <= from {
             return true;
         }
