@@ -160,3 +160,65 @@ fn broken_parts_are_refused_by_name() {
         "at most that many shards",
     );
 }
+
+#[test]
+fn a_sharded_sweep_merges_to_the_unsharded_sweep() {
+    let s = "scenarios/campus-overflow.toml";
+    let whole = busyhour(&[
+        "sweep",
+        s,
+        "--scale",
+        "0.8:1.4:0.2",
+        "--replications",
+        "6",
+        "--json",
+    ]);
+    assert!(whole.status.success());
+    let d = dir("sweep");
+    let parts: Vec<String> = (1..=3)
+        .map(|i| {
+            let out = d.join(format!("sweep-{i}.json")).display().to_string();
+            let o = busyhour(&[
+                "sweep",
+                s,
+                "--scale",
+                "0.8:1.4:0.2",
+                "--replications",
+                "6",
+                "--shard",
+                &format!("{i}/3"),
+                "--out",
+                &out,
+            ]);
+            assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+            out
+        })
+        .collect();
+    let merged = busyhour(&["merge", "--json", &parts[2], &parts[0], &parts[1]]);
+    assert!(
+        merged.status.success(),
+        "{}",
+        String::from_utf8_lossy(&merged.stderr)
+    );
+    assert_eq!(
+        String::from_utf8_lossy(&whole.stdout),
+        String::from_utf8_lossy(&merged.stdout)
+    );
+    // A sweep part does not mix with a run part.
+    let run_part = d.join("run.json").display().to_string();
+    assert!(
+        busyhour(&[
+            "run",
+            s,
+            "--replications",
+            "6",
+            "--shard",
+            "2/3",
+            "--out",
+            &run_part
+        ])
+        .status
+        .success()
+    );
+    refused(&["merge", &parts[0], &run_part, &parts[2]], "different run");
+}

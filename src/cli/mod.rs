@@ -150,6 +150,10 @@ pub struct SweepArgs {
     pub figure: Vec<String>,
     #[command(flatten)]
     pub reps: ReplicationArgs,
+    /// Run only shard I of N of every step's replications and write the raw
+    /// part file to --out, for `busyhour merge`.
+    #[arg(long, value_name = "I/N", requires = "out")]
+    pub shard: Option<String>,
     #[command(flatten)]
     pub output: OutputArgs,
 }
@@ -475,7 +479,8 @@ then shard with --replications N (see the README, \"Beyond one machine\")"
         stop: Some(&STOP),
     };
     let file = a.scenario.display().to_string();
-    let part = shard::run_shard(model, &file, total, shard, &opts)??;
+    let steps = [(None, model.clone())];
+    let part = shard::run_shard(&steps, &file, None, total, shard, &opts)??;
     if let Some(b) = &bar {
         b.finish_and_clear();
     }
@@ -506,7 +511,12 @@ pub fn merge(a: &MergeArgs) -> Result<Status> {
         .unwrap_or_else(|| PathBuf::from(&recorded));
     let loaded = scenario::load(&scenario_path)?;
     let model = shard::model_for(&loaded, &parts);
-    let outcome = shard::merge(&model, &scenario_path.display().to_string(), &parts)?;
+    let scenario_name = scenario_path.display().to_string();
+    if let Some(spec) = parts[0].1.sweep.clone() {
+        return merge_sweep(a, &model, &recorded, &scenario_name, &spec, &parts);
+    }
+    let mut outcomes = shard::merge(&[(None, model.clone())], &scenario_name, &parts)?;
+    let outcome = outcomes.remove(0);
     let r = RunReport::new(&model, &outcome, &recorded);
     let text = if a.output.json {
         let mut s = serde_json::to_string_pretty(&report::to_json(&r))?;
@@ -516,6 +526,63 @@ pub fn merge(a: &MergeArgs) -> Result<Status> {
         report::to_csv(&r)
     } else {
         report::to_table(&r)
+    };
+    emit(&a.output, &text)?;
+    Ok(Status::Done)
+}
+
+/// Parse a sweep as recorded in a part: `scale=[STREAM=]RANGE` or
+/// `servers=GROUP=RANGE`.
+fn sweep_from_spec(
+    spec: &str,
+    model: &scenario::Model,
+) -> Result<busyhour::experiment::sweep::Sweep> {
+    use busyhour::experiment::sweep::Sweep;
+    Ok(match spec.split_once('=') {
+        Some(("scale", rest)) => Sweep::parse_scale(rest, model)?,
+        Some(("servers", rest)) => Sweep::parse_servers(rest, model)?,
+        _ => bail!("the parts record an unknown sweep '{spec}'"),
+    })
+}
+
+fn merge_sweep(
+    a: &MergeArgs,
+    model: &scenario::Model,
+    recorded: &str,
+    scenario_name: &str,
+    spec: &str,
+    parts: &[(String, busyhour::experiment::shard::Part)],
+) -> Result<Status> {
+    use busyhour::experiment::{shard, sweep};
+    let sw = sweep_from_spec(spec, model)?;
+    let values = sw.values();
+    let models: Vec<(Option<f64>, scenario::Model)> = (0..values.len())
+        .map(|i| (Some(values[i]), sw.model_at(model, i)))
+        .collect();
+    let outcomes = shard::merge(&models, scenario_name, parts)?;
+    let steps: Vec<sweep::Step> = models
+        .into_iter()
+        .zip(outcomes)
+        .map(|((v, m), outcome)| sweep::Step {
+            value: v.unwrap_or(0.0),
+            model: m,
+            outcome,
+        })
+        .collect();
+    let label = sw.label(model);
+    let text = if a.output.json {
+        let mut s =
+            serde_json::to_string_pretty(&report::sweep_json(recorded, &label, &steps, false))?;
+        s.push('\n');
+        s
+    } else if a.output.csv {
+        report::sweep_csv(model, &steps)
+    } else {
+        let columns = steps
+            .first()
+            .map(|st| report::sweep_columns(&st.model, &st.outcome, &[]))
+            .unwrap_or_default();
+        report::sweep_table(model, recorded, &label, &steps, &columns, false)
     };
     emit(&a.output, &text)?;
     Ok(Status::Done)

@@ -169,11 +169,11 @@ pub struct Part {
     pub program_version: String,
     /// The scenario file as given on the command line.
     pub file: String,
-    /// Model fingerprint.
-    pub fingerprint: String,
     /// Master seed.
     pub seed: u64,
-    /// Replications in the whole run.
+    /// For a sweep: what it varies, as given (`scale=...` or `servers=...`).
+    pub sweep: Option<String>,
+    /// Replications in the whole run (per step of a sweep).
     pub replications_total: u64,
     /// This shard, 1-based.
     pub shard_index: u32,
@@ -181,15 +181,30 @@ pub struct Part {
     pub shard_count: u32,
     /// First replication index in this part.
     pub first_replication: u64,
-    /// Figure names in layout order, as "scope:index:name".
-    pub figures: Vec<String>,
-    /// Per replication, the figure values (null where undefined).
-    pub values: Vec<Vec<Option<f64>>>,
+    /// One entry for a run; one per step of a sweep.
+    pub steps: Vec<PartStep>,
     /// Events processed.
     pub events: u64,
     /// Whether the shard was interrupted (such a part cannot be merged).
     pub partial: bool,
 }
+
+/// The replications of one model (a run, or one step of a sweep) in a part.
+#[derive(Debug, Clone, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct PartStep {
+    /// The swept value (none for a plain run).
+    pub value: Option<f64>,
+    /// Model fingerprint.
+    pub fingerprint: String,
+    /// Figure names in layout order, as "scope:index:name".
+    pub figures: Vec<String>,
+    /// Per replication, the figure values (null where undefined).
+    pub values: Vec<Vec<Option<f64>>>,
+}
+
+/// The models of a run (one, no value) or of a sweep's steps.
+pub type Steps = [(Option<f64>, Model)];
 
 fn figure_keys(model: &Model) -> Vec<String> {
     stats::layout(model)
@@ -203,10 +218,12 @@ fn figure_keys(model: &Model) -> Vec<String> {
         .collect()
 }
 
-/// Run one shard of a fixed number of replications.
+/// Run one shard of a fixed number of replications of every model in
+/// `steps` (one for a run, one per step of a sweep).
 pub fn run_shard(
-    model: &Model,
+    steps: &Steps,
     file: &str,
+    sweep: Option<String>,
     replications: u64,
     shard: ShardSpec,
     opts: &RunOptions,
@@ -219,29 +236,47 @@ pub fn run_shard(
         }));
     }
     let runner = Runner::new(opts)?;
-    let layout = stats::layout(model);
     let (from, to) = shard.range(replications);
-    let mut acc = Accumulated::default();
-    let complete = runner.run_range(model, &layout, from, to, to - from, &mut acc);
+    let planned = (to - from) * steps.len() as u64;
+    let mut events = 0;
+    let mut partial = false;
+    let mut out = Vec::new();
+    for (value, model) in steps {
+        let layout = stats::layout(model);
+        let mut acc = Accumulated::default();
+        if !runner.run_range(model, &layout, from, to, planned, &mut acc) {
+            partial = true;
+        }
+        events += acc.events;
+        out.push(PartStep {
+            value: *value,
+            fingerprint: fingerprint(model),
+            figures: figure_keys(model),
+            values: acc
+                .per_replication
+                .iter()
+                .map(|v| v.iter().map(|x| x.is_finite().then_some(*x)).collect())
+                .collect(),
+        });
+        if partial {
+            break;
+        }
+    }
+    let seed = steps.first().map_or(0, |(_, m)| m.plan.seed);
     Ok(Ok(Part {
         format: PART_FORMAT.into(),
         format_version: PART_FORMAT_VERSION,
         program_version: env!("CARGO_PKG_VERSION").into(),
         file: file.into(),
-        fingerprint: fingerprint(model),
-        seed: model.plan.seed,
+        seed,
+        sweep,
         replications_total: replications,
         shard_index: shard.index,
         shard_count: shard.count,
         first_replication: from,
-        figures: figure_keys(model),
-        values: acc
-            .per_replication
-            .iter()
-            .map(|v| v.iter().map(|x| x.is_finite().then_some(*x)).collect())
-            .collect(),
-        events: acc.events,
-        partial: !complete,
+        steps: out,
+        events,
+        partial,
     }))
 }
 
@@ -295,8 +330,11 @@ pub fn read_part(text: &str, file: &str) -> Result<Part, ShardError> {
     if part.shard_index < 1
         || part.shard_index > part.shard_count
         || part.first_replication != expected.0
-        || part.values.len() as u64 != expected.1 - expected.0
-        || part.values.iter().any(|v| v.len() != part.figures.len())
+        || part.steps.is_empty()
+        || part.steps.iter().any(|st| {
+            st.values.len() as u64 != expected.1 - expected.0
+                || st.values.iter().any(|v| v.len() != st.figures.len())
+        })
     {
         return Err(ShardError::Unreadable {
             file: file.into(),
@@ -306,13 +344,15 @@ pub fn read_part(text: &str, file: &str) -> Result<Part, ShardError> {
     Ok(part)
 }
 
-/// Merge parts (each with its file name) of one run into the outcome of the
-/// unsharded run. `model` is the scenario the parts were run from.
+/// Merge parts (each with its file name) of one run or sweep into the
+/// outcomes of the unsharded run, one per step. `steps` are the models the
+/// parts were run with (see [`model_for`]); `scenario_file` names the
+/// scenario in errors.
 pub fn merge(
-    model: &Model,
+    steps: &Steps,
     scenario_file: &str,
     parts: &[(String, Part)],
-) -> Result<Outcome, ShardError> {
+) -> Result<Vec<Outcome>, ShardError> {
     let started = Instant::now();
     let Some((first_name, first)) = parts.first() else {
         return Err(ShardError::Unreadable {
@@ -321,15 +361,24 @@ pub fn merge(
         });
     };
     for (name, p) in parts {
-        let what = if p.fingerprint != first.fingerprint {
-            Some("scenario or seed")
-        } else if p.replications_total != first.replications_total {
-            Some("number of replications")
-        } else if p.shard_count != first.shard_count {
-            Some("number of shards")
-        } else {
-            None
-        };
+        let what =
+            if p.seed != first.seed || p.sweep != first.sweep || p.steps.len() != first.steps.len()
+            {
+                Some("scenario, seed or sweep")
+            } else if p
+                .steps
+                .iter()
+                .zip(&first.steps)
+                .any(|(a, b)| a.fingerprint != b.fingerprint)
+            {
+                Some("scenario or seed")
+            } else if p.replications_total != first.replications_total {
+                Some("number of replications")
+            } else if p.shard_count != first.shard_count {
+                Some("number of shards")
+            } else {
+                None
+            };
         if let Some(what) = what {
             return Err(ShardError::Foreign {
                 file: name.clone(),
@@ -338,32 +387,41 @@ pub fn merge(
             });
         }
     }
-    let mut model = model.clone();
-    model.plan.seed = first.seed;
-    let model = &model;
-    let found = fingerprint(model);
-    if found != first.fingerprint {
-        return Err(ShardError::Changed {
-            file: scenario_file.into(),
-            found,
-            expected: first.fingerprint.clone(),
-        });
-    }
-    let keys = figure_keys(model);
-    if keys != first.figures {
+    if steps.len() != first.steps.len() {
         return Err(ShardError::Layout {
             file: first_name.clone(),
             reason: format!(
-                "{} figures in the part, {} in the scenario",
-                first.figures.len(),
-                keys.len()
+                "{} steps in the parts, {} asked for",
+                first.steps.len(),
+                steps.len()
             ),
         });
+    }
+    for ((_, model), step) in steps.iter().zip(&first.steps) {
+        let found = fingerprint(model);
+        if found != step.fingerprint {
+            return Err(ShardError::Changed {
+                file: scenario_file.into(),
+                found,
+                expected: step.fingerprint.clone(),
+            });
+        }
+        let keys = figure_keys(model);
+        if keys != step.figures {
+            return Err(ShardError::Layout {
+                file: first_name.clone(),
+                reason: format!(
+                    "{} figures in the part, {} in the scenario",
+                    step.figures.len(),
+                    keys.len()
+                ),
+            });
+        }
     }
     let total = first.replications_total;
     let mut owner: Vec<Option<usize>> = vec![None; total as usize];
     for (k, (name, p)) in parts.iter().enumerate() {
-        for r in p.first_replication..p.first_replication + p.values.len() as u64 {
+        for r in p.first_replication..p.first_replication + p.steps[0].values.len() as u64 {
             if let Some(other) = owner[r as usize] {
                 return Err(ShardError::Duplicate {
                     file: name.clone(),
@@ -393,21 +451,25 @@ pub fn merge(
     }
     let mut ordered: Vec<&Part> = parts.iter().map(|(_, p)| p).collect();
     ordered.sort_by_key(|p| p.first_replication);
-    let mut acc = Accumulated::default();
-    for p in ordered {
-        acc.events += p.events;
-        for v in &p.values {
-            acc.per_replication
-                .push(v.iter().map(|x| x.unwrap_or(f64::NAN)).collect());
-        }
-    }
-    Ok(outcome_of(
-        model,
-        acc,
-        started.elapsed().as_secs_f64(),
-        None,
-        false,
-    ))
+    let events: u64 = ordered.iter().map(|p| p.events).sum();
+    let wall_s = started.elapsed().as_secs_f64();
+    Ok(steps
+        .iter()
+        .enumerate()
+        .map(|(i, (_, model))| {
+            let mut acc = Accumulated {
+                events: if i == 0 { events } else { 0 },
+                ..Accumulated::default()
+            };
+            for p in &ordered {
+                for v in &p.steps[i].values {
+                    acc.per_replication
+                        .push(v.iter().map(|x| x.unwrap_or(f64::NAN)).collect());
+                }
+            }
+            outcome_of(model, acc, wall_s, None, false)
+        })
+        .collect())
 }
 
 /// The model a set of parts was run with: the scenario with the parts' seed.
