@@ -419,6 +419,42 @@ pub fn sweep(a: &SweepArgs) -> Result<Status> {
         progress: Some(&progress),
         stop: Some(&STOP),
     };
+    if let Some(shard_spec) = &a.shard {
+        use busyhour::experiment::shard::{self, ShardSpec};
+        let shard = ShardSpec::parse(shard_spec)?;
+        let Replications::Fixed(total) = plan else {
+            bail!("--shard needs a fixed number of replications: use --replications N");
+        };
+        let recorded = match (&a.scale, &a.servers) {
+            (Some(s), _) => format!("scale={s}"),
+            (None, Some(s)) => format!("servers={s}"),
+            (None, None) => unreachable!("clap requires one of them"),
+        };
+        let values = spec.values();
+        let models: Vec<(Option<f64>, scenario::Model)> = (0..values.len())
+            .map(|i| (Some(values[i]), spec.model_at(&model, i)))
+            .collect();
+        let file = a.scenario.display().to_string();
+        let part = shard::run_shard(
+            &models,
+            &file,
+            Some(recorded),
+            u64::from(total),
+            shard,
+            &opts,
+        )??;
+        if let Some(b) = &bar {
+            b.finish_and_clear();
+        }
+        let mut text = serde_json::to_string(&part)?;
+        text.push('\n');
+        emit(&a.output, &text)?;
+        return Ok(if part.partial {
+            Status::Interrupted
+        } else {
+            Status::Done
+        });
+    }
     let (steps, partial) = sweep::run(&model, &spec, &plan, &opts)?;
     if let Some(b) = &bar {
         b.finish_and_clear();
