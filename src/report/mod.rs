@@ -2,6 +2,7 @@
 //! names, long-format CSV, and atomic file writing. Reads a finished
 //! [`Outcome`]; must not run the engine.
 
+pub mod html;
 pub mod reference;
 
 use crate::experiment::Outcome;
@@ -792,9 +793,46 @@ fn goal_value(figure: &str, x: f64) -> String {
     fmt_value(kind(figure), x)
 }
 
+/// The goal table of a sizing: each goal at the answer and one fewer.
+pub fn size_rows(r: &crate::experiment::size::SizeResult) -> Vec<Vec<String>> {
+    use crate::experiment::size::Verdict;
+    let mut rows = vec![vec!["goal".to_string()]];
+    let cols: Vec<&crate::experiment::size::Evaluation> =
+        [r.at_answer.as_ref(), r.one_fewer.as_ref()]
+            .into_iter()
+            .flatten()
+            .collect();
+    for e in &cols {
+        rows[0].push(format!("at {} servers", e.servers));
+        rows[0].push(String::new());
+    }
+        for (i, goal) in r.goals.iter().enumerate() {
+            let mut row = vec![format!(
+                "{} (bound {})",
+                goal.text,
+                goal_value(goal.figure, goal.bound)
+            )];
+            for e in &cols {
+                let (v, est) = e.goals[i];
+                let k = kind(goal.figure);
+                row.push(format!(
+                    "{} {}",
+                    fmt_value(k, est.mean),
+                    fmt_half_width(k, est.half_width)
+                ));
+                row.push(match v {
+                    Verdict::Holds => "holds".into(),
+                    Verdict::Fails => "FAILS".into(),
+                    Verdict::Undecided => "undecided".into(),
+                });
+            }
+            rows.push(row);
+        }
+    rows
+}
+
 /// The sizing report as text.
 pub fn size_table(model: &Model, file: &str, r: &crate::experiment::size::SizeResult) -> String {
-    use crate::experiment::size::Verdict;
     let g = &model.groups[r.group];
     let mut out = format!("Sizing group \"{}\" of {}  ({file})\n", g.name, model.title);
     let goals: Vec<&str> = r.goals.iter().map(|g| g.text.as_str()).collect();
@@ -823,39 +861,8 @@ at one size the intervals are {:.2}% (Bonferroni), 95% overall.\n\n",
 the answer is the smallest size shown to meet them, and may be one more than needed.\n",
         );
     }
-    let mut rows = vec![vec!["goal".to_string()]];
-    let cols: Vec<&crate::experiment::size::Evaluation> =
-        [r.at_answer.as_ref(), r.one_fewer.as_ref()]
-            .into_iter()
-            .flatten()
-            .collect();
-    for e in &cols {
-        rows[0].push(format!("at {} servers", e.servers));
-        rows[0].push(String::new());
-    }
-    if !cols.is_empty() {
-        for (i, goal) in r.goals.iter().enumerate() {
-            let mut row = vec![format!(
-                "{} (bound {})",
-                goal.text,
-                goal_value(goal.figure, goal.bound)
-            )];
-            for e in &cols {
-                let (v, est) = e.goals[i];
-                let k = kind(goal.figure);
-                row.push(format!(
-                    "{} {}",
-                    fmt_value(k, est.mean),
-                    fmt_half_width(k, est.half_width)
-                ));
-                row.push(match v {
-                    Verdict::Holds => "holds".into(),
-                    Verdict::Fails => "FAILS".into(),
-                    Verdict::Undecided => "undecided".into(),
-                });
-            }
-            rows.push(row);
-        }
+    let rows = size_rows(r);
+    if rows.len() > 1 {
         out.push('\n');
         out.push_str(&align(&rows, "  "));
     }
@@ -940,25 +947,13 @@ fn column_name(model: &Model, f: &FigureId) -> String {
     }
 }
 
-/// The sweep as a table: one row per step.
-pub fn sweep_table(
+/// The sweep table: one row per step.
+pub fn sweep_rows(
     model: &Model,
-    file: &str,
     label: &str,
     steps: &[crate::experiment::sweep::Step],
     columns: &[FigureId],
-    partial: bool,
-) -> String {
-    let mut out = format!("Load sweep of {}  ({file})\n", model.title);
-    if let Some(first) = steps.first() {
-        out.push_str(&format!(
-            "{} replications per step, the same seeds at every step; [formula] where a closed form applies.\n",
-            first.outcome.replications
-        ));
-    }
-    if partial {
-        out.push_str("PARTIAL RESULT: interrupted; only the finished steps are shown.\n");
-    }
+) -> Vec<Vec<String>> {
     let mut head = vec![label.to_string(), "offered traffic".to_string()];
     head.extend(columns.iter().map(|f| column_name(model, f)));
     let mut rows = vec![head];
@@ -991,6 +986,29 @@ pub fn sweep_table(
         }
         rows.push(row);
     }
+    rows
+}
+
+/// The sweep as a table: one row per step.
+pub fn sweep_table(
+    model: &Model,
+    file: &str,
+    label: &str,
+    steps: &[crate::experiment::sweep::Step],
+    columns: &[FigureId],
+    partial: bool,
+) -> String {
+    let mut out = format!("Load sweep of {}  ({file})\n", model.title);
+    if let Some(first) = steps.first() {
+        out.push_str(&format!(
+            "{} replications per step, the same seeds at every step; [formula] where a closed form applies.\n",
+            first.outcome.replications
+        ));
+    }
+    if partial {
+        out.push_str("PARTIAL RESULT: interrupted; only the finished steps are shown.\n");
+    }
+    let rows = sweep_rows(model, label, steps, columns);
     out.push('\n');
     out.push_str(&align(&rows, "  "));
     out.push_str(&format!("\nCaution: {CAUTION}\n"));
