@@ -210,16 +210,16 @@ pub fn render(a: &Analysis, opts: &ScenarioOptions) -> Result<ScenarioOut, Recor
     );
     let _ = writeln!(
         w,
-        "# {} call attempts per hour (mean over days). Rates below: call attempts per",
+        "# {} call attempts per hour (mean over days). The rates below are call attempts",
         trim_float(bh.calls_per_hour, 1)
     );
     let _ = writeln!(
         w,
-        "# interval, mean over days, from one interval before the busy hour to one after;"
+        "# per hour in each interval, mean over days, from one interval before the busy"
     );
     let _ = writeln!(
         w,
-        "# redials in the records are counted as fresh calls. Edit freely: this is a start."
+        "# hour to one after; redials in the records count as fresh calls. Edit freely."
     );
     let _ = writeln!(
         w,
