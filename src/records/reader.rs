@@ -244,12 +244,20 @@ impl<R: Read> RecordReader<R> {
             if self.row.iter().all(|f| f.trim_ascii().is_empty()) {
                 continue;
             }
-            return Some(self.parse_row());
+            // The csv reader dates a record from where it began looking,
+            // before any blank lines; the line after the record's end, less
+            // its terminator and any line breaks inside quoted fields, is
+            // exact (except for blank lines before a last row that has no
+            // line break at its end).
+            let before = self.row.position().map_or(1, |p| p.line());
+            let inner = self.row.as_slice().iter().filter(|&&b| b == b'\n').count() as u64;
+            let after = self.csv.position().line();
+            let line = before.max(after.saturating_sub(1 + inner));
+            return Some(self.parse_row(line));
         }
     }
 
-    fn parse_row(&self) -> Result<CallRecord, RecordsError> {
-        let line = self.row.position().map_or(0, |p| p.line());
+    fn parse_row(&self, line: u64) -> Result<CallRecord, RecordsError> {
         let bad = |reason: String| RecordsError::BadRow {
             file: self.file.clone(),
             line,
