@@ -33,7 +33,10 @@ fn close(a: f64, b: f64) -> bool {
 fn a_call_across_midnight_is_split_between_days() {
     // 23:50 for 20 minutes: 10 minutes in the 23:45 interval (600/900 E)
     // and 10 minutes in the next day's 00:00 interval.
-    let a = analyse("start,duration\n2025-03-03T23:50:00+01:00,1200\n").unwrap();
+    // A call the next day keeps that day in the timeline.
+    let a =
+        analyse("start,duration\n2025-03-03T23:50:00+01:00,1200\n2025-03-04T12:00:00+01:00,0\n")
+            .unwrap();
     assert_eq!(a.timeline.days.len(), 2);
     assert!(a.timeline.days.iter().all(|d| d.len == 96));
     let before = at(&a, (2025, 3, 3), 23, 45, 3600);
@@ -48,13 +51,25 @@ fn a_call_across_midnight_is_split_between_days() {
         .map(|iv| iv.carried_traffic * 900.0)
         .sum();
     assert!(close(total, 1200.0));
+    // Without a call on the next day, the timeline ends at midnight and the
+    // 10 minutes after it are left out (a day with no call measured).
+    let a = analyse("start,duration\n2025-03-03T23:50:00+01:00,1200\n").unwrap();
+    assert_eq!(a.timeline.days.len(), 1);
+    let total: f64 = a
+        .timeline
+        .intervals
+        .iter()
+        .map(|iv| iv.carried_traffic * 900.0)
+        .sum();
+    assert!(close(total, 600.0));
 }
 
 #[test]
 fn a_call_over_a_day_fills_every_interval_it_spans() {
     // 12:00 UTC for 26 h: 104 whole quarter hours of 1 E each, from
     // 2025-03-03 12:00 to 2025-03-04 14:00; nothing else.
-    let a = analyse("start,duration\n2025-03-03T12:00:00Z,26:00:00\n").unwrap();
+    let a =
+        analyse("start,duration\n2025-03-03T12:00:00Z,26:00:00\n2025-03-04T20:00:00Z,0\n").unwrap();
     let full: Vec<_> = a
         .timeline
         .intervals
@@ -68,7 +83,7 @@ fn a_call_over_a_day_fills_every_interval_it_spans() {
     assert_eq!(full[103].clock_s, 13 * 3600 + 45 * 60);
     // The call counts once, where it starts; the busy hour of the first
     // day is 12:00-13:00 (the first full hour, ties go to the earlier).
-    assert_eq!(a.totals.calls, 1);
+    assert_eq!(a.totals.calls, 2);
     let p = &a.busy_hour.daily[0];
     assert_eq!((p.start_clock_s, p.calls), (12 * 3600, 1));
     assert!(close(p.carried_traffic, 1.0));

@@ -28,10 +28,11 @@
 //! # The whole-day timeline
 //!
 //! The timeline runs from local midnight of the first call's day to local
-//! midnight after the last interval with traffic, every interval present
-//! (zero where nothing happened): a record file is taken to cover whole
-//! local days. Calls that began before the file's first row are not in it,
-//! so the first intervals of the first day may be low; export whole days.
+//! midnight after the last call's day, every interval present (zero where
+//! nothing happened): a record file is taken to cover whole local days.
+//! Calls that began before the file's first row are not in it, so the first
+//! intervals of the first day may be low; holding time that runs past the
+//! last day's midnight is left out. Export whole days.
 
 use super::days::DayFilter;
 use super::reader::{CallRecord, Outcome};
@@ -165,7 +166,10 @@ impl Accumulator {
         let i = self.interval_s;
         let mut cells = self.cells;
         cells.sort_by_key(|(r, _)| *r);
-        let (Some(&(r0, c0)), Some(&(rn, cn))) = (cells.first(), cells.last()) else {
+        // The last day is that of the last call to start: holding time that
+        // spills past its midnight belongs to a day with no calls measured.
+        let last_start = cells.iter().rev().find(|(_, c)| c.calls > 0);
+        let (Some(&(r0, c0)), Some(&(rn, cn))) = (cells.first(), last_start) else {
             return Ok(Timeline {
                 interval_s: i as u32,
                 intervals: Vec::new(),
