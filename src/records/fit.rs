@@ -147,7 +147,7 @@ impl HoldingSample {
             return Err("no answered call to measure holding times from".into());
         }
         let mean = self.all.mean;
-        if !(mean > 0.0) {
+        if mean.is_nan() || mean <= 0.0 {
             return Err(format!("all {n} answered calls have a holding time of 0 s"));
         }
         let cv = self.all.variance().sqrt() / mean;

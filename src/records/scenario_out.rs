@@ -157,7 +157,10 @@ pub fn render(a: &Analysis, opts: &ScenarioOptions) -> Result<ScenarioOut, Recor
         .time_consistent
         .ok_or_else(|| err("the records hold no busy hour (no analysed day)".into()))?;
     let profile = busy_hour_profile(a);
-    if !(bh.offered_traffic > 0.0) || profile.iter().all(|p| p.calls_per_hour == 0.0) {
+    if bh.offered_traffic.is_nan()
+        || bh.offered_traffic <= 0.0
+        || profile.iter().all(|p| p.calls_per_hour == 0.0)
+    {
         return Err(err("the busy hour has no traffic to size for".into()));
     }
     let servers = match opts.servers {

@@ -165,7 +165,7 @@ pub fn generate<E>(
     while t < end && totals.calls < max_calls {
         let rate = spec.rate_at(t);
         let step_end = ((t / spec.step_s).floor() + 1.0) * spec.step_s;
-        if !(rate > 0.0) {
+        if rate.is_nan() || rate <= 0.0 {
             t = step_end;
             continue;
         }
