@@ -286,7 +286,7 @@ pub fn to_text(a: &Analysis) -> String {
     }
 
     let bh = &a.busy_hour;
-    let _ = writeln!(w, "\nBusy hour (traffic in erlangs; {BASIS})");
+    let _ = writeln!(w, "\nBusy hour, traffic in erlangs: {BASIS}");
     let _ = writeln!(
         w,
         "  day              hour           calls   carried   offered"
