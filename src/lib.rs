@@ -29,6 +29,7 @@ pub mod dist;
 pub mod engine;
 pub mod experiment;
 pub mod formulas;
+pub mod records;
 pub mod report;
 pub mod scenario;
 pub mod stats;

@@ -30,6 +30,9 @@ enum Command {
     /// Closed-form teletraffic formulas (Erlang B and C, Erlang A, Engset,
     /// overflow, multi-rate).
     Calc(cli::calc::CalcArgs),
+    /// Measured call records -> traffic per interval, busy hour,
+    /// holding-time law, peakedness; optionally a scenario file and a chart.
+    Records(cli::records::RecordsArgs),
 }
 
 fn main() -> ExitCode {
@@ -42,6 +45,7 @@ fn main() -> ExitCode {
         Command::Merge(a) => cli::merge(a),
         Command::Check(a) => cli::check(a),
         Command::Calc(a) => cli::calc::run(a).map(|()| cli::Status::Done),
+        Command::Records(a) => cli::records::run(a).map(|()| cli::Status::Done),
     };
     match result {
         Ok(status) => status.into(),

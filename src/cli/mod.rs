@@ -2,6 +2,7 @@
 //! print the results. No model logic lives here.
 
 pub mod calc;
+pub mod records;
 
 use anyhow::{Context, Result, bail};
 use busyhour::experiment::{self, RunOptions};

@@ -2,6 +2,7 @@
 //! names, long-format CSV, and atomic file writing. Reads a finished
 //! [`Outcome`]; must not run the engine.
 
+pub mod chart;
 pub mod html;
 pub mod reference;
 

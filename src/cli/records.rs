@@ -1,0 +1,184 @@
+//! `busyhour records`: measured call records -> design load. Maps flags to
+//! `busyhour::records` and prints; no analysis here.
+
+use anyhow::{Context, Result};
+use busyhour::records::{self, Columns, DayFilter, Options, report, scenario_out};
+use busyhour::report::{chart, write_atomically};
+use busyhour::units;
+use clap::Args;
+use std::io::Write;
+use std::path::{Path, PathBuf};
+
+/// `busyhour records`.
+#[derive(Args)]
+pub struct RecordsArgs {
+    /// The call-record file: CSV with a header line, one row a call (start
+    /// time, holding time and, optionally, the outcome).
+    pub file: PathBuf,
+    /// Interval length for traffic per interval; must divide an hour
+    /// ("5m", "15m", "30m", "1h").
+    #[arg(long, value_name = "DURATION", default_value = "15m")]
+    pub interval: String,
+    /// Column with each call's start: RFC 3339 / ISO 8601 (with or without a
+    /// zone offset) or Unix seconds [default: the first of start,
+    /// start_time, started, time, timestamp].
+    #[arg(long, value_name = "COLUMN")]
+    pub start: Option<String>,
+    /// Column with each call's holding time: seconds or h:mm:ss [default:
+    /// the first of duration, duration_s, holding, holding_s, holding_time,
+    /// talk_s].
+    #[arg(long, value_name = "COLUMN")]
+    pub duration: Option<String>,
+    /// Column with each call's outcome: answered, blocked or abandoned
+    /// [default: the first of outcome, result, status, disposition, if any].
+    #[arg(long, value_name = "COLUMN")]
+    pub outcome: Option<String>,
+    /// Analyse only these local days: weekdays ("mon-fri", "sat,sun",
+    /// "weekdays"), dates ("2025-03-04") or date ranges
+    /// ("2025-03-03..2025-03-07"), comma-separated.
+    #[arg(long, value_name = "DAYS")]
+    pub days: Option<String>,
+    /// Skip rows that cannot be read, count them and report the first few,
+    /// instead of stopping at the first.
+    #[arg(long)]
+    pub skip_bad: bool,
+    /// Write a scenario file for `busyhour run`: the busy hour as a peak
+    /// profile, the fitted holding-time law, one group sized by Erlang B.
+    #[arg(long, value_name = "FILE.toml")]
+    pub scenario_out: Option<PathBuf>,
+    /// Servers of the scenario's group, instead of sizing it by Erlang B.
+    #[arg(long, value_name = "N", requires = "scenario_out", value_parser = clap::value_parser!(u32).range(1..=1_000_000))]
+    pub servers: Option<u32>,
+    /// Grade of service the scenario's group is sized for (blocking share).
+    #[arg(
+        long,
+        value_name = "SHARE",
+        default_value = "1%",
+        requires = "scenario_out"
+    )]
+    pub grade: String,
+    /// Write the measured holding times (the empirical law) into the
+    /// scenario even when a parametric law fits.
+    #[arg(long, requires = "scenario_out")]
+    pub empirical: bool,
+    /// Draw traffic per interval over the days, each day's busy hour shaded, as SVG.
+    #[arg(long, value_name = "FILE.svg")]
+    pub chart: Option<PathBuf>,
+    /// Print JSON (snake_case keys, every interval included) instead of the report.
+    #[arg(long)]
+    pub json: bool,
+    /// Write the report or JSON to FILE (atomically) instead of standard output.
+    #[arg(long, value_name = "FILE")]
+    pub out: Option<PathBuf>,
+}
+
+/// The holding-time file written beside a scenario: `NAME-holding.csv`.
+fn holding_file_name(scenario: &Path) -> String {
+    let stem = scenario.file_stem().map_or_else(
+        || "scenario".to_string(),
+        |s| s.to_string_lossy().into_owned(),
+    );
+    format!("{stem}-holding.csv")
+}
+
+/// `busyhour records`.
+pub fn run(a: &RecordsArgs) -> Result<()> {
+    // Stage one: parse and check every flag, no I/O.
+    let interval_s = records::parse_interval(&a.interval)?;
+    let days = a.days.as_deref().map(DayFilter::parse).transpose()?;
+    let grade = units::parse_share(&a.grade).with_context(|| "--grade")?;
+    if !(grade > 0.0 && grade < 1.0) {
+        anyhow::bail!(
+            "--grade '{}': expected a blocking share above 0% and below 100%, like \"1%\"",
+            a.grade
+        );
+    }
+    let opts = Options {
+        interval_s,
+        columns: Columns {
+            start: a.start.clone(),
+            duration: a.duration.clone(),
+            outcome: a.outcome.clone(),
+        },
+        skip_bad: a.skip_bad,
+        days,
+        ..Options::default()
+    };
+    // Stage two: read, analyse, write.
+    let analysis = records::analyse(&a.file, &opts)?;
+    let mut json = a.json.then(|| report::to_json(&analysis));
+    let mut notes = Vec::new();
+    if let Some(path) = &a.scenario_out {
+        let holding_file = holding_file_name(path);
+        let out = scenario_out::render(
+            &analysis,
+            &scenario_out::ScenarioOptions {
+                servers: a.servers,
+                grade,
+                empirical: a.empirical,
+                holding_file: holding_file.clone(),
+                ..Default::default()
+            },
+        )?;
+        let mut written = vec![path.display().to_string()];
+        if let Some(csv) = &out.holding_csv {
+            let csv_path = path.parent().unwrap_or(Path::new("")).join(&holding_file);
+            write_atomically(&csv_path, csv.as_bytes())
+                .with_context(|| format!("cannot write {}", csv_path.display()))?;
+            written.push(csv_path.display().to_string());
+        }
+        write_atomically(path, out.text.as_bytes())
+            .with_context(|| format!("cannot write {}", path.display()))?;
+        notes.push(format!(
+            "Scenario written: {} ({} servers for {} E; run it with: busyhour run {})",
+            written.join(" and "),
+            out.servers,
+            units::trim_float(out.offered_traffic, 2),
+            path.display()
+        ));
+        if let Some(j) = json.as_mut() {
+            j["scenario_out"] = serde_json::json!({
+                "files": written,
+                "servers": out.servers,
+                "sized_by": if a.servers.is_some() { "given" } else { "Erlang B" },
+                "grade": grade,
+                "offered_traffic": out.offered_traffic,
+                "holding": out.holding.name(),
+            });
+        }
+    }
+    if let Some(path) = &a.chart {
+        let svg = chart::render_svg(&report::chart(&analysis))?;
+        write_atomically(path, svg.as_bytes())
+            .with_context(|| format!("cannot write {}", path.display()))?;
+        notes.push(format!("Chart written: {}", path.display()));
+        if let Some(j) = json.as_mut() {
+            j["chart"] = serde_json::json!(path.display().to_string());
+        }
+    }
+    let text = match json {
+        Some(j) => {
+            let mut s = serde_json::to_string_pretty(&j)?;
+            s.push('\n');
+            s
+        }
+        None => {
+            let mut s = report::to_text(&analysis);
+            for n in &notes {
+                s.push_str(n);
+                s.push('\n');
+            }
+            s
+        }
+    };
+    match &a.out {
+        Some(path) => write_atomically(path, text.as_bytes())
+            .with_context(|| format!("cannot write {}", path.display())),
+        None => {
+            let mut out = std::io::stdout().lock();
+            out.write_all(text.as_bytes())?;
+            out.flush()?;
+            Ok(())
+        }
+    }
+}

@@ -1,0 +1,313 @@
+//! Streaming reader of call-record CSV files: one row a call, a header naming
+//! the columns. Holds one row at a time; owns column lookup and row checks.
+
+use super::RecordsError;
+use super::time::{self, Timestamp};
+use std::io::Read;
+
+/// Longest holding time accepted for one call (s): seven days. A longer
+/// one is surely a broken record, and splitting it over intervals would cost
+/// time for nothing.
+pub const MAX_HOLDING_S: f64 = 7.0 * 86_400.0;
+
+/// Column names tried, in order, when the user names no start column.
+pub const START_NAMES: [&str; 5] = ["start", "start_time", "started", "time", "timestamp"];
+/// Column names tried when the user names no duration column.
+pub const DURATION_NAMES: [&str; 6] = [
+    "duration",
+    "duration_s",
+    "holding",
+    "holding_s",
+    "holding_time",
+    "talk_s",
+];
+/// Column names tried when the user names no outcome column (the outcome is
+/// optional: without one, every call is taken as answered).
+pub const OUTCOME_NAMES: [&str; 4] = ["outcome", "result", "status", "disposition"];
+
+/// How a call attempt ended.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Outcome {
+    /// Answered (carried): `answered`, `completed`, `connected`, `carried`, `served`, `ok`.
+    Answered,
+    /// Blocked: found no free server (`blocked`, `busy`, `congestion`, `lost`, `rejected`).
+    Blocked,
+    /// Abandoned while waiting (`abandoned`, `abandon`, `reneged`).
+    Abandoned,
+}
+
+impl Outcome {
+    /// Read an outcome word (case and surrounding spaces ignored).
+    pub fn parse(text: &[u8]) -> Option<Outcome> {
+        let t = text.trim_ascii();
+        let is = |words: &[&str]| words.iter().any(|w| t.eq_ignore_ascii_case(w.as_bytes()));
+        if is(&[
+            "answered",
+            "completed",
+            "connected",
+            "carried",
+            "served",
+            "ok",
+        ]) {
+            Some(Outcome::Answered)
+        } else if is(&["blocked", "busy", "congestion", "lost", "rejected"]) {
+            Some(Outcome::Blocked)
+        } else if is(&["abandoned", "abandon", "reneged"]) {
+            Some(Outcome::Abandoned)
+        } else {
+            None
+        }
+    }
+
+    /// The word written by [`super::synthetic`] and in reports.
+    pub fn word(self) -> &'static str {
+        match self {
+            Outcome::Answered => "answered",
+            Outcome::Blocked => "blocked",
+            Outcome::Abandoned => "abandoned",
+        }
+    }
+}
+
+/// Which columns to read; `None` tries the usual names ([`START_NAMES`],
+/// [`DURATION_NAMES`], [`OUTCOME_NAMES`]).
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct Columns {
+    /// Start time column.
+    pub start: Option<String>,
+    /// Holding time (duration) column.
+    pub duration: Option<String>,
+    /// Outcome column; when named it must exist.
+    pub outcome: Option<String>,
+}
+
+/// One call from the file.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct CallRecord {
+    /// 1-based line of the row in the file.
+    pub line: u64,
+    /// When the call started.
+    pub start: Timestamp,
+    /// How long it held (s), >= 0.
+    pub duration_s: f64,
+    /// How it ended; `None` when the file has no outcome column.
+    pub outcome: Option<Outcome>,
+}
+
+/// Reads calls one at a time; memory does not depend on the file's length.
+pub struct RecordReader<R: Read> {
+    csv: csv::Reader<R>,
+    row: csv::ByteRecord,
+    file: String,
+    start: usize,
+    duration: usize,
+    outcome: Option<usize>,
+    names: [String; 3],
+    done: bool,
+}
+
+fn quote_list(names: &[&str]) -> String {
+    names
+        .iter()
+        .map(|n| format!("\"{n}\""))
+        .collect::<Vec<_>>()
+        .join(", ")
+}
+
+/// Cut a field for a message: at most 40 characters, lossy UTF-8.
+fn shown(field: &[u8]) -> String {
+    let s = String::from_utf8_lossy(field);
+    let s = s.trim();
+    match s.char_indices().nth(40) {
+        Some((i, _)) => format!("{}...", &s[..i]),
+        None => s.to_string(),
+    }
+}
+
+impl<R: Read> RecordReader<R> {
+    /// Read the header and find the columns. `file` names the input in errors.
+    pub fn new(input: R, file: &str, columns: &Columns) -> Result<Self, RecordsError> {
+        let mut csv = csv::ReaderBuilder::new()
+            .has_headers(true)
+            .flexible(true)
+            .from_reader(input);
+        let header = csv
+            .byte_headers()
+            .map_err(|e| RecordsError::Csv {
+                file: file.to_string(),
+                line: 1,
+                reason: e.to_string(),
+            })?
+            .clone();
+        let names: Vec<String> = header
+            .iter()
+            .map(|h| {
+                String::from_utf8_lossy(h)
+                    .trim()
+                    .trim_start_matches('\u{feff}')
+                    .to_string()
+            })
+            .collect();
+        if names.iter().all(String::is_empty) {
+            return Err(RecordsError::NoRecords {
+                file: file.to_string(),
+                detail: "the file is empty: expected a header line naming the columns, then one row a call".into(),
+            });
+        }
+        let available = quote_list(&names.iter().map(String::as_str).collect::<Vec<_>>());
+        let find = |role: &'static str,
+                    given: &Option<String>,
+                    defaults: &[&str]|
+         -> Result<Option<usize>, RecordsError> {
+            let wanted: Vec<&str> = match given {
+                Some(g) => vec![g.as_str()],
+                None => defaults.to_vec(),
+            };
+            for w in &wanted {
+                if let Some(i) = names.iter().position(|n| n == w) {
+                    return Ok(Some(i));
+                }
+            }
+            for w in &wanted {
+                if let Some(i) = names.iter().position(|n| n.eq_ignore_ascii_case(w)) {
+                    return Ok(Some(i));
+                }
+            }
+            if role == "outcome" && given.is_none() {
+                return Ok(None);
+            }
+            Err(RecordsError::NoColumn {
+                file: file.to_string(),
+                role,
+                wanted: quote_list(&wanted),
+                available: available.clone(),
+            })
+        };
+        let start = find("start", &columns.start, &START_NAMES)?.unwrap_or_default();
+        let duration = find("duration", &columns.duration, &DURATION_NAMES)?.unwrap_or_default();
+        let outcome = find("outcome", &columns.outcome, &OUTCOME_NAMES)?;
+        let column_names = [
+            names[start].clone(),
+            names[duration].clone(),
+            outcome.map(|i| names[i].clone()).unwrap_or_default(),
+        ];
+        Ok(RecordReader {
+            csv,
+            row: csv::ByteRecord::new(),
+            file: file.to_string(),
+            start,
+            duration,
+            outcome,
+            names: column_names,
+            done: false,
+        })
+    }
+
+    /// Whether the file has an outcome column.
+    pub fn has_outcomes(&self) -> bool {
+        self.outcome.is_some()
+    }
+
+    /// The names of the start, duration and outcome columns used (the
+    /// outcome's is empty when there is none).
+    pub fn column_names(&self) -> &[String; 3] {
+        &self.names
+    }
+
+    /// The next call: `None` at the end of the file, an error for a row that
+    /// cannot be used ([`RecordsError::BadRow`], which a caller may skip) or
+    /// for a file that cannot be read on ([`RecordsError::Csv`]). Blank lines
+    /// are skipped.
+    pub fn next_record(&mut self) -> Option<Result<CallRecord, RecordsError>> {
+        if self.done {
+            return None;
+        }
+        loop {
+            match self.csv.read_byte_record(&mut self.row) {
+                Ok(false) => {
+                    self.done = true;
+                    return None;
+                }
+                Ok(true) => {}
+                Err(e) => {
+                    self.done = true;
+                    let line = e.position().map_or(0, |p| p.line());
+                    return Some(Err(RecordsError::Csv {
+                        file: self.file.clone(),
+                        line,
+                        reason: e.to_string(),
+                    }));
+                }
+            }
+            // The csv reader already skips empty lines; a line of only
+            // spaces or commas is skipped here too.
+            if self.row.iter().all(|f| f.trim_ascii().is_empty()) {
+                continue;
+            }
+            // The csv reader dates a record from where it began looking,
+            // before any blank lines; the line after the record's end, less
+            // its terminator and any line breaks inside quoted fields, is
+            // exact (except for blank lines before a last row that has no
+            // line break at its end).
+            let before = self.row.position().map_or(1, |p| p.line());
+            let inner = self.row.as_slice().iter().filter(|&&b| b == b'\n').count() as u64;
+            let after = self.csv.position().line();
+            let line = before.max(after.saturating_sub(1 + inner));
+            return Some(self.parse_row(line));
+        }
+    }
+
+    fn parse_row(&self, line: u64) -> Result<CallRecord, RecordsError> {
+        let bad = |reason: String| RecordsError::BadRow {
+            file: self.file.clone(),
+            line,
+            reason,
+        };
+        let field = |i: usize, name: &str| -> Result<&[u8], RecordsError> {
+            match self.row.get(i) {
+                Some(f) if !f.trim_ascii().is_empty() => Ok(f),
+                Some(_) => Err(bad(format!("column \"{name}\" is empty"))),
+                None => Err(bad(format!(
+                    "the row has {} columns, too few for \"{name}\" (column {})",
+                    self.row.len(),
+                    i + 1
+                ))),
+            }
+        };
+        let [start_name, duration_name, outcome_name] = &self.names;
+        let start_field = field(self.start, start_name)?;
+        let start_text = std::str::from_utf8(start_field)
+            .map_err(|_| bad(format!("column \"{start_name}\" is not UTF-8 text")))?;
+        let start =
+            time::parse_timestamp(start_text).map_err(|e| bad(format!("start time: {e}")))?;
+        let duration_field = field(self.duration, duration_name)?;
+        let duration_text = std::str::from_utf8(duration_field)
+            .map_err(|_| bad(format!("column \"{duration_name}\" is not UTF-8 text")))?;
+        let duration_s =
+            time::parse_holding(duration_text).map_err(|e| bad(format!("duration: {e}")))?;
+        if duration_s > MAX_HOLDING_S {
+            return Err(bad(format!(
+                "duration '{}' is longer than the 7-day limit for one call",
+                shown(duration_field)
+            )));
+        }
+        let outcome = match self.outcome {
+            None => None,
+            Some(i) => {
+                let f = field(i, outcome_name)?;
+                Some(Outcome::parse(f).ok_or_else(|| {
+                    bad(format!(
+                        "outcome '{}' is not known: expected answered (or completed, connected), blocked (or busy, congestion, lost, rejected) or abandoned",
+                        shown(f)
+                    ))
+                })?)
+            }
+        };
+        Ok(CallRecord {
+            line,
+            start,
+            duration_s,
+            outcome,
+        })
+    }
+}

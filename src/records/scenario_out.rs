@@ -1,0 +1,328 @@
+//! A scenario file from measured call records: the time-consistent busy hour
+//! as a Poisson peak profile, the recommended holding-time law, and one loss
+//! group sized by Erlang B, ready to edit and to run. Owns the text written;
+//! the scenario module validates it like any other file.
+
+use super::busy_hour::slot_table;
+use super::time::{Clock, Date};
+use super::{Analysis, RecordsError};
+use crate::dist::Law;
+use crate::formulas::erlang_b;
+use crate::units::trim_float;
+use std::fmt::Write as _;
+
+/// Column name of the holding-time file written beside an empirical law.
+pub const HOLDING_COLUMN: &str = "holding_s";
+
+/// How to write the scenario.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ScenarioOptions {
+    /// Servers of the group; `None` sizes it by Erlang B for `grade`.
+    pub servers: Option<u32>,
+    /// Grade of service for the sizing (blocking share, e.g. 0.01).
+    pub grade: f64,
+    /// Use the empirical law even when a parametric law fits.
+    pub empirical: bool,
+    /// File name (relative to the scenario) for the empirical holding times.
+    pub holding_file: String,
+    /// Replications written into the scenario.
+    pub replications: u32,
+    /// Seed written into the scenario.
+    pub seed: u64,
+}
+
+impl Default for ScenarioOptions {
+    fn default() -> Self {
+        ScenarioOptions {
+            servers: None,
+            grade: 0.01,
+            empirical: false,
+            holding_file: "holding-times.csv".into(),
+            replications: 40,
+            seed: 1,
+        }
+    }
+}
+
+/// One interval of the busy-hour profile.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct ProfileStep {
+    /// Local clock time of the start (s after midnight).
+    pub clock_s: u32,
+    /// Mean call attempts per hour over the days analysed.
+    pub calls_per_hour: f64,
+    /// Mean offered traffic estimate (erlangs).
+    pub offered_traffic: f64,
+}
+
+/// The scenario text and what went into it.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ScenarioOut {
+    /// The TOML file.
+    pub text: String,
+    /// The empirical holding-time CSV to write beside it, when used.
+    pub holding_csv: Option<String>,
+    /// Servers of the group.
+    pub servers: u32,
+    /// Busy-hour offered traffic the group was sized for (erlangs).
+    pub offered_traffic: f64,
+    /// The profile: the busy hour with one interval either side.
+    pub profile: Vec<ProfileStep>,
+    /// The holding law written.
+    pub holding: Law,
+}
+
+/// The busy-hour profile: the time-consistent busy hour's intervals with
+/// one more on either side (where the day has them), each the mean over the
+/// analysed days of the calls per hour and the offered traffic at that
+/// clock position. Empty without a busy hour.
+pub fn busy_hour_profile(a: &Analysis) -> Vec<ProfileStep> {
+    let t = &a.timeline;
+    let Some(bh) = a.busy_hour.time_consistent else {
+        return Vec::new();
+    };
+    let table = slot_table(t);
+    let slots = t.slots_per_day();
+    let h = (3600 / t.interval_s) as usize;
+    let s0 = (bh.start_clock_s / t.interval_s) as usize;
+    let from = s0.saturating_sub(1);
+    let to = (s0 + h + 1).min(slots);
+    (from..to)
+        .filter_map(|s| {
+            let (mut calls, mut offered, mut days) = (0.0, 0.0, 0.0);
+            for row in &table {
+                let x = row[s];
+                if x.count > 0 {
+                    calls += x.calls / f64::from(x.count);
+                    offered += x.offered / f64::from(x.count);
+                    days += 1.0;
+                }
+            }
+            (days > 0.0).then(|| ProfileStep {
+                clock_s: s as u32 * t.interval_s,
+                calls_per_hour: calls / days * 3600.0 / f64::from(t.interval_s),
+                offered_traffic: offered / days,
+            })
+        })
+        .collect()
+}
+
+/// Seconds for the scenario file: "183.2417s".
+fn secs(x: f64) -> String {
+    format!("\"{}s\"", trim_float(x, 4))
+}
+
+/// Six significant figures, for cvs and shapes.
+fn number(x: f64) -> String {
+    let digits = (5 - x.abs().log10().floor() as i32).clamp(0, 12) as usize;
+    trim_float(x, digits)
+}
+
+/// The law as an inline TOML table of the scenario format.
+pub fn law_toml(law: &Law, holding_file: &str) -> String {
+    let mean = secs(law.mean());
+    match law {
+        Law::Exponential(_) => format!("{{ law = \"exponential\", mean = {mean} }}"),
+        Law::Erlang(l) => format!("{{ law = \"erlang\", mean = {mean}, k = {} }}", l.k()),
+        Law::Gamma(l) => format!(
+            "{{ law = \"gamma\", mean = {mean}, shape = {} }}",
+            number(l.shape())
+        ),
+        Law::Weibull(l) => format!(
+            "{{ law = \"weibull\", mean = {mean}, shape = {} }}",
+            number(l.shape())
+        ),
+        Law::Deterministic(_) => format!("{{ law = \"deterministic\", mean = {mean} }}"),
+        Law::Empirical(_) => format!(
+            "{{ law = \"empirical\", file = \"{}\", column = \"{HOLDING_COLUMN}\" }}",
+            holding_file.replace('\\', "\\\\").replace('"', "\\\"")
+        ),
+        Law::Lognormal(_) | Law::Hyperexponential(_) | Law::Uniform(_) => format!(
+            "{{ law = \"{}\", mean = {mean}, cv = {} }}",
+            law.name(),
+            number(law.cv())
+        ),
+    }
+}
+
+/// Write the scenario (see the module doc). Fails when the records show no
+/// busy hour or no traffic to size for.
+pub fn render(a: &Analysis, opts: &ScenarioOptions) -> Result<ScenarioOut, RecordsError> {
+    let err = |reason: String| RecordsError::ScenarioOut {
+        file: a.file.clone(),
+        reason,
+    };
+    let bh = a
+        .busy_hour
+        .time_consistent
+        .ok_or_else(|| err("the records hold no busy hour (no analysed day)".into()))?;
+    let profile = busy_hour_profile(a);
+    if bh.offered_traffic.is_nan()
+        || bh.offered_traffic <= 0.0
+        || profile.iter().all(|p| p.calls_per_hour == 0.0)
+    {
+        return Err(err("the busy hour has no traffic to size for".into()));
+    }
+    let servers = match opts.servers {
+        Some(n) => n,
+        None => {
+            erlang_b::servers_for(bh.offered_traffic, opts.grade).map_err(|e| err(e.to_string()))?
+        }
+    };
+    let holding = if opts.empirical {
+        a.holding
+            .fits
+            .iter()
+            .find(|f| matches!(f.law, Law::Empirical(_)))
+            .map_or_else(|| a.holding.recommended.clone(), |f| f.law.clone())
+    } else {
+        a.holding.recommended.clone()
+    };
+    let interval = a.timeline.interval_s;
+    let interval_text = format!("\"{}m\"", trim_float(f64::from(interval) / 60.0, 3));
+    let length_s = profile.len() as f64 * f64::from(interval);
+    // Warm-up: ten mean holding times, at least 15 minutes, whole minutes.
+    let warmup_min = (f64::max(900.0, 10.0 * holding.mean()) / 60.0).ceil();
+    let days: Vec<_> = a.timeline.selected_days().collect();
+    let (first, last) = (days.first().map(|d| d.day), days.last().map(|d| d.day));
+    let day_text = match (first, last) {
+        (Some(f), Some(l)) => format!("{} to {}", Date(f), Date(l)),
+        _ => String::new(),
+    };
+    let bh_end = bh.start_clock_s + 3600;
+
+    let mut t = String::new();
+    let w = &mut t;
+    let _ = writeln!(w, "# Measured busy hour of {} (busyhour records).", a.file);
+    let _ = writeln!(
+        w,
+        "# {} days analysed ({day_text}{}), {} intervals.",
+        days.len(),
+        a.days
+            .as_ref()
+            .map_or(String::new(), |d| format!(", --days {}", d.text)),
+        crate::units::format_duration(f64::from(interval))
+    );
+    let _ = writeln!(
+        w,
+        "# Time-consistent busy hour {}-{}: offered traffic {} E (estimate), carried {} E,",
+        Clock(i64::from(bh.start_clock_s)),
+        Clock(i64::from(bh_end)),
+        trim_float(bh.offered_traffic, 3),
+        trim_float(bh.carried_traffic, 3)
+    );
+    let _ = writeln!(
+        w,
+        "# {} call attempts per hour (mean over days). The rates below are call attempts",
+        trim_float(bh.calls_per_hour, 1)
+    );
+    let _ = writeln!(
+        w,
+        "# per hour in each interval, mean over days, from one interval before the busy"
+    );
+    let _ = writeln!(
+        w,
+        "# hour to one after; redials in the records count as fresh calls. Edit freely."
+    );
+    let _ = writeln!(
+        w,
+        "title = \"Measured busy hour of {}\"",
+        toml_escape(&a.file)
+    );
+    let _ = writeln!(w);
+    let _ = writeln!(w, "[simulation]");
+    let _ = writeln!(
+        w,
+        "warmup = \"{}m\"           # runs at the first rate of the profile",
+        warmup_min
+    );
+    let _ = writeln!(
+        w,
+        "length = \"{}m\"          # the profile below",
+        trim_float(length_s / 60.0, 3)
+    );
+    let _ = writeln!(w, "interval = {interval_text}");
+    let _ = writeln!(w, "replications = {}", opts.replications);
+    let _ = writeln!(w, "seed = {}", opts.seed);
+    let _ = writeln!(w);
+    let _ = writeln!(w, "[[group]]");
+    let _ = writeln!(w, "name = \"circuits\"");
+    match opts.servers {
+        None => {
+            let _ = writeln!(
+                w,
+                "# Erlang B: the fewest servers with at most {} blocking at the busy hour's {} E.",
+                crate::units::format_share(opts.grade),
+                trim_float(bh.offered_traffic, 3)
+            );
+        }
+        Some(_) => {
+            let _ = writeln!(w, "# Servers as given (not sized by a formula).");
+        }
+    }
+    let _ = writeln!(w, "servers = {servers}");
+    let _ = writeln!(w);
+    let _ = writeln!(w, "[[stream]]");
+    let _ = writeln!(w, "name = \"measured\"");
+    let rates: Vec<String> = profile
+        .iter()
+        .map(|p| format!("\"{}/h\"", trim_float(p.calls_per_hour, 2)))
+        .collect();
+    let clocks: Vec<String> = profile
+        .iter()
+        .map(|p| Clock(i64::from(p.clock_s)).to_string())
+        .collect();
+    let _ = writeln!(w, "# intervals from {}", clocks.join(", "));
+    let _ = writeln!(
+        w,
+        "arrivals = {{ law = \"poisson\", interval = {interval_text}, rates = [{}] }}",
+        rates.join(", ")
+    );
+    let fit_note = if matches!(holding, Law::Empirical(_)) {
+        if a.holding.parametric_fits && opts.empirical {
+            "the measured holding times themselves (asked for)".to_string()
+        } else {
+            "the measured holding times themselves: no parametric law fits".to_string()
+        }
+    } else {
+        format!(
+            "{}, best fit by Kolmogorov-Smirnov distance among the laws tried",
+            holding.describe()
+        )
+    };
+    let _ = writeln!(w, "# holding time: {fit_note}");
+    let _ = writeln!(w, "holding = {}", law_toml(&holding, &opts.holding_file));
+    let _ = writeln!(w, "route = [\"circuits\"]");
+    let holding_csv = match &holding {
+        Law::Empirical(e) => {
+            let mut csv = String::with_capacity(e.len() * 8 + 16);
+            csv.push_str(HOLDING_COLUMN);
+            csv.push('\n');
+            for v in e.values() {
+                csv.push_str(&trim_float(*v, 3));
+                csv.push('\n');
+            }
+            Some(csv)
+        }
+        _ => None,
+    };
+    Ok(ScenarioOut {
+        text: t,
+        holding_csv,
+        servers,
+        offered_traffic: bh.offered_traffic,
+        profile,
+        holding,
+    })
+}
+
+fn toml_escape(s: &str) -> String {
+    s.chars()
+        .flat_map(|c| match c {
+            '"' => vec!['\\', '"'],
+            '\\' => vec!['\\', '\\'],
+            c if c.is_control() => vec![' '],
+            c => vec![c],
+        })
+        .collect()
+}

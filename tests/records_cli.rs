@@ -1,0 +1,202 @@
+//! `busyhour records` end to end: the demo file to a scenario that `run`
+//! accepts, JSON keys, the chart, and exit status 2 with one line for bad
+//! input.
+
+use busyhour::scenario;
+use serde_json::Value;
+use std::path::{Path, PathBuf};
+use std::process::{Command, Output};
+
+const DEMO: &str = "scenarios/depot-calls.csv";
+
+fn busyhour(args: &[&str]) -> Output {
+    Command::new(env!("CARGO_BIN_EXE_busyhour"))
+        .args(args)
+        .current_dir(env!("CARGO_MANIFEST_DIR"))
+        .output()
+        .expect("run busyhour")
+}
+
+fn temp_dir(name: &str) -> PathBuf {
+    let d = std::env::temp_dir().join(format!("busyhour-cli-{}-{name}", std::process::id()));
+    std::fs::create_dir_all(&d).expect("temp dir");
+    d
+}
+
+fn text(p: &Path) -> String {
+    p.to_str().expect("UTF-8 temp path").to_string()
+}
+
+/// Checks that `svg` is well-formed XML as far as elements go: every start
+/// tag closed in order, comments and the declaration skipped, and every `&`
+/// starting an entity.
+fn assert_well_formed(svg: &str) {
+    let mut stack: Vec<&str> = Vec::new();
+    let mut rest = svg;
+    while let Some(open) = rest.find('<') {
+        let text_part = &rest[..open];
+        for (i, _) in text_part.match_indices('&') {
+            let tail = &text_part[i..];
+            assert!(
+                tail.find(';').is_some_and(|j| j < 8),
+                "bare & in {:?}",
+                &tail[..tail.len().min(20)]
+            );
+        }
+        rest = &rest[open..];
+        if rest.starts_with("<!--") {
+            let end = rest.find("-->").expect("comment closed");
+            rest = &rest[end + 3..];
+            continue;
+        }
+        let end = rest.find('>').expect("tag closed");
+        let tag = &rest[1..end];
+        rest = &rest[end + 1..];
+        if tag.starts_with('?') || tag.starts_with('!') {
+            continue;
+        }
+        if let Some(name) = tag.strip_prefix('/') {
+            assert_eq!(stack.pop(), Some(name.trim()), "mismatched </{name}>");
+        } else if !tag.ends_with('/') {
+            stack.push(tag.split_whitespace().next().expect("tag name"));
+        }
+    }
+    assert!(stack.is_empty(), "unclosed elements: {stack:?}");
+}
+
+#[test]
+fn the_demo_turns_into_a_scenario_with_one_command() {
+    let dir = temp_dir("demo");
+    let toml = dir.join("depot.toml");
+    let svg = dir.join("depot.svg");
+    let out = busyhour(&[
+        "records",
+        DEMO,
+        "--days",
+        "mon-fri",
+        "--scenario-out",
+        &text(&toml),
+        "--chart",
+        &text(&svg),
+        "--json",
+    ]);
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let j: Value = serde_json::from_slice(&out.stdout).expect("JSON");
+    let tc = &j["busy_hour"]["time_consistent"];
+    // The depot's invented profile peaks at 10:00-11:00 on weekdays.
+    assert_eq!(tc["start"], "10:00");
+    assert!(
+        tc["definition"]
+            .as_str()
+            .unwrap()
+            .contains("same clock hour")
+    );
+    assert!(
+        j["busy_hour"]["average_daily_peak"]["definition"]
+            .as_str()
+            .unwrap()
+            .contains("each day's own")
+    );
+    assert_eq!(j["busy_hour"]["daily"].as_array().unwrap().len(), 5);
+    assert_eq!(j["holding"]["recommended"]["law"], "lognormal");
+    assert!(j["peakedness"]["value"].as_f64().is_some());
+    assert_eq!(j["calls"]["outcomes_given"], true);
+    // Monday 2025-03-03 to Saturday 2025-03-08 (closed on Sunday): 6 days of 96.
+    assert_eq!(j["intervals"].as_array().unwrap().len(), 6 * 96);
+    assert_eq!(j["intervals"][40]["start"], "2025-03-03T10:00:00+01:00");
+    let servers = j["scenario_out"]["servers"].as_u64().unwrap();
+    assert_eq!(j["scenario_out"]["sized_by"], "Erlang B");
+
+    let model = scenario::load(&toml).unwrap_or_else(|e| panic!("{e}"));
+    assert_eq!(u64::from(model.groups[0].servers), servers);
+    let run = busyhour(&[
+        "run",
+        &text(&toml),
+        "--replications",
+        "4",
+        "--json",
+        "--quiet",
+    ]);
+    assert!(
+        run.status.success(),
+        "{}",
+        String::from_utf8_lossy(&run.stderr)
+    );
+
+    let chart = std::fs::read_to_string(&svg).unwrap();
+    assert!(chart.starts_with("<svg"));
+    assert_well_formed(&chart);
+    for name in [
+        "carried traffic",
+        "offered traffic (estimate)",
+        "busy hour of the day",
+        "traffic (erlangs)",
+    ] {
+        assert!(chart.contains(name), "the chart lacks {name:?}");
+    }
+    let _ = std::fs::remove_dir_all(&dir);
+}
+
+#[test]
+fn the_report_says_which_definition_each_figure_uses() {
+    let out = busyhour(&["records", DEMO]);
+    assert!(out.status.success());
+    let report = String::from_utf8(out.stdout).unwrap();
+    for needle in [
+        "Time-consistent busy hour",
+        "Average daily peak hour",
+        "Offered traffic estimate",
+        "Kolmogorov-Smirnov",
+        "Peakedness",
+        "busyhour calc servers --traffic",
+    ] {
+        assert!(
+            report.contains(needle),
+            "report lacks {needle:?}:\n{report}"
+        );
+    }
+}
+
+#[test]
+fn bad_input_exits_2_with_one_line() {
+    let dir = temp_dir("bad");
+    let file = dir.join("calls.csv");
+    std::fs::write(
+        &file,
+        "start,duration\n2025-03-03T10:00:00Z,60\n2025-03-03T10:01:00Z,soon\n",
+    )
+    .unwrap();
+    let out = busyhour(&["records", &text(&file)]);
+    assert_eq!(out.status.code(), Some(2));
+    let err = String::from_utf8(out.stderr).unwrap();
+    assert_eq!(err.lines().count(), 1, "{err}");
+    assert!(
+        err.starts_with("busyhour: ") && err.contains("calls.csv:3:") && err.contains("'soon'"),
+        "{err}"
+    );
+
+    let skipped = busyhour(&["records", &text(&file), "--skip-bad"]);
+    assert!(skipped.status.success());
+    let report = String::from_utf8(skipped.stdout).unwrap();
+    assert!(
+        report.contains("1 bad rows skipped") && report.contains("calls.csv:3:"),
+        "{report}"
+    );
+
+    for args in [
+        vec!["records", DEMO, "--interval", "7m"],
+        vec!["records", DEMO, "--days", "someday"],
+        vec!["records", "no-such-file.csv"],
+        vec!["records", DEMO, "--start", "begin"],
+    ] {
+        let out = busyhour(&args);
+        assert_eq!(out.status.code(), Some(2), "{args:?}");
+        let err = String::from_utf8(out.stderr).unwrap();
+        assert_eq!(err.lines().count(), 1, "{args:?}: {err}");
+    }
+    let _ = std::fs::remove_dir_all(&dir);
+}
