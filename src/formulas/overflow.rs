@@ -1,0 +1,285 @@
+//! Overflow traffic: Riordan's moments of the traffic a full group passes
+//! on, and Wilkinson's equivalent random method (with Rapp's approximation)
+//! for a final group offered several overflow streams.
+
+use super::erlang_b::{self, LowerMass};
+use super::error::{FormulaError, non_negative, positive};
+
+/// Mean and variance of an overflow stream (as the occupancy of a virtual
+/// group with infinitely many servers).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct OverflowMoments {
+    /// Mean overflow traffic in erlangs.
+    pub mean: f64,
+    /// Variance of the overflow traffic (erlangs²).
+    pub variance: f64,
+}
+
+impl OverflowMoments {
+    /// Peakedness `Z = variance / mean` (1 for Poisson traffic; above 1 for
+    /// overflow). Defined as 1 when the mean is 0.
+    pub fn peakedness(&self) -> f64 {
+        if self.mean > 0.0 {
+            self.variance / self.mean
+        } else {
+            1.0
+        }
+    }
+}
+
+/// Riordan's formula with `B` and `1 - B` already known.
+fn riordan_moments(servers: f64, traffic: f64, blocking: f64, carried_share: f64) -> OverflowMoments {
+    let mean = traffic * blocking;
+    // N + 1 + M - A written as N + 1 - A(1 - B): no cancellation.
+    let denominator = servers + 1.0 - traffic * carried_share;
+    let variance = mean * (1.0 - mean + traffic / denominator);
+    OverflowMoments { mean, variance }
+}
+
+/// Riordan's overflow moments: mean and variance of the traffic that
+/// `traffic` erlangs of Poisson traffic overflow from a group of `servers`.
+///
+/// # Formula
+///
+/// `M = A B(N, A)`, `V = M (1 - M + A / (N + 1 + M - A))`. Source: J. Riordan
+/// (1956), as given in R. I. Wilkinson, "Theories for toll traffic
+/// engineering in the U.S.A.", Bell System Technical Journal 35 (1956), and
+/// in the ITU-T Teletraffic Engineering Handbook, chapter on overflow
+/// theory.
+///
+/// # Example
+///
+/// ```
+/// use busyhour::formulas::overflow;
+/// let m = overflow::riordan(10, 8.0)?;
+/// assert!(m.peakedness() > 1.0);
+/// // No servers: everything overflows, still Poisson.
+/// let all = overflow::riordan(0, 8.0)?;
+/// assert_eq!((all.mean, all.variance), (8.0, 8.0));
+/// # Ok::<(), busyhour::formulas::FormulaError>(())
+/// ```
+pub fn riordan(servers: u32, traffic: f64) -> Result<OverflowMoments, FormulaError> {
+    let traffic = non_negative("offered traffic (erlangs)", traffic)?;
+    if traffic == 0.0 {
+        return Ok(OverflowMoments {
+            mean: 0.0,
+            variance: 0.0,
+        });
+    }
+    let mut state = LowerMass::new(traffic);
+    state.run_to(servers);
+    Ok(riordan_moments(
+        f64::from(servers),
+        traffic,
+        state.blocking(),
+        state.carried_share(),
+    ))
+}
+
+/// Riordan's overflow moments for a non-integer number of servers (the
+/// equivalent group of the equivalent random method), with Erlang B
+/// continued to real `N` by [`erlang_b::blocking_continuous`].
+///
+/// # Formula
+///
+/// As [`riordan`]. Source: as there; the continuation as in
+/// [`erlang_b::blocking_continuous`].
+///
+/// # Example
+///
+/// ```
+/// use busyhour::formulas::overflow;
+/// let whole = overflow::riordan(6, 4.0)?;
+/// let same = overflow::riordan_continuous(6.0, 4.0)?;
+/// assert!((same.variance / whole.variance - 1.0).abs() < 1e-12);
+/// # Ok::<(), busyhour::formulas::FormulaError>(())
+/// ```
+pub fn riordan_continuous(servers: f64, traffic: f64) -> Result<OverflowMoments, FormulaError> {
+    let traffic = non_negative("offered traffic (erlangs)", traffic)?;
+    let b = erlang_b::blocking_continuous(servers, traffic)?;
+    Ok(riordan_moments(servers, traffic, b, 1.0 - b))
+}
+
+/// The equivalent random group: Poisson traffic `traffic` offered to
+/// `servers` (possibly fractional) servers whose overflow has the given mean
+/// and variance.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct EquivalentRandom {
+    /// Equivalent random traffic `A*` in erlangs.
+    pub traffic: f64,
+    /// Equivalent number of servers `N*` (fractional, >= 0).
+    pub servers: f64,
+}
+
+/// Wilkinson's equivalent random method with Rapp's approximation: the
+/// Poisson traffic and group size whose overflow has mean `mean` and
+/// variance `variance`.
+///
+/// # Formula
+///
+/// With peakedness `z = V / M`: `A* = V + 3 z (z - 1)`,
+/// `N* = A* (M + z) / (M + z - 1) - M - 1` (kept fractional, clamped at 0).
+/// Poisson traffic (`z = 1`) gives `A* = M`, `N* = 0` exactly. Rapp's
+/// formula approximates the exact inverse of Riordan's moments: refer to
+/// the tests for its accuracy.
+///
+/// Source: R. I. Wilkinson, Bell System Technical Journal 35 (1956); Y. Rapp,
+/// "Planning of junction network in a multi-exchange area", Ericsson
+/// Technics 20 (1964); both as in the ITU-T Teletraffic Engineering
+/// Handbook, chapter on overflow theory.
+///
+/// # Errors
+///
+/// `mean > 0` and finite; `variance >= mean` (overflow traffic is never
+/// smoother than Poisson; a shortfall of 1e-12 relative is taken as
+/// rounding).
+///
+/// # Example
+///
+/// ```
+/// use busyhour::formulas::overflow;
+/// let m = overflow::riordan(12, 10.0)?;
+/// let eq = overflow::equivalent_random(m.mean, m.variance)?;
+/// assert!((eq.traffic - 10.0).abs() < 0.2 && (eq.servers - 12.0).abs() < 0.3);
+/// # Ok::<(), busyhour::formulas::FormulaError>(())
+/// ```
+pub fn equivalent_random(mean: f64, variance: f64) -> Result<EquivalentRandom, FormulaError> {
+    let mean = positive("overflow mean (erlangs)", mean)?;
+    let variance = positive("overflow variance", variance)?;
+    let mut z = variance / mean;
+    if z < 1.0 - 1e-12 {
+        return Err(FormulaError::InvalidArgument {
+            name: "overflow variance",
+            value: variance,
+            expected: "at least the overflow mean (peakedness >= 1)",
+        });
+    }
+    z = z.max(1.0);
+    let variance = mean * z;
+    let traffic = variance + 3.0 * z * (z - 1.0);
+    let servers = (traffic * (mean + z) / (mean + z - 1.0) - mean - 1.0).max(0.0);
+    Ok(EquivalentRandom { traffic, servers })
+}
+
+/// A final (high-usage alternative) group offered the overflow of several
+/// first-choice groups plus direct Poisson traffic.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct FinalGroup {
+    /// Mean traffic offered to the final group (overflows plus direct), in
+    /// erlangs.
+    pub overflow_mean: f64,
+    /// Variance of the traffic offered to the final group.
+    pub overflow_variance: f64,
+    /// Its peakedness, variance / mean (1 when the mean is 0).
+    pub peakedness: f64,
+    /// The equivalent random group (absent when nothing is offered).
+    pub equivalent: Option<EquivalentRandom>,
+    /// Traffic lost on the final group, in erlangs.
+    pub lost_traffic: f64,
+    /// Share of the traffic offered to the final group that it loses:
+    /// `lost_traffic / overflow_mean`.
+    pub final_blocking: f64,
+    /// Share of all traffic (first-choice and direct) that is lost:
+    /// `lost_traffic / (Σ A_i + A_0)`.
+    pub total_loss: f64,
+}
+
+/// Blocking on a final group offered the overflow of first-choice groups
+/// `primaries` (each `(traffic, servers)`) plus `direct` erlangs of Poisson
+/// traffic, by the equivalent random method.
+///
+/// # Formula
+///
+/// Overflow moments add for independent streams: `M = Σ M_i + A_0`,
+/// `V = Σ V_i + A_0` (Riordan's moments per group; direct Poisson traffic has
+/// variance equal to its mean). The equivalent random group `(A*, N*)` of
+/// `(M, V)` ([`equivalent_random`]) then has `N* + N_f` servers in front of
+/// nothing, so the lost traffic is `A* B(N* + N_f, A*)` (Erlang B continued to
+/// real servers) and `final_blocking = lost / M`. Source: Wilkinson's
+/// equivalent random method, as in the ITU-T Teletraffic Engineering
+/// Handbook, chapter on overflow theory.
+///
+/// # Example
+///
+/// ```
+/// use busyhour::formulas::overflow;
+/// let f = overflow::final_group(&[(10.0, 12), (8.0, 10)], 2.0, 8)?;
+/// assert!(f.peakedness > 1.0 && f.final_blocking > 0.0 && f.final_blocking < 1.0);
+/// // Direct traffic alone is Poisson: plain Erlang B.
+/// let d = overflow::final_group(&[], 5.0, 8)?;
+/// let b = busyhour::formulas::erlang_b::blocking(8, 5.0)?;
+/// assert!((d.final_blocking / b - 1.0).abs() < 1e-12);
+/// # Ok::<(), busyhour::formulas::FormulaError>(())
+/// ```
+pub fn final_group(
+    primaries: &[(f64, u32)],
+    direct: f64,
+    final_servers: u32,
+) -> Result<FinalGroup, FormulaError> {
+    let direct = non_negative("direct traffic (erlangs)", direct)?;
+    let mut mean = direct;
+    let mut variance = direct;
+    let mut offered = direct;
+    for &(traffic, servers) in primaries {
+        let m = riordan(servers, traffic)?;
+        mean += m.mean;
+        variance += m.variance;
+        offered += traffic;
+    }
+    if !(mean > 0.0) {
+        return Ok(FinalGroup {
+            overflow_mean: 0.0,
+            overflow_variance: 0.0,
+            peakedness: 1.0,
+            equivalent: None,
+            lost_traffic: 0.0,
+            final_blocking: 0.0,
+            total_loss: 0.0,
+        });
+    }
+    // Each stream's variance is at least its mean, so V >= M up to rounding.
+    let variance = variance.max(mean);
+    let equivalent = equivalent_random(mean, variance)?;
+    let blocking = erlang_b::blocking_continuous(
+        equivalent.servers + f64::from(final_servers),
+        equivalent.traffic,
+    )?;
+    let lost_traffic = (equivalent.traffic * blocking).min(mean);
+    Ok(FinalGroup {
+        overflow_mean: mean,
+        overflow_variance: variance,
+        peakedness: variance / mean,
+        equivalent: Some(equivalent),
+        lost_traffic,
+        final_blocking: lost_traffic / mean,
+        total_loss: lost_traffic / offered,
+    })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn rejects_smooth_or_bad_moments() {
+        assert!(equivalent_random(5.0, 4.0).is_err());
+        assert!(equivalent_random(0.0, 1.0).is_err());
+        assert!(equivalent_random(f64::NAN, 1.0).is_err());
+        assert!(riordan(3, -2.0).is_err());
+        assert!(final_group(&[(-1.0, 3)], 0.0, 3).is_err());
+    }
+
+    #[test]
+    fn poisson_traffic_is_its_own_equivalent() {
+        let eq = equivalent_random(7.0, 7.0).unwrap();
+        assert_eq!(eq.traffic, 7.0);
+        assert!(eq.servers.abs() < 1e-12);
+    }
+
+    #[test]
+    fn nothing_offered_loses_nothing() {
+        let f = final_group(&[(0.0, 5)], 0.0, 3).unwrap();
+        assert_eq!(f.final_blocking, 0.0);
+        assert_eq!(f.peakedness, 1.0);
+    }
+}
