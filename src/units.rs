@@ -12,7 +12,9 @@ pub enum UnitError {
     #[error("'{0}' is not a duration: expected seconds or a time like \"45s\", \"3m\", \"1h30m\"")]
     Duration(String),
     /// Rates are a count over a unit of time ("420/h").
-    #[error("'{0}' is not a rate: expected calls per unit of time like \"420/h\", \"7/m\", \"0.5/s\"")]
+    #[error(
+        "'{0}' is not a rate: expected calls per unit of time like \"420/h\", \"7/m\", \"0.5/s\""
+    )]
     Rate(String),
     /// Shares are a percentage ("1%") or a fraction ("0.01") from 0 to 1.
     #[error("'{0}' is not a share: expected a percentage like \"1%\" or a fraction like \"0.01\"")]
@@ -46,7 +48,9 @@ pub fn parse_duration(text: &str) -> Result<f64, UnitError> {
         let split = rest
             .find(|c: char| c.is_ascii_alphabetic())
             .ok_or_else(err)?;
-        let value = number(&rest[..split]).filter(|x| *x >= 0.0).ok_or_else(err)?;
+        let value = number(&rest[..split])
+            .filter(|x| *x >= 0.0)
+            .ok_or_else(err)?;
         let tail = &rest[split..];
         let unit_len = tail
             .find(|c: char| !c.is_ascii_alphabetic())

@@ -48,19 +48,52 @@ fn matches_the_truncated_binomial() {
         let what = format!("S={s} N={n} beta={beta}");
         let p = truncated_binomial(s, n, beta);
         let time = if n <= s { p[n as usize] } else { 0.0 };
-        assert_close(&format!("{what} time congestion"), g.time_congestion, time, 1e-12);
+        assert_close(
+            &format!("{what} time congestion"),
+            g.time_congestion,
+            time,
+            1e-12,
+        );
         // Arrival theorem: a call from one source sees the other S - 1.
         let seen = truncated_binomial(s - 1, n, beta);
-        let call = if n <= s - 1 { seen[n as usize] } else { 0.0 };
-        assert_close(&format!("{what} call congestion"), g.call_congestion, call, 1e-12);
+        let call = if n < s { seen[n as usize] } else { 0.0 };
+        assert_close(
+            &format!("{what} call congestion"),
+            g.call_congestion,
+            call,
+            1e-12,
+        );
         // Call congestion from its definition: attempts in state k arrive at
         // rate (S - k) β; blocked ones are those in state N.
-        let attempts: f64 = p.iter().enumerate().map(|(k, pk)| pk * (f64::from(s) - k as f64)).sum();
-        let blocked = if n <= s { p[n as usize] * f64::from(s - n) } else { 0.0 };
-        assert_close(&format!("{what} call congestion (definition)"), g.call_congestion, blocked / attempts, 1e-12);
+        let attempts: f64 = p
+            .iter()
+            .enumerate()
+            .map(|(k, pk)| pk * (f64::from(s) - k as f64))
+            .sum();
+        let blocked = if n <= s {
+            p[n as usize] * f64::from(s - n)
+        } else {
+            0.0
+        };
+        assert_close(
+            &format!("{what} call congestion (definition)"),
+            g.call_congestion,
+            blocked / attempts,
+            1e-12,
+        );
         let carried: f64 = p.iter().enumerate().map(|(k, pk)| k as f64 * pk).sum();
-        assert_close(&format!("{what} carried"), g.carried_traffic, carried, 1e-12);
-        assert_close(&format!("{what} offered"), g.offered_traffic, beta * (f64::from(s) - carried), 1e-12);
+        assert_close(
+            &format!("{what} carried"),
+            g.carried_traffic,
+            carried,
+            1e-12,
+        );
+        assert_close(
+            &format!("{what} offered"),
+            g.offered_traffic,
+            beta * (f64::from(s) - carried),
+            1e-12,
+        );
     }
 }
 
@@ -87,7 +120,12 @@ fn many_sources_tend_to_erlang_b() {
         for s in [10_000u32, 1_000_000] {
             let g = engset::solve(s, n, a / f64::from(s)).unwrap();
             let tolerance = 2.0 * f64::from(n) * f64::from(n) / f64::from(s);
-            assert_close(&format!("N={n} A={a} S={s}"), g.time_congestion, b, tolerance);
+            assert_close(
+                &format!("N={n} A={a} S={s}"),
+                g.time_congestion,
+                b,
+                tolerance,
+            );
         }
     }
 }

@@ -101,9 +101,19 @@ fn matches_the_balance_equations() {
         let q = erlang_a::solve(n, a, h, p).unwrap();
         let (direct, _) = direct_figures(n, a, h, p);
         let what = format!("N={n} A={a} h={h} patience={p}");
-        assert_close(&format!("{what} P(wait)"), q.wait_probability, direct.wait, 1e-12);
+        assert_close(
+            &format!("{what} P(wait)"),
+            q.wait_probability,
+            direct.wait,
+            1e-12,
+        );
         assert_close(&format!("{what} E[Q]"), q.mean_queue, direct.queue, 1e-12);
-        assert_close(&format!("{what} answered"), q.answered, direct.answered, 1e-12);
+        assert_close(
+            &format!("{what} answered"),
+            q.answered,
+            direct.answered,
+            1e-12,
+        );
         // Rate balance: abandonments per second θ E[Q] = λ P(abandon).
         assert_close(
             &format!("{what} abandonment"),
@@ -114,7 +124,12 @@ fn matches_the_balance_equations() {
         // Every call is answered or abandons (two independent sums).
         assert!((q.abandonment + q.answered - 1.0).abs() < 1e-13, "{what}");
         // Little's law for the queue.
-        assert_close(&format!("{what} wait"), q.mean_wait_s, direct.queue * h / a, 1e-12);
+        assert_close(
+            &format!("{what} wait"),
+            q.mean_wait_s,
+            direct.queue * h / a,
+            1e-12,
+        );
     }
 }
 
@@ -190,7 +205,13 @@ fn service_level_matches_uniformization() {
                     break;
                 }
                 expected += prob
-                    * answered_within_uniformized(k - n as usize, f64::from(n), 1.0 / h, 1.0 / p, t);
+                    * answered_within_uniformized(
+                        k - n as usize,
+                        f64::from(n),
+                        1.0 / h,
+                        1.0 / p,
+                        t,
+                    );
             }
             assert_close(
                 &format!("SL(N={n}, A={a}, t={t})"),
@@ -206,7 +227,12 @@ fn service_level_matches_uniformization() {
 fn service_level_ends_are_no_wait_and_answered() {
     for (n, a, h, p) in CASES {
         let q = erlang_a::solve(n, a, h, p).unwrap();
-        assert_close("SL(0)", q.service_level(0.0), 1.0 - q.wait_probability, 1e-12);
+        assert_close(
+            "SL(0)",
+            q.service_level(0.0),
+            1.0 - q.wait_probability,
+            1e-12,
+        );
         assert_close("SL(huge)", q.service_level(1e9), q.answered, 1e-12);
         let mut previous = 0.0;
         for t in [0.0, 1.0, 5.0, 20.0, 60.0, 600.0] {
@@ -222,7 +248,11 @@ fn mean_wait_of_answered_calls_integrates_the_service_level() {
     // E[W 1{answered}] = ∫_0^∞ (P(answered) - SL(t)) dt, integrated by
     // composite Simpson on a stretched grid (SL from the library, the
     // identity from the definition of the mean).
-    for (n, a, h, p) in [(3u32, 2.5, 60.0, 120.0), (5, 8.0, 180.0, 60.0), (10, 9.0, 180.0, 300.0)] {
+    for (n, a, h, p) in [
+        (3u32, 2.5, 60.0, 120.0),
+        (5, 8.0, 180.0, 60.0),
+        (10, 9.0, 180.0, 300.0),
+    ] {
         let q = erlang_a::solve(n, a, h, p).unwrap();
         let end = 60.0 * h.max(p);
         let steps = 20_000;
@@ -261,14 +291,22 @@ fn long_patience_tends_to_erlang_c() {
         for patience in [1e4 * h, 1e6 * h, 1e8 * h] {
             let q = erlang_a::solve(n, a, h, patience).unwrap();
             let gap = ((q.wait_probability - c) / c).abs();
-            assert!(gap < previous_gap / 50.0 || gap < 1e-12, "N={n}: gap {gap} after {previous_gap}");
+            assert!(
+                gap < previous_gap / 50.0 || gap < 1e-12,
+                "N={n}: gap {gap} after {previous_gap}"
+            );
             previous_gap = gap;
             // Abandonment θ E[Q] / λ with the Erlang C queue
             // E[Q] = C A / (N - A), to first order in γ (the second-order
             // terms are below 1e-3 from γ = 1e-6 on).
             if patience >= 1e6 * h {
                 let queue_c = c * a / (f64::from(n) - a);
-                assert_close("abandonment", q.abandonment, (h / patience) * queue_c / a, 1e-3);
+                assert_close(
+                    "abandonment",
+                    q.abandonment,
+                    (h / patience) * queue_c / a,
+                    1e-3,
+                );
             }
             if patience == 1e8 * h {
                 assert_close("P(wait)", q.wait_probability, c, 1e-5);
@@ -308,10 +346,10 @@ fn truncation_bound_holds() {
     // bound.
     let cases = [
         (10u32, 9.0, 180.0, 300.0),
-        (10, 30.0, 180.0, 60.0),   // heavy overload, long queue
-        (200, 199.0, 180.0, 1e5),  // long patience, slow decay
-        (1, 50.0, 60.0, 60.0),     // one agent, huge overload
-        (3, 0.01, 60.0, 0.5),      // short queue
+        (10, 30.0, 180.0, 60.0),  // heavy overload, long queue
+        (200, 199.0, 180.0, 1e5), // long patience, slow decay
+        (1, 50.0, 60.0, 60.0),    // one agent, huge overload
+        (3, 0.01, 60.0, 0.5),     // short queue
     ];
     for (n, a, h, p) in cases {
         let q = erlang_a::solve(n, a, h, p).unwrap();
@@ -338,13 +376,30 @@ fn truncation_bound_holds() {
         }
         let top = kept.iter().cloned().fold(f64::MIN, f64::max);
         let kept_mass: f64 = kept.iter().map(|l| (l - top).exp()).sum();
-        let kept_moment: f64 = kept.iter().enumerate().map(|(i, l)| i as f64 * (l - top).exp()).sum();
+        let kept_moment: f64 = kept
+            .iter()
+            .enumerate()
+            .map(|(i, l)| i as f64 * (l - top).exp())
+            .sum();
         let lost_mass: f64 = neglected_ln.iter().map(|(_, l)| (l - top).exp()).sum();
-        let lost_moment: f64 = neglected_ln.iter().map(|(i, l)| *i as f64 * (l - top).exp()).sum();
+        let lost_moment: f64 = neglected_ln
+            .iter()
+            .map(|(i, l)| *i as f64 * (l - top).exp())
+            .sum();
         let what = format!("N={n} A={a} patience={p} (stopped at {})", q.truncated_at);
-        assert!(lost_mass <= TRUNCATION_TOLERANCE * kept_mass, "{what}: mass {lost_mass:e} of {kept_mass:e}");
-        assert!(lost_mass / kept_mass <= q.tail_bound * (1.0 + 1e-9), "{what}: bound {}", q.tail_bound);
-        assert!(lost_moment <= TRUNCATION_TOLERANCE * kept_moment, "{what}: moment");
+        assert!(
+            lost_mass <= TRUNCATION_TOLERANCE * kept_mass,
+            "{what}: mass {lost_mass:e} of {kept_mass:e}"
+        );
+        assert!(
+            lost_mass / kept_mass <= q.tail_bound * (1.0 + 1e-9),
+            "{what}: bound {}",
+            q.tail_bound
+        );
+        assert!(
+            lost_moment <= TRUNCATION_TOLERANCE * kept_moment,
+            "{what}: moment"
+        );
         // And the bound is not vacuous: the truncation is not wildly late.
         assert!(q.tail_bound > 0.0);
     }
@@ -358,15 +413,26 @@ fn extreme_range_is_finite_and_consistent() {
             for patience in [1.0, 180.0, 1e5] {
                 let q = erlang_a::solve(n, a, 180.0, patience).unwrap();
                 let what = format!("N={n} A={a} patience={patience}");
-                for x in [q.wait_probability, q.abandonment, q.answered, q.service_level(20.0)] {
+                for x in [
+                    q.wait_probability,
+                    q.abandonment,
+                    q.answered,
+                    q.service_level(20.0),
+                ] {
                     assert!(x.is_finite() && (0.0..=1.0).contains(&x), "{what}: {x}");
                 }
-                assert!(q.mean_wait_s.is_finite() && q.mean_wait_answered_s.is_finite(), "{what}");
+                assert!(
+                    q.mean_wait_s.is_finite() && q.mean_wait_answered_s.is_finite(),
+                    "{what}"
+                );
                 assert!((q.abandonment + q.answered - 1.0).abs() < 1e-12, "{what}");
                 assert!(q.carried_traffic <= f64::from(n) * (1.0 + 1e-12), "{what}");
             }
             let q = erlang_a::solve(n, a, 180.0, 180.0).unwrap();
-            assert!(q.wait_probability <= previous_wait, "P(wait) rose with agents at N={n} A={a}");
+            assert!(
+                q.wait_probability <= previous_wait,
+                "P(wait) rose with agents at N={n} A={a}"
+            );
             previous_wait = q.wait_probability;
         }
     }

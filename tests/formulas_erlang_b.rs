@@ -141,8 +141,18 @@ fn matches_statrs_poisson_pmf_over_cdf() {
 #[test]
 fn small_cases_by_hand() {
     // B(1, A) = A / (1 + A); B(3, 2) = (8/6) / (1 + 2 + 2 + 8/6) = 4/19.
-    assert_close("B(1, 0.25)", erlang_b::blocking(1, 0.25).unwrap(), 0.2, 1e-15);
-    assert_close("B(3, 2)", erlang_b::blocking(3, 2.0).unwrap(), 4.0 / 19.0, 1e-15);
+    assert_close(
+        "B(1, 0.25)",
+        erlang_b::blocking(1, 0.25).unwrap(),
+        0.2,
+        1e-15,
+    );
+    assert_close(
+        "B(3, 2)",
+        erlang_b::blocking(3, 2.0).unwrap(),
+        4.0 / 19.0,
+        1e-15,
+    );
 }
 
 #[test]
@@ -179,7 +189,10 @@ fn servers_for_is_the_fewest_that_meet_the_target() {
         for target in [0.5, 0.05, 0.01, 0.001, 1e-6] {
             let n = erlang_b::servers_for(a, target).unwrap();
             assert!(erlang_b::blocking(n, a).unwrap() <= target);
-            assert!(erlang_b::blocking(n - 1, a).unwrap() > target, "A = {a}, target = {target}");
+            assert!(
+                erlang_b::blocking(n - 1, a).unwrap() > target,
+                "A = {a}, target = {target}"
+            );
         }
     }
 }
@@ -201,7 +214,10 @@ fn traffic_for_inverts_blocking_to_1e_12() {
             );
             // Independent check of the root with the direct sum.
             let ln_b = reference_ln_blocking(n, a);
-            assert!((ln_b - target.ln()).abs() < 1e-9, "n = {n}, target = {target}");
+            assert!(
+                (ln_b - target.ln()).abs() < 1e-9,
+                "n = {n}, target = {target}"
+            );
         }
     }
 }

@@ -130,7 +130,10 @@ fn unstable_queues_are_refused() {
     for (n, a) in [(5u32, 5.0), (5, 7.5), (1, 1.0)] {
         assert_eq!(
             erlang_c::wait_probability(n, a),
-            Err(FormulaError::Unstable { traffic: a, agents: n })
+            Err(FormulaError::Unstable {
+                traffic: a,
+                agents: n
+            })
         );
         assert!(erlang_c::service_level(n, a, 60.0, 20.0).is_err());
     }
@@ -171,7 +174,10 @@ fn extreme_range_is_finite_and_monotone() {
             }
             let c = erlang_c::wait_probability(n, a).unwrap();
             let sl = erlang_c::service_level(n, a, 180.0, 20.0).unwrap();
-            assert!(c.is_finite() && (0.0..=1.0).contains(&c), "C({n}, {a}) = {c}");
+            assert!(
+                c.is_finite() && (0.0..=1.0).contains(&c),
+                "C({n}, {a}) = {c}"
+            );
             assert!(sl.is_finite() && (0.0..=1.0).contains(&sl));
             assert!(c <= previous);
             previous = c;

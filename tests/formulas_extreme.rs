@@ -35,7 +35,9 @@ fn reference_ln_blocking(servers: u32, traffic: f64) -> f64 {
     -(top + sum.ln())
 }
 
-const TRAFFIC: [f64; 9] = [0.001, 1.0, 10.0, 100.0, 1000.0, 5000.0, 9000.0, 9999.5, 10_000.0];
+const TRAFFIC: [f64; 9] = [
+    0.001, 1.0, 10.0, 100.0, 1000.0, 5000.0, 9000.0, 9999.5, 10_000.0,
+];
 const SERVERS: [u32; 8] = [1, 10, 100, 1000, 5000, 9000, 9999, 10_000];
 
 #[test]
@@ -45,7 +47,10 @@ fn finite_and_equal_to_the_reference_everywhere() {
             let ln_b = erlang_b::ln_blocking(n, a).unwrap();
             let b = erlang_b::blocking(n, a).unwrap();
             assert!(ln_b.is_finite() && ln_b <= 0.0, "ln B({n}, {a}) = {ln_b}");
-            assert!(b.is_finite() && (0.0..=1.0).contains(&b), "B({n}, {a}) = {b}");
+            assert!(
+                b.is_finite() && (0.0..=1.0).contains(&b),
+                "B({n}, {a}) = {b}"
+            );
             let expected = reference_ln_blocking(n, a);
             // An absolute error in ln B is the relative error in B; the
             // reference itself carries about |ln B| × 1e-16.
@@ -93,7 +98,10 @@ fn inverses_at_the_top_of_the_range() {
         let a = erlang_b::traffic_for(10_000, target).unwrap();
         assert!(a.is_finite() && a > 0.0);
         let ln_b = reference_ln_blocking(10_000, a);
-        assert!((ln_b - target.ln()).abs() < 1e-9, "target {target}: ln B = {ln_b}");
+        assert!(
+            (ln_b - target.ln()).abs() < 1e-9,
+            "target {target}: ln B = {ln_b}"
+        );
     }
 }
 

@@ -78,7 +78,12 @@ fn matches_enumeration() {
 fn one_narrow_class_is_erlang_b() {
     for (c, a) in [(1u32, 0.7), (30, 25.0), (1000, 950.0), (10_000, 10_000.0)] {
         let b = multirate::kaufman_roberts(c, &[(a, 1)]).unwrap();
-        assert_close("KR = Erlang B", b[0], erlang_b::blocking(c, a).unwrap(), 1e-12);
+        assert_close(
+            "KR = Erlang B",
+            b[0],
+            erlang_b::blocking(c, a).unwrap(),
+            1e-12,
+        );
     }
 }
 
@@ -107,5 +112,8 @@ fn extreme_capacity_is_finite_and_monotone() {
     assert!(b.iter().all(|x| x.is_finite() && *x >= 0.0));
     // Heavy load: the recursion passes f64's range and is rescaled.
     let b = multirate::kaufman_roberts(10_000, &[(10_000.0, 1), (2_000.0, 3)]).unwrap();
-    assert!(b.iter().all(|x| x.is_finite() && *x > 0.0 && *x < 1.0), "{b:?}");
+    assert!(
+        b.iter().all(|x| x.is_finite() && *x > 0.0 && *x < 1.0),
+        "{b:?}"
+    );
 }

@@ -31,20 +31,21 @@ fn stationary(states: usize, transitions: &[(usize, usize, f64)]) -> Vec<f64> {
         m[to][from] += rate;
         m[from][from] -= rate;
     }
-    for (c, cell) in m[states - 1].iter_mut().enumerate() {
-        *cell = if c < states { 1.0 } else { 1.0 };
+    // Normalisation Σ π = 1 in place of the last balance equation.
+    for cell in m[states - 1].iter_mut() {
+        *cell = 1.0;
     }
     for col in 0..states {
         let pivot = (col..states)
             .max_by(|&a, &b| m[a][col].abs().total_cmp(&m[b][col].abs()))
             .unwrap();
         m.swap(col, pivot);
-        let p = m[col][col];
-        for row in 0..states {
-            if row != col && m[row][col] != 0.0 {
-                let f = m[row][col] / p;
-                for c in col..=states {
-                    m[row][c] -= f * m[col][c];
+        let pivot_row = m[col].clone();
+        for (row, r) in m.iter_mut().enumerate() {
+            if row != col && r[col] != 0.0 {
+                let f = r[col] / pivot_row[col];
+                for (x, p) in r.iter_mut().zip(&pivot_row).skip(col) {
+                    *x -= f * p;
                 }
             }
         }
@@ -89,7 +90,14 @@ fn overflow_chain(n: usize, a: f64, cap: usize) -> (f64, f64) {
 
 #[test]
 fn riordan_matches_the_two_dimensional_chain() {
-    for (n, a) in [(1usize, 0.5), (2, 1.5), (3, 2.0), (5, 4.0), (6, 9.0), (8, 6.0)] {
+    for (n, a) in [
+        (1usize, 0.5),
+        (2, 1.5),
+        (3, 2.0),
+        (5, 4.0),
+        (6, 9.0),
+        (8, 6.0),
+    ] {
         let (mean, variance) = overflow_chain(n, a, 70);
         let m = overflow::riordan(n as u32, a).unwrap();
         assert_close(&format!("N={n} A={a} mean"), m.mean, mean, 1e-9);
@@ -100,11 +108,24 @@ fn riordan_matches_the_two_dimensional_chain() {
 
 #[test]
 fn exact_equivalent_random_reproduces_the_primary_group() {
-    for (n, a) in [(1u32, 2.0), (3, 0.5), (5, 5.0), (12, 10.0), (60, 50.0), (110, 100.0), (1000, 1000.0)] {
+    for (n, a) in [
+        (1u32, 2.0),
+        (3, 0.5),
+        (5, 5.0),
+        (12, 10.0),
+        (60, 50.0),
+        (110, 100.0),
+        (1000, 1000.0),
+    ] {
         let m = overflow::riordan(n, a).unwrap();
         let eq = overflow::equivalent_random_exact(m.mean, m.variance).unwrap();
         assert_close(&format!("A* for N={n} A={a}"), eq.traffic, a, 1e-8);
-        assert_close(&format!("N* for N={n} A={a}"), eq.servers, f64::from(n), 1e-8);
+        assert_close(
+            &format!("N* for N={n} A={a}"),
+            eq.servers,
+            f64::from(n),
+            1e-8,
+        );
     }
 }
 
@@ -124,7 +145,12 @@ fn rapp_approximates_the_primary_group() {
         let m = overflow::riordan(n, a).unwrap();
         let eq = overflow::equivalent_random(m.mean, m.variance).unwrap();
         assert_close(&format!("A* for N={n} A={a}"), eq.traffic, a, tolerance);
-        assert_close(&format!("N* for N={n} A={a}"), eq.servers, f64::from(n), tolerance);
+        assert_close(
+            &format!("N* for N={n} A={a}"),
+            eq.servers,
+            f64::from(n),
+            tolerance,
+        );
     }
 }
 
@@ -139,7 +165,12 @@ fn one_primary_group_gives_the_exact_loss() {
             let f = overflow::final_group(&[(a, n)], 0.0, final_servers).unwrap();
             let what = format!("N={n} A={a} final {final_servers}");
             assert_close(&format!("lost, {what}"), f.lost_traffic, exact, 1e-7);
-            assert_close("final blocking", f.final_blocking, f.lost_traffic / m.mean, 1e-12);
+            assert_close(
+                "final blocking",
+                f.final_blocking,
+                f.lost_traffic / m.mean,
+                1e-12,
+            );
             assert_close("total loss", f.total_loss, f.lost_traffic / a, 1e-12);
         }
     }
@@ -197,14 +228,28 @@ fn two_primaries_chain(a1: f64, n1: usize, a2: f64, n2: usize, nf: usize) -> f64
 fn final_group_is_close_to_the_exact_chain() {
     // ERT treats the sum of two overflow streams as the overflow of one
     // group: an approximation (ITU-T handbook); measured within 10% here.
-    for (a1, n1, a2, n2, nf) in [(4.0, 4usize, 3.0, 3usize, 4usize), (6.0, 5, 2.0, 3, 6), (5.0, 6, 5.0, 6, 5)] {
+    for (a1, n1, a2, n2, nf) in [
+        (4.0, 4usize, 3.0, 3usize, 4usize),
+        (6.0, 5, 2.0, 3, 6),
+        (5.0, 6, 5.0, 6, 5),
+    ] {
         let exact = two_primaries_chain(a1, n1, a2, n2, nf);
         let f = overflow::final_group(&[(a1, n1 as u32), (a2, n2 as u32)], 0.0, nf as u32).unwrap();
         let m1 = overflow::riordan(n1 as u32, a1).unwrap();
         let m2 = overflow::riordan(n2 as u32, a2).unwrap();
         assert_close("mean adds", f.overflow_mean, m1.mean + m2.mean, 1e-14);
-        assert_close("variance adds", f.overflow_variance, m1.variance + m2.variance, 1e-14);
-        assert_close(&format!("lost for {a1}/{n1} + {a2}/{n2} -> {nf}"), f.lost_traffic, exact, 0.10);
+        assert_close(
+            "variance adds",
+            f.overflow_variance,
+            m1.variance + m2.variance,
+            1e-14,
+        );
+        assert_close(
+            &format!("lost for {a1}/{n1} + {a2}/{n2} -> {nf}"),
+            f.lost_traffic,
+            exact,
+            0.10,
+        );
     }
 }
 
@@ -212,17 +257,31 @@ fn final_group_is_close_to_the_exact_chain() {
 fn direct_traffic_alone_is_erlang_b() {
     for (a, n) in [(3.0, 5u32), (40.0, 45)] {
         let f = overflow::final_group(&[], a, n).unwrap();
-        assert_close("final blocking", f.final_blocking, erlang_b::blocking(n, a).unwrap(), 1e-12);
+        assert_close(
+            "final blocking",
+            f.final_blocking,
+            erlang_b::blocking(n, a).unwrap(),
+            1e-12,
+        );
         assert_eq!(f.peakedness, 1.0);
     }
 }
 
 #[test]
 fn extreme_range_is_finite() {
-    for (n, a) in [(10_000u32, 10_000.0), (10_000, 1.0), (1, 10_000.0), (5_000, 9_000.0)] {
+    for (n, a) in [
+        (10_000u32, 10_000.0),
+        (10_000, 1.0),
+        (1, 10_000.0),
+        (5_000, 9_000.0),
+    ] {
         let m = overflow::riordan(n, a).unwrap();
         assert!(m.mean.is_finite() && m.variance.is_finite());
-        assert!(m.peakedness() >= 1.0 - 1e-12, "N={n} A={a}: {}", m.peakedness());
+        assert!(
+            m.peakedness() >= 1.0 - 1e-12,
+            "N={n} A={a}: {}",
+            m.peakedness()
+        );
         let f = overflow::final_group(&[(a, n)], 1.0, 100).unwrap();
         assert!(f.final_blocking.is_finite() && (0.0..=1.0).contains(&f.final_blocking));
     }

@@ -193,7 +193,12 @@ pub struct FiniteArgs {
 #[derive(Debug, Args)]
 pub struct OverflowArgs {
     /// Offered traffic in erlangs of a single first-choice group (with --servers).
-    #[arg(long, value_name = "ERLANGS", allow_negative_numbers = true, conflicts_with = "calls")]
+    #[arg(
+        long,
+        value_name = "ERLANGS",
+        allow_negative_numbers = true,
+        conflicts_with = "calls"
+    )]
     pub traffic: Option<f64>,
     /// Call rate of a single first-choice group, such as "420/h" (with --holding and --servers).
     #[arg(long, value_name = "RATE", requires = "holding")]
@@ -294,7 +299,11 @@ fn share(flag: &str, text: &str) -> Result<f64> {
 }
 
 /// Offered traffic in erlangs from `--traffic`, or `--calls` × `--holding`.
-fn offered_traffic(traffic: Option<f64>, calls: Option<&str>, holding: Option<&str>) -> Result<f64> {
+fn offered_traffic(
+    traffic: Option<f64>,
+    calls: Option<&str>,
+    holding: Option<&str>,
+) -> Result<f64> {
     let erlangs = match (traffic, calls) {
         (Some(a), _) => a,
         (None, Some(rate)) => {
@@ -323,7 +332,9 @@ fn at_least_one(flag: &str, value: u32) -> Result<u32> {
 fn grade_of_service(text: &str) -> Result<f64> {
     let g = share("loss", text)?;
     if !(g > 0.0 && g < 1.0) {
-        bail!("--loss '{text}' is not valid: expected a share above 0 and below 100%, such as \"1%\"");
+        bail!(
+            "--loss '{text}' is not valid: expected a share above 0 and below 100%, such as \"1%\""
+        );
     }
     Ok(g)
 }
@@ -373,7 +384,12 @@ impl Block {
     }
 
     fn render(&self) -> String {
-        let width = self.rows.iter().map(|(l, _)| l.chars().count()).max().unwrap_or(0);
+        let width = self
+            .rows
+            .iter()
+            .map(|(l, _)| l.chars().count())
+            .max()
+            .unwrap_or(0);
         let mut s = format!("{}\n", self.title);
         for (label, value) in &self.rows {
             s += &format!("  {label:<width$}  {value}\n");
@@ -408,7 +424,11 @@ fn percent(x: f64) -> String {
 }
 
 fn loss(a: &LossArgs) -> Result<Report> {
-    let traffic = offered_traffic(a.offered.traffic, a.offered.calls.as_deref(), a.holding.as_deref())?;
+    let traffic = offered_traffic(
+        a.offered.traffic,
+        a.offered.calls.as_deref(),
+        a.holding.as_deref(),
+    )?;
     let servers = at_least_one("servers", a.servers)?;
     let blocking = erlang_b::blocking(servers, traffic)?;
     let text = Block::new("Erlang B loss system (blocked calls cleared)")
@@ -429,7 +449,11 @@ fn loss(a: &LossArgs) -> Result<Report> {
 }
 
 fn servers(a: &ServersArgs) -> Result<Report> {
-    let traffic = offered_traffic(a.offered.traffic, a.offered.calls.as_deref(), a.holding.as_deref())?;
+    let traffic = offered_traffic(
+        a.offered.traffic,
+        a.offered.calls.as_deref(),
+        a.holding.as_deref(),
+    )?;
     let target = grade_of_service(&a.loss)?;
     let servers = erlang_b::servers_for(traffic, target)?;
     let blocking = erlang_b::blocking(servers, traffic)?;
@@ -438,7 +462,10 @@ fn servers(a: &ServersArgs) -> Result<Report> {
         .row("grade of service", format!("{} or less", percent(target)))
         .row("servers", servers.to_string())
         .row("blocking", percent(blocking))
-        .row("occupancy", percent(traffic * (1.0 - blocking) / f64::from(servers)))
+        .row(
+            "occupancy",
+            percent(traffic * (1.0 - blocking) / f64::from(servers)),
+        )
         .render();
     #[derive(Serialize)]
     struct Json {
@@ -460,7 +487,10 @@ fn traffic(a: &TrafficArgs) -> Result<Report> {
         .row("grade of service", percent(target))
         .row("offered traffic", erlangs(traffic))
         .row("carried traffic", erlangs(traffic * (1.0 - target)))
-        .row("occupancy", percent(traffic * (1.0 - target) / f64::from(servers)))
+        .row(
+            "occupancy",
+            percent(traffic * (1.0 - target) / f64::from(servers)),
+        )
         .render();
     #[derive(Serialize)]
     struct Json {
@@ -474,7 +504,11 @@ fn traffic(a: &TrafficArgs) -> Result<Report> {
 
 fn queue(a: &QueueArgs) -> Result<Report> {
     let holding = duration("holding", &a.holding)?;
-    let traffic = offered_traffic(a.offered.traffic, a.offered.calls.as_deref(), Some(&a.holding))?;
+    let traffic = offered_traffic(
+        a.offered.traffic,
+        a.offered.calls.as_deref(),
+        Some(&a.holding),
+    )?;
     let within = duration("answer-within", &a.answer_within)?;
     let agents = a.agents;
     let wait_probability = erlang_c::wait_probability(agents, traffic)?;
@@ -513,7 +547,11 @@ fn queue(a: &QueueArgs) -> Result<Report> {
 
 fn agents(a: &AgentsArgs) -> Result<Report> {
     let holding = duration("holding", &a.holding)?;
-    let traffic = offered_traffic(a.offered.traffic, a.offered.calls.as_deref(), Some(&a.holding))?;
+    let traffic = offered_traffic(
+        a.offered.traffic,
+        a.offered.calls.as_deref(),
+        Some(&a.holding),
+    )?;
     let within = a
         .answer_within
         .as_deref()
@@ -537,7 +575,9 @@ fn agents(a: &AgentsArgs) -> Result<Report> {
         .transpose()?;
     let mut agents = 1;
     if let (Some(goal), Some(within)) = (level_goal, within) {
-        agents = agents.max(erlang_c::agents_for_service_level(traffic, holding, within, goal)?);
+        agents = agents.max(erlang_c::agents_for_service_level(
+            traffic, holding, within, goal,
+        )?);
     }
     if let Some(goal) = wait_goal {
         agents = agents.max(erlang_c::agents_for_mean_wait(traffic, holding, goal)?);
@@ -553,7 +593,11 @@ fn agents(a: &AgentsArgs) -> Result<Report> {
     if let (Some(goal), Some(t)) = (level_goal, within) {
         block = block.row(
             "goal",
-            format!("{} answered within {}", percent(goal), units::format_duration(t)),
+            format!(
+                "{} answered within {}",
+                percent(goal),
+                units::format_duration(t)
+            ),
         );
     }
     if let Some(goal) = wait_goal {
@@ -592,7 +636,11 @@ fn agents(a: &AgentsArgs) -> Result<Report> {
 
 fn abandon(a: &AbandonArgs) -> Result<Report> {
     let holding = duration("holding", &a.holding)?;
-    let traffic = offered_traffic(a.offered.traffic, a.offered.calls.as_deref(), Some(&a.holding))?;
+    let traffic = offered_traffic(
+        a.offered.traffic,
+        a.offered.calls.as_deref(),
+        Some(&a.holding),
+    )?;
     let patience = duration("patience", &a.patience)?;
     let within = a
         .answer_within
@@ -673,7 +721,9 @@ fn overflow_groups(a: &OverflowArgs) -> Result<Report> {
     let mut groups = Vec::new();
     if a.primary.is_empty() {
         let Some(servers) = a.servers else {
-            bail!("give one first-choice group with --traffic (or --calls) and --servers, or several with --primary ERLANGS:N");
+            bail!(
+                "give one first-choice group with --traffic (or --calls) and --servers, or several with --primary ERLANGS:N"
+            );
         };
         let traffic = offered_traffic(a.traffic, a.calls.as_deref(), a.holding.as_deref())?;
         groups.push((traffic, at_least_one("servers", servers)?));
@@ -709,7 +759,10 @@ fn overflow_groups(a: &OverflowArgs) -> Result<Report> {
         } else {
             format!("first-choice group {}", i + 1)
         };
-        block = block.row(&label, format!("{} on {servers} servers", erlangs(*traffic)));
+        block = block.row(
+            &label,
+            format!("{} on {servers} servers", erlangs(*traffic)),
+        );
     }
     if direct > 0.0 {
         block = block.row("direct traffic", erlangs(direct));
@@ -722,7 +775,11 @@ fn overflow_groups(a: &OverflowArgs) -> Result<Report> {
         if let Some(eq) = f.equivalent {
             block = block.row(
                 "equivalent random group",
-                format!("{} on {} servers", erlangs(eq.traffic), number(eq.servers, 3)),
+                format!(
+                    "{} on {} servers",
+                    erlangs(eq.traffic),
+                    number(eq.servers, 3)
+                ),
             );
         }
         block = block

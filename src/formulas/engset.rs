@@ -84,7 +84,11 @@ pub fn solve(sources: u32, servers: u32, idle_traffic: f64) -> Result<Engset, Fo
     if beta == 0.0 || sources == 0 {
         return Ok(Engset {
             time_congestion: if servers == 0 { 1.0 } else { 0.0 },
-            call_congestion: if servers == 0 && sources > 0 { 1.0 } else { 0.0 },
+            call_congestion: if servers == 0 && sources > 0 {
+                1.0
+            } else {
+                0.0
+            },
             carried_traffic: 0.0,
             offered_traffic: 0.0,
         });

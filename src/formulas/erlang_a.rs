@@ -91,8 +91,8 @@ pub struct ErlangA {
 /// # Errors
 ///
 /// `agents >= 1`, finite `traffic >= 0`, holding and patience finite and
-/// > 0. [`FormulaError::OutOfRange`] when the most likely queue would be
-/// longer than [`MAX_QUEUE`] callers (huge overload with near-infinite
+/// above 0. [`FormulaError::OutOfRange`] when the most likely queue would
+/// be longer than [`MAX_QUEUE`] callers (huge overload with near-infinite
 /// patience).
 ///
 /// # Example

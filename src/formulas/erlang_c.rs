@@ -149,10 +149,7 @@ pub fn occupancy(agents: u32, traffic: f64) -> Result<f64, FormulaError> {
 
 /// Runs the Erlang B recursion upwards and returns the first stable `N` at
 /// which `meets(N, C, 1 - C)` holds.
-fn fewest_agents(
-    traffic: f64,
-    meets: impl Fn(f64, f64, f64) -> bool,
-) -> Result<u32, FormulaError> {
+fn fewest_agents(traffic: f64, meets: impl Fn(f64, f64, f64) -> bool) -> Result<u32, FormulaError> {
     let mut state = LowerMass::new(traffic);
     while state.servers() < MAX_SERVERS {
         state.step();

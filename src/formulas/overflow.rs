@@ -28,7 +28,12 @@ impl OverflowMoments {
 }
 
 /// Riordan's formula with `B` and `1 - B` already known.
-fn riordan_moments(servers: f64, traffic: f64, blocking: f64, carried_share: f64) -> OverflowMoments {
+fn riordan_moments(
+    servers: f64,
+    traffic: f64,
+    blocking: f64,
+    carried_share: f64,
+) -> OverflowMoments {
     let mean = traffic * blocking;
     // N + 1 + M - A written as N + 1 - A(1 - B): no cancellation.
     let denominator = servers + 1.0 - traffic * carried_share;
@@ -96,8 +101,18 @@ pub fn riordan(servers: u32, traffic: f64) -> Result<OverflowMoments, FormulaErr
 /// ```
 pub fn riordan_continuous(servers: f64, traffic: f64) -> Result<OverflowMoments, FormulaError> {
     let traffic = non_negative("offered traffic (erlangs)", traffic)?;
-    let b = erlang_b::blocking_continuous(servers, traffic)?;
-    Ok(riordan_moments(servers, traffic, b, 1.0 - b))
+    Ok(match erlang_b::continuous_state(servers, traffic)? {
+        Some(state) => riordan_moments(servers, traffic, state.blocking(), state.carried_share()),
+        // No traffic: nothing overflows. No servers: everything does.
+        None if traffic == 0.0 => OverflowMoments {
+            mean: 0.0,
+            variance: 0.0,
+        },
+        None => OverflowMoments {
+            mean: traffic,
+            variance: traffic,
+        },
+    })
 }
 
 /// The equivalent random group: Poisson traffic `traffic` offered to
@@ -175,9 +190,11 @@ pub fn equivalent_random(mean: f64, variance: f64) -> Result<EquivalentRandom, F
 /// For each trial `A* >= M` the mean equation fixes `N*` (the overflow mean
 /// falls as servers are added); along that curve the variance rises with
 /// `A*`, so an outer root search on `A*` finds the pair. Both searches are
-/// bracketed and use the Illinois variant of regula falsi, to `1e-12`
-/// relative. Rapp's approximation ([`equivalent_random`]) gives the
-/// starting bracket. Source: R. I. Wilkinson, Bell System Technical Journal
+/// bracketed (the integer Erlang B recursion brackets `N*` between whole
+/// numbers; the outer bracket grows from Rapp's approximation,
+/// [`equivalent_random`]) and use the Illinois variant of regula falsi,
+/// stopping at the rounding level of the recursion (about `1e-12` relative
+/// at 10,000 servers). Source: R. I. Wilkinson, Bell System Technical Journal
 /// 35 (1956); ITU-T Teletraffic Engineering Handbook, chapter on overflow
 /// theory.
 ///
@@ -195,48 +212,77 @@ pub fn equivalent_random(mean: f64, variance: f64) -> Result<EquivalentRandom, F
 /// assert!((eq.traffic - 10.0).abs() < 1e-8 && (eq.servers - 12.0).abs() < 1e-8);
 /// # Ok::<(), busyhour::formulas::FormulaError>(())
 /// ```
-pub fn equivalent_random_exact(
-    mean: f64,
-    variance: f64,
-) -> Result<EquivalentRandom, FormulaError> {
+pub fn equivalent_random_exact(mean: f64, variance: f64) -> Result<EquivalentRandom, FormulaError> {
     let rapp = equivalent_random(mean, variance)?;
     let variance = variance.max(mean);
     if variance == mean {
         return Ok(rapp);
     }
-    // The servers that make `traffic` overflow exactly `mean`.
+    // The servers that make `traffic` overflow exactly `mean`: the integer
+    // recursion brackets them between k - 1 and k, then the continued
+    // Erlang B pins the fraction.
     let servers_for_mean = |traffic: f64| -> Result<f64, FormulaError> {
+        if traffic <= mean {
+            return Ok(0.0);
+        }
         let f = |n: f64| -> Result<f64, FormulaError> {
             Ok((traffic * erlang_b::blocking_continuous(n, traffic)?).ln() - mean.ln())
         };
-        let mut hi = (traffic - mean).max(1.0);
-        let mut f_hi = f(hi)?;
-        while f_hi > 0.0 {
-            hi *= 2.0;
-            if hi > f64::from(erlang_b::MAX_SERVERS) {
+        let mut state = LowerMass::new(traffic);
+        let mut previous = traffic; // overflow of 0 servers
+        loop {
+            if state.servers() >= erlang_b::MAX_SERVERS {
                 return Err(FormulaError::OutOfRange {
                     what: "servers of the equivalent random group",
                     limit: u64::from(erlang_b::MAX_SERVERS),
                 });
             }
-            f_hi = f(hi)?;
+            state.step();
+            let overflow = traffic * state.blocking();
+            if overflow <= mean {
+                let k = f64::from(state.servers());
+                return illinois(
+                    f,
+                    k - 1.0,
+                    previous.ln() - mean.ln(),
+                    k,
+                    overflow.ln() - mean.ln(),
+                    recursion_noise(k),
+                );
+            }
+            previous = overflow;
         }
-        illinois(f, 0.0, f(0.0)?, hi, f_hi)
     };
     let variance_gap = |traffic: f64| -> Result<f64, FormulaError> {
         let n = servers_for_mean(traffic)?;
         Ok(riordan_continuous(n, traffic)?.variance / variance - 1.0)
     };
-    // Bracket: A* = M gives N* = 0 and variance M <= V.
-    let lo = mean;
-    let g_lo = mean / variance - 1.0;
-    let mut hi = rapp.traffic.max(mean * 1.01 + 1e-9);
-    let mut g_hi = variance_gap(hi)?;
-    while g_hi < 0.0 {
-        hi = 2.0 * hi + 1.0;
-        g_hi = variance_gap(hi)?;
+    // Bracket the root near Rapp's value, widening the step each time; A* = M
+    // (N* = 0, variance M <= V) is always a lower end.
+    let start = rapp.traffic.max(mean * (1.0 + 1e-9));
+    let g_start = variance_gap(start)?;
+    let (mut lo, mut g_lo, mut hi, mut g_hi) = (start, g_start, start, g_start);
+    let mut factor = 1.01;
+    if g_start < 0.0 {
+        while g_hi < 0.0 {
+            (lo, g_lo) = (hi, g_hi);
+            hi *= factor;
+            g_hi = variance_gap(hi)?;
+            factor = factor * factor;
+        }
+    } else {
+        while g_lo > 0.0 {
+            (hi, g_hi) = (lo, g_lo);
+            lo = (lo / factor).max(mean);
+            g_lo = if lo == mean {
+                mean / variance - 1.0
+            } else {
+                variance_gap(lo)?
+            };
+            factor = factor * factor;
+        }
     }
-    let traffic = illinois(variance_gap, lo, g_lo, hi, g_hi)?;
+    let traffic = illinois(variance_gap, lo, g_lo, hi, g_hi, recursion_noise(hi))?;
     Ok(EquivalentRandom {
         traffic,
         servers: servers_for_mean(traffic)?,
@@ -244,31 +290,36 @@ pub fn equivalent_random_exact(
 }
 
 /// Root of `f` between `lo` and `hi`, where `f(lo)` and `f(hi)` have
-/// opposite signs (or one is 0), by the Illinois variant of regula falsi,
-/// to `1e-12` relative in `x` (or an exact zero).
+/// opposite signs (or one is within `noise` of 0), by the Illinois variant
+/// of regula falsi. Stops at `|f| <= noise` (the rounding level of `f`) or a
+/// bracket narrower than `1e-12` relative.
 fn illinois(
     f: impl Fn(f64) -> Result<f64, FormulaError>,
     mut lo: f64,
     mut f_lo: f64,
     mut hi: f64,
     mut f_hi: f64,
+    noise: f64,
 ) -> Result<f64, FormulaError> {
-    if f_lo == 0.0 {
+    if f_lo.abs() <= noise {
         return Ok(lo);
     }
-    if f_hi == 0.0 {
+    if f_hi.abs() <= noise {
         return Ok(hi);
     }
     let mut side = 0;
     for _ in 0..200 {
-        let x = (lo * f_hi - hi * f_lo) / (f_hi - f_lo);
-        let x = if x > lo.min(hi) && x < lo.max(hi) {
-            x
+        if (hi - lo).abs() <= 1e-12 * lo.abs().max(hi.abs()).max(1e-12) {
+            break;
+        }
+        let secant = (lo * f_hi - hi * f_lo) / (f_hi - f_lo);
+        let x = if secant > lo.min(hi) && secant < lo.max(hi) {
+            secant
         } else {
             0.5 * (lo + hi)
         };
         let fx = f(x)?;
-        if fx == 0.0 || (hi - lo).abs() <= 1e-12 * x.abs().max(1e-12) {
+        if fx.abs() <= noise {
             return Ok(x);
         }
         if (fx > 0.0) == (f_hi > 0.0) {
@@ -287,7 +338,13 @@ fn illinois(
             side = -1;
         }
     }
-    Ok(0.5 * (lo + hi))
+    Ok(if f_lo.abs() < f_hi.abs() { lo } else { hi })
+}
+
+/// The rounding level of the Erlang B recursion over `servers` steps
+/// (relative error below `3 N ε`, see [`erlang_b::blocking`]), with margin.
+fn recursion_noise(servers: f64) -> f64 {
+    4.0 * f64::EPSILON * (servers + 10.0)
 }
 
 /// A final (high-usage alternative) group offered the overflow of several
@@ -365,7 +422,7 @@ pub fn final_group(
         variance += m.variance;
         offered += traffic;
     }
-    if !(mean > 0.0) {
+    if mean.partial_cmp(&0.0) != Some(std::cmp::Ordering::Greater) {
         return Ok(FinalGroup {
             overflow_mean: 0.0,
             overflow_variance: 0.0,
