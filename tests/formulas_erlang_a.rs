@@ -282,7 +282,7 @@ fn long_patience_tends_to_erlang_c() {
     // As patience grows, M/M/N+M tends to M/M/N: the differences are of
     // order γ = h / patience, so each factor 100 in patience must shrink
     // them about 100-fold.
-    for (n, a) in [(5u32, 4.0), (20, 17.0), (100, 95.0)] {
+    for (n, a) in [(5u32, 4.0), (20, 17.0), (100, 95.0), (10_000, 9_950.0)] {
         let h = 180.0;
         let c = erlang_c::wait_probability(n, a).unwrap();
         let w = erlang_c::mean_wait(n, a, h).unwrap();

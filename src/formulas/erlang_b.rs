@@ -8,7 +8,7 @@
 use super::error::{FormulaError, at_least_one, non_negative, open_share, positive};
 use super::scaled::{BIG, SHIFT, SMALL, Scaled, ldexp};
 
-/// The most servers an inverse will count up to before giving up.
+/// The most servers any formula accepts or an inverse will count up to.
 pub const MAX_SERVERS: u32 = 100_000_000;
 
 /// The running state of the recursion `J(n) = n/A · (1 + J(n-1))`, `J(0) = 0`,
@@ -112,6 +112,18 @@ fn check_traffic(traffic: f64) -> Result<f64, FormulaError> {
     non_negative("offered traffic (erlangs)", traffic)
 }
 
+/// Accepts up to [`MAX_SERVERS`] servers (the recursions take one step per
+/// server).
+pub(crate) fn check_servers(what: &'static str, servers: u32) -> Result<u32, FormulaError> {
+    if servers > MAX_SERVERS {
+        return Err(FormulaError::OutOfRange {
+            what,
+            limit: u64::from(MAX_SERVERS),
+        });
+    }
+    Ok(servers)
+}
+
 /// Erlang B blocking `B(N, A)`: the share of calls lost (and the share of
 /// time all servers are busy) when `traffic` erlangs of Poisson traffic are
 /// offered to `servers` servers and blocked calls are cleared.
@@ -144,6 +156,7 @@ fn check_traffic(traffic: f64) -> Result<f64, FormulaError> {
 /// ```
 pub fn blocking(servers: u32, traffic: f64) -> Result<f64, FormulaError> {
     let traffic = check_traffic(traffic)?;
+    let servers = check_servers("servers", servers)?;
     if servers == 0 {
         return Ok(1.0);
     }
@@ -174,6 +187,7 @@ pub fn blocking(servers: u32, traffic: f64) -> Result<f64, FormulaError> {
 /// ```
 pub fn ln_blocking(servers: u32, traffic: f64) -> Result<f64, FormulaError> {
     let traffic = check_traffic(traffic)?;
+    let servers = check_servers("servers", servers)?;
     if servers == 0 {
         return Ok(0.0);
     }
@@ -372,7 +386,7 @@ pub fn servers_for(traffic: f64, target: f64) -> Result<u32, FormulaError> {
 /// # Ok::<(), busyhour::formulas::FormulaError>(())
 /// ```
 pub fn traffic_for(servers: u32, target: f64) -> Result<f64, FormulaError> {
-    let servers = at_least_one("servers", servers)?;
+    let servers = check_servers("servers", at_least_one("servers", servers)?)?;
     let target = open_share("grade of service (blocking target)", target)?;
     let n = f64::from(servers);
     let ln_target = target.ln();
@@ -439,6 +453,10 @@ mod tests {
         assert!(traffic_for(0, 0.01).is_err());
         assert!(traffic_for(5, 1.5).is_err());
         assert!(blocking_continuous(-0.5, 1.0).is_err());
+        assert!(matches!(
+            blocking(u32::MAX, 1.0),
+            Err(FormulaError::OutOfRange { .. })
+        ));
     }
 
     #[test]

@@ -65,6 +65,7 @@ fn riordan_moments(
 /// ```
 pub fn riordan(servers: u32, traffic: f64) -> Result<OverflowMoments, FormulaError> {
     let traffic = non_negative("offered traffic (erlangs)", traffic)?;
+    let servers = erlang_b::check_servers("servers", servers)?;
     if traffic == 0.0 {
         return Ok(OverflowMoments {
             mean: 0.0,
@@ -413,6 +414,7 @@ pub fn final_group(
     final_servers: u32,
 ) -> Result<FinalGroup, FormulaError> {
     let direct = non_negative("direct traffic (erlangs)", direct)?;
+    let final_servers = erlang_b::check_servers("final-group servers", final_servers)?;
     let mut mean = direct;
     let mut variance = direct;
     let mut offered = direct;
