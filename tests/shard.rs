@@ -19,7 +19,7 @@ fn dir(name: &str) -> PathBuf {
     d
 }
 
-fn shards(scenario: &str, reps: &str, n: u32, d: &PathBuf) -> Vec<String> {
+fn shards(scenario: &str, reps: &str, n: u32, d: &std::path::Path) -> Vec<String> {
     (1..=n)
         .map(|i| {
             let out = d

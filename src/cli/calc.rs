@@ -1,7 +1,852 @@
-//! Placeholder until the formulas land.
-use clap::Args;
-#[derive(Args)]
-pub struct CalcArgs {}
-pub fn run(_a: &CalcArgs) -> anyhow::Result<()> {
-    anyhow::bail!("not yet")
+//! `busyhour calc`: the closed-form formulas from the command line.
+//!
+//! Owns the `calc` arguments, their parsing into numbers and the printing of
+//! the answers (an aligned text block, or JSON with `--json`). Computes
+//! nothing itself: every figure comes from `busyhour::formulas`.
+
+use std::io::Write;
+
+use anyhow::{Context, Result, bail};
+use clap::{Args, Subcommand};
+use serde::Serialize;
+
+use busyhour::formulas::{engset, erlang_a, erlang_b, erlang_c, multirate, overflow};
+use busyhour::units;
+
+/// Arguments of `busyhour calc`.
+#[derive(Debug, Args)]
+pub struct CalcArgs {
+    /// Which formula to evaluate.
+    #[command(subcommand)]
+    pub command: CalcCommand,
+}
+
+/// The questions `busyhour calc` answers.
+#[derive(Debug, Subcommand)]
+pub enum CalcCommand {
+    /// Erlang B: share of calls lost on a group (blocked calls cleared).
+    Loss(LossArgs),
+    /// Erlang B: fewest servers that keep the loss at or below a grade of service.
+    Servers(ServersArgs),
+    /// Erlang B: most traffic a group carries at a grade of service.
+    Traffic(TrafficArgs),
+    /// Erlang C: waiting on an agent group whose callers never give up.
+    Queue(QueueArgs),
+    /// Erlang C: fewest agents for a service-level and/or mean-wait goal.
+    Agents(AgentsArgs),
+    /// Erlang A: waiting and abandonment when callers give up.
+    Abandon(AbandonArgs),
+    /// Engset: loss on a group serving a finite number of sources.
+    Finite(FiniteArgs),
+    /// Overflow moments of first-choice groups and the loss on a shared final group.
+    Overflow(OverflowArgs),
+    /// Kaufman-Roberts: loss per class when calls occupy several channels.
+    Multirate(MultirateArgs),
+}
+
+/// `--json`, shared by every subcommand.
+#[derive(Debug, Args)]
+pub struct Output {
+    /// Print a JSON object instead of the text block.
+    #[arg(long)]
+    pub json: bool,
+}
+
+/// Offered traffic, in erlangs or as a call rate times a holding time.
+#[derive(Debug, Args)]
+pub struct Offered {
+    /// Offered traffic in erlangs (or give --calls with --holding).
+    #[arg(
+        long,
+        value_name = "ERLANGS",
+        allow_negative_numbers = true,
+        required_unless_present = "calls",
+        conflicts_with = "calls"
+    )]
+    pub traffic: Option<f64>,
+    /// Call rate such as "420/h", "7/m" or "0.5/s"; offered traffic is rate × holding time.
+    #[arg(long, value_name = "RATE", requires = "holding")]
+    pub calls: Option<String>,
+}
+
+/// `calc loss`.
+#[derive(Debug, Args)]
+pub struct LossArgs {
+    #[command(flatten)]
+    pub offered: Offered,
+    /// Mean holding time such as "3m", "180s" or "180" (needed with --calls).
+    #[arg(long, value_name = "DURATION")]
+    pub holding: Option<String>,
+    /// Number of servers (circuits, channels, ports).
+    #[arg(long, value_name = "N")]
+    pub servers: u32,
+    #[command(flatten)]
+    pub output: Output,
+}
+
+/// `calc servers`.
+#[derive(Debug, Args)]
+pub struct ServersArgs {
+    #[command(flatten)]
+    pub offered: Offered,
+    /// Mean holding time such as "3m" (needed with --calls).
+    #[arg(long, value_name = "DURATION")]
+    pub holding: Option<String>,
+    /// Grade of service: the largest acceptable loss, such as "1%" or 0.01.
+    #[arg(long, value_name = "SHARE")]
+    pub loss: String,
+    #[command(flatten)]
+    pub output: Output,
+}
+
+/// `calc traffic`.
+#[derive(Debug, Args)]
+pub struct TrafficArgs {
+    /// Number of servers.
+    #[arg(long, value_name = "N")]
+    pub servers: u32,
+    /// Grade of service: the largest acceptable loss, such as "1%" or 0.01.
+    #[arg(long, value_name = "SHARE")]
+    pub loss: String,
+    #[command(flatten)]
+    pub output: Output,
+}
+
+/// `calc queue`.
+#[derive(Debug, Args)]
+pub struct QueueArgs {
+    #[command(flatten)]
+    pub offered: Offered,
+    /// Mean holding (handling) time such as "3m" or "180s".
+    #[arg(long, value_name = "DURATION")]
+    pub holding: String,
+    /// Number of agents.
+    #[arg(long, value_name = "N")]
+    pub agents: u32,
+    /// Answer-time goal for the service level, such as "20s".
+    #[arg(long, value_name = "DURATION")]
+    pub answer_within: String,
+    #[command(flatten)]
+    pub output: Output,
+}
+
+/// `calc agents`.
+#[derive(Debug, Args)]
+#[command(group(clap::ArgGroup::new("goal").required(true).multiple(true).args(["service_level", "mean_wait"])))]
+pub struct AgentsArgs {
+    #[command(flatten)]
+    pub offered: Offered,
+    /// Mean holding (handling) time such as "3m" or "180s".
+    #[arg(long, value_name = "DURATION")]
+    pub holding: String,
+    /// Answer-time goal for the service level, such as "20s".
+    #[arg(long, value_name = "DURATION")]
+    pub answer_within: Option<String>,
+    /// Goal: at least this share answered within --answer-within, such as "80%".
+    #[arg(long, value_name = "SHARE", requires = "answer_within")]
+    pub service_level: Option<String>,
+    /// Goal: mean wait of all calls at most this, such as "15s".
+    #[arg(long, value_name = "DURATION")]
+    pub mean_wait: Option<String>,
+    #[command(flatten)]
+    pub output: Output,
+}
+
+/// `calc abandon`.
+#[derive(Debug, Args)]
+pub struct AbandonArgs {
+    #[command(flatten)]
+    pub offered: Offered,
+    /// Mean holding (handling) time such as "3m" or "180s".
+    #[arg(long, value_name = "DURATION")]
+    pub holding: String,
+    /// Number of agents.
+    #[arg(long, value_name = "N")]
+    pub agents: u32,
+    /// Mean patience: how long callers wait on average before giving up, such as "1m".
+    #[arg(long, value_name = "DURATION")]
+    pub patience: String,
+    /// Answer-time goal for the service level, such as "20s".
+    #[arg(long, value_name = "DURATION")]
+    pub answer_within: Option<String>,
+    #[command(flatten)]
+    pub output: Output,
+}
+
+/// `calc finite`.
+#[derive(Debug, Args)]
+pub struct FiniteArgs {
+    /// Number of traffic sources (subscribers, terminals).
+    #[arg(long, value_name = "S")]
+    pub sources: u32,
+    /// Number of servers.
+    #[arg(long, value_name = "N")]
+    pub servers: u32,
+    /// Offered traffic per idle source in erlangs: its call rate while idle × mean holding time.
+    #[arg(long, value_name = "ERLANGS", allow_negative_numbers = true)]
+    pub idle_traffic: f64,
+    #[command(flatten)]
+    pub output: Output,
+}
+
+/// `calc overflow`.
+#[derive(Debug, Args)]
+pub struct OverflowArgs {
+    /// Offered traffic in erlangs of a single first-choice group (with --servers).
+    #[arg(
+        long,
+        value_name = "ERLANGS",
+        allow_negative_numbers = true,
+        conflicts_with = "calls"
+    )]
+    pub traffic: Option<f64>,
+    /// Call rate of a single first-choice group, such as "420/h" (with --holding and --servers).
+    #[arg(long, value_name = "RATE", requires = "holding")]
+    pub calls: Option<String>,
+    /// Mean holding time such as "3m" (needed with --calls).
+    #[arg(long, value_name = "DURATION")]
+    pub holding: Option<String>,
+    /// Servers of the single first-choice group.
+    #[arg(long, value_name = "N")]
+    pub servers: Option<u32>,
+    /// A first-choice group as TRAFFIC:SERVERS, such as "12:15"; repeat for several.
+    #[arg(long, value_name = "ERLANGS:N", conflicts_with_all = ["traffic", "calls", "servers"])]
+    pub primary: Vec<String>,
+    /// Poisson traffic in erlangs offered straight to the final group.
+    #[arg(long, value_name = "ERLANGS", allow_negative_numbers = true)]
+    pub direct: Option<f64>,
+    /// Servers of the shared final group.
+    #[arg(long = "final", value_name = "N")]
+    pub final_servers: Option<u32>,
+    #[command(flatten)]
+    pub output: Output,
+}
+
+/// `calc multirate`.
+#[derive(Debug, Args)]
+pub struct MultirateArgs {
+    /// Channels of the shared group.
+    #[arg(long, value_name = "C")]
+    pub capacity: u32,
+    /// A traffic class as ERLANGS:CHANNELS_PER_CALL, such as "2.5:6"; repeat for each class.
+    #[arg(long, value_name = "ERLANGS:UNITS", required = true)]
+    pub class: Vec<String>,
+    #[command(flatten)]
+    pub output: Output,
+}
+
+/// Runs `busyhour calc` and prints the answer to standard output.
+///
+/// Errors (bad values, impossible goals, an unstable queue) come back as one
+/// line of text for the caller to print; nothing is printed then.
+pub fn run(args: &CalcArgs) -> Result<()> {
+    let report = evaluate(&args.command)?;
+    let stdout = std::io::stdout();
+    let mut out = stdout.lock();
+    if output_of(&args.command).json {
+        let text = serde_json::to_string_pretty(&report.json)?;
+        writeln!(out, "{text}")?;
+    } else {
+        write!(out, "{}", report.text)?;
+    }
+    out.flush()?;
+    Ok(())
+}
+
+fn output_of(command: &CalcCommand) -> &Output {
+    match command {
+        CalcCommand::Loss(a) => &a.output,
+        CalcCommand::Servers(a) => &a.output,
+        CalcCommand::Traffic(a) => &a.output,
+        CalcCommand::Queue(a) => &a.output,
+        CalcCommand::Agents(a) => &a.output,
+        CalcCommand::Abandon(a) => &a.output,
+        CalcCommand::Finite(a) => &a.output,
+        CalcCommand::Overflow(a) => &a.output,
+        CalcCommand::Multirate(a) => &a.output,
+    }
+}
+
+/// An answer, both as text and as JSON.
+struct Report {
+    text: String,
+    json: serde_json::Value,
+}
+
+fn evaluate(command: &CalcCommand) -> Result<Report> {
+    match command {
+        CalcCommand::Loss(a) => loss(a),
+        CalcCommand::Servers(a) => servers(a),
+        CalcCommand::Traffic(a) => traffic(a),
+        CalcCommand::Queue(a) => queue(a),
+        CalcCommand::Agents(a) => agents(a),
+        CalcCommand::Abandon(a) => abandon(a),
+        CalcCommand::Finite(a) => finite(a),
+        CalcCommand::Overflow(a) => overflow_groups(a),
+        CalcCommand::Multirate(a) => multirate_classes(a),
+    }
+}
+
+// ---------------------------------------------------------------------------
+// Stage 1: text to numbers.
+
+fn duration(flag: &str, text: &str) -> Result<f64> {
+    units::parse_duration(text).with_context(|| format!("--{flag}"))
+}
+
+fn share(flag: &str, text: &str) -> Result<f64> {
+    units::parse_share(text).with_context(|| format!("--{flag}"))
+}
+
+/// Offered traffic in erlangs from `--traffic`, or `--calls` × `--holding`.
+fn offered_traffic(
+    traffic: Option<f64>,
+    calls: Option<&str>,
+    holding: Option<&str>,
+) -> Result<f64> {
+    let erlangs = match (traffic, calls) {
+        (Some(a), _) => a,
+        (None, Some(rate)) => {
+            let per_second = units::parse_rate(rate).context("--calls")?;
+            let Some(holding) = holding else {
+                bail!("--calls needs --holding to turn a call rate into erlangs");
+            };
+            per_second * duration("holding", holding)?
+        }
+        (None, None) => bail!("give the offered traffic with --traffic, or --calls with --holding"),
+    };
+    if !(erlangs >= 0.0 && erlangs.is_finite()) {
+        bail!("offered traffic {erlangs} erlangs is not valid: expected a finite number >= 0");
+    }
+    Ok(erlangs)
+}
+
+fn at_least_one(flag: &str, value: u32) -> Result<u32> {
+    if value == 0 {
+        bail!("--{flag} 0 is not valid: expected at least 1");
+    }
+    Ok(value)
+}
+
+/// A loss goal strictly between 0 and 100%.
+fn grade_of_service(text: &str) -> Result<f64> {
+    let g = share("loss", text)?;
+    if !(g > 0.0 && g < 1.0) {
+        bail!(
+            "--loss '{text}' is not valid: expected a share above 0 and below 100%, such as \"1%\""
+        );
+    }
+    Ok(g)
+}
+
+/// `ERLANGS:COUNT`, as in `--primary 12:15` or `--class 2.5:6`.
+fn pair(flag: &str, text: &str, what: &str, example: &str) -> Result<(f64, u32)> {
+    let parsed = text.split_once(':').and_then(|(a, n)| {
+        let a = a.trim().parse::<f64>().ok().filter(|a| a.is_finite())?;
+        let n = n.trim().parse::<u32>().ok()?;
+        Some((a, n))
+    });
+    match parsed {
+        Some((a, n)) if a >= 0.0 && n >= 1 => Ok((a, n)),
+        _ => bail!(
+            "--{flag} '{text}' is not valid: expected ERLANGS:{what} with erlangs >= 0 and {what} >= 1, such as \"{example}\""
+        ),
+    }
+}
+
+// ---------------------------------------------------------------------------
+// Stage 2: formulas, then the text block and the JSON object.
+
+/// An aligned block of labelled figures under a title line.
+struct Block {
+    title: String,
+    rows: Vec<(String, String)>,
+    notes: Vec<String>,
+}
+
+impl Block {
+    fn new(title: &str) -> Block {
+        Block {
+            title: title.to_string(),
+            rows: Vec::new(),
+            notes: Vec::new(),
+        }
+    }
+
+    fn row(mut self, label: &str, value: String) -> Block {
+        self.rows.push((label.to_string(), value));
+        self
+    }
+
+    fn note(mut self, note: &str) -> Block {
+        self.notes.push(note.to_string());
+        self
+    }
+
+    fn render(&self) -> String {
+        let width = self
+            .rows
+            .iter()
+            .map(|(l, _)| l.chars().count())
+            .max()
+            .unwrap_or(0);
+        let mut s = format!("{}\n", self.title);
+        for (label, value) in &self.rows {
+            s += &format!("  {label:<width$}  {value}\n");
+        }
+        for note in &self.notes {
+            s += &format!("  ({note})\n");
+        }
+        s
+    }
+}
+
+/// A number with up to `digits` decimals, trailing zeros dropped.
+fn number(x: f64, digits: usize) -> String {
+    let s = format!("{x:.digits$}");
+    if s.contains('.') {
+        s.trim_end_matches('0').trim_end_matches('.').to_string()
+    } else {
+        s
+    }
+}
+
+fn erlangs(x: f64) -> String {
+    format!("{} erlangs", number(x, 4))
+}
+
+fn seconds(x: f64) -> String {
+    format!("{} s", number(x, 2))
+}
+
+fn percent(x: f64) -> String {
+    units::format_share(x)
+}
+
+fn loss(a: &LossArgs) -> Result<Report> {
+    let traffic = offered_traffic(
+        a.offered.traffic,
+        a.offered.calls.as_deref(),
+        a.holding.as_deref(),
+    )?;
+    let servers = at_least_one("servers", a.servers)?;
+    let blocking = erlang_b::blocking(servers, traffic)?;
+    let text = Block::new("Erlang B loss system (blocked calls cleared)")
+        .row("offered traffic", erlangs(traffic))
+        .row("servers", servers.to_string())
+        .row("blocking", percent(blocking))
+        .row("carried traffic", erlangs(traffic * (1.0 - blocking)))
+        .row("lost traffic", erlangs(traffic * blocking))
+        .render();
+    #[derive(Serialize)]
+    struct Json {
+        blocking: f64,
+    }
+    Ok(Report {
+        text,
+        json: serde_json::to_value(Json { blocking })?,
+    })
+}
+
+fn servers(a: &ServersArgs) -> Result<Report> {
+    let traffic = offered_traffic(
+        a.offered.traffic,
+        a.offered.calls.as_deref(),
+        a.holding.as_deref(),
+    )?;
+    let target = grade_of_service(&a.loss)?;
+    let servers = erlang_b::servers_for(traffic, target)?;
+    let blocking = erlang_b::blocking(servers, traffic)?;
+    let text = Block::new("Erlang B sizing: fewest servers for the grade of service")
+        .row("offered traffic", erlangs(traffic))
+        .row("grade of service", format!("{} or less", percent(target)))
+        .row("servers", servers.to_string())
+        .row("blocking", percent(blocking))
+        .row(
+            "occupancy",
+            percent(traffic * (1.0 - blocking) / f64::from(servers)),
+        )
+        .render();
+    #[derive(Serialize)]
+    struct Json {
+        servers: u32,
+        blocking: f64,
+    }
+    Ok(Report {
+        text,
+        json: serde_json::to_value(Json { servers, blocking })?,
+    })
+}
+
+fn traffic(a: &TrafficArgs) -> Result<Report> {
+    let servers = at_least_one("servers", a.servers)?;
+    let target = grade_of_service(&a.loss)?;
+    let traffic = erlang_b::traffic_for(servers, target)?;
+    let text = Block::new("Erlang B capacity: most traffic at the grade of service")
+        .row("servers", servers.to_string())
+        .row("grade of service", percent(target))
+        .row("offered traffic", erlangs(traffic))
+        .row("carried traffic", erlangs(traffic * (1.0 - target)))
+        .row(
+            "occupancy",
+            percent(traffic * (1.0 - target) / f64::from(servers)),
+        )
+        .render();
+    #[derive(Serialize)]
+    struct Json {
+        traffic: f64,
+    }
+    Ok(Report {
+        text,
+        json: serde_json::to_value(Json { traffic })?,
+    })
+}
+
+fn queue(a: &QueueArgs) -> Result<Report> {
+    let holding = duration("holding", &a.holding)?;
+    let traffic = offered_traffic(
+        a.offered.traffic,
+        a.offered.calls.as_deref(),
+        Some(&a.holding),
+    )?;
+    let within = duration("answer-within", &a.answer_within)?;
+    let agents = a.agents;
+    let wait_probability = erlang_c::wait_probability(agents, traffic)?;
+    let mean_wait_s = erlang_c::mean_wait(agents, traffic, holding)?;
+    let service_level = erlang_c::service_level(agents, traffic, holding, within)?;
+    let occupancy = erlang_c::occupancy(agents, traffic)?;
+    let text = Block::new("Erlang C delay system (callers wait without giving up)")
+        .row("offered traffic", erlangs(traffic))
+        .row("mean holding time", seconds(holding))
+        .row("agents", agents.to_string())
+        .row("probability of waiting", percent(wait_probability))
+        .row("mean wait, all calls", seconds(mean_wait_s))
+        .row(
+            &format!("answered within {}", units::format_duration(within)),
+            percent(service_level),
+        )
+        .row("occupancy", percent(occupancy))
+        .render();
+    #[derive(Serialize)]
+    struct Json {
+        wait_probability: f64,
+        mean_wait_s: f64,
+        service_level: f64,
+        occupancy: f64,
+    }
+    Ok(Report {
+        text,
+        json: serde_json::to_value(Json {
+            wait_probability,
+            mean_wait_s,
+            service_level,
+            occupancy,
+        })?,
+    })
+}
+
+fn agents(a: &AgentsArgs) -> Result<Report> {
+    let holding = duration("holding", &a.holding)?;
+    let traffic = offered_traffic(
+        a.offered.traffic,
+        a.offered.calls.as_deref(),
+        Some(&a.holding),
+    )?;
+    let within = a
+        .answer_within
+        .as_deref()
+        .map(|t| duration("answer-within", t))
+        .transpose()?;
+    let level_goal = a
+        .service_level
+        .as_deref()
+        .map(|t| {
+            let s = share("service-level", t)?;
+            if !(s > 0.0 && s < 1.0) {
+                bail!("--service-level '{t}' is not valid: expected a share above 0 and below 100%, such as \"80%\"");
+            }
+            Ok(s)
+        })
+        .transpose()?;
+    let wait_goal = a
+        .mean_wait
+        .as_deref()
+        .map(|t| duration("mean-wait", t))
+        .transpose()?;
+    let mut agents = 1;
+    if let (Some(goal), Some(within)) = (level_goal, within) {
+        agents = agents.max(erlang_c::agents_for_service_level(
+            traffic, holding, within, goal,
+        )?);
+    }
+    if let Some(goal) = wait_goal {
+        agents = agents.max(erlang_c::agents_for_mean_wait(traffic, holding, goal)?);
+    }
+    let wait_probability = erlang_c::wait_probability(agents, traffic)?;
+    let mean_wait_s = erlang_c::mean_wait(agents, traffic, holding)?;
+    let service_level = within
+        .map(|t| erlang_c::service_level(agents, traffic, holding, t))
+        .transpose()?;
+    let mut block = Block::new("Erlang C sizing: fewest agents meeting every goal")
+        .row("offered traffic", erlangs(traffic))
+        .row("mean holding time", seconds(holding));
+    if let (Some(goal), Some(t)) = (level_goal, within) {
+        block = block.row(
+            "goal",
+            format!(
+                "{} answered within {}",
+                percent(goal),
+                units::format_duration(t)
+            ),
+        );
+    }
+    if let Some(goal) = wait_goal {
+        block = block.row("goal", format!("mean wait {} or less", seconds(goal)));
+    }
+    block = block
+        .row("agents", agents.to_string())
+        .row("probability of waiting", percent(wait_probability))
+        .row("mean wait, all calls", seconds(mean_wait_s));
+    if let (Some(sl), Some(t)) = (service_level, within) {
+        block = block.row(
+            &format!("answered within {}", units::format_duration(t)),
+            percent(sl),
+        );
+    }
+    let text = block
+        .row("occupancy", percent(traffic / f64::from(agents)))
+        .render();
+    #[derive(Serialize)]
+    struct Json {
+        agents: u32,
+        service_level: Option<f64>,
+        mean_wait_s: f64,
+        wait_probability: f64,
+    }
+    Ok(Report {
+        text,
+        json: serde_json::to_value(Json {
+            agents,
+            service_level,
+            mean_wait_s,
+            wait_probability,
+        })?,
+    })
+}
+
+fn abandon(a: &AbandonArgs) -> Result<Report> {
+    let holding = duration("holding", &a.holding)?;
+    let traffic = offered_traffic(
+        a.offered.traffic,
+        a.offered.calls.as_deref(),
+        Some(&a.holding),
+    )?;
+    let patience = duration("patience", &a.patience)?;
+    let within = a
+        .answer_within
+        .as_deref()
+        .map(|t| duration("answer-within", t))
+        .transpose()?;
+    let q = erlang_a::solve(a.agents, traffic, holding, patience)?;
+    let service_level = within.map(|t| q.service_level(t));
+    let mut block = Block::new("Erlang A delay system with abandonment (M/M/N+M)")
+        .row("offered traffic", erlangs(traffic))
+        .row("mean holding time", seconds(holding))
+        .row("mean patience", seconds(patience))
+        .row("agents", q.agents.to_string())
+        .row("probability of waiting", percent(q.wait_probability))
+        .row("abandoned", percent(q.abandonment))
+        .row("mean wait, all calls", seconds(q.mean_wait_s))
+        .row("mean wait, answered calls", seconds(q.mean_wait_answered_s));
+    if let (Some(sl), Some(t)) = (service_level, within) {
+        block = block.row(
+            &format!("answered within {}", units::format_duration(t)),
+            format!("{} of all calls", percent(sl)),
+        );
+    }
+    let text = block
+        .row("carried traffic", erlangs(q.carried_traffic))
+        .row("occupancy", percent(q.occupancy))
+        .render();
+    #[derive(Serialize)]
+    struct Json {
+        wait_probability: f64,
+        abandonment: f64,
+        mean_wait_s: f64,
+        service_level: Option<f64>,
+    }
+    Ok(Report {
+        text,
+        json: serde_json::to_value(Json {
+            wait_probability: q.wait_probability,
+            abandonment: q.abandonment,
+            mean_wait_s: q.mean_wait_s,
+            service_level,
+        })?,
+    })
+}
+
+fn finite(a: &FiniteArgs) -> Result<Report> {
+    let sources = at_least_one("sources", a.sources)?;
+    let servers = at_least_one("servers", a.servers)?;
+    let g = engset::solve(sources, servers, a.idle_traffic)?;
+    let mut block = Block::new("Engset loss system (finite sources, blocked calls cleared)")
+        .row("sources", sources.to_string())
+        .row("servers", servers.to_string())
+        .row("traffic per idle source", erlangs(a.idle_traffic))
+        .row("offered traffic", erlangs(g.offered_traffic))
+        .row("time congestion", percent(g.time_congestion))
+        .row("call congestion", percent(g.call_congestion))
+        .row("carried traffic", erlangs(g.carried_traffic));
+    if sources <= servers {
+        block = block.note("no more sources than servers: no call is ever blocked");
+    }
+    #[derive(Serialize)]
+    struct Json {
+        time_congestion: f64,
+        call_congestion: f64,
+        carried_traffic: f64,
+    }
+    Ok(Report {
+        text: block.render(),
+        json: serde_json::to_value(Json {
+            time_congestion: g.time_congestion,
+            call_congestion: g.call_congestion,
+            carried_traffic: g.carried_traffic,
+        })?,
+    })
+}
+
+fn overflow_groups(a: &OverflowArgs) -> Result<Report> {
+    let mut groups = Vec::new();
+    if a.primary.is_empty() {
+        let Some(servers) = a.servers else {
+            bail!(
+                "give one first-choice group with --traffic (or --calls) and --servers, or several with --primary ERLANGS:N"
+            );
+        };
+        let traffic = offered_traffic(a.traffic, a.calls.as_deref(), a.holding.as_deref())?;
+        groups.push((traffic, at_least_one("servers", servers)?));
+    } else {
+        for p in &a.primary {
+            groups.push(pair("primary", p, "SERVERS", "12.5:20")?);
+        }
+    }
+    let direct = a.direct.unwrap_or(0.0);
+    if !(direct >= 0.0 && direct.is_finite()) {
+        bail!("--direct {direct} is not valid: expected erlangs >= 0");
+    }
+    let final_servers = a
+        .final_servers
+        .map(|n| at_least_one("final", n))
+        .transpose()?;
+
+    let (mut mean, mut variance) = (direct, direct);
+    for &(traffic, servers) in &groups {
+        let m = overflow::riordan(servers, traffic)?;
+        mean += m.mean;
+        variance += m.variance;
+    }
+    let peakedness = if mean > 0.0 { variance / mean } else { 1.0 };
+    let final_group = final_servers
+        .map(|n| overflow::final_group(&groups, direct, n))
+        .transpose()?;
+
+    let mut block = Block::new("Overflow traffic (Riordan moments, equivalent random method)");
+    for (i, (traffic, servers)) in groups.iter().enumerate() {
+        let label = if groups.len() == 1 {
+            "first-choice group".to_string()
+        } else {
+            format!("first-choice group {}", i + 1)
+        };
+        block = block.row(
+            &label,
+            format!("{} on {servers} servers", erlangs(*traffic)),
+        );
+    }
+    if direct > 0.0 {
+        block = block.row("direct traffic", erlangs(direct));
+    }
+    block = block
+        .row("overflow mean", erlangs(mean))
+        .row("overflow variance", number(variance, 4))
+        .row("peakedness", number(peakedness, 4));
+    if let (Some(f), Some(n)) = (&final_group, final_servers) {
+        if let Some(eq) = f.equivalent {
+            block = block.row(
+                "equivalent random group",
+                format!(
+                    "{} on {} servers",
+                    erlangs(eq.traffic),
+                    number(eq.servers, 3)
+                ),
+            );
+        }
+        block = block
+            .row("final group", format!("{n} servers"))
+            .row("final-group blocking", percent(f.final_blocking))
+            .row("lost traffic", erlangs(f.lost_traffic))
+            .row("share of all traffic lost", percent(f.total_loss));
+    }
+    #[derive(Serialize)]
+    struct Json {
+        overflow_mean: f64,
+        overflow_variance: f64,
+        peakedness: f64,
+        final_blocking: Option<f64>,
+    }
+    Ok(Report {
+        text: block.render(),
+        json: serde_json::to_value(Json {
+            overflow_mean: mean,
+            overflow_variance: variance,
+            peakedness,
+            final_blocking: final_group.map(|f| f.final_blocking),
+        })?,
+    })
+}
+
+fn multirate_classes(a: &MultirateArgs) -> Result<Report> {
+    let capacity = at_least_one("capacity", a.capacity)?;
+    let classes = a
+        .class
+        .iter()
+        .map(|c| pair("class", c, "UNITS", "2.5:6"))
+        .collect::<Result<Vec<_>>>()?;
+    let blocking = multirate::kaufman_roberts(capacity, &classes)?;
+    let mut block = Block::new("Multi-rate loss system (Kaufman-Roberts)")
+        .row("capacity", format!("{capacity} channels"));
+    #[derive(Serialize)]
+    struct Class {
+        traffic: f64,
+        units: u32,
+        blocking: f64,
+    }
+    #[derive(Serialize)]
+    struct Json {
+        classes: Vec<Class>,
+    }
+    let mut json = Json {
+        classes: Vec::new(),
+    };
+    for (i, (&(traffic, units), &b)) in classes.iter().zip(&blocking).enumerate() {
+        block = block.row(
+            &format!("class {}", i + 1),
+            format!(
+                "{}, {units} channel{} per call: blocking {}",
+                erlangs(traffic),
+                if units == 1 { "" } else { "s" },
+                percent(b)
+            ),
+        );
+        json.classes.push(Class {
+            traffic,
+            units,
+            blocking: b,
+        });
+    }
+    Ok(Report {
+        text: block.render(),
+        json: serde_json::to_value(json)?,
+    })
 }

@@ -1,6 +1,7 @@
 //! Engset: a loss system offered traffic by a finite number of sources
 //! (blocked calls cleared), each source calling only while idle.
 
+use super::erlang_b::check_servers;
 use super::error::{FormulaError, non_negative};
 use super::scaled::{BIG, SHIFT, SMALL, Scaled, ldexp};
 
@@ -81,6 +82,7 @@ fn time_congestion(sources: u32, servers: u32, beta: f64) -> f64 {
 /// ```
 pub fn solve(sources: u32, servers: u32, idle_traffic: f64) -> Result<Engset, FormulaError> {
     let beta = non_negative("offered traffic per idle source (erlangs)", idle_traffic)?;
+    let servers = check_servers("servers", servers)?;
     if beta == 0.0 || sources == 0 {
         return Ok(Engset {
             time_congestion: if servers == 0 { 1.0 } else { 0.0 },

@@ -2,7 +2,7 @@
 //! Poisson arrivals, exponential holding times, `N` agents, and callers who
 //! give up after an exponential patience if not answered by then.
 
-use super::erlang_b::LowerMass;
+use super::erlang_b::{LowerMass, check_servers};
 use super::error::{FormulaError, at_least_one, non_negative, positive};
 use super::scaled::{BIG, SHIFT, SMALL, Scaled};
 
@@ -91,8 +91,8 @@ pub struct ErlangA {
 /// # Errors
 ///
 /// `agents >= 1`, finite `traffic >= 0`, holding and patience finite and
-/// > 0. [`FormulaError::OutOfRange`] when the most likely queue would be
-/// longer than [`MAX_QUEUE`] callers (huge overload with near-infinite
+/// above 0. [`FormulaError::OutOfRange`] when the most likely queue would
+/// be longer than [`MAX_QUEUE`] callers (huge overload with near-infinite
 /// patience).
 ///
 /// # Example
@@ -112,7 +112,7 @@ pub fn solve(
     holding_s: f64,
     patience_s: f64,
 ) -> Result<ErlangA, FormulaError> {
-    let agents = at_least_one("agents", agents)?;
+    let agents = check_servers("agents", at_least_one("agents", agents)?)?;
     let traffic = non_negative("offered traffic (erlangs)", traffic)?;
     let holding_s = positive("mean holding time (s)", holding_s)?;
     let patience_s = positive("mean patience (s)", patience_s)?;

@@ -8,7 +8,7 @@
 use super::error::{FormulaError, at_least_one, non_negative, open_share, positive};
 use super::scaled::{BIG, SHIFT, SMALL, Scaled, ldexp};
 
-/// The most servers an inverse will count up to before giving up.
+/// The most servers any formula accepts or an inverse will count up to.
 pub const MAX_SERVERS: u32 = 100_000_000;
 
 /// The running state of the recursion `J(n) = n/A · (1 + J(n-1))`, `J(0) = 0`,
@@ -22,7 +22,10 @@ pub const MAX_SERVERS: u32 = 100_000_000;
 #[derive(Debug, Clone, Copy)]
 pub(crate) struct LowerMass {
     traffic: f64,
-    /// Servers reached so far.
+    /// Fractional servers below the integer steps (0 for whole groups):
+    /// the state describes `offset + n` servers.
+    offset: f64,
+    /// Whole steps taken so far.
     n: u32,
     /// Mantissa of J(n).
     j: f64,
@@ -35,10 +38,17 @@ pub(crate) struct LowerMass {
 impl LowerMass {
     /// Starts at `n = 0`; `traffic` must be finite and > 0.
     pub(crate) fn new(traffic: f64) -> LowerMass {
+        LowerMass::from_fraction(traffic, 0.0, 0.0)
+    }
+
+    /// Starts at `offset` servers (`0 <= offset < 1`) with `J(offset) = j0`;
+    /// each step then adds one server.
+    pub(crate) fn from_fraction(traffic: f64, offset: f64, j0: f64) -> LowerMass {
         LowerMass {
             traffic,
+            offset,
             n: 0,
-            j: 0.0,
+            j: j0,
             e: 0,
             one: 1.0,
         }
@@ -48,7 +58,7 @@ impl LowerMass {
     #[inline]
     pub(crate) fn step(&mut self) {
         self.n += 1;
-        self.j = (f64::from(self.n) / self.traffic) * (self.one + self.j);
+        self.j = ((self.offset + f64::from(self.n)) / self.traffic) * (self.one + self.j);
         if self.j > BIG {
             // Performance: the rescale is rare (once per ~10^154 of growth),
             // so the common path is one division, one addition and one
@@ -66,7 +76,7 @@ impl LowerMass {
         }
     }
 
-    /// Servers reached so far.
+    /// Whole steps taken so far (the servers, for a whole group).
     pub(crate) fn servers(&self) -> u32 {
         self.n
     }
@@ -102,6 +112,18 @@ fn check_traffic(traffic: f64) -> Result<f64, FormulaError> {
     non_negative("offered traffic (erlangs)", traffic)
 }
 
+/// Accepts up to [`MAX_SERVERS`] servers (the recursions take one step per
+/// server).
+pub(crate) fn check_servers(what: &'static str, servers: u32) -> Result<u32, FormulaError> {
+    if servers > MAX_SERVERS {
+        return Err(FormulaError::OutOfRange {
+            what,
+            limit: u64::from(MAX_SERVERS),
+        });
+    }
+    Ok(servers)
+}
+
 /// Erlang B blocking `B(N, A)`: the share of calls lost (and the share of
 /// time all servers are busy) when `traffic` erlangs of Poisson traffic are
 /// offered to `servers` servers and blocked calls are cleared.
@@ -134,6 +156,7 @@ fn check_traffic(traffic: f64) -> Result<f64, FormulaError> {
 /// ```
 pub fn blocking(servers: u32, traffic: f64) -> Result<f64, FormulaError> {
     let traffic = check_traffic(traffic)?;
+    let servers = check_servers("servers", servers)?;
     if servers == 0 {
         return Ok(1.0);
     }
@@ -164,6 +187,7 @@ pub fn blocking(servers: u32, traffic: f64) -> Result<f64, FormulaError> {
 /// ```
 pub fn ln_blocking(servers: u32, traffic: f64) -> Result<f64, FormulaError> {
     let traffic = check_traffic(traffic)?;
+    let servers = check_servers("servers", servers)?;
     if servers == 0 {
         return Ok(0.0);
     }
@@ -211,6 +235,19 @@ pub fn ln_blocking(servers: u32, traffic: f64) -> Result<f64, FormulaError> {
 /// # Ok::<(), busyhour::formulas::FormulaError>(())
 /// ```
 pub fn blocking_continuous(servers: f64, traffic: f64) -> Result<f64, FormulaError> {
+    Ok(match continuous_state(servers, traffic)? {
+        None if servers == 0.0 => 1.0,
+        None => 0.0,
+        Some(state) => state.blocking(),
+    })
+}
+
+/// The recursion state at a real number of servers (see
+/// [`blocking_continuous`]); `None` when `servers` or `traffic` is 0.
+pub(crate) fn continuous_state(
+    servers: f64,
+    traffic: f64,
+) -> Result<Option<LowerMass>, FormulaError> {
     let servers = non_negative("servers", servers)?;
     let traffic = check_traffic(traffic)?;
     if servers > f64::from(MAX_SERVERS) {
@@ -219,21 +256,15 @@ pub fn blocking_continuous(servers: f64, traffic: f64) -> Result<f64, FormulaErr
             limit: u64::from(MAX_SERVERS),
         });
     }
-    if servers == 0.0 {
-        return Ok(1.0);
-    }
-    if traffic == 0.0 {
-        return Ok(0.0);
+    if servers == 0.0 || traffic == 0.0 {
+        return Ok(None);
     }
     let whole = servers.floor();
     let frac = servers - whole;
     // J(x0) = 1/B(x0) - 1, then J(x0 + k) = ((x0 + k)/A)(1 + J(x0 + k - 1)).
-    let mut j = Scaled::from_f64(fractional_lower_mass(frac, traffic));
-    let steps = whole as u32;
-    for k in 1..=steps {
-        j = Scaled::ONE.add(j).mul_f64((frac + f64::from(k)) / traffic);
-    }
-    Ok(Scaled::ONE.add(j).recip().to_f64())
+    let mut state = LowerMass::from_fraction(traffic, frac, fractional_lower_mass(frac, traffic));
+    state.run_to(whole as u32);
+    Ok(Some(state))
 }
 
 /// `J(x₀) = 1/B(x₀, A) - 1` for `0 <= x₀ < 1`, `A > 0`.
@@ -355,7 +386,7 @@ pub fn servers_for(traffic: f64, target: f64) -> Result<u32, FormulaError> {
 /// # Ok::<(), busyhour::formulas::FormulaError>(())
 /// ```
 pub fn traffic_for(servers: u32, target: f64) -> Result<f64, FormulaError> {
-    let servers = at_least_one("servers", servers)?;
+    let servers = check_servers("servers", at_least_one("servers", servers)?)?;
     let target = open_share("grade of service (blocking target)", target)?;
     let n = f64::from(servers);
     let ln_target = target.ln();
@@ -422,6 +453,10 @@ mod tests {
         assert!(traffic_for(0, 0.01).is_err());
         assert!(traffic_for(5, 1.5).is_err());
         assert!(blocking_continuous(-0.5, 1.0).is_err());
+        assert!(matches!(
+            blocking(u32::MAX, 1.0),
+            Err(FormulaError::OutOfRange { .. })
+        ));
     }
 
     #[test]

@@ -1,7 +1,7 @@
 //! Erlang C: the delay system M/M/N (callers wait as long as it takes, served
 //! first come, first served), with mean wait, service level and agent sizing.
 
-use super::erlang_b::{LowerMass, MAX_SERVERS};
+use super::erlang_b::{LowerMass, MAX_SERVERS, check_servers};
 use super::error::{FormulaError, at_least_one, non_negative, open_share, positive};
 
 /// Erlang C wait probability and its complement from the Erlang B state of
@@ -18,7 +18,7 @@ fn wait_and_complement(agents: f64, traffic: f64, blocking: f64, carried_share: 
 
 /// Validated agents and traffic of a stable queue.
 fn stable(agents: u32, traffic: f64) -> Result<(f64, f64), FormulaError> {
-    let agents = at_least_one("agents", agents)?;
+    let agents = check_servers("agents", at_least_one("agents", agents)?)?;
     let traffic = non_negative("offered traffic (erlangs)", traffic)?;
     if traffic >= f64::from(agents) {
         return Err(FormulaError::Unstable { traffic, agents });

@@ -16,7 +16,26 @@
 //! by positive-term recursions (never factorials) in extended range, so
 //! nothing overflows; figures below `f64`'s smallest normal number (about
 //! `2.2e-308`) are returned as 0 or subnormal ([`erlang_b::ln_blocking`]
-//! reaches them).
+//! reaches them). Each module's tests name the independent reference they
+//! are checked against.
+//!
+//! # Limits
+//!
+//! Up to [`erlang_b::MAX_SERVERS`] servers or agents (the recursions take
+//! one step per server), [`multirate::MAX_CAPACITY`] channels for
+//! Kaufman-Roberts, and queues up to [`erlang_a::MAX_QUEUE`] callers for
+//! Erlang A; beyond, [`FormulaError::OutOfRange`].
+//!
+//! # Example
+//!
+//! ```
+//! use busyhour::formulas::{erlang_b, erlang_c};
+//! // 10 erlangs at 1% loss need 18 circuits.
+//! assert_eq!(erlang_b::servers_for(10.0, 0.01)?, 18);
+//! // 80% of calls answered within 20 s, 3-minute calls: 14 agents.
+//! assert_eq!(erlang_c::agents_for_service_level(10.0, 180.0, 20.0, 0.8)?, 14);
+//! # Ok::<(), busyhour::formulas::FormulaError>(())
+//! ```
 
 pub mod engset;
 pub mod erlang_a;

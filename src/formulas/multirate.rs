@@ -4,6 +4,10 @@
 use super::error::{FormulaError, at_least_one, non_negative};
 use super::scaled::{BIG, SMALL};
 
+/// The largest group (channels) the recursion accepts: it keeps one number
+/// per channel.
+pub const MAX_CAPACITY: u32 = 10_000_000;
+
 /// Kaufman-Roberts blocking per class on a group of `capacity` channels
 /// offered `classes`, each `(traffic in erlangs, channels per call)`.
 ///
@@ -40,6 +44,12 @@ use super::scaled::{BIG, SMALL};
 /// ```
 pub fn kaufman_roberts(capacity: u32, classes: &[(f64, u32)]) -> Result<Vec<f64>, FormulaError> {
     let capacity = at_least_one("capacity (channels)", capacity)?;
+    if capacity > MAX_CAPACITY {
+        return Err(FormulaError::OutOfRange {
+            what: "capacity (channels)",
+            limit: u64::from(MAX_CAPACITY),
+        });
+    }
     if classes.is_empty() {
         return Err(FormulaError::InvalidArgument {
             name: "traffic classes",
@@ -100,6 +110,7 @@ mod tests {
     #[test]
     fn rejects_bad_classes() {
         assert!(kaufman_roberts(10, &[]).is_err());
+        assert!(kaufman_roberts(u32::MAX, &[(1.0, 1)]).is_err());
         assert!(kaufman_roberts(0, &[(1.0, 1)]).is_err());
         assert!(kaufman_roberts(10, &[(1.0, 0)]).is_err());
         assert!(kaufman_roberts(10, &[(f64::NAN, 1)]).is_err());

@@ -17,8 +17,8 @@ pub(crate) const SMALL: f64 = pow2_normal(-SHIFT);
 /// The high part of ln 2 (its low bits are zero, so `k * LN2_HI` is exact for
 /// |k| < 2^20); with `LN2_LO` it gives ln 2 to about 2^-90 (Cody and Waite's
 /// argument reduction).
-const LN2_HI: f64 = 6.931_471_803_691_238_164_90e-1;
-const LN2_LO: f64 = 1.908_214_929_270_587_700_02e-10;
+const LN2_HI: f64 = f64::from_bits(0x3fe6_2e42_fee0_0000);
+const LN2_LO: f64 = f64::from_bits(0x3dea_39ef_3579_3c76);
 
 /// `2^e` for `e` in the normal range `[-1022, 1023]`, exact.
 const fn pow2_normal(e: i64) -> f64 {
@@ -65,6 +65,7 @@ impl Scaled {
     }
 
     /// `x` as an extended number.
+    #[cfg(test)]
     pub(crate) fn from_f64(x: f64) -> Scaled {
         Scaled::new(x, 0)
     }

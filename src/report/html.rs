@@ -48,9 +48,19 @@ pub fn page(title: &str, subtitle: &str, blocks: &[Block]) -> String {
     let mut out = String::new();
     out.push_str("<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\">\n");
     out.push_str("<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\">\n");
-    out.push_str(&format!("<title>{}</title>\n<style>{STYLE}</style>\n</head>\n<body>\n", escape(title)));
-    out.push_str(&format!("<h1>{}</h1>\n<p class=\"meta\">{}</p>\n", escape(title), escape(subtitle)));
-    out.push_str(&format!("<div class=\"caution\"><strong>Caution.</strong> {}</div>\n", escape(CAUTION)));
+    out.push_str(&format!(
+        "<title>{}</title>\n<style>{STYLE}</style>\n</head>\n<body>\n",
+        escape(title)
+    ));
+    out.push_str(&format!(
+        "<h1>{}</h1>\n<p class=\"meta\">{}</p>\n",
+        escape(title),
+        escape(subtitle)
+    ));
+    out.push_str(&format!(
+        "<div class=\"caution\"><strong>Caution.</strong> {}</div>\n",
+        escape(CAUTION)
+    ));
     for b in blocks {
         match b {
             Block::Heading(h) => out.push_str(&format!("<h2>{}</h2>\n", escape(h))),

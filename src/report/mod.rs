@@ -807,28 +807,28 @@ pub fn size_rows(r: &crate::experiment::size::SizeResult) -> Vec<Vec<String>> {
         rows[0].push(format!("at {} servers", e.servers));
         rows[0].push(String::new());
     }
-        for (i, goal) in r.goals.iter().enumerate() {
-            let mut row = vec![format!(
-                "{} (bound {})",
-                goal.text,
-                goal_value(goal.figure, goal.bound)
-            )];
-            for e in &cols {
-                let (v, est) = e.goals[i];
-                let k = kind(goal.figure);
-                row.push(format!(
-                    "{} {}",
-                    fmt_value(k, est.mean),
-                    fmt_half_width(k, est.half_width)
-                ));
-                row.push(match v {
-                    Verdict::Holds => "holds".into(),
-                    Verdict::Fails => "FAILS".into(),
-                    Verdict::Undecided => "undecided".into(),
-                });
-            }
-            rows.push(row);
+    for (i, goal) in r.goals.iter().enumerate() {
+        let mut row = vec![format!(
+            "{} (bound {})",
+            goal.text,
+            goal_value(goal.figure, goal.bound)
+        )];
+        for e in &cols {
+            let (v, est) = e.goals[i];
+            let k = kind(goal.figure);
+            row.push(format!(
+                "{} {}",
+                fmt_value(k, est.mean),
+                fmt_half_width(k, est.half_width)
+            ));
+            row.push(match v {
+                Verdict::Holds => "holds".into(),
+                Verdict::Fails => "FAILS".into(),
+                Verdict::Undecided => "undecided".into(),
+            });
         }
+        rows.push(row);
+    }
     rows
 }
 

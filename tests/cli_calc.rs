@@ -1,0 +1,669 @@
+//! `busyhour calc` end to end: each subcommand's JSON keys and values,
+//! checked against the library formulas (whose own accuracy is tested
+//! against outside references in the `formulas_*` tests) and, where a
+//! figure is known in closed form, against that; and the exit status and
+//! one-line message of bad input.
+
+use std::process::{Command, Output};
+
+use busyhour::formulas::{engset, erlang_a, erlang_b, erlang_c, multirate, overflow};
+use serde_json::Value;
+
+fn busyhour(args: &[&str]) -> Output {
+    Command::new(env!("CARGO_BIN_EXE_busyhour"))
+        .args(args)
+        .output()
+        .expect("the busyhour binary runs")
+}
+
+/// Runs `busyhour calc ... --json`, checks success and the exact key set.
+fn calc_json(args: &[&str], keys: &[&str]) -> Value {
+    let mut all = vec!["calc"];
+    all.extend_from_slice(args);
+    all.push("--json");
+    let out = busyhour(&all);
+    assert!(
+        out.status.success(),
+        "busyhour {all:?} failed: {}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let json: Value = serde_json::from_slice(&out.stdout).expect("stdout is JSON");
+    let object = json.as_object().expect("a JSON object");
+    let mut found: Vec<&str> = object.keys().map(String::as_str).collect();
+    found.sort_unstable();
+    let mut wanted = keys.to_vec();
+    wanted.sort_unstable();
+    assert_eq!(found, wanted, "keys of busyhour {all:?}");
+    json
+}
+
+fn number(json: &Value, key: &str) -> f64 {
+    json[key]
+        .as_f64()
+        .unwrap_or_else(|| panic!("{key} is not a number in {json}"))
+}
+
+fn assert_close(what: &str, actual: f64, expected: f64, tolerance: f64) {
+    let error = if expected == 0.0 {
+        actual.abs()
+    } else {
+        ((actual - expected) / expected).abs()
+    };
+    assert!(
+        error <= tolerance,
+        "{what}: expected {expected:e}, got {actual:e}"
+    );
+}
+
+#[test]
+fn loss() {
+    let json = calc_json(
+        &["loss", "--traffic", "10", "--servers", "18"],
+        &["blocking"],
+    );
+    assert_close(
+        "blocking",
+        number(&json, "blocking"),
+        erlang_b::blocking(18, 10.0).unwrap(),
+        1e-15,
+    );
+    // 420 calls per hour of 3 minutes each: 21 erlangs.
+    let json = calc_json(
+        &[
+            "loss",
+            "--calls",
+            "420/h",
+            "--holding",
+            "3m",
+            "--servers",
+            "25",
+        ],
+        &["blocking"],
+    );
+    assert_close(
+        "blocking",
+        number(&json, "blocking"),
+        erlang_b::blocking(25, 21.0).unwrap(),
+        1e-12,
+    );
+    // One server: B = A / (1 + A), in closed form.
+    let json = calc_json(
+        &["loss", "--traffic", "0.25", "--servers", "1"],
+        &["blocking"],
+    );
+    assert_close("B(1, 0.25)", number(&json, "blocking"), 0.2, 1e-15);
+}
+
+#[test]
+fn servers() {
+    let json = calc_json(
+        &["servers", "--traffic", "10", "--loss", "1%"],
+        &["servers", "blocking"],
+    );
+    // Recalled from handbook tables: 10 erlangs at 1% need 18 circuits.
+    assert_eq!(json["servers"].as_u64(), Some(18));
+    assert_close(
+        "blocking",
+        number(&json, "blocking"),
+        erlang_b::blocking(18, 10.0).unwrap(),
+        1e-15,
+    );
+    let json = calc_json(
+        &[
+            "servers",
+            "--calls",
+            "7/m",
+            "--holding",
+            "90s",
+            "--loss",
+            "0.001",
+        ],
+        &["servers", "blocking"],
+    );
+    assert_eq!(
+        json["servers"].as_u64(),
+        Some(u64::from(erlang_b::servers_for(10.5, 0.001).unwrap()))
+    );
+}
+
+#[test]
+fn traffic() {
+    let json = calc_json(
+        &["traffic", "--servers", "10", "--loss", "1%"],
+        &["traffic"],
+    );
+    // Recalled from handbook tables: 10 circuits carry 4.46 erlangs at 1%.
+    assert!((number(&json, "traffic") - 4.46).abs() < 0.005);
+    assert_close(
+        "traffic",
+        number(&json, "traffic"),
+        erlang_b::traffic_for(10, 0.01).unwrap(),
+        1e-15,
+    );
+}
+
+#[test]
+fn queue() {
+    let keys = [
+        "wait_probability",
+        "mean_wait_s",
+        "service_level",
+        "occupancy",
+    ];
+    let json = calc_json(
+        &[
+            "queue",
+            "--traffic",
+            "10",
+            "--agents",
+            "12",
+            "--holding",
+            "3m",
+            "--answer-within",
+            "20s",
+        ],
+        &keys,
+    );
+    assert_close(
+        "C",
+        number(&json, "wait_probability"),
+        erlang_c::wait_probability(12, 10.0).unwrap(),
+        1e-15,
+    );
+    assert_close(
+        "W",
+        number(&json, "mean_wait_s"),
+        erlang_c::mean_wait(12, 10.0, 180.0).unwrap(),
+        1e-15,
+    );
+    assert_close(
+        "SL",
+        number(&json, "service_level"),
+        erlang_c::service_level(12, 10.0, 180.0, 20.0).unwrap(),
+        1e-15,
+    );
+    assert_close("occupancy", number(&json, "occupancy"), 10.0 / 12.0, 1e-15);
+    // M/M/1 in closed form: C = ρ, W = ρ h / (1 - ρ).
+    let json = calc_json(
+        &[
+            "queue",
+            "--calls",
+            "0.005/s",
+            "--holding",
+            "100",
+            "--agents",
+            "1",
+            "--answer-within",
+            "0",
+        ],
+        &keys,
+    );
+    assert_close("M/M/1 C", number(&json, "wait_probability"), 0.5, 1e-15);
+    assert_close("M/M/1 W", number(&json, "mean_wait_s"), 100.0, 1e-13);
+    assert_close("M/M/1 SL(0)", number(&json, "service_level"), 0.5, 1e-15);
+}
+
+#[test]
+fn agents() {
+    let keys = ["agents", "service_level", "mean_wait_s", "wait_probability"];
+    let json = calc_json(
+        &[
+            "agents",
+            "--traffic",
+            "10",
+            "--holding",
+            "3m",
+            "--answer-within",
+            "20s",
+            "--service-level",
+            "80%",
+        ],
+        &keys,
+    );
+    let n = erlang_c::agents_for_service_level(10.0, 180.0, 20.0, 0.8).unwrap();
+    assert_eq!(json["agents"].as_u64(), Some(u64::from(n)));
+    let sl = number(&json, "service_level");
+    assert!(sl >= 0.8);
+    assert_close(
+        "SL",
+        sl,
+        erlang_c::service_level(n, 10.0, 180.0, 20.0).unwrap(),
+        1e-15,
+    );
+    assert_close(
+        "C",
+        number(&json, "wait_probability"),
+        erlang_c::wait_probability(n, 10.0).unwrap(),
+        1e-15,
+    );
+
+    // Mean-wait goal alone: no answer time, so no service level.
+    let json = calc_json(
+        &[
+            "agents",
+            "--traffic",
+            "10",
+            "--holding",
+            "3m",
+            "--mean-wait",
+            "15s",
+        ],
+        &keys,
+    );
+    let n = erlang_c::agents_for_mean_wait(10.0, 180.0, 15.0).unwrap();
+    assert_eq!(json["agents"].as_u64(), Some(u64::from(n)));
+    assert!(json["service_level"].is_null());
+    assert!(number(&json, "mean_wait_s") <= 15.0);
+
+    // Both goals: the larger answer.
+    let json = calc_json(
+        &[
+            "agents",
+            "--traffic",
+            "10",
+            "--holding",
+            "3m",
+            "--answer-within",
+            "20s",
+            "--service-level",
+            "50%",
+            "--mean-wait",
+            "2s",
+        ],
+        &keys,
+    );
+    let both = erlang_c::agents_for_service_level(10.0, 180.0, 20.0, 0.5)
+        .unwrap()
+        .max(erlang_c::agents_for_mean_wait(10.0, 180.0, 2.0).unwrap());
+    assert_eq!(json["agents"].as_u64(), Some(u64::from(both)));
+}
+
+#[test]
+fn abandon() {
+    let keys = [
+        "wait_probability",
+        "abandonment",
+        "mean_wait_s",
+        "service_level",
+    ];
+    let json = calc_json(
+        &[
+            "abandon",
+            "--traffic",
+            "10",
+            "--agents",
+            "10",
+            "--holding",
+            "3m",
+            "--patience",
+            "1m",
+            "--answer-within",
+            "20s",
+        ],
+        &keys,
+    );
+    let q = erlang_a::solve(10, 10.0, 180.0, 60.0).unwrap();
+    assert_close(
+        "P(wait)",
+        number(&json, "wait_probability"),
+        q.wait_probability,
+        1e-15,
+    );
+    assert_close(
+        "abandonment",
+        number(&json, "abandonment"),
+        q.abandonment,
+        1e-15,
+    );
+    assert_close("wait", number(&json, "mean_wait_s"), q.mean_wait_s, 1e-15);
+    assert_close(
+        "SL",
+        number(&json, "service_level"),
+        q.service_level(20.0),
+        1e-15,
+    );
+    let json = calc_json(
+        &[
+            "abandon",
+            "--traffic",
+            "10",
+            "--agents",
+            "10",
+            "--holding",
+            "3m",
+            "--patience",
+            "1m",
+        ],
+        &keys,
+    );
+    assert!(json["service_level"].is_null());
+}
+
+#[test]
+fn finite() {
+    let keys = ["time_congestion", "call_congestion", "carried_traffic"];
+    let json = calc_json(
+        &[
+            "finite",
+            "--sources",
+            "30",
+            "--servers",
+            "10",
+            "--idle-traffic",
+            "0.2",
+        ],
+        &keys,
+    );
+    let g = engset::solve(30, 10, 0.2).unwrap();
+    assert_close(
+        "time",
+        number(&json, "time_congestion"),
+        g.time_congestion,
+        1e-15,
+    );
+    assert_close(
+        "call",
+        number(&json, "call_congestion"),
+        g.call_congestion,
+        1e-15,
+    );
+    assert_close(
+        "carried",
+        number(&json, "carried_traffic"),
+        g.carried_traffic,
+        1e-15,
+    );
+    // Fewer sources than servers: nothing blocked, each source busy β/(1+β).
+    let json = calc_json(
+        &[
+            "finite",
+            "--sources",
+            "4",
+            "--servers",
+            "10",
+            "--idle-traffic",
+            "1",
+        ],
+        &keys,
+    );
+    assert_eq!(number(&json, "time_congestion"), 0.0);
+    assert_close("carried", number(&json, "carried_traffic"), 2.0, 1e-15);
+}
+
+#[test]
+fn overflow_single_and_shared_final_group() {
+    let keys = [
+        "overflow_mean",
+        "overflow_variance",
+        "peakedness",
+        "final_blocking",
+    ];
+    let json = calc_json(&["overflow", "--traffic", "10", "--servers", "12"], &keys);
+    let m = overflow::riordan(12, 10.0).unwrap();
+    assert_close("mean", number(&json, "overflow_mean"), m.mean, 1e-15);
+    assert_close(
+        "variance",
+        number(&json, "overflow_variance"),
+        m.variance,
+        1e-15,
+    );
+    assert_close(
+        "peakedness",
+        number(&json, "peakedness"),
+        m.peakedness(),
+        1e-15,
+    );
+    assert!(json["final_blocking"].is_null());
+
+    // One first-choice group hunting into a final group: the lost traffic is
+    // exactly A B(N1 + N2, A) (one group of 17 servers).
+    let json = calc_json(
+        &[
+            "overflow",
+            "--traffic",
+            "10",
+            "--servers",
+            "12",
+            "--final",
+            "5",
+        ],
+        &keys,
+    );
+    let expected = 10.0 * erlang_b::blocking(17, 10.0).unwrap() / m.mean;
+    assert_close(
+        "final blocking",
+        number(&json, "final_blocking"),
+        expected,
+        1e-7,
+    );
+
+    let json = calc_json(
+        &[
+            "overflow",
+            "--primary",
+            "10:12",
+            "--primary",
+            "8:10",
+            "--direct",
+            "2",
+            "--final",
+            "8",
+        ],
+        &keys,
+    );
+    let f = overflow::final_group(&[(10.0, 12), (8.0, 10)], 2.0, 8).unwrap();
+    assert_close(
+        "mean",
+        number(&json, "overflow_mean"),
+        f.overflow_mean,
+        1e-15,
+    );
+    assert_close(
+        "variance",
+        number(&json, "overflow_variance"),
+        f.overflow_variance,
+        1e-15,
+    );
+    assert_close(
+        "peakedness",
+        number(&json, "peakedness"),
+        f.peakedness,
+        1e-15,
+    );
+    assert_close(
+        "final blocking",
+        number(&json, "final_blocking"),
+        f.final_blocking,
+        1e-15,
+    );
+}
+
+#[test]
+fn multirate() {
+    let json = calc_json(
+        &[
+            "multirate",
+            "--capacity",
+            "30",
+            "--class",
+            "10:1",
+            "--class",
+            "2:6",
+        ],
+        &["classes"],
+    );
+    let expected = multirate::kaufman_roberts(30, &[(10.0, 1), (2.0, 6)]).unwrap();
+    let classes = json["classes"].as_array().expect("classes is an array");
+    assert_eq!(classes.len(), 2);
+    for (class, (b, (a, u))) in classes
+        .iter()
+        .zip(expected.iter().zip([(10.0, 1u64), (2.0, 6)]))
+    {
+        let mut keys: Vec<&str> = class
+            .as_object()
+            .unwrap()
+            .keys()
+            .map(String::as_str)
+            .collect();
+        keys.sort_unstable();
+        assert_eq!(keys, ["blocking", "traffic", "units"]);
+        assert_close("blocking", number(class, "blocking"), *b, 1e-15);
+        assert_eq!(number(class, "traffic"), a);
+        assert_eq!(class["units"].as_u64(), Some(u));
+    }
+}
+
+#[test]
+fn text_output_is_a_labelled_block() {
+    let out = busyhour(&["calc", "loss", "--traffic", "10", "--servers", "18"]);
+    assert!(out.status.success());
+    let text = String::from_utf8(out.stdout).unwrap();
+    assert!(text.lines().count() >= 3, "{text}");
+    assert!(text.contains("erlangs") && text.contains('%'), "{text}");
+    assert!(
+        text.lines().any(|l| l.trim_start().starts_with("blocking")),
+        "{text}"
+    );
+}
+
+/// Bad input: exit status 2, nothing on stdout, one line on stderr that
+/// quotes the offending value.
+fn assert_refused(args: &[&str], quoted: &str) {
+    let mut all = vec!["calc"];
+    all.extend_from_slice(args);
+    let out = busyhour(&all);
+    assert_eq!(out.status.code(), Some(2), "busyhour {all:?}");
+    assert!(out.stdout.is_empty(), "busyhour {all:?} printed to stdout");
+    let stderr = String::from_utf8_lossy(&out.stderr);
+    assert_eq!(
+        stderr.trim_end().lines().count(),
+        1,
+        "busyhour {all:?}: {stderr}"
+    );
+    assert!(
+        stderr.contains(quoted),
+        "busyhour {all:?}: {stderr} does not quote {quoted}"
+    );
+}
+
+#[test]
+fn bad_values_exit_2_with_one_line() {
+    assert_refused(&["loss", "--traffic", "-5", "--servers", "3"], "-5");
+    assert_refused(&["loss", "--traffic", "5", "--servers", "0"], "0");
+    assert_refused(&["servers", "--traffic", "5", "--loss", "0"], "'0'");
+    assert_refused(&["servers", "--traffic", "5", "--loss", "100%"], "100%");
+    assert_refused(&["traffic", "--servers", "0", "--loss", "1%"], "0");
+    assert_refused(
+        &[
+            "queue",
+            "--traffic",
+            "12",
+            "--agents",
+            "10",
+            "--holding",
+            "3m",
+            "--answer-within",
+            "20s",
+        ],
+        "unstable",
+    );
+    assert_refused(
+        &[
+            "agents",
+            "--traffic",
+            "5",
+            "--holding",
+            "3m",
+            "--answer-within",
+            "20s",
+            "--service-level",
+            "100%",
+        ],
+        "100%",
+    );
+    assert_refused(
+        &[
+            "loss",
+            "--calls",
+            "4x/h",
+            "--holding",
+            "3m",
+            "--servers",
+            "3",
+        ],
+        "4x/h",
+    );
+    assert_refused(
+        &[
+            "loss",
+            "--calls",
+            "40/h",
+            "--holding",
+            "3q",
+            "--servers",
+            "3",
+        ],
+        "3q",
+    );
+    assert_refused(
+        &[
+            "abandon",
+            "--traffic",
+            "5",
+            "--agents",
+            "3",
+            "--holding",
+            "3m",
+            "--patience",
+            "0",
+        ],
+        "patience",
+    );
+    assert_refused(
+        &[
+            "finite",
+            "--sources",
+            "10",
+            "--servers",
+            "3",
+            "--idle-traffic",
+            "-1",
+        ],
+        "-1",
+    );
+    assert_refused(&["overflow", "--primary", "5:x", "--final", "3"], "5:x");
+    assert_refused(&["overflow", "--final", "3"], "--primary");
+    assert_refused(&["multirate", "--capacity", "10", "--class", "1:0"], "1:0");
+}
+
+#[test]
+fn usage_errors_exit_2() {
+    for args in [
+        vec!["calc", "loss", "--servers", "3"],
+        vec![
+            "calc",
+            "loss",
+            "--traffic",
+            "3",
+            "--calls",
+            "5/h",
+            "--holding",
+            "1m",
+            "--servers",
+            "3",
+        ],
+        vec!["calc", "nonsense"],
+        vec![
+            "calc",
+            "agents",
+            "--traffic",
+            "5",
+            "--holding",
+            "3m",
+            "--service-level",
+            "80%",
+        ],
+    ] {
+        assert_eq!(busyhour(&args).status.code(), Some(2), "busyhour {args:?}");
+    }
+}
