@@ -73,6 +73,10 @@ pub struct OutputArgs {
     /// instead of standard output.
     #[arg(long, value_name = "FILE")]
     pub out: Option<PathBuf>,
+    /// Also write a self-contained HTML report (tables, charts, the
+    /// formula comparison, assumptions and cautions) to FILE.
+    #[arg(long, value_name = "FILE.html")]
+    pub report: Option<PathBuf>,
     /// No progress bar.
     #[arg(long, short)]
     pub quiet: bool,
@@ -85,6 +89,10 @@ pub struct RunArgs {
     pub scenario: PathBuf,
     #[command(flatten)]
     pub reps: ReplicationArgs,
+    /// Draw the per-interval figures (offered and carried traffic, loss, with
+    /// their 95% bands) to FILE.svg; needs `interval` in [simulation].
+    #[arg(long, value_name = "FILE.svg")]
+    pub chart: Option<PathBuf>,
     /// Run only shard I of N (a contiguous slice of the replications, with
     /// the seeds of the whole run) and write its raw part file to --out, for
     /// `busyhour merge`.
@@ -149,6 +157,13 @@ pub struct SweepArgs {
     /// A figure to show (repeatable; default: loss, service level, occupancy).
     #[arg(long, value_name = "NAME")]
     pub figure: Vec<String>,
+    /// Draw the figures against the swept value, with 95% bands, the
+    /// closed-form curve and goal lines, to FILE.svg.
+    #[arg(long, value_name = "FILE.svg")]
+    pub chart: Option<PathBuf>,
+    /// A goal line to draw across the chart, like "loss<=1%" (repeatable).
+    #[arg(long, value_name = "GOAL")]
+    pub goal: Vec<String>,
     #[command(flatten)]
     pub reps: ReplicationArgs,
     /// Run only shard I of N of every step's replications and write the raw
@@ -250,6 +265,12 @@ fn emit(output: &OutputArgs, text: &str) -> Result<()> {
     }
 }
 
+/// Write an extra output file (chart or report) atomically.
+fn write_file(path: &std::path::Path, text: &str) -> Result<()> {
+    report::write_atomically(path, text.as_bytes())
+        .with_context(|| format!("cannot write {}", path.display()))
+}
+
 /// `busyhour run`.
 pub fn run(a: &RunArgs) -> Result<Status> {
     let mut model = scenario::load(&a.scenario)?;
@@ -257,6 +278,12 @@ pub fn run(a: &RunArgs) -> Result<Status> {
         model.plan.seed = seed;
     }
     let reps = replications_override(&a.reps, &model)?;
+    if a.chart.is_some() && model.plan.interval_count() == 0 {
+        bail!(
+            "--chart draws figures per interval: add interval = \"15m\" (for example) to [simulation] in {}",
+            a.scenario.display()
+        );
+    }
     if let Some(spec) = &a.shard {
         return run_shard(a, &model, reps, spec);
     }
@@ -278,6 +305,12 @@ pub fn run(a: &RunArgs) -> Result<Status> {
     }
     let file = a.scenario.display().to_string();
     let r = RunReport::new(&model, &outcome, &file);
+    let chart =
+        if model.plan.interval_count() > 0 && (a.chart.is_some() || a.output.report.is_some()) {
+            Some(report::charts::run_chart(&r).context("chart")?)
+        } else {
+            None
+        };
     let text = if a.output.json {
         let mut s = serde_json::to_string_pretty(&report::to_json(&r))?;
         s.push('\n');
@@ -287,6 +320,12 @@ pub fn run(a: &RunArgs) -> Result<Status> {
     } else {
         report::to_table(&r)
     };
+    if let (Some(path), Some(svg)) = (&a.chart, &chart) {
+        write_file(path, svg)?;
+    }
+    if let Some(path) = &a.output.report {
+        write_file(path, &report::run_html(&r, chart.as_deref()))?;
+    }
     emit(&a.output, &text)?;
     Ok(if outcome.partial {
         Status::Interrupted
@@ -375,6 +414,9 @@ pub fn size(a: &SizeArgs) -> Result<Status> {
     } else {
         report::size_table(&model, &file, &result)
     };
+    if let Some(path) = &a.output.report {
+        write_file(path, &report::size_html(&model, &file, &result))?;
+    }
     emit(&a.output, &text)?;
     Ok(if result.partial {
         Status::Interrupted
@@ -397,6 +439,15 @@ pub fn sweep(a: &SweepArgs) -> Result<Status> {
         (None, Some(s)) => Sweep::parse_servers(s, &model).context("--servers")?,
         (None, None) => bail!("give --scale or --servers"),
     };
+    let goal_group = match &spec {
+        Sweep::Servers { group, .. } => *group,
+        Sweep::Scale { .. } => 0,
+    };
+    let goals = a
+        .goal
+        .iter()
+        .map(|g| busyhour::experiment::size::Goal::parse(g, &model, goal_group))
+        .collect::<Result<Vec<_>, _>>()?;
     let known: Vec<&str> = busyhour::stats::layout(&model)
         .iter()
         .map(|f| f.name)
@@ -457,6 +508,10 @@ pub fn sweep(a: &SweepArgs) -> Result<Status> {
         });
     }
     let (steps, partial) = sweep::run(&model, &spec, &plan, &opts)?;
+    let columns = steps
+        .first()
+        .map(|st| report::sweep_columns(&st.model, &st.outcome, &a.figure))
+        .unwrap_or_default();
     if let Some(b) = &bar {
         b.finish_and_clear();
     }
@@ -470,12 +525,31 @@ pub fn sweep(a: &SweepArgs) -> Result<Status> {
     } else if a.output.csv {
         report::sweep_csv(&model, &steps)
     } else {
-        let columns = steps
-            .first()
-            .map(|st| report::sweep_columns(&st.model, &st.outcome, &a.figure))
-            .unwrap_or_default();
         report::sweep_table(&model, &file, &label, &steps, &columns, partial)
     };
+    let chart = if a.chart.is_some() || a.output.report.is_some() {
+        Some(
+            report::charts::sweep_chart(&model, &label, &steps, &columns, &goals)
+                .context("chart")?,
+        )
+    } else {
+        None
+    };
+    if let (Some(path), Some(svg)) = (&a.chart, &chart) {
+        write_file(path, svg)?;
+    }
+    if let Some(path) = &a.output.report {
+        let html = report::sweep_html(
+            &model,
+            &file,
+            &label,
+            &steps,
+            &columns,
+            chart.as_deref(),
+            partial,
+        );
+        write_file(path, &html)?;
+    }
     emit(&a.output, &text)?;
     Ok(if partial {
         Status::Interrupted
@@ -555,6 +629,14 @@ pub fn merge(a: &MergeArgs) -> Result<Status> {
     let mut outcomes = shard::merge(&[(None, model.clone())], &scenario_name, &parts)?;
     let outcome = outcomes.remove(0);
     let r = RunReport::new(&model, &outcome, &recorded);
+    if let Some(path) = &a.output.report {
+        let chart = if model.plan.interval_count() > 0 {
+            Some(report::charts::run_chart(&r).context("chart")?)
+        } else {
+            None
+        };
+        write_file(path, &report::run_html(&r, chart.as_deref()))?;
+    }
     let text = if a.output.json {
         let mut s = serde_json::to_string_pretty(&report::to_json(&r))?;
         s.push('\n');
@@ -607,6 +689,24 @@ fn merge_sweep(
         })
         .collect();
     let label = sw.label(model);
+    let columns = steps
+        .first()
+        .map(|st| report::sweep_columns(&st.model, &st.outcome, &[]))
+        .unwrap_or_default();
+    if let Some(path) = &a.output.report {
+        let chart =
+            report::charts::sweep_chart(model, &label, &steps, &columns, &[]).context("chart")?;
+        let html = report::sweep_html(
+            model,
+            recorded,
+            &label,
+            &steps,
+            &columns,
+            Some(&chart),
+            false,
+        );
+        write_file(path, &html)?;
+    }
     let text = if a.output.json {
         let mut s =
             serde_json::to_string_pretty(&report::sweep_json(recorded, &label, &steps, false))?;

@@ -260,3 +260,34 @@ mod tests {
         assert!(svg.contains("busy hour") && svg.contains("<polygon"));
     }
 }
+
+/// Stack several SVG charts vertically into one SVG document (nested `<svg>`
+/// elements, each at its own offset).
+pub fn stack(charts: &[String]) -> String {
+    let dims = |svg: &str| -> (u32, u32) {
+        let attr = |name: &str| -> u32 {
+            svg.find(&format!("{name}=\""))
+                .and_then(|i| {
+                    let rest = &svg[i + name.len() + 2..];
+                    rest.find('"')
+                        .and_then(|j| rest[..j].trim_end_matches("px").parse().ok())
+                })
+                .unwrap_or(0)
+        };
+        (attr("width"), attr("height"))
+    };
+    let width = charts.iter().map(|c| dims(c).0).max().unwrap_or(0);
+    let height: u32 = charts.iter().map(|c| dims(c).1).sum();
+    let mut out = format!(
+        "<svg width=\"{width}\" height=\"{height}\" viewBox=\"0 0 {width} {height}\" xmlns=\"http://www.w3.org/2000/svg\">\n"
+    );
+    let mut y = 0;
+    for c in charts {
+        let body = c.find("<svg").map_or(c.as_str(), |i| &c[i..]);
+        out.push_str(&body.replacen("<svg", &format!("<svg y=\"{y}\""), 1));
+        out.push('\n');
+        y += dims(c).1;
+    }
+    out.push_str("</svg>\n");
+    out
+}

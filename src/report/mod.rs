@@ -3,6 +3,7 @@
 //! [`Outcome`]; must not run the engine.
 
 pub mod chart;
+pub mod charts;
 pub mod html;
 pub mod reference;
 
@@ -48,7 +49,7 @@ impl<'a> RunReport<'a> {
 
 /// How a figure is printed.
 #[derive(Clone, Copy, PartialEq)]
-enum Kind {
+pub(crate) enum Kind {
     Share,
     Erlangs,
     Seconds,
@@ -56,7 +57,7 @@ enum Kind {
     Ratio,
 }
 
-fn kind(name: &str) -> Kind {
+pub(crate) fn kind(name: &str) -> Kind {
     match name {
         "offered_calls" | "overflow_calls" => Kind::Count,
         "offered_traffic" | "carried_traffic" | "overflow_mean" => Kind::Erlangs,
@@ -66,7 +67,7 @@ fn kind(name: &str) -> Kind {
     }
 }
 
-fn label(name: &str) -> &'static str {
+pub(crate) fn label(name: &str) -> &'static str {
     match name {
         "offered_calls" => "offered calls",
         "offered_traffic" => "offered traffic",
@@ -937,7 +938,7 @@ pub fn sweep_columns(model: &Model, outcome: &Outcome, chosen: &[String]) -> Vec
         .collect()
 }
 
-fn column_name(model: &Model, f: &FigureId) -> String {
+pub(crate) fn column_name(model: &Model, f: &FigureId) -> String {
     match f.scope {
         Scope::Stream(s) | Scope::StreamInterval(_, s) => {
             format!("{} {}", model.streams[s].name, f.name)
@@ -1084,4 +1085,141 @@ pub fn sweep_json(
         }).collect::<Vec<_>>(),
         "caution": CAUTION,
     })
+}
+
+/// The run as one self-contained HTML page.
+pub fn run_html(r: &RunReport, chart: Option<&str>) -> String {
+    use html::Block;
+    let mut blocks = vec![
+        Block::Heading("The scenario in plain words".into()),
+        Block::Pre(describe_model(r.model, r.file)),
+        Block::Heading("Results".into()),
+        Block::Paragraph(format!(
+            "{}. Figures are means with 95% confidence half-widths across replications; the formula column \
+shows the closed-form value where its assumptions hold.",
+            run_line(r)
+        )),
+    ];
+    if r.outcome.partial {
+        blocks.push(Block::Paragraph(
+            "PARTIAL RESULT: the run was interrupted; only the finished replications are shown."
+                .into(),
+        ));
+    }
+    blocks.extend(run_tables(r).into_iter().map(Block::Table));
+    if let Some(svg) = chart {
+        blocks.push(Block::Heading("Per interval".into()));
+        blocks.push(Block::Svg(svg.to_string()));
+    }
+    blocks.push(Block::Heading("Textbook view".into()));
+    blocks.push(Block::Pre(formula_view_text(r.model, &r.formulas)));
+    blocks.push(Block::Heading("Assumptions".into()));
+    blocks.push(Block::List(html::assumptions()));
+    html::page(
+        &r.model.title,
+        &format!("busyhour run of {}", r.file),
+        &blocks,
+    )
+}
+
+/// The sizing as one self-contained HTML page.
+pub fn size_html(model: &Model, file: &str, r: &crate::experiment::size::SizeResult) -> String {
+    use html::Block;
+    let g = &model.groups[r.group];
+    let answer = match r.servers {
+        Some(n) => format!("Answer: {n} servers on {}.", g.name),
+        None => format!(
+            "No size of {} up to {} servers meets every goal.",
+            g.name, r.limit
+        ),
+    };
+    let formula = match r.formula_servers {
+        Some(f) => format!("The closed form alone says {f}."),
+        None => "No closed form covers these goals.".into(),
+    };
+    let mut blocks = vec![
+        Block::Heading("The scenario in plain words".into()),
+        Block::Pre(describe_model(model, file)),
+        Block::Heading("Answer".into()),
+        Block::Paragraph(format!("{answer} {formula}")),
+    ];
+    if r.uncertain {
+        blocks.push(Block::Paragraph(
+            "At one server fewer the goals could not be decided within the replication cap: the answer is the \
+smallest size shown to meet them and may be one more than needed."
+                .into(),
+        ));
+    }
+    blocks.push(Block::Table(Table {
+        title: "Goals at the answer and at one server fewer".into(),
+        rows: size_rows(r),
+    }));
+    let mut tried = vec![vec![
+        "servers".to_string(),
+        "replications".into(),
+        "verdict".into(),
+    ]];
+    tried.extend(
+        r.tried
+            .iter()
+            .map(|(n, reps, v)| vec![n.to_string(), reps.to_string(), v.word().to_string()]),
+    );
+    blocks.push(Block::Table(Table {
+        title: "Sizes tried".into(),
+        rows: tried,
+    }));
+    blocks.push(Block::Paragraph(format!(
+        "A goal holds at a size when its whole interval lies on the right side of the bound; with up to {} looks \
+at one size each verdict uses a {:.2}% interval (Bonferroni), so the chance of any wrong verdict stays at most 5%.",
+        r.looks,
+        100.0 - 5.0 / f64::from(r.looks)
+    )));
+    blocks.push(Block::Heading("Assumptions".into()));
+    blocks.push(Block::List(html::assumptions()));
+    html::page(
+        &model.title,
+        &format!("busyhour size of {} in {file}", g.name),
+        &blocks,
+    )
+}
+
+/// The sweep as one self-contained HTML page.
+pub fn sweep_html(
+    model: &Model,
+    file: &str,
+    label: &str,
+    steps: &[crate::experiment::sweep::Step],
+    columns: &[FigureId],
+    chart: Option<&str>,
+    partial: bool,
+) -> String {
+    use html::Block;
+    let mut blocks = vec![
+        Block::Heading("The scenario in plain words".into()),
+        Block::Pre(describe_model(model, file)),
+        Block::Heading("Sweep".into()),
+        Block::Paragraph(format!(
+            "Each step runs the same seeds (common random numbers); values are means ± 95% half-widths, \
+[formula] where a closed form applies.{}",
+            if partial {
+                " PARTIAL RESULT: interrupted; only the finished steps are shown."
+            } else {
+                ""
+            }
+        )),
+        Block::Table(Table {
+            title: String::new(),
+            rows: sweep_rows(model, label, steps, columns),
+        }),
+    ];
+    if let Some(svg) = chart {
+        blocks.push(Block::Svg(svg.to_string()));
+    }
+    blocks.push(Block::Heading("Assumptions".into()));
+    blocks.push(Block::List(html::assumptions()));
+    html::page(
+        &model.title,
+        &format!("busyhour sweep of {file}: {label}"),
+        &blocks,
+    )
 }

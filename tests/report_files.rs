@@ -1,0 +1,214 @@
+//! Charts and HTML reports: the SVG files are well-formed and carry the
+//! expected series; the HTML page is self-contained and, where Chromium is
+//! installed, loads in a real headless browser with no console errors and
+//! shows its main figures in the rendered text.
+
+use std::path::{Path, PathBuf};
+use std::process::{Command, Output};
+
+fn busyhour(args: &[&str]) -> Output {
+    Command::new(env!("CARGO_BIN_EXE_busyhour"))
+        .args(args)
+        .current_dir(env!("CARGO_MANIFEST_DIR"))
+        .output()
+        .expect("the binary runs")
+}
+
+fn scratch(name: &str) -> PathBuf {
+    let dir = std::env::temp_dir().join(format!("busyhour-report-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    dir.join(name)
+}
+
+/// A light well-formedness check of SVG/XML text: every element opened is
+/// closed in order (self-closing tags allowed), and the root is <svg>.
+fn assert_well_formed(xml: &str) {
+    let body = xml.find("<svg").map(|i| &xml[i..]).expect("an <svg> root");
+    let mut stack: Vec<String> = Vec::new();
+    let mut rest = body;
+    while let Some(i) = rest.find('<') {
+        rest = &rest[i + 1..];
+        let end = rest.find('>').expect("unterminated tag");
+        let tag = &rest[..end];
+        rest = &rest[end + 1..];
+        if tag.starts_with('!') || tag.starts_with('?') {
+            continue;
+        }
+        if let Some(name) = tag.strip_prefix('/') {
+            let open = stack.pop().expect("a closing tag without an opening one");
+            assert_eq!(open, name.trim(), "mismatched tags");
+        } else if !tag.ends_with('/') {
+            let name = tag.split_whitespace().next().unwrap().to_string();
+            stack.push(name);
+        }
+    }
+    assert!(stack.is_empty(), "unclosed elements: {stack:?}");
+}
+
+#[test]
+fn run_chart_shows_the_interval_figures() {
+    let svg = scratch("peak.svg");
+    let o = busyhour(&[
+        "run",
+        "scenarios/harbour-peak.toml",
+        "--replications",
+        "6",
+        "--chart",
+        svg.to_str().unwrap(),
+        "-q",
+    ]);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let text = std::fs::read_to_string(&svg).unwrap();
+    assert_well_formed(&text);
+    for series in [
+        "offered traffic, all streams",
+        "carried traffic, all streams",
+        "public loss (95% band)",
+        "Erlang B of the interval load",
+    ] {
+        assert!(text.contains(series), "missing series {series}");
+    }
+    // Without intervals the chart is refused before any work.
+    let o = busyhour(&[
+        "run",
+        "scenarios/video-link.toml",
+        "--chart",
+        svg.to_str().unwrap(),
+    ]);
+    assert_eq!(o.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&o.stderr).contains("interval"));
+}
+
+#[test]
+fn sweep_chart_has_bands_formula_and_goal_lines() {
+    let svg = scratch("sweep.svg");
+    let o = busyhour(&[
+        "sweep",
+        "scenarios/campus-overflow.toml",
+        "--scale",
+        "0.8:1.4:0.2",
+        "--replications",
+        "5",
+        "--goal",
+        "loss<=1%",
+        "--chart",
+        svg.to_str().unwrap(),
+    ]);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let text = std::fs::read_to_string(&svg).unwrap();
+    assert_well_formed(&text);
+    for series in [
+        "plant loss (95% band)",
+        "goal loss&lt;=1%",
+        "office-trunks occupancy, Erlang B",
+        "load scale",
+    ] {
+        assert!(text.contains(series), "missing {series}");
+    }
+}
+
+fn chromium() -> Option<&'static str> {
+    ["/usr/bin/chromium", "/usr/bin/chromium-browser"]
+        .into_iter()
+        .find(|p| Path::new(p).exists())
+}
+
+#[test]
+fn html_reports_are_self_contained_and_render() {
+    let pages = [
+        (
+            "run.html",
+            vec!["run", "scenarios/harbour-peak.toml", "--replications", "6"],
+        ),
+        (
+            "size.html",
+            vec![
+                "size",
+                "scenarios/campus-overflow.toml",
+                "--group",
+                "carrier-shared",
+                "--goal",
+                "loss<=1%",
+                "--replications",
+                "10",
+            ],
+        ),
+        (
+            "sweep.html",
+            vec![
+                "sweep",
+                "scenarios/video-link.toml",
+                "--scale",
+                "0.8:1.2:0.2",
+                "--replications",
+                "4",
+            ],
+        ),
+    ];
+    for (name, mut args) in pages {
+        let path = scratch(name);
+        let p = path.to_str().unwrap().to_string();
+        args.extend(["--report", &p, "-q"]);
+        let o = busyhour(&args);
+        assert!(
+            o.status.success(),
+            "{name}: {}",
+            String::from_utf8_lossy(&o.stderr)
+        );
+        let html = std::fs::read_to_string(&path).unwrap();
+        assert!(html.starts_with("<!DOCTYPE html>"));
+        assert!(
+            html.contains("life-safety"),
+            "{name}: the caution is missing"
+        );
+        assert!(html.contains("Assumptions"));
+        assert!(
+            !html.contains("<script") && !html.contains("http://")
+                || html.contains("http://www.w3.org/2000/svg")
+        );
+        assert!(!html.contains("https://"), "{name}: no network references");
+        let Some(browser) = chromium() else {
+            eprintln!("Chromium is not installed: skipping the browser check of {name}");
+            continue;
+        };
+        let profile = scratch(&format!("profile-{name}"));
+        let out = Command::new(browser)
+            .args([
+                "--headless",
+                "--no-sandbox",
+                "--disable-gpu",
+                "--disable-quic",
+                "--no-first-run",
+                "--disable-background-networking",
+                "--disable-component-update",
+                "--disable-sync",
+                "--enable-logging=stderr",
+                "--v=0",
+                &format!("--user-data-dir={}", profile.display()),
+                "--dump-dom",
+                &format!("file://{p}"),
+            ])
+            .output()
+            .expect("chromium runs");
+        let dom = String::from_utf8_lossy(&out.stdout);
+        let log = String::from_utf8_lossy(&out.stderr);
+        assert!(dom.contains("</html>"), "{name}: the page did not render");
+        let console_errors: Vec<&str> = log
+            .lines()
+            .filter(|l| l.contains("CONSOLE") || l.contains("Uncaught"))
+            .collect();
+        assert!(
+            console_errors.is_empty(),
+            "{name}: console errors: {console_errors:?}"
+        );
+        let expected = match name {
+            "run.html" => "loss (calls never served)",
+            "size.html" => "servers on carrier-shared",
+            _ => "video loss",
+        };
+        assert!(
+            dom.contains(expected),
+            "{name}: rendered page lacks {expected:?}"
+        );
+    }
+}
