@@ -233,34 +233,6 @@ pub fn render_svg(chart: &LineChart) -> Result<String, ChartError> {
     Ok(svg)
 }
 
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    #[test]
-    fn empty_chart_is_an_error() {
-        let c = LineChart::new("t", "x", "y");
-        assert_eq!(render_svg(&c).unwrap_err(), ChartError::NoData);
-    }
-
-    #[test]
-    fn names_are_escaped() {
-        let mut c = LineChart::new("A & B", "x", "y");
-        c.series.push(Series {
-            name: "<offered>".into(),
-            points: vec![(0.0, 1.0), (1.0, 2.0)],
-            band: Some(vec![(0.0, 0.5, 1.5), (1.0, 1.5, 2.5)]),
-        });
-        c.markers.push(Markers {
-            name: "busy hour".into(),
-            spans: vec![(0.2, 0.4)],
-        });
-        let svg = render_svg(&c).unwrap();
-        assert!(svg.contains("A &amp; B") && svg.contains("&lt;offered&gt;"));
-        assert!(svg.contains("busy hour") && svg.contains("<polygon"));
-    }
-}
-
 /// Stack several SVG charts vertically into one SVG document (nested `<svg>`
 /// elements, each at its own offset).
 pub fn stack(charts: &[String]) -> String {
@@ -290,4 +262,32 @@ pub fn stack(charts: &[String]) -> String {
     }
     out.push_str("</svg>\n");
     out
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn empty_chart_is_an_error() {
+        let c = LineChart::new("t", "x", "y");
+        assert_eq!(render_svg(&c).unwrap_err(), ChartError::NoData);
+    }
+
+    #[test]
+    fn names_are_escaped() {
+        let mut c = LineChart::new("A & B", "x", "y");
+        c.series.push(Series {
+            name: "<offered>".into(),
+            points: vec![(0.0, 1.0), (1.0, 2.0)],
+            band: Some(vec![(0.0, 0.5, 1.5), (1.0, 1.5, 2.5)]),
+        });
+        c.markers.push(Markers {
+            name: "busy hour".into(),
+            spans: vec![(0.2, 0.4)],
+        });
+        let svg = render_svg(&c).unwrap();
+        assert!(svg.contains("A &amp; B") && svg.contains("&lt;offered&gt;"));
+        assert!(svg.contains("busy hour") && svg.contains("<polygon"));
+    }
 }
