@@ -251,6 +251,40 @@ fn progress_bar(quiet: bool) -> Option<indicatif::ProgressBar> {
     Some(bar)
 }
 
+/// Run `work` with the run options of the flags: worker threads, the stop
+/// flag of Ctrl-C, and a progress bar on stderr when it is a terminal.
+fn with_progress<T>(quiet: bool, threads: Option<u32>, work: impl FnOnce(&RunOptions) -> T) -> T {
+    let bar = progress_bar(quiet);
+    let progress = |done: u64, planned: u64| {
+        if let Some(b) = &bar {
+            b.set_length(planned.max(done));
+            b.set_position(done);
+        }
+    };
+    let opts = RunOptions {
+        threads: threads.map(|t| t as usize),
+        progress: Some(&progress),
+        stop: Some(&STOP),
+    };
+    let result = work(&opts);
+    if let Some(b) = &bar {
+        b.finish_and_clear();
+    }
+    result
+}
+
+/// Write a shard's part file; the exit status says whether it is complete.
+fn emit_part(output: &OutputArgs, part: &busyhour::experiment::shard::Part) -> Result<Status> {
+    let mut text = serde_json::to_string(part)?;
+    text.push('\n');
+    emit(output, &text)?;
+    Ok(if part.partial {
+        Status::Interrupted
+    } else {
+        Status::Done
+    })
+}
+
 /// Print or write the output.
 fn emit(output: &OutputArgs, text: &str) -> Result<()> {
     match &output.out {
@@ -287,22 +321,9 @@ pub fn run(a: &RunArgs) -> Result<Status> {
     if let Some(spec) = &a.shard {
         return run_shard(a, &model, reps, spec);
     }
-    let bar = progress_bar(a.output.quiet);
-    let progress = |done: u64, planned: u64| {
-        if let Some(b) = &bar {
-            b.set_length(planned);
-            b.set_position(done);
-        }
-    };
-    let opts = RunOptions {
-        threads: a.reps.threads.map(|t| t as usize),
-        progress: Some(&progress),
-        stop: Some(&STOP),
-    };
-    let outcome = experiment::run(&model, reps, &opts)?;
-    if let Some(b) = &bar {
-        b.finish_and_clear();
-    }
+    let outcome = with_progress(a.output.quiet, a.reps.threads, |opts| {
+        experiment::run(&model, reps, opts)
+    })?;
     let file = a.scenario.display().to_string();
     let r = RunReport::new(&model, &outcome, &file);
     let chart =
@@ -384,26 +405,13 @@ pub fn size(a: &SizeArgs) -> Result<Status> {
         Some(m) => m,
         None => (start.saturating_mul(10)).clamp(start, 2000),
     };
-    let bar = progress_bar(a.output.quiet);
-    let progress = |done: u64, _planned: u64| {
-        if let Some(b) = &bar {
-            b.set_message(format!("{done} replications"));
-            b.tick();
-        }
-    };
-    let opts = RunOptions {
-        threads: a.reps.threads.map(|t| t as usize),
-        progress: Some(&progress),
-        stop: Some(&STOP),
-    };
     let how = SizeOptions {
         replications,
         max_replications,
     };
-    let result = size::size(&model, group, goals, &how, &opts)?;
-    if let Some(b) = &bar {
-        b.finish_and_clear();
-    }
+    let result = with_progress(a.output.quiet, a.reps.threads, |opts| {
+        size::size(&model, group, goals, &how, opts)
+    })?;
     let file = a.scenario.display().to_string();
     let text = if a.output.json {
         let mut s = serde_json::to_string_pretty(&report::size_json(&model, &file, &result))?;
@@ -459,18 +467,6 @@ pub fn sweep(a: &SweepArgs) -> Result<Status> {
     }
     let plan =
         replications_override(&a.reps, &model)?.unwrap_or_else(|| model.plan.replications.clone());
-    let bar = progress_bar(a.output.quiet);
-    let progress = |done: u64, _planned: u64| {
-        if let Some(b) = &bar {
-            b.set_message(format!("{done} replications"));
-            b.tick();
-        }
-    };
-    let opts = RunOptions {
-        threads: a.reps.threads.map(|t| t as usize),
-        progress: Some(&progress),
-        stop: Some(&STOP),
-    };
     if let Some(shard_spec) = &a.shard {
         use busyhour::experiment::shard::{self, ShardSpec};
         let shard = ShardSpec::parse(shard_spec)?;
@@ -487,34 +483,25 @@ pub fn sweep(a: &SweepArgs) -> Result<Status> {
             .map(|i| (Some(values[i]), spec.model_at(&model, i)))
             .collect();
         let file = a.scenario.display().to_string();
-        let part = shard::run_shard(
-            &models,
-            &file,
-            Some(recorded),
-            u64::from(total),
-            shard,
-            &opts,
-        )??;
-        if let Some(b) = &bar {
-            b.finish_and_clear();
-        }
-        let mut text = serde_json::to_string(&part)?;
-        text.push('\n');
-        emit(&a.output, &text)?;
-        return Ok(if part.partial {
-            Status::Interrupted
-        } else {
-            Status::Done
-        });
+        let part = with_progress(a.output.quiet, a.reps.threads, |opts| {
+            shard::run_shard(
+                &models,
+                &file,
+                Some(recorded),
+                u64::from(total),
+                shard,
+                opts,
+            )
+        })??;
+        return emit_part(&a.output, &part);
     }
-    let (steps, partial) = sweep::run(&model, &spec, &plan, &opts)?;
+    let (steps, partial) = with_progress(a.output.quiet, a.reps.threads, |opts| {
+        sweep::run(&model, &spec, &plan, opts)
+    })?;
     let columns = steps
         .first()
         .map(|st| report::sweep_columns(&st.model, &st.outcome, &a.figure))
         .unwrap_or_default();
-    if let Some(b) = &bar {
-        b.finish_and_clear();
-    }
     let file = a.scenario.display().to_string();
     let label = spec.label(&model);
     let text = if a.output.json {
@@ -577,32 +564,12 @@ then shard with --replications N (see the README, \"Beyond one machine\")"
     if a.output.json || a.output.csv {
         bail!("--shard writes a raw part file; use --json or --csv with `busyhour merge`");
     }
-    let bar = progress_bar(a.output.quiet);
-    let progress = |done: u64, planned: u64| {
-        if let Some(b) = &bar {
-            b.set_length(planned);
-            b.set_position(done);
-        }
-    };
-    let opts = RunOptions {
-        threads: a.reps.threads.map(|t| t as usize),
-        progress: Some(&progress),
-        stop: Some(&STOP),
-    };
     let file = a.scenario.display().to_string();
     let steps = [(None, model.clone())];
-    let part = shard::run_shard(&steps, &file, None, total, shard, &opts)??;
-    if let Some(b) = &bar {
-        b.finish_and_clear();
-    }
-    let mut text = serde_json::to_string(&part)?;
-    text.push('\n');
-    emit(&a.output, &text)?;
-    Ok(if part.partial {
-        Status::Interrupted
-    } else {
-        Status::Done
-    })
+    let part = with_progress(a.output.quiet, a.reps.threads, |opts| {
+        shard::run_shard(&steps, &file, None, total, shard, opts)
+    })??;
+    emit_part(&a.output, &part)
 }
 
 /// `busyhour merge`.

@@ -161,6 +161,17 @@ fn run_line(r: &RunReport) -> String {
     s
 }
 
+/// The figures of one scope as a JSON object, with the owner's name.
+fn take_named(
+    by_scope: &mut HashMap<Scope, Map<String, Value>>,
+    scope: Scope,
+    name: &str,
+) -> Map<String, Value> {
+    let mut m = by_scope.remove(&scope).unwrap_or_default();
+    m.insert("name".into(), json!(name));
+    m
+}
+
 /// The JSON document of a run.
 pub fn to_json(r: &RunReport) -> Value {
     let model = r.model;
@@ -172,23 +183,12 @@ pub fn to_json(r: &RunReport) -> Value {
             estimate_json(&o.estimates[i], r.formulas.get(f)),
         );
     }
-    let streams: Vec<Value> = model
-        .streams
-        .iter()
-        .enumerate()
-        .map(|(s, st)| {
-            let mut m = by_scope.remove(&Scope::Stream(s)).unwrap_or_default();
-            m.insert("name".into(), json!(st.name));
-            Value::Object(m)
-        })
+    let streams: Vec<Value> = (model.streams.iter().enumerate())
+        .map(|(s, st)| Value::Object(take_named(&mut by_scope, Scope::Stream(s), &st.name)))
         .collect();
-    let groups: Vec<Value> = model
-        .groups
-        .iter()
-        .enumerate()
+    let groups: Vec<Value> = (model.groups.iter().enumerate())
         .map(|(g, gr)| {
-            let mut m = by_scope.remove(&Scope::Group(g)).unwrap_or_default();
-            m.insert("name".into(), json!(gr.name));
+            let mut m = take_named(&mut by_scope, Scope::Group(g), &gr.name);
             m.insert("servers".into(), json!(gr.servers));
             Value::Object(m)
         })
@@ -214,28 +214,22 @@ pub fn to_json(r: &RunReport) -> Value {
         let width = model.plan.interval_s.unwrap_or(model.plan.length_s);
         let intervals: Vec<Value> = (0..bins)
             .map(|b| {
-                let streams: Vec<Value> = model
-                    .streams
-                    .iter()
-                    .enumerate()
+                let streams: Vec<Value> = (model.streams.iter().enumerate())
                     .map(|(s, st)| {
-                        let mut m = by_scope
-                            .remove(&Scope::StreamInterval(b, s))
-                            .unwrap_or_default();
-                        m.insert("name".into(), json!(st.name));
-                        Value::Object(m)
+                        Value::Object(take_named(
+                            &mut by_scope,
+                            Scope::StreamInterval(b, s),
+                            &st.name,
+                        ))
                     })
                     .collect();
-                let groups: Vec<Value> = model
-                    .groups
-                    .iter()
-                    .enumerate()
+                let groups: Vec<Value> = (model.groups.iter().enumerate())
                     .map(|(g, gr)| {
-                        let mut m = by_scope
-                            .remove(&Scope::GroupInterval(b, g))
-                            .unwrap_or_default();
-                        m.insert("name".into(), json!(gr.name));
-                        Value::Object(m)
+                        Value::Object(take_named(
+                            &mut by_scope,
+                            Scope::GroupInterval(b, g),
+                            &gr.name,
+                        ))
                     })
                     .collect();
                 json!({
