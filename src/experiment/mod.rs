@@ -276,9 +276,30 @@ pub fn outcome_of(
 }
 
 /// Estimates of every figure from per-replication values in index order.
+///
+/// The overflow peakedness of a group is the exception: it is pooled across
+/// replications from the overflow mean and mean square
+/// ([`stats::pooled_peakedness`]), not averaged over per-replication ratios.
 pub fn estimates_of(layout: &[FigureId], per_replication: &[Vec<f64>]) -> Vec<Estimate> {
+    let column = |i: usize| -> Vec<f64> { per_replication.iter().map(|v| v[i]).collect() };
+    let find = |scope: Scope, name: &str| {
+        layout
+            .iter()
+            .position(|f| f.scope == scope && f.name == name)
+    };
     (0..layout.len())
-        .map(|i| stats::estimate(per_replication.iter().map(move |v| v[i])))
+        .map(|i| {
+            let f = layout[i];
+            if f.name == "overflow_peakedness"
+                && let (Some(m1), Some(m2)) = (
+                    find(f.scope, "overflow_mean"),
+                    find(f.scope, "overflow_mean_square"),
+                )
+            {
+                return stats::pooled_peakedness(&column(m1), &column(m2));
+            }
+            stats::estimate(per_replication.iter().map(move |v| v[i]))
+        })
         .collect()
 }
 

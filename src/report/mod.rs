@@ -61,6 +61,7 @@ pub(crate) fn kind(name: &str) -> Kind {
     match name {
         "offered_calls" | "overflow_calls" => Kind::Count,
         "offered_traffic" | "carried_traffic" | "overflow_mean" => Kind::Erlangs,
+        "overflow_mean_square" => Kind::Ratio,
         "wait_mean" | "wait_p50" | "wait_p90" | "wait_p99" => Kind::Seconds,
         "attempts_per_call" | "overflow_peakedness" => Kind::Ratio,
         _ => Kind::Share,
@@ -87,6 +88,7 @@ pub(crate) fn label(name: &str) -> &'static str {
         "time_congestion" => "time congestion",
         "overflow_calls" => "overflow calls",
         "overflow_mean" => "overflow traffic, mean",
+        "overflow_mean_square" => "overflow traffic, mean square",
         "overflow_peakedness" => "overflow peakedness",
         _ => "figure",
     }
@@ -366,7 +368,9 @@ fn align(rows: &[Vec<String>], indent: &str) -> String {
 fn figure_rows(r: &RunReport, scope: Scope, first: &str) -> Vec<Vec<String>> {
     let mut rows = Vec::new();
     for (i, f) in r.outcome.layout.iter().enumerate() {
-        if f.scope != scope {
+        // The mean square is a building block of the peakedness, kept in
+        // the JSON and CSV for merging and checking, not shown in the table.
+        if f.scope != scope || f.name == "overflow_mean_square" {
             continue;
         }
         let e = &r.outcome.estimates[i];
