@@ -2,6 +2,7 @@
 //! print the results. No model logic lives here.
 
 pub mod calc;
+pub mod guard;
 pub mod records;
 
 use anyhow::{Context, Result, bail};
@@ -127,6 +128,9 @@ pub struct ReplicationArgs {
     /// Worker threads (default: one per core). Results do not depend on it.
     #[arg(long, value_name = "T", value_parser = clap::value_parser!(u32).range(1..=1024))]
     pub threads: Option<u32>,
+    /// Run even when the estimated time is over ten minutes.
+    #[arg(long)]
+    pub yes: bool,
 }
 
 /// `busyhour sweep`.
@@ -260,6 +264,7 @@ pub fn run(a: &RunArgs) -> Result<Status> {
     if let Some(spec) = &a.shard {
         return run_shard(a, &model, reps, spec);
     }
+    guard::check_run(&model, reps.as_ref(), &a.reps, a.output.quiet)?;
     let bar = progress_bar(a.output.quiet);
     let progress = |done: u64, planned: u64| {
         if let Some(b) = &bar {
@@ -345,6 +350,7 @@ pub fn size(a: &SizeArgs) -> Result<Status> {
         Some(m) => m,
         None => (start.saturating_mul(10)).clamp(start, 2000),
     };
+    guard::check_size(&model, &replications, &a.reps, a.output.quiet)?;
     let bar = progress_bar(a.output.quiet);
     let progress = |done: u64, _planned: u64| {
         if let Some(b) = &bar {
@@ -456,6 +462,7 @@ pub fn sweep(a: &SweepArgs) -> Result<Status> {
             Status::Done
         });
     }
+    guard::check_sweep(&model, &spec, &plan, &a.reps, a.output.quiet)?;
     let (steps, partial) = sweep::run(&model, &spec, &plan, &opts)?;
     if let Some(b) = &bar {
         b.finish_and_clear();
