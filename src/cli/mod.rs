@@ -348,7 +348,7 @@ pub fn size(a: &SizeArgs) -> Result<Status> {
     let max_replications = match a.decide_within {
         Some(m) if m < 2 => bail!("--decide-within {m}: at least 2 replications are needed"),
         Some(m) => m,
-        None => (start.saturating_mul(10)).clamp(start, 2000),
+        None => start.saturating_mul(10).min(2000).max(start),
     };
     guard::check_size(&model, &replications, &a.reps, a.output.quiet)?;
     let bar = progress_bar(a.output.quiet);
