@@ -161,8 +161,13 @@ fn key_path(e: &toml::de::Error, text: &str, offset: usize, message: &str) -> St
         .map(|k| k.split('.').map(str::to_string).collect())
         .unwrap_or_default();
     if let Some(first) = keys.first_mut() {
+        // Headers up to the end of the error's line: a missing field is
+        // reported at its table's own header.
         let header = format!("[[{first}]]");
-        let count = text_before(text, offset)
+        let line_end = text[text_before(text, offset).len()..]
+            .find('\n')
+            .map_or(text.len(), |i| text_before(text, offset).len() + i);
+        let count = text[..line_end]
             .lines()
             .filter(|l| l.trim_start().starts_with(&header))
             .count();
