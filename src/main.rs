@@ -36,7 +36,7 @@ enum Command {
 }
 
 fn main() -> ExitCode {
-    let cli = Cli::parse();
+    let cli: Cli = cli::guard::parse_args();
     cli::install_interrupt_handler();
     let result = match &cli.command {
         Command::Run(a) => cli::run(a),

@@ -2,6 +2,7 @@
 //! print the results. No model logic lives here.
 
 pub mod calc;
+pub mod guard;
 pub mod records;
 
 use anyhow::{Context, Result, bail};
@@ -135,6 +136,9 @@ pub struct ReplicationArgs {
     /// Worker threads (default: one per core). Results do not depend on it.
     #[arg(long, value_name = "T", value_parser = clap::value_parser!(u32).range(1..=1024))]
     pub threads: Option<u32>,
+    /// Run even when the estimated time is over ten minutes.
+    #[arg(long)]
+    pub yes: bool,
 }
 
 /// `busyhour sweep`.
@@ -321,6 +325,7 @@ pub fn run(a: &RunArgs) -> Result<Status> {
     if let Some(spec) = &a.shard {
         return run_shard(a, &model, reps, spec);
     }
+    guard::check_run(&model, reps.as_ref(), &a.reps, a.output.quiet)?;
     let outcome = with_progress(a.output.quiet, a.reps.threads, |opts| {
         experiment::run(&model, reps, opts)
     })?;
@@ -403,8 +408,9 @@ pub fn size(a: &SizeArgs) -> Result<Status> {
     let max_replications = match a.decide_within {
         Some(m) if m < 2 => bail!("--decide-within {m}: at least 2 replications are needed"),
         Some(m) => m,
-        None => (start.saturating_mul(10)).clamp(start, 2000),
+        None => start.saturating_mul(10).min(2000).max(start),
     };
+    guard::check_size(&model, &replications, &a.reps, a.output.quiet)?;
     let how = SizeOptions {
         replications,
         max_replications,
@@ -495,6 +501,7 @@ pub fn sweep(a: &SweepArgs) -> Result<Status> {
         })??;
         return emit_part(&a.output, &part);
     }
+    guard::check_sweep(&model, &spec, &plan, &a.reps, a.output.quiet)?;
     let (steps, partial) = with_progress(a.output.quiet, a.reps.threads, |opts| {
         sweep::run(&model, &spec, &plan, opts)
     })?;

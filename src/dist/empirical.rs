@@ -421,6 +421,12 @@ pub fn read_column(
             value: scale,
         });
     }
+    if path.is_dir() {
+        return Err(EmpiricalError::Read {
+            path: path_buf(),
+            io: std::io::Error::new(ErrorKind::IsADirectory, "it is a directory, not a file"),
+        });
+    }
     let file = File::open(path).map_err(|io| {
         if io.kind() == ErrorKind::NotFound {
             EmpiricalError::Missing { path: path_buf() }

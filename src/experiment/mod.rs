@@ -5,6 +5,7 @@
 pub mod shard;
 pub mod size;
 pub mod sweep;
+pub mod work;
 
 use crate::engine;
 use crate::scenario::{Model, Replications};

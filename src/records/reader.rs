@@ -10,6 +10,14 @@ use std::io::Read;
 /// time for nothing.
 pub const MAX_HOLDING_S: f64 = 7.0 * 86_400.0;
 
+/// Longest physical line accepted (bytes): 1 MiB. A call record is a few
+/// dozen bytes; a longer line is not a call-record file (or a quote left
+/// open), and the CSV reader would otherwise hold it whole in memory.
+pub const MAX_LINE_BYTES: usize = 1 << 20;
+
+/// Longest field read as a start time, holding time or outcome (bytes).
+const MAX_FIELD_BYTES: usize = 100;
+
 /// Column names tried, in order, when the user names no start column.
 pub const START_NAMES: [&str; 5] = ["start", "start_time", "started", "time", "timestamp"];
 /// Column names tried when the user names no duration column.
@@ -96,7 +104,7 @@ pub struct CallRecord {
 
 /// Reads calls one at a time; memory does not depend on the file's length.
 pub struct RecordReader<R: Read> {
-    csv: csv::Reader<R>,
+    csv: csv::Reader<LineCap<R>>,
     row: csv::ByteRecord,
     file: String,
     start: usize,
@@ -114,14 +122,75 @@ fn quote_list(names: &[&str]) -> String {
         .join(", ")
 }
 
-/// Cut a field for a message: at most 40 characters, lossy UTF-8.
+/// Cut a field for a message: at most 40 characters, lossy UTF-8, control
+/// characters escaped (so that a message stays one line).
 fn shown(field: &[u8]) -> String {
     let s = String::from_utf8_lossy(field);
     let s = s.trim();
-    match s.char_indices().nth(40) {
+    let cut = match s.char_indices().nth(40) {
         Some((i, _)) => format!("{}...", &s[..i]),
         None => s.to_string(),
+    };
+    cut.chars()
+        .flat_map(|c| {
+            if c.is_control() {
+                c.escape_default().collect::<Vec<_>>()
+            } else {
+                vec![c]
+            }
+        })
+        .collect()
+}
+
+/// A physical line longer than [`MAX_LINE_BYTES`], raised by [`LineCap`]
+/// through the CSV reader as an I/O error.
+#[derive(Debug)]
+struct LongLine;
+
+impl std::fmt::Display for LongLine {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        write!(
+            f,
+            "a line is longer than 1 MiB: not a call-record file (or a quote left open)"
+        )
     }
+}
+
+impl std::error::Error for LongLine {}
+
+/// Passes bytes through, failing once a line runs past [`MAX_LINE_BYTES`]
+/// without a line break, so a hostile file cannot make the CSV reader
+/// buffer gigabytes. Scans each chunk backwards to its last line break only.
+struct LineCap<R> {
+    inner: R,
+    since_newline: usize,
+}
+
+impl<R: Read> Read for LineCap<R> {
+    fn read(&mut self, buf: &mut [u8]) -> std::io::Result<usize> {
+        let n = self.inner.read(buf)?;
+        match buf[..n].iter().rposition(|&b| b == b'\n') {
+            Some(i) => self.since_newline = n - i - 1,
+            None => self.since_newline += n,
+        }
+        if self.since_newline > MAX_LINE_BYTES {
+            return Err(std::io::Error::new(
+                std::io::ErrorKind::InvalidData,
+                LongLine,
+            ));
+        }
+        Ok(n)
+    }
+}
+
+/// The reader's error as a message, and whether it is a [`LongLine`].
+fn csv_reason(e: &csv::Error) -> (String, bool) {
+    if let csv::ErrorKind::Io(io) = e.kind()
+        && let Some(long) = io.get_ref().and_then(|r| r.downcast_ref::<LongLine>())
+    {
+        return (long.to_string(), true);
+    }
+    (e.to_string().replace(['\n', '\r'], " "), false)
 }
 
 impl<R: Read> RecordReader<R> {
@@ -130,22 +199,23 @@ impl<R: Read> RecordReader<R> {
         let mut csv = csv::ReaderBuilder::new()
             .has_headers(true)
             .flexible(true)
-            .from_reader(input);
+            .from_reader(LineCap {
+                inner: input,
+                since_newline: 0,
+            });
         let header = csv
             .byte_headers()
             .map_err(|e| RecordsError::Csv {
                 file: file.to_string(),
                 line: 1,
-                reason: e.to_string(),
+                reason: csv_reason(&e).0,
             })?
             .clone();
         let names: Vec<String> = header
             .iter()
             .map(|h| {
-                String::from_utf8_lossy(h)
-                    .trim()
-                    .trim_start_matches('\u{feff}')
-                    .to_string()
+                let name = String::from_utf8_lossy(h);
+                shown(name.trim_start_matches('\u{feff}').as_bytes())
             })
             .collect();
         if names.iter().all(String::is_empty) {
@@ -231,11 +301,17 @@ impl<R: Read> RecordReader<R> {
                 Ok(true) => {}
                 Err(e) => {
                     self.done = true;
-                    let line = e.position().map_or(0, |p| p.line());
+                    let (reason, long) = csv_reason(&e);
+                    // A long line fails mid-record: the line it began on is
+                    // where the last complete record ended.
+                    let line = match e.position() {
+                        Some(p) if !long => p.line(),
+                        _ => self.csv.position().line().max(1),
+                    };
                     return Some(Err(RecordsError::Csv {
                         file: self.file.clone(),
                         line,
-                        reason: e.to_string(),
+                        reason,
                     }));
                 }
             }
@@ -265,6 +341,17 @@ impl<R: Read> RecordReader<R> {
         };
         let field = |i: usize, name: &str| -> Result<&[u8], RecordsError> {
             match self.row.get(i) {
+                Some(f) if f.len() > MAX_FIELD_BYTES => Err(bad(format!(
+                    "column \"{name}\" holds {} bytes ('{}'): too long for a start time, holding time or outcome (a quote left open?)",
+                    f.len(),
+                    shown(f)
+                ))),
+                Some(f) if f.iter().any(|&b| b.is_ascii_control() && b != b'\t') => {
+                    Err(bad(format!(
+                        "column \"{name}\" holds a line break or control character ('{}'): a quote left open, or not a text file?",
+                        shown(f)
+                    )))
+                }
                 Some(f) if !f.trim_ascii().is_empty() => Ok(f),
                 Some(_) => Err(bad(format!("column \"{name}\" is empty"))),
                 None => Err(bad(format!(

@@ -42,8 +42,10 @@ pub enum ScenarioError {
         /// Why.
         reason: String,
     },
-    /// TOML syntax, a wrong type or an unknown key, located by the parser.
-    #[error("{file}:{line}:{column}: {message}")]
+    /// TOML syntax, a wrong type or an unknown key, located by the parser;
+    /// `key` is the path to the value when the parser knows it (a wrong type,
+    /// an unknown or missing key), empty for plain syntax errors.
+    #[error("{file}:{line}:{column}: {key}{message}", key = key_prefix(key))]
     Syntax {
         /// The scenario file.
         file: String,
@@ -51,6 +53,8 @@ pub enum ScenarioError {
         line: usize,
         /// 1-based column.
         column: usize,
+        /// Key path, e.g. `group[2].servers`; empty when unknown.
+        key: String,
         /// The parser's message.
         message: String,
     },
@@ -110,15 +114,15 @@ pub fn parse(
     default_title: &str,
 ) -> Result<Model, ScenarioError> {
     let spec: ScenarioSpec = toml::from_str(text).map_err(|e| {
-        let (line, column) = e
-            .span()
-            .map(|s| line_column(text, s.start))
-            .unwrap_or((1, 1));
+        let offset = e.span().map_or(0, |s| s.start);
+        let (line, column) = line_column(text, offset);
+        let message = one_line(e.message());
         ScenarioError::Syntax {
             file: file.to_string(),
             line,
             column,
-            message: e.message().trim().replace('\n', " "),
+            key: key_path(&e, text, offset, &message),
+            message,
         }
     })?;
     Compiler {
@@ -128,8 +132,123 @@ pub fn parse(
     .compile(spec, default_title)
 }
 
+fn key_prefix(key: &str) -> String {
+    if key.is_empty() {
+        String::new()
+    } else {
+        format!("{key}: ")
+    }
+}
+
+/// Whitespace runs (line breaks included) squeezed to one space.
+fn one_line(message: &str) -> String {
+    message.split_whitespace().collect::<Vec<_>>().join(" ")
+}
+
+/// The key path of a deserialization error, e.g. `stream[2].holding.cv`.
+///
+/// The toml parser records the keys leading to a bad value (shown by its
+/// `Display` only when the error carries no input) but not the position in
+/// an array of tables: that is counted here from the `[[name]]` headers
+/// before the error. An unknown or missing field is appended to the path.
+fn key_path(e: &toml::de::Error, text: &str, offset: usize, message: &str) -> String {
+    let mut bare = e.clone();
+    bare.set_input(None);
+    let shown = bare.to_string();
+    let mut keys: Vec<String> = shown
+        .lines()
+        .find_map(|l| l.strip_prefix("in `").and_then(|k| k.strip_suffix('`')))
+        .map(|k| k.split('.').map(str::to_string).collect())
+        .unwrap_or_default();
+    if let Some(first) = keys.first_mut() {
+        // Headers up to the end of the error's line: a missing field is
+        // reported at its table's own header.
+        let header = format!("[[{first}]]");
+        let line_end = text[text_before(text, offset).len()..]
+            .find('\n')
+            .map_or(text.len(), |i| text_before(text, offset).len() + i);
+        let count = text[..line_end]
+            .lines()
+            .filter(|l| l.trim_start().starts_with(&header))
+            .count();
+        if count > 0 {
+            first.push_str(&format!("[{count}]"));
+        }
+    }
+    for prefix in ["unknown field `", "missing field `"] {
+        if let Some(field) = message
+            .strip_prefix(prefix)
+            .and_then(|rest| rest.split('`').next())
+        {
+            keys.push(field.to_string());
+        }
+    }
+    if keys.is_empty() && e.span().is_some() {
+        return key_on_line(text, offset);
+    }
+    keys.join(".")
+}
+
+/// For a syntax error, where the parser records no keys: the key written on
+/// the error's line (or the table header there), under the nearest table
+/// header above it, e.g. `group[2].servers`. Empty when the line holds no
+/// recognisable key. A reading aid only: multi-line strings may mislead it.
+fn key_on_line(text: &str, offset: usize) -> String {
+    let before = text_before(text, offset);
+    let line_start = before.rfind('\n').map_or(0, |i| i + 1);
+    let line = text[line_start..].lines().next().unwrap_or("").trim();
+    let header_name = |l: &str| -> Option<(bool, String)> {
+        let l = l.trim();
+        if let Some(rest) = l.strip_prefix("[[") {
+            Some((true, rest.split("]]").next()?.trim().to_string()))
+        } else {
+            let rest = l.strip_prefix('[')?;
+            Some((false, rest.split(']').next()?.trim().to_string()))
+        }
+    };
+    let usable = |k: &str| {
+        !k.is_empty()
+            && k.chars()
+                .all(|c| c.is_ascii_alphanumeric() || matches!(c, '_' | '-' | '.' | '"'))
+    };
+    let mut counts: HashMap<String, usize> = HashMap::new();
+    let mut table = String::new();
+    for l in text[..line_start].lines() {
+        if let Some((array, name)) = header_name(l) {
+            table = if array {
+                let n = counts.entry(name.clone()).or_default();
+                *n += 1;
+                format!("{name}[{n}]")
+            } else {
+                name
+            };
+        }
+    }
+    let key = match header_name(line) {
+        Some((_, name)) => return if usable(&name) { name } else { String::new() },
+        None => match line.split_once('=') {
+            Some((k, _)) if usable(k.trim()) => k.trim().replace('"', ""),
+            _ => return table,
+        },
+    };
+    if table.is_empty() {
+        key
+    } else {
+        format!("{table}.{key}")
+    }
+}
+
+/// `text` up to byte `offset`, moved back to a character boundary.
+fn text_before(text: &str, offset: usize) -> &str {
+    let mut end = offset.min(text.len());
+    while !text.is_char_boundary(end) {
+        end -= 1;
+    }
+    &text[..end]
+}
+
 fn line_column(text: &str, offset: usize) -> (usize, usize) {
-    let before = &text[..offset.min(text.len())];
+    let before = text_before(text, offset);
     let line = before.matches('\n').count() + 1;
     let column = before.rsplit('\n').next().map_or(0, |l| l.chars().count()) + 1;
     (line, column)
@@ -624,6 +743,12 @@ impl Compiler {
                 ));
             }
             let path = self.base.join(file);
+            if is_same_file(&path, Path::new(&self.file)) {
+                return Err(self.err(
+                    format!("{key}.file"),
+                    format!("\"{file}\" is this scenario file itself: name a CSV file of measured values"),
+                ));
+            }
             let values = dist::empirical::read_column(&path, l.column.as_deref(), scale)
                 .map_err(|e| self.err(format!("{key}.file"), e.to_string()))?;
             return Law::empirical(values).map_err(law_err);
@@ -668,6 +793,14 @@ impl Compiler {
             _ => unreachable!("law names are checked above"),
         }
         .map_err(law_err)
+    }
+}
+
+/// Whether both paths name one existing file (false when either is missing).
+fn is_same_file(a: &Path, b: &Path) -> bool {
+    match (a.canonicalize(), b.canonicalize()) {
+        (Ok(a), Ok(b)) => a == b,
+        _ => false,
     }
 }
 

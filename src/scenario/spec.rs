@@ -18,6 +18,11 @@ pub enum Amount {
 impl fmt::Display for Amount {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         match self {
+            // Scientific notation for huge or tiny numbers, so that 1e300
+            // does not print as 301 digits.
+            Amount::Number(x) if *x != 0.0 && !(1e-6..1e15).contains(&x.abs()) => {
+                write!(f, "{x:e}")
+            }
             Amount::Number(x) => write!(f, "{x}"),
             Amount::Text(t) => write!(f, "\"{t}\""),
         }

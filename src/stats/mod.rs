@@ -201,14 +201,17 @@ pub fn figures(model: &Model, layout: &[FigureId], t: &Tally) -> Vec<f64> {
                 let servers = f64::from(model.groups[g].servers);
                 match f.name {
                     "carried_traffic" => gt.busy_s / length,
-                    "occupancy" => gt.busy_s / length / servers,
-                    "time_congestion" => gt.full_s / length,
+                    // Time integrals summed piece by piece can pass their
+                    // bound by rounding (1 ulp): a share is capped at 1.
+                    "occupancy" => (gt.busy_s / length / servers).min(1.0),
+                    "time_congestion" => (gt.full_s / length).min(1.0),
                     "overflow_calls" => gt.overflow_calls as f64,
                     "overflow_mean" => gt.overflow_s / length,
                     "overflow_mean_square" => gt.overflow_sq_s / length,
                     "overflow_peakedness" => {
                         let m = gt.overflow_s / length;
-                        let v = gt.overflow_sq_s / length - m * m;
+                        // A variance is >= 0; rounding may leave -1e-16.
+                        let v = (gt.overflow_sq_s / length - m * m).max(0.0);
                         ratio(v, m)
                     }
                     other => unreachable!("unknown group figure {other}"),
@@ -232,8 +235,8 @@ pub fn figures(model: &Model, layout: &[FigureId], t: &Tally) -> Vec<f64> {
                 let len = interval_length(model, b);
                 match f.name {
                     "carried_traffic" => it.busy_s / len,
-                    "occupancy" => it.busy_s / len / f64::from(model.groups[g].servers),
-                    "time_congestion" => it.full_s / len,
+                    "occupancy" => (it.busy_s / len / f64::from(model.groups[g].servers)).min(1.0),
+                    "time_congestion" => (it.full_s / len).min(1.0),
                     other => unreachable!("unknown interval figure {other}"),
                 }
             }
