@@ -223,16 +223,9 @@ impl<'m> Sim<'m> {
             events: 0,
             peak_busy: vec![0; n_groups],
         };
-        let capacity = 64
-            + model
-                .groups
-                .iter()
-                .map(|g| g.servers as usize)
-                .sum::<usize>()
-                .min(1 << 20);
         Sim {
             model,
-            calendar: Lanes::with_capacity(capacity),
+            calendar: Lanes::new(),
             rngs,
             routes,
             groups,
@@ -268,11 +261,11 @@ impl<'m> Sim<'m> {
             }
         }
         let drain_until = self.end + self.model.plan.length_s;
-        while let Some(t) = self.calendar.peek_time() {
+        while let Some((t, lane)) = self.calendar.peek() {
             if t >= self.end && (self.pending == 0 || t >= drain_until) {
                 break;
             }
-            let Some((now, next)) = self.calendar.pop() else {
+            let Some((now, next)) = self.calendar.take(lane) else {
                 break;
             };
             self.tally.events += 1;
