@@ -208,7 +208,7 @@ impl<E: Copy> CalendarQueue<E> {
     }
 
     /// Schedule `event` at absolute time `time` (>= 0, finite).
-    #[inline]
+    #[inline(always)]
     pub fn schedule(&mut self, time: f64, event: E) {
         let seq = self.next_seq();
         self.schedule_seq(time, seq, event);
@@ -221,7 +221,7 @@ impl<E: Copy> CalendarQueue<E> {
         self.seq
     }
 
-    #[inline]
+    #[inline(always)]
     fn schedule_seq(&mut self, time: f64, seq: u64, event: E) {
         debug_assert!(time >= 0.0 && time.is_finite(), "event time {time}");
         let key = time.to_bits();
@@ -526,7 +526,7 @@ impl<E: Copy> Lanes<E> {
     }
 
     /// Schedule `event` at `time`.
-    #[inline]
+    #[inline(always)]
     pub fn schedule(&mut self, time: f64, event: E) {
         self.main.schedule(time, event);
     }

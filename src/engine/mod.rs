@@ -29,6 +29,7 @@
 pub mod calendar;
 pub mod seeds;
 
+use crate::dist::Law;
 use crate::scenario::{Arrivals, Model};
 use crate::stats::tally::{
     GroupIntervalTally, GroupTally, StreamIntervalTally, StreamTally, Tally, WAIT_DIGITS,
@@ -115,19 +116,33 @@ struct GroupState {
     last_change: f64,
     virtual_busy: u32,
     virtual_last_change: f64,
+    // Time integrals and the peak, kept here beside the state they follow
+    // (one cache line, no extra indexing) and copied into the tally at the
+    // end of the replication: the same sums in the same order.
+    busy_s: f64,
+    full_s: f64,
+    overflow_s: f64,
+    overflow_sq_s: f64,
+    peak_busy: u32,
 }
 
-struct StreamRngs {
+/// A stream's random generators and the settings read on every call
+/// (copied from the model so that the hot path reads one small struct).
+struct StreamState {
     arrivals: Xoshiro256PlusPlus,
     holding: Xoshiro256PlusPlus,
     retry: Xoshiro256PlusPlus,
     patience: Xoshiro256PlusPlus,
+    units: u32,
+    /// Finite sources: a source idles when its call ends.
+    sources: bool,
+    answer_within_s: Option<f64>,
 }
 
 struct Sim<'m> {
     model: &'m Model,
     calendar: Lanes<Event>,
-    rngs: Vec<StreamRngs>,
+    streams: Vec<StreamState>,
     routes: Vec<Vec<Step>>,
     groups: Vec<GroupState>,
     slab: Vec<Waiting>,
@@ -153,14 +168,17 @@ pub fn run_replication(model: &Model, replication: u64) -> Tally {
 impl<'m> Sim<'m> {
     fn new(model: &'m Model, replication: u64) -> Self {
         let plan = &model.plan;
-        let rngs = model
+        let stream_states = model
             .streams
             .iter()
-            .map(|s| StreamRngs {
+            .map(|s| StreamState {
                 arrivals: seeds::generator(plan.seed, replication, s.seed_key, seeds::ARRIVALS),
                 holding: seeds::generator(plan.seed, replication, s.seed_key, seeds::HOLDING),
                 retry: seeds::generator(plan.seed, replication, s.seed_key, seeds::RETRY),
                 patience: seeds::generator(plan.seed, replication, s.seed_key, seeds::PATIENCE),
+                units: s.units,
+                sources: matches!(s.arrivals, Arrivals::Sources { .. }),
+                answer_within_s: s.answer_within_s,
             })
             .collect();
         let routes = model
@@ -194,6 +212,11 @@ impl<'m> Sim<'m> {
                 last_change: 0.0,
                 virtual_busy: 0,
                 virtual_last_change: 0.0,
+                busy_s: 0.0,
+                full_s: 0.0,
+                overflow_s: 0.0,
+                overflow_sq_s: 0.0,
+                peak_busy: 0,
             })
             .collect();
         let bins = plan.interval_count();
@@ -226,7 +249,7 @@ impl<'m> Sim<'m> {
         Sim {
             model,
             calendar: Lanes::new(),
-            rngs,
+            streams: stream_states,
             routes,
             groups,
             slab: Vec::new(),
@@ -248,7 +271,7 @@ impl<'m> Sim<'m> {
             match &stream.arrivals {
                 Arrivals::Sources { count, idle } => {
                     for _ in 0..*count {
-                        let t = idle.sample(&mut self.rngs[si].arrivals);
+                        let t = idle.sample(&mut self.streams[si].arrivals);
                         self.calendar
                             .schedule(t, Event::SourceCall { stream: si as u32 });
                     }
@@ -283,6 +306,13 @@ impl<'m> Sim<'m> {
         for g in 0..self.groups.len() {
             self.touch(g, self.end);
             self.touch_virtual(g, self.end);
+            let grp = &self.groups[g];
+            let gt = &mut self.tally.groups[g];
+            gt.busy_s = grp.busy_s;
+            gt.full_s = grp.full_s;
+            gt.overflow_s = grp.overflow_s;
+            gt.overflow_sq_s = grp.overflow_sq_s;
+            self.tally.peak_busy[g] = grp.peak_busy;
         }
         // Measured calls still waiting or between redials count as pending.
         for w in &self.slab {
@@ -316,14 +346,18 @@ impl<'m> Sim<'m> {
             }
             Event::Departure { group, stream } => {
                 let g = group as usize;
+                let si = stream as usize;
                 self.touch(g, now);
-                let units = self.model.streams[stream as usize].units;
-                debug_assert!(self.groups[g].busy >= units);
-                self.groups[g].busy -= units;
-                if self.groups[g].waiting > 0 {
+                let units = self.streams[si].units;
+                let grp = &mut self.groups[g];
+                debug_assert!(grp.busy >= units);
+                grp.busy -= units;
+                if grp.waiting > 0 {
                     self.serve_queue(g, now);
                 }
-                self.source_idles(stream as usize, now);
+                if self.streams[si].sources {
+                    self.source_idles(si, now);
+                }
             }
             Event::VirtualEnd { group } => {
                 let g = group as usize;
@@ -350,13 +384,24 @@ impl<'m> Sim<'m> {
     }
 
     /// Time of the next arrival of open stream `si` after `now`.
+    #[inline(always)]
     fn next_arrival(&mut self, si: usize, now: f64) -> Option<f64> {
-        let rng = &mut self.rngs[si].arrivals;
+        let rng = &mut self.streams[si].arrivals;
         match &self.model.streams[si].arrivals {
             Arrivals::Poisson { rate } => {
                 let e: f64 = rand_distr::Distribution::sample(&rand_distr::Exp1, rng);
                 Some(now + e / rate)
             }
+            _ => self.next_arrival_other(si, now),
+        }
+    }
+
+    /// `next_arrival` for arrivals other than Poisson at a constant rate.
+    #[inline(never)]
+    fn next_arrival_other(&mut self, si: usize, now: f64) -> Option<f64> {
+        let rng = &mut self.streams[si].arrivals;
+        match &self.model.streams[si].arrivals {
+            Arrivals::Poisson { .. } => unreachable!("handled by next_arrival"),
             Arrivals::Renewal { between } => Some(now + between.sample(rng)),
             Arrivals::Profile { interval_s, rates } => {
                 // Inversion of the integrated piecewise-constant rate: walk
@@ -380,9 +425,9 @@ impl<'m> Sim<'m> {
         }
     }
 
+    #[inline(always)]
     fn new_call(&mut self, si: usize, now: f64) {
-        let stream = &self.model.streams[si];
-        let holding = stream.holding.sample(&mut self.rngs[si].holding);
+        let holding = sample(&self.model.streams[si].holding, &mut self.streams[si].holding);
         let bin = if now >= self.start && now < self.end {
             if self.bins > 0 {
                 (((now - self.start) / self.interval_s) as usize).min(self.bins - 1) as u32
@@ -442,13 +487,13 @@ impl<'m> Sim<'m> {
     #[inline]
     fn seize(&mut self, g: usize, mut call: Call, now: f64) {
         let si = call.stream as usize;
-        let units = self.model.streams[si].units;
+        let units = self.streams[si].units;
         self.touch(g, now);
         let grp = &mut self.groups[g];
         grp.busy += units;
         debug_assert!(grp.busy <= grp.servers, "busy servers above the group size");
-        if grp.busy > self.tally.peak_busy[g] {
-            self.tally.peak_busy[g] = grp.busy;
+        if grp.busy > grp.peak_busy {
+            grp.peak_busy = grp.busy;
         }
         self.calendar.schedule(
             now + call.holding,
@@ -475,7 +520,7 @@ impl<'m> Sim<'m> {
             return;
         }
         let wait = now - call.attempt_at;
-        let answer_within = self.model.streams[si].answer_within_s;
+        let answer_within = self.streams[si].answer_within_s;
         let within = answer_within.is_some_and(|aw| wait <= aw);
         let st = &mut self.tally.streams[si];
         st.answered += 1;
@@ -549,7 +594,7 @@ impl<'m> Sim<'m> {
         }
         let si = call.stream as usize;
         if let Some(p) = &self.model.streams[si].patience {
-            let patience = p.sample(&mut self.rngs[si].patience);
+            let patience = p.sample(&mut self.streams[si].patience);
             self.calendar
                 .schedule(now + patience, Event::Abandon { slot, generation });
         }
@@ -652,7 +697,7 @@ impl<'m> Sim<'m> {
         }
         if let Some(retry) = &self.model.streams[si].retry {
             let chance = retry.chance_after(call.attempt);
-            let rng = &mut self.rngs[si].retry;
+            let rng = &mut self.streams[si].retry;
             let u: f64 = rng.random();
             if call.attempt < retry.max_attempts && u < chance {
                 let delay = retry.delay.sample(rng);
@@ -680,14 +725,16 @@ impl<'m> Sim<'m> {
             }
         }
         self.resolve(call, true);
-        self.source_idles(si, now);
+        if self.streams[si].sources {
+            self.source_idles(si, now);
+        }
     }
 
     /// A finite source's call has ended: it idles, then calls again.
-    #[inline]
+    #[inline(never)]
     fn source_idles(&mut self, si: usize, now: f64) {
         if let Arrivals::Sources { idle, .. } = &self.model.streams[si].arrivals {
-            let t = now + idle.sample(&mut self.rngs[si].arrivals);
+            let t = now + idle.sample(&mut self.streams[si].arrivals);
             self.calendar
                 .schedule(t, Event::SourceCall { stream: si as u32 });
         }
@@ -695,7 +742,7 @@ impl<'m> Sim<'m> {
 
     /// Bring group `g`'s time integrals up to `now` (before its busy count
     /// changes).
-    #[inline]
+    #[inline(always)]
     fn touch(&mut self, g: usize, now: f64) {
         let grp = &mut self.groups[g];
         let t0 = grp.last_change.max(self.start);
@@ -706,10 +753,9 @@ impl<'m> Sim<'m> {
         }
         let busy = f64::from(grp.busy);
         let full = grp.busy >= grp.servers;
-        let gt = &mut self.tally.groups[g];
-        gt.busy_s += busy * (t1 - t0);
+        grp.busy_s += busy * (t1 - t0);
         if full {
-            gt.full_s += t1 - t0;
+            grp.full_s += t1 - t0;
         }
         if self.bins > 0 {
             let iv = &mut self.tally.group_intervals;
@@ -729,10 +775,20 @@ impl<'m> Sim<'m> {
         grp.virtual_last_change = now;
         if t1 > t0 {
             let n = f64::from(grp.virtual_busy);
-            let gt = &mut self.tally.groups[g];
-            gt.overflow_s += n * (t1 - t0);
-            gt.overflow_sq_s += n * n * (t1 - t0);
+            grp.overflow_s += n * (t1 - t0);
+            grp.overflow_sq_s += n * n * (t1 - t0);
         }
+    }
+}
+
+/// Draw from `law`, with the exponential law inlined: the most common
+/// holding law, drawn once per call (the same function and the same numbers
+/// as `Law::sample`, without the call and the dispatch).
+#[inline(always)]
+fn sample(law: &Law, rng: &mut Xoshiro256PlusPlus) -> f64 {
+    match law {
+        Law::Exponential(l) => l.sample(rng),
+        other => other.sample(rng),
     }
 }
 
