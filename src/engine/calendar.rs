@@ -108,14 +108,21 @@ struct Node<E> {
     event: E,
 }
 
-/// One bucket: a list of nodes sorted by (time, sequence).
+/// One bucket: a list of nodes sorted by (time, sequence), with the keys of
+/// its first and last node (valid when not empty). Keeping the keys here
+/// spares a visit to a node far away in memory when stepping through empty
+/// days and when placing a new event at either end of the list.
 #[derive(Clone, Copy)]
 struct Bucket {
+    head_key: u64,
+    tail_key: u64,
     head: u32,
     tail: u32,
 }
 
 const EMPTY: Bucket = Bucket {
+    head_key: 0,
+    tail_key: 0,
     head: NIL,
     tail: NIL,
 };
@@ -174,6 +181,11 @@ pub struct CalendarQueue<E: Copy> {
     /// check.
     work: u64,
     ops: u64,
+    /// Key of the last event taken out.
+    last_key: u64,
+    /// Binary exponent of the time when the day was measured: a day's
+    /// length in seconds doubles with the exponent, so a change re-measures.
+    exponent: u64,
     /// Scratch for resizes: (key, node) in leaving order.
     order: Vec<(u64, u32)>,
 }
@@ -203,6 +215,8 @@ impl<E: Copy> CalendarQueue<E> {
             ready_key: 0,
             work: 0,
             ops: 0,
+            last_key: 0,
+            exponent: 0,
             order: Vec::new(),
         }
     }
@@ -249,30 +263,38 @@ impl<E: Copy> CalendarQueue<E> {
             (self.nodes.len() - 1) as u32
         };
         let b = (day & self.mask) as usize;
-        let bucket = self.buckets[b];
-        if bucket.tail == NIL {
-            self.buckets[b] = Bucket { head: n, tail: n };
-        } else if self.nodes[bucket.tail as usize].key <= key {
-            // The latest of its bucket, as most events are: append.
-            self.nodes[bucket.tail as usize].next = n;
-            self.buckets[b].tail = n;
+        let nodes = &mut self.nodes;
+        let bucket = &mut self.buckets[b];
+        if bucket.head == NIL {
+            *bucket = Bucket {
+                head_key: key,
+                tail_key: key,
+                head: n,
+                tail: n,
+            };
+        } else if bucket.tail_key <= key {
+            // The latest of its bucket, as most events are: append. Ties go
+            // after the events already there.
+            nodes[bucket.tail as usize].next = n;
+            bucket.tail = n;
+            bucket.tail_key = key;
+        } else if key < bucket.head_key {
+            nodes[n as usize].next = bucket.head;
+            bucket.head = n;
+            bucket.head_key = key;
         } else {
             // Walk past every event of equal or earlier time (ties stay in
-            // scheduling order); the tail is later, so the walk stops
-            // before it.
-            let mut prev = NIL;
-            let mut cur = bucket.head;
-            while self.nodes[cur as usize].key <= key {
+            // scheduling order); the head is not later and the tail is, so
+            // the walk starts after the head and stops before the tail.
+            let mut prev = bucket.head;
+            let mut cur = nodes[prev as usize].next;
+            while nodes[cur as usize].key <= key {
                 prev = cur;
-                cur = self.nodes[cur as usize].next;
+                cur = nodes[cur as usize].next;
                 self.work += 1;
             }
-            self.nodes[n as usize].next = cur;
-            if prev == NIL {
-                self.buckets[b].head = n;
-            } else {
-                self.nodes[prev as usize].next = n;
-            }
+            nodes[n as usize].next = cur;
+            nodes[prev as usize].next = n;
         }
         self.len += 1;
         self.ops += 1;
@@ -295,14 +317,11 @@ impl<E: Copy> CalendarQueue<E> {
     #[inline(never)]
     fn find_day(&mut self) -> u32 {
         for _ in 0..self.buckets.len() {
-            let h = self.buckets[(self.day & self.mask) as usize].head;
-            if h != NIL {
-                let key = self.nodes[h as usize].key;
-                if key >> self.shift == self.day {
-                    self.ready = h;
-                    self.ready_key = key;
-                    return h;
-                }
+            let bucket = &self.buckets[(self.day & self.mask) as usize];
+            if bucket.head != NIL && bucket.head_key >> self.shift == self.day {
+                self.ready = bucket.head;
+                self.ready_key = bucket.head_key;
+                return bucket.head;
             }
             self.day += 1;
             self.work += 1;
@@ -314,15 +333,13 @@ impl<E: Copy> CalendarQueue<E> {
     #[cold]
     fn find_far(&mut self) -> u32 {
         let mut best = NIL;
+        let mut key = u64::MAX;
         for b in &self.buckets {
-            let h = b.head;
-            if h != NIL
-                && (best == NIL || self.nodes[h as usize].key < self.nodes[best as usize].key)
-            {
-                best = h;
+            if b.head != NIL && (best == NIL || b.head_key < key) {
+                best = b.head;
+                key = b.head_key;
             }
         }
-        let key = self.nodes[best as usize].key;
         self.day = key >> self.shift;
         self.ready = best;
         self.ready_key = key;
@@ -359,15 +376,19 @@ impl<E: Copy> CalendarQueue<E> {
         self.ready_key = 0;
         let node = self.nodes[h as usize];
         let b = (self.day & self.mask) as usize;
-        debug_assert_eq!(self.buckets[b].head, h);
-        self.buckets[b].head = node.next;
+        let bucket = &mut self.buckets[b];
+        debug_assert_eq!(bucket.head, h);
+        bucket.head = node.next;
         if node.next == NIL {
-            self.buckets[b].tail = NIL;
+            bucket.tail = NIL;
+        } else {
+            bucket.head_key = self.nodes[node.next as usize].key;
         }
         self.nodes[h as usize].next = self.free;
         self.free = h;
         self.len -= 1;
         self.ops += 1;
+        self.last_key = node.key;
         if self.ops >= CHECK_EVERY {
             self.check();
         }
@@ -376,7 +397,7 @@ impl<E: Copy> CalendarQueue<E> {
 
     /// Every `CHECK_EVERY` operations: halve the buckets when they are far
     /// too many for the events, or re-measure the day when operations cost
-    /// too much work.
+    /// too much work or the clock has passed a power of two.
     #[cold]
     fn check(&mut self) {
         let too_much_work = self.work > MAX_WORK_PER_OP * self.ops;
@@ -385,7 +406,7 @@ impl<E: Copy> CalendarQueue<E> {
         let buckets = self.buckets.len();
         if buckets > MIN_BUCKETS && 2 * self.len < buckets {
             self.resize(buckets / 2);
-        } else if too_much_work {
+        } else if too_much_work || self.last_key >> 52 != self.exponent {
             self.resize(buckets);
         }
     }
@@ -408,6 +429,7 @@ impl<E: Copy> CalendarQueue<E> {
         // scheduling order, and keep it.
         order.sort_by_key(|&(key, _)| key);
         let sample = order.len().min(SAMPLE);
+        self.exponent = order.first().map_or(0, |&(key, _)| key >> 52);
         if sample >= 2 {
             let span = order[sample - 1].0 - order[0].0;
             let width = span / (sample as u64 - 1) * 3;
@@ -420,15 +442,16 @@ impl<E: Copy> CalendarQueue<E> {
         self.mask = (buckets - 1) as u64;
         // Append in leaving order: each list stays sorted, ties in order.
         for &(key, n) in &order {
-            let b = ((key >> self.shift) & self.mask) as usize;
+            let bucket = &mut self.buckets[((key >> self.shift) & self.mask) as usize];
             self.nodes[n as usize].next = NIL;
-            let tail = self.buckets[b].tail;
-            if tail == NIL {
-                self.buckets[b].head = n;
+            if bucket.head == NIL {
+                bucket.head = n;
+                bucket.head_key = key;
             } else {
-                self.nodes[tail as usize].next = n;
+                self.nodes[bucket.tail as usize].next = n;
             }
-            self.buckets[b].tail = n;
+            bucket.tail = n;
+            bucket.tail_key = key;
         }
         self.day = order.first().map_or(0, |&(key, _)| key >> self.shift);
         self.ready = NIL;
