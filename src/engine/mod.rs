@@ -284,6 +284,7 @@ impl<'m> Sim<'m> {
             }
         }
         let drain_until = self.end + self.model.plan.length_s;
+        let mut events = 0u64;
         while let Some((t, lane)) = self.calendar.peek() {
             if t >= self.end && (self.pending == 0 || t >= drain_until) {
                 break;
@@ -291,7 +292,7 @@ impl<'m> Sim<'m> {
             let Some((now, next)) = self.calendar.take(lane) else {
                 break;
             };
-            self.tally.events += 1;
+            events += 1;
             match next {
                 Next::Arrival(stream) => {
                     let si = stream as usize;
@@ -303,6 +304,7 @@ impl<'m> Sim<'m> {
                 Next::Event(event) => self.handle(now, event),
             }
         }
+        self.tally.events = events;
         for g in 0..self.groups.len() {
             self.touch(g, self.end);
             self.touch_virtual(g, self.end);
@@ -484,10 +486,13 @@ impl<'m> Sim<'m> {
         self.attempt_failed(call, now, false);
     }
 
-    #[inline]
+    #[inline(always)]
     fn seize(&mut self, g: usize, mut call: Call, now: f64) {
         let si = call.stream as usize;
-        let units = self.streams[si].units;
+        let (units, answer_within) = {
+            let s = &self.streams[si];
+            (s.units, s.answer_within_s)
+        };
         self.touch(g, now);
         let grp = &mut self.groups[g];
         grp.busy += units;
@@ -495,22 +500,27 @@ impl<'m> Sim<'m> {
         if grp.busy > grp.peak_busy {
             grp.peak_busy = grp.busy;
         }
+        let ends = now + call.holding;
         self.calendar.schedule(
-            now + call.holding,
+            ends,
             Event::Departure {
                 group: g as u32,
                 stream: call.stream,
             },
         );
         // Carried call-seconds inside the measured period, for every call
-        // (measured or not): a time integral, not a per-call count.
-        let t0 = now.max(self.start);
-        let t1 = (now + call.holding).min(self.end);
+        // (measured or not): a time integral, not a per-call count. (`max`
+        // and `min` written as comparisons: the same values for times,
+        // which are never NaN or -0, in fewer instructions.)
+        let t0 = if now > self.start { now } else { self.start };
+        let t1 = if ends < self.end { ends } else { self.end };
+        let tally = &mut self.tally;
+        let st = &mut tally.streams[si];
         if t1 > t0 {
-            self.tally.streams[si].carried_s += t1 - t0;
+            st.carried_s += t1 - t0;
             if self.bins > 0 {
                 let (start, width, bins) = (self.start, self.interval_s, self.bins);
-                let iv = &mut self.tally.stream_intervals;
+                let iv = &mut tally.stream_intervals;
                 spread(start, width, bins, t0, t1, |b, dt| {
                     iv[b][si].carried_s += dt
                 });
@@ -520,9 +530,8 @@ impl<'m> Sim<'m> {
             return;
         }
         let wait = now - call.attempt_at;
-        let answer_within = self.streams[si].answer_within_s;
         let within = answer_within.is_some_and(|aw| wait <= aw);
-        let st = &mut self.tally.streams[si];
+        let st = &mut tally.streams[si];
         st.answered += 1;
         st.wait_sum_s += wait;
         if within {
@@ -532,16 +541,21 @@ impl<'m> Sim<'m> {
             let ms = ((wait * 1000.0).round() as u64).min(WAIT_MAX_MS);
             h.saturating_record(ms);
         }
+        call.waited |= wait > 0.0;
+        // The call is resolved (as `resolve` does, written out here).
+        if call.waited {
+            st.waited += 1;
+        }
+        self.pending -= 1;
         if self.bins > 0 {
-            let it = &mut self.tally.stream_intervals[call.bin as usize][si];
+            let it = &mut tally.stream_intervals[call.bin as usize][si];
             it.answered += 1;
             it.wait_sum_s += wait;
             if within {
                 it.answered_within += 1;
             }
+            it.resolved += 1;
         }
-        call.waited |= wait > 0.0;
-        self.resolve(call, false);
     }
 
     /// A measured or unmeasured call's fate is known.
@@ -745,8 +759,13 @@ impl<'m> Sim<'m> {
     #[inline(always)]
     fn touch(&mut self, g: usize, now: f64) {
         let grp = &mut self.groups[g];
-        let t0 = grp.last_change.max(self.start);
-        let t1 = now.min(self.end);
+        // `max` and `min` as comparisons: see `seize`.
+        let t0 = if grp.last_change > self.start {
+            grp.last_change
+        } else {
+            self.start
+        };
+        let t1 = if now < self.end { now } else { self.end };
         grp.last_change = now;
         if t1 <= t0 {
             return;
