@@ -366,7 +366,7 @@ impl<E: Copy> CalendarQueue<E> {
     }
 
     /// Remove and return the next event with its time.
-    #[inline]
+    #[inline(always)]
     pub fn pop(&mut self) -> Option<(f64, E)> {
         let h = self.find();
         if h == NIL {
