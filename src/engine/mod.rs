@@ -29,6 +29,7 @@
 pub mod calendar;
 pub mod seeds;
 
+use crate::dist::Law;
 use crate::scenario::{Arrivals, Model};
 use crate::stats::tally::{
     GroupIntervalTally, GroupTally, StreamIntervalTally, StreamTally, Tally, WAIT_DIGITS,
@@ -115,19 +116,33 @@ struct GroupState {
     last_change: f64,
     virtual_busy: u32,
     virtual_last_change: f64,
+    // Time integrals and the peak, kept here beside the state they follow
+    // (one cache line, no extra indexing) and copied into the tally at the
+    // end of the replication: the same sums in the same order.
+    busy_s: f64,
+    full_s: f64,
+    overflow_s: f64,
+    overflow_sq_s: f64,
+    peak_busy: u32,
 }
 
-struct StreamRngs {
+/// A stream's random generators and the settings read on every call
+/// (copied from the model so that the hot path reads one small struct).
+struct StreamState {
     arrivals: Xoshiro256PlusPlus,
     holding: Xoshiro256PlusPlus,
     retry: Xoshiro256PlusPlus,
     patience: Xoshiro256PlusPlus,
+    units: u32,
+    /// Finite sources: a source idles when its call ends.
+    sources: bool,
+    answer_within_s: Option<f64>,
 }
 
 struct Sim<'m> {
     model: &'m Model,
     calendar: Lanes<Event>,
-    rngs: Vec<StreamRngs>,
+    streams: Vec<StreamState>,
     routes: Vec<Vec<Step>>,
     groups: Vec<GroupState>,
     slab: Vec<Waiting>,
@@ -153,14 +168,17 @@ pub fn run_replication(model: &Model, replication: u64) -> Tally {
 impl<'m> Sim<'m> {
     fn new(model: &'m Model, replication: u64) -> Self {
         let plan = &model.plan;
-        let rngs = model
+        let stream_states = model
             .streams
             .iter()
-            .map(|s| StreamRngs {
+            .map(|s| StreamState {
                 arrivals: seeds::generator(plan.seed, replication, s.seed_key, seeds::ARRIVALS),
                 holding: seeds::generator(plan.seed, replication, s.seed_key, seeds::HOLDING),
                 retry: seeds::generator(plan.seed, replication, s.seed_key, seeds::RETRY),
                 patience: seeds::generator(plan.seed, replication, s.seed_key, seeds::PATIENCE),
+                units: s.units,
+                sources: matches!(s.arrivals, Arrivals::Sources { .. }),
+                answer_within_s: s.answer_within_s,
             })
             .collect();
         let routes = model
@@ -194,6 +212,11 @@ impl<'m> Sim<'m> {
                 last_change: 0.0,
                 virtual_busy: 0,
                 virtual_last_change: 0.0,
+                busy_s: 0.0,
+                full_s: 0.0,
+                overflow_s: 0.0,
+                overflow_sq_s: 0.0,
+                peak_busy: 0,
             })
             .collect();
         let bins = plan.interval_count();
@@ -223,17 +246,10 @@ impl<'m> Sim<'m> {
             events: 0,
             peak_busy: vec![0; n_groups],
         };
-        let capacity = 64
-            + model
-                .groups
-                .iter()
-                .map(|g| g.servers as usize)
-                .sum::<usize>()
-                .min(1 << 20);
         Sim {
             model,
-            calendar: Lanes::with_capacity(capacity),
-            rngs,
+            calendar: Lanes::new(),
+            streams: stream_states,
             routes,
             groups,
             slab: Vec::new(),
@@ -255,7 +271,7 @@ impl<'m> Sim<'m> {
             match &stream.arrivals {
                 Arrivals::Sources { count, idle } => {
                     for _ in 0..*count {
-                        let t = idle.sample(&mut self.rngs[si].arrivals);
+                        let t = idle.sample(&mut self.streams[si].arrivals);
                         self.calendar
                             .schedule(t, Event::SourceCall { stream: si as u32 });
                     }
@@ -268,14 +284,15 @@ impl<'m> Sim<'m> {
             }
         }
         let drain_until = self.end + self.model.plan.length_s;
-        while let Some(t) = self.calendar.peek_time() {
+        let mut events = 0u64;
+        while let Some((t, lane)) = self.calendar.peek() {
             if t >= self.end && (self.pending == 0 || t >= drain_until) {
                 break;
             }
-            let Some((now, next)) = self.calendar.pop() else {
+            let Some((now, next)) = self.calendar.take(lane) else {
                 break;
             };
-            self.tally.events += 1;
+            events += 1;
             match next {
                 Next::Arrival(stream) => {
                     let si = stream as usize;
@@ -287,9 +304,17 @@ impl<'m> Sim<'m> {
                 Next::Event(event) => self.handle(now, event),
             }
         }
+        self.tally.events = events;
         for g in 0..self.groups.len() {
             self.touch(g, self.end);
             self.touch_virtual(g, self.end);
+            let grp = &self.groups[g];
+            let gt = &mut self.tally.groups[g];
+            gt.busy_s = grp.busy_s;
+            gt.full_s = grp.full_s;
+            gt.overflow_s = grp.overflow_s;
+            gt.overflow_sq_s = grp.overflow_sq_s;
+            self.tally.peak_busy[g] = grp.peak_busy;
         }
         // Measured calls still waiting or between redials count as pending.
         for w in &self.slab {
@@ -323,14 +348,18 @@ impl<'m> Sim<'m> {
             }
             Event::Departure { group, stream } => {
                 let g = group as usize;
+                let si = stream as usize;
                 self.touch(g, now);
-                let units = self.model.streams[stream as usize].units;
-                debug_assert!(self.groups[g].busy >= units);
-                self.groups[g].busy -= units;
-                if self.groups[g].waiting > 0 {
+                let units = self.streams[si].units;
+                let grp = &mut self.groups[g];
+                debug_assert!(grp.busy >= units);
+                grp.busy -= units;
+                if grp.waiting > 0 {
                     self.serve_queue(g, now);
                 }
-                self.source_idles(stream as usize, now);
+                if self.streams[si].sources {
+                    self.source_idles(si, now);
+                }
             }
             Event::VirtualEnd { group } => {
                 let g = group as usize;
@@ -357,13 +386,24 @@ impl<'m> Sim<'m> {
     }
 
     /// Time of the next arrival of open stream `si` after `now`.
+    #[inline(always)]
     fn next_arrival(&mut self, si: usize, now: f64) -> Option<f64> {
-        let rng = &mut self.rngs[si].arrivals;
+        let rng = &mut self.streams[si].arrivals;
         match &self.model.streams[si].arrivals {
             Arrivals::Poisson { rate } => {
                 let e: f64 = rand_distr::Distribution::sample(&rand_distr::Exp1, rng);
                 Some(now + e / rate)
             }
+            _ => self.next_arrival_other(si, now),
+        }
+    }
+
+    /// `next_arrival` for arrivals other than Poisson at a constant rate.
+    #[inline(never)]
+    fn next_arrival_other(&mut self, si: usize, now: f64) -> Option<f64> {
+        let rng = &mut self.streams[si].arrivals;
+        match &self.model.streams[si].arrivals {
+            Arrivals::Poisson { .. } => unreachable!("handled by next_arrival"),
             Arrivals::Renewal { between } => Some(now + between.sample(rng)),
             Arrivals::Profile { interval_s, rates } => {
                 // Inversion of the integrated piecewise-constant rate: walk
@@ -387,9 +427,9 @@ impl<'m> Sim<'m> {
         }
     }
 
+    #[inline(always)]
     fn new_call(&mut self, si: usize, now: f64) {
-        let stream = &self.model.streams[si];
-        let holding = stream.holding.sample(&mut self.rngs[si].holding);
+        let holding = sample(&self.model.streams[si].holding, &mut self.streams[si].holding);
         let bin = if now >= self.start && now < self.end {
             if self.bins > 0 {
                 (((now - self.start) / self.interval_s) as usize).min(self.bins - 1) as u32
@@ -446,33 +486,41 @@ impl<'m> Sim<'m> {
         self.attempt_failed(call, now, false);
     }
 
-    #[inline]
+    #[inline(always)]
     fn seize(&mut self, g: usize, mut call: Call, now: f64) {
         let si = call.stream as usize;
-        let units = self.model.streams[si].units;
+        let (units, answer_within) = {
+            let s = &self.streams[si];
+            (s.units, s.answer_within_s)
+        };
         self.touch(g, now);
         let grp = &mut self.groups[g];
         grp.busy += units;
         debug_assert!(grp.busy <= grp.servers, "busy servers above the group size");
-        if grp.busy > self.tally.peak_busy[g] {
-            self.tally.peak_busy[g] = grp.busy;
+        if grp.busy > grp.peak_busy {
+            grp.peak_busy = grp.busy;
         }
+        let ends = now + call.holding;
         self.calendar.schedule(
-            now + call.holding,
+            ends,
             Event::Departure {
                 group: g as u32,
                 stream: call.stream,
             },
         );
         // Carried call-seconds inside the measured period, for every call
-        // (measured or not): a time integral, not a per-call count.
-        let t0 = now.max(self.start);
-        let t1 = (now + call.holding).min(self.end);
+        // (measured or not): a time integral, not a per-call count. (`max`
+        // and `min` written as comparisons: the same values for times,
+        // which are never NaN or -0, in fewer instructions.)
+        let t0 = if now > self.start { now } else { self.start };
+        let t1 = if ends < self.end { ends } else { self.end };
+        let tally = &mut self.tally;
+        let st = &mut tally.streams[si];
         if t1 > t0 {
-            self.tally.streams[si].carried_s += t1 - t0;
+            st.carried_s += t1 - t0;
             if self.bins > 0 {
                 let (start, width, bins) = (self.start, self.interval_s, self.bins);
-                let iv = &mut self.tally.stream_intervals;
+                let iv = &mut tally.stream_intervals;
                 spread(start, width, bins, t0, t1, |b, dt| {
                     iv[b][si].carried_s += dt
                 });
@@ -482,9 +530,8 @@ impl<'m> Sim<'m> {
             return;
         }
         let wait = now - call.attempt_at;
-        let answer_within = self.model.streams[si].answer_within_s;
         let within = answer_within.is_some_and(|aw| wait <= aw);
-        let st = &mut self.tally.streams[si];
+        let st = &mut tally.streams[si];
         st.answered += 1;
         st.wait_sum_s += wait;
         if within {
@@ -494,16 +541,21 @@ impl<'m> Sim<'m> {
             let ms = ((wait * 1000.0).round() as u64).min(WAIT_MAX_MS);
             h.saturating_record(ms);
         }
+        call.waited |= wait > 0.0;
+        // The call is resolved (as `resolve` does, written out here).
+        if call.waited {
+            st.waited += 1;
+        }
+        self.pending -= 1;
         if self.bins > 0 {
-            let it = &mut self.tally.stream_intervals[call.bin as usize][si];
+            let it = &mut tally.stream_intervals[call.bin as usize][si];
             it.answered += 1;
             it.wait_sum_s += wait;
             if within {
                 it.answered_within += 1;
             }
+            it.resolved += 1;
         }
-        call.waited |= wait > 0.0;
-        self.resolve(call, false);
     }
 
     /// A measured or unmeasured call's fate is known.
@@ -556,7 +608,7 @@ impl<'m> Sim<'m> {
         }
         let si = call.stream as usize;
         if let Some(p) = &self.model.streams[si].patience {
-            let patience = p.sample(&mut self.rngs[si].patience);
+            let patience = p.sample(&mut self.streams[si].patience);
             self.calendar
                 .schedule(now + patience, Event::Abandon { slot, generation });
         }
@@ -659,7 +711,7 @@ impl<'m> Sim<'m> {
         }
         if let Some(retry) = &self.model.streams[si].retry {
             let chance = retry.chance_after(call.attempt);
-            let rng = &mut self.rngs[si].retry;
+            let rng = &mut self.streams[si].retry;
             let u: f64 = rng.random();
             if call.attempt < retry.max_attempts && u < chance {
                 let delay = retry.delay.sample(rng);
@@ -687,14 +739,16 @@ impl<'m> Sim<'m> {
             }
         }
         self.resolve(call, true);
-        self.source_idles(si, now);
+        if self.streams[si].sources {
+            self.source_idles(si, now);
+        }
     }
 
     /// A finite source's call has ended: it idles, then calls again.
-    #[inline]
+    #[inline(never)]
     fn source_idles(&mut self, si: usize, now: f64) {
         if let Arrivals::Sources { idle, .. } = &self.model.streams[si].arrivals {
-            let t = now + idle.sample(&mut self.rngs[si].arrivals);
+            let t = now + idle.sample(&mut self.streams[si].arrivals);
             self.calendar
                 .schedule(t, Event::SourceCall { stream: si as u32 });
         }
@@ -702,21 +756,25 @@ impl<'m> Sim<'m> {
 
     /// Bring group `g`'s time integrals up to `now` (before its busy count
     /// changes).
-    #[inline]
+    #[inline(always)]
     fn touch(&mut self, g: usize, now: f64) {
         let grp = &mut self.groups[g];
-        let t0 = grp.last_change.max(self.start);
-        let t1 = now.min(self.end);
+        // `max` and `min` as comparisons: see `seize`.
+        let t0 = if grp.last_change > self.start {
+            grp.last_change
+        } else {
+            self.start
+        };
+        let t1 = if now < self.end { now } else { self.end };
         grp.last_change = now;
         if t1 <= t0 {
             return;
         }
         let busy = f64::from(grp.busy);
         let full = grp.busy >= grp.servers;
-        let gt = &mut self.tally.groups[g];
-        gt.busy_s += busy * (t1 - t0);
+        grp.busy_s += busy * (t1 - t0);
         if full {
-            gt.full_s += t1 - t0;
+            grp.full_s += t1 - t0;
         }
         if self.bins > 0 {
             let iv = &mut self.tally.group_intervals;
@@ -736,10 +794,20 @@ impl<'m> Sim<'m> {
         grp.virtual_last_change = now;
         if t1 > t0 {
             let n = f64::from(grp.virtual_busy);
-            let gt = &mut self.tally.groups[g];
-            gt.overflow_s += n * (t1 - t0);
-            gt.overflow_sq_s += n * n * (t1 - t0);
+            grp.overflow_s += n * (t1 - t0);
+            grp.overflow_sq_s += n * n * (t1 - t0);
         }
+    }
+}
+
+/// Draw from `law`, with the exponential law inlined: the most common
+/// holding law, drawn once per call (the same function and the same numbers
+/// as `Law::sample`, without the call and the dispatch).
+#[inline(always)]
+fn sample(law: &Law, rng: &mut Xoshiro256PlusPlus) -> f64 {
+    match law {
+        Law::Exponential(l) => l.sample(rng),
+        other => other.sample(rng),
     }
 }
 
