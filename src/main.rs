@@ -53,7 +53,7 @@ fn main() -> ExitCode {
             if cli::is_broken_pipe(&e) {
                 return ExitCode::SUCCESS;
             }
-            eprintln!("busyhour: {e:#}");
+            eprintln!("busyhour: {}", cli::guard::printable(&format!("{e:#}")));
             ExitCode::from(2)
         }
     }

@@ -70,6 +70,22 @@ fn one_line(e: &clap::Error, command: &str) -> String {
     format!("{message} (see '{command} --help')")
 }
 
+/// An error message on one line: line breaks and other control characters
+/// (from a file name or a flag's text) escaped.
+pub fn printable(message: &str) -> String {
+    message
+        .chars()
+        .flat_map(|c| {
+            let escaped: Vec<char> = if c.is_control() {
+                c.escape_default().collect()
+            } else {
+                vec![c]
+            };
+            escaped
+        })
+        .collect()
+}
+
 /// A duration in words for a message: "40 s", "12 min", "3.5 h", "2.1 days".
 pub fn human(seconds: f64) -> String {
     if seconds < 90.0 {

@@ -75,7 +75,7 @@ const MAX_FILE_BYTES: u64 = 16 * 1024 * 1024;
 
 /// Read, parse and validate a scenario file.
 pub fn load(path: &Path) -> Result<Model, ScenarioError> {
-    let file = path.display().to_string();
+    let file = printable(&path.display().to_string());
     let read_err = |reason: String| ScenarioError::Read {
         file: file.clone(),
         reason,
@@ -113,6 +113,7 @@ pub fn parse(
     base: &Path,
     default_title: &str,
 ) -> Result<Model, ScenarioError> {
+    let file = &printable(file);
     let spec: ScenarioSpec = toml::from_str(text).map_err(|e| {
         let offset = e.span().map_or(0, |s| s.start);
         let (line, column) = line_column(text, offset);
@@ -121,8 +122,8 @@ pub fn parse(
             file: file.to_string(),
             line,
             column,
-            key: key_path(&e, text, offset, &message),
-            message,
+            key: printable(&key_path(&e, text, offset, &message)),
+            message: printable(&message),
         }
     })?;
     Compiler {
@@ -130,6 +131,24 @@ pub fn parse(
         base: base.to_path_buf(),
     }
     .compile(spec, default_title)
+}
+
+/// Text from the user's file in a message, control characters (line breaks
+/// included) escaped, so that every message stays on one line.
+fn printable(text: &str) -> String {
+    if !text.chars().any(char::is_control) {
+        return text.to_string();
+    }
+    text.chars()
+        .flat_map(|c| {
+            let escaped: Vec<char> = if c.is_control() {
+                c.escape_default().collect()
+            } else {
+                vec![c]
+            };
+            escaped
+        })
+        .collect()
 }
 
 fn key_prefix(key: &str) -> String {
@@ -215,7 +234,9 @@ fn key_on_line(text: &str, offset: usize) -> String {
     let mut table = String::new();
     for l in text[..line_start].lines() {
         if let Some((array, name)) = header_name(l) {
-            table = if array {
+            table = if !usable(&name) {
+                String::new()
+            } else if array {
                 let n = counts.entry(name.clone()).or_default();
                 *n += 1;
                 format!("{name}[{n}]")
@@ -276,8 +297,8 @@ impl Compiler {
     fn err(&self, key: impl Into<String>, message: impl Into<String>) -> ScenarioError {
         ScenarioError::Invalid {
             file: self.file.clone(),
-            key: key.into(),
-            message: message.into(),
+            key: printable(&key.into()),
+            message: printable(&message.into()),
         }
     }
 
