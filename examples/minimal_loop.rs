@@ -26,7 +26,9 @@ fn arg<T: std::str::FromStr>(args: &[String], i: usize, default: T) -> T {
     match args.get(i) {
         None => default,
         Some(s) => s.parse().unwrap_or_else(|_| {
-            eprintln!("minimal_loop: bad argument {s:?}; usage: minimal_loop CALLS [SERVERS TRAFFIC]");
+            eprintln!(
+                "minimal_loop: bad argument {s:?}; usage: minimal_loop CALLS [SERVERS TRAFFIC]"
+            );
             std::process::exit(2)
         }),
     }

@@ -429,7 +429,10 @@ impl<'m> Sim<'m> {
 
     #[inline(always)]
     fn new_call(&mut self, si: usize, now: f64) {
-        let holding = sample(&self.model.streams[si].holding, &mut self.streams[si].holding);
+        let holding = sample(
+            &self.model.streams[si].holding,
+            &mut self.streams[si].holding,
+        );
         let bin = if now >= self.start && now < self.end {
             if self.bins > 0 {
                 (((now - self.start) / self.interval_s) as usize).min(self.bins - 1) as u32
