@@ -15,7 +15,8 @@ rounds = len(next(iter(rates.values())))
 
 print(f"{'measurement':<16} {'best calls/s':>14} {'median calls/s':>15}   ({rounds} rounds)")
 for k in rates:
-    print(f"{k:<16} {best[k]:>14,.0f} {median[k]:>15,.0f}")
+    if not k.startswith("cpu-"):
+        print(f"{k:<16} {best[k]:>14,.0f} {median[k]:>15,.0f}")
 print()
 print(f"{'ratio':<44} {'best':>8} {'median':>8}   target")
 
@@ -36,3 +37,4 @@ row("case 3: cost per call, 10000 / 10 servers", "case3-10", "case3-10000", "<= 
 row("case 4 / case 1 (overflow network)", "case4", "case1", ">= 0.333", lambda x: x >= 1 / 3)
 row("case 5 / case 1 (queue, patience, redials)", "case5", "case1")
 row("case 6: 2 threads / 1 thread (speed-up)", "case6-2threads", "case6-1thread", ">= 1.85", lambda x: x >= 1.85)
+row("case 6: CPU time per call, 1 thread / 2 threads", "cpu-case6-2threads", "cpu-case6-1thread")

@@ -6,7 +6,9 @@
 #
 #   benches/same_results.sh OLD_BINARY [NEW_BINARY]
 #
-# NEW_BINARY defaults to target/release/busyhour. Build OLD_BINARY from the
+# LONG=1 also compares long runs of the benchmark cases (millions of calls,
+# so the calendar resizes and re-measures as it does in real studies; about
+# under a minute). NEW_BINARY defaults to target/release/busyhour. Build OLD_BINARY from the
 # commit to compare against (for example with `git worktree add`), or keep a
 # copy of target/release/busyhour from before a change. Exit status 1 when
 # any output differs.
@@ -25,6 +27,17 @@ for f in benches/cases/*.toml; do
     files+=("$out")
 done
 
+long=()
+if [ "${LONG:-0}" = 1 ]; then
+    for spec in case1-exponential:3000h case2-lognormal:1000h case3-servers-10:30000h \
+        case3-servers-1000:50h case3-servers-10000:20h case4-overflow-network:2000h \
+        case5-queue-peak:2000h; do
+        out="$WORK/long-${spec%%:*}.toml"
+        sed "s/\"LENGTH\"/\"${spec#*:}\"/" "benches/cases/${spec%%:*}.toml" >"$out"
+        long+=("$out")
+    done
+fi
+
 compared=0
 differ=0
 for f in "${files[@]}"; do
@@ -39,6 +52,15 @@ for f in "${files[@]}"; do
             differ=$((differ + 1))
         fi
     done
+done
+for f in "${long[@]}"; do
+    "$OLD" run "$f" --json --quiet >"$WORK/old.json"
+    "$NEW" run "$f" --json --quiet >"$WORK/new.json"
+    compared=$((compared + 1))
+    if ! cmp -s "$WORK/old.json" "$WORK/new.json"; then
+        echo "DIFFERENT: $f"
+        differ=$((differ + 1))
+    fi
 done
 echo "$compared runs compared, $differ different"
 [ "$differ" -eq 0 ]

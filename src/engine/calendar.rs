@@ -108,20 +108,18 @@ struct Node<E> {
     event: E,
 }
 
-/// One bucket: a list of nodes sorted by (time, sequence), with the keys of
-/// its first and last node (valid when not empty). Keeping the keys here
-/// spares a visit to a node far away in memory when stepping through empty
-/// days and when placing a new event at either end of the list.
+/// One bucket: a list of nodes sorted by (time, sequence), with the key of
+/// its last node (valid when not empty). Keeping that key here spares a
+/// visit to a node far away in memory when appending a new event, the
+/// common case.
 #[derive(Clone, Copy)]
 struct Bucket {
-    head_key: u64,
     tail_key: u64,
     head: u32,
     tail: u32,
 }
 
 const EMPTY: Bucket = Bucket {
-    head_key: 0,
     tail_key: 0,
     head: NIL,
     tail: NIL,
@@ -267,7 +265,6 @@ impl<E: Copy> CalendarQueue<E> {
         let bucket = &mut self.buckets[b];
         if bucket.head == NIL {
             *bucket = Bucket {
-                head_key: key,
                 tail_key: key,
                 head: n,
                 tail: n,
@@ -278,10 +275,9 @@ impl<E: Copy> CalendarQueue<E> {
             nodes[bucket.tail as usize].next = n;
             bucket.tail = n;
             bucket.tail_key = key;
-        } else if key < bucket.head_key {
+        } else if key < nodes[bucket.head as usize].key {
             nodes[n as usize].next = bucket.head;
             bucket.head = n;
-            bucket.head_key = key;
         } else {
             // Walk past every event of equal or earlier time (ties stay in
             // scheduling order); the head is not later and the tail is, so
@@ -317,11 +313,14 @@ impl<E: Copy> CalendarQueue<E> {
     #[inline(never)]
     fn find_day(&mut self) -> u32 {
         for _ in 0..self.buckets.len() {
-            let bucket = &self.buckets[(self.day & self.mask) as usize];
-            if bucket.head != NIL && bucket.head_key >> self.shift == self.day {
-                self.ready = bucket.head;
-                self.ready_key = bucket.head_key;
-                return bucket.head;
+            let h = self.buckets[(self.day & self.mask) as usize].head;
+            if h != NIL {
+                let key = self.nodes[h as usize].key;
+                if key >> self.shift == self.day {
+                    self.ready = h;
+                    self.ready_key = key;
+                    return h;
+                }
             }
             self.day += 1;
             self.work += 1;
@@ -335,9 +334,9 @@ impl<E: Copy> CalendarQueue<E> {
         let mut best = NIL;
         let mut key = u64::MAX;
         for b in &self.buckets {
-            if b.head != NIL && (best == NIL || b.head_key < key) {
+            if b.head != NIL && (best == NIL || self.nodes[b.head as usize].key < key) {
                 best = b.head;
-                key = b.head_key;
+                key = self.nodes[b.head as usize].key;
             }
         }
         self.day = key >> self.shift;
@@ -381,8 +380,6 @@ impl<E: Copy> CalendarQueue<E> {
         bucket.head = node.next;
         if node.next == NIL {
             bucket.tail = NIL;
-        } else {
-            bucket.head_key = self.nodes[node.next as usize].key;
         }
         self.nodes[h as usize].next = self.free;
         self.free = h;
@@ -446,7 +443,6 @@ impl<E: Copy> CalendarQueue<E> {
             self.nodes[n as usize].next = NIL;
             if bucket.head == NIL {
                 bucket.head = n;
-                bucket.head_key = key;
             } else {
                 self.nodes[bucket.tail as usize].next = n;
             }
