@@ -383,6 +383,9 @@ pub fn check(a: &CheckArgs) -> Result<Status> {
 /// `busyhour size`.
 pub fn size(a: &SizeArgs) -> Result<Status> {
     use busyhour::experiment::size::{self, Goal, SizeOptions};
+    if a.output.csv {
+        bail!("size prints a table or --json; --csv is for run and sweep");
+    }
     let mut model = scenario::load(&a.scenario)?;
     if let Some(seed) = a.reps.seed {
         model.plan.seed = seed;
@@ -423,8 +426,6 @@ pub fn size(a: &SizeArgs) -> Result<Status> {
         let mut s = serde_json::to_string_pretty(&report::size_json(&model, &file, &result))?;
         s.push('\n');
         s
-    } else if a.output.csv {
-        bail!("size prints a table or --json; --csv is for run and sweep");
     } else {
         report::size_table(&model, &file, &result)
     };
