@@ -334,7 +334,7 @@ fn bad_flags_exit_2() {
 
 #[test]
 fn interrupt_prints_a_partial_result_and_exits_130() {
-    let path = scratch("long.toml");
+    let path = scratch("interrupt-me.toml");
     std::fs::write(
         &path,
         GOOD.replace("length = \"1h\"", "length = \"300h\"")
@@ -342,7 +342,7 @@ fn interrupt_prints_a_partial_result_and_exits_130() {
     )
     .unwrap();
     let child = Command::new(env!("CARGO_BIN_EXE_busyhour"))
-        .args(["run", path.to_str().unwrap(), "--json", "--threads", "2"])
+        .args(["run", path.to_str().unwrap(), "--json", "--threads", "2", "--yes"])
         .stdout(std::process::Stdio::piped())
         .stderr(std::process::Stdio::piped())
         .spawn()
