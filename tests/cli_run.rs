@@ -342,7 +342,14 @@ fn interrupt_prints_a_partial_result_and_exits_130() {
     )
     .unwrap();
     let child = Command::new(env!("CARGO_BIN_EXE_busyhour"))
-        .args(["run", path.to_str().unwrap(), "--json", "--threads", "2", "--yes"])
+        .args([
+            "run",
+            path.to_str().unwrap(),
+            "--json",
+            "--threads",
+            "2",
+            "--yes",
+        ])
         .stdout(std::process::Stdio::piped())
         .stderr(std::process::Stdio::piped())
         .spawn()
