@@ -179,6 +179,10 @@ pub struct CalendarQueue<E: Copy> {
     /// check.
     work: u64,
     ops: u64,
+    /// Operations between checks: `CHECK_EVERY`, or after a re-measure at
+    /// least the number of events pending, so that a queue whose work stays
+    /// high cannot spend its time re-measuring (a resize costs O(n log n)).
+    check_every: u64,
     /// Key of the last event taken out.
     last_key: u64,
     /// Binary exponent of the time when the day was measured: a day's
@@ -213,6 +217,7 @@ impl<E: Copy> CalendarQueue<E> {
             ready_key: 0,
             work: 0,
             ops: 0,
+            check_every: CHECK_EVERY,
             last_key: 0,
             exponent: 0,
             order: Vec::new(),
@@ -386,13 +391,13 @@ impl<E: Copy> CalendarQueue<E> {
         self.len -= 1;
         self.ops += 1;
         self.last_key = node.key;
-        if self.ops >= CHECK_EVERY {
+        if self.ops >= self.check_every {
             self.check();
         }
         Some((f64::from_bits(node.key), node.event))
     }
 
-    /// Every `CHECK_EVERY` operations: halve the buckets when they are far
+    /// Every `check_every` operations: halve the buckets when they are far
     /// too many for the events, or re-measure the day when operations cost
     /// too much work or the clock has passed a power of two.
     #[cold]
@@ -400,11 +405,13 @@ impl<E: Copy> CalendarQueue<E> {
         let too_much_work = self.work > MAX_WORK_PER_OP * self.ops;
         self.work = 0;
         self.ops = 0;
+        self.check_every = CHECK_EVERY;
         let buckets = self.buckets.len();
         if buckets > MIN_BUCKETS && 2 * self.len < buckets {
             self.resize(buckets / 2);
         } else if too_much_work || self.last_key >> 52 != self.exponent {
             self.resize(buckets);
+            self.check_every = CHECK_EVERY.max(self.len as u64);
         }
     }
 
@@ -425,13 +432,17 @@ impl<E: Copy> CalendarQueue<E> {
         // Stable: events of equal time come from one list, already in
         // scheduling order, and keep it.
         order.sort_by_key(|&(key, _)| key);
-        let sample = order.len().min(SAMPLE);
         self.exponent = order.first().map_or(0, |&(key, _)| key >> 52);
-        if sample >= 2 {
+        // The head's events, or all of them when those share one time.
+        for sample in [order.len().min(SAMPLE), order.len()] {
+            if sample < 2 {
+                break;
+            }
             let span = order[sample - 1].0 - order[0].0;
             let width = span / (sample as u64 - 1) * 3;
             if width > 0 {
                 self.shift = 63 - width.leading_zeros();
+                break;
             }
         }
         self.buckets.clear();
