@@ -273,11 +273,7 @@ impl Goal {
                 verdict = v;
             }
         }
-        let worst = worst.unwrap_or(Estimate {
-            mean: f64::NAN,
-            half_width: f64::NAN,
-            replications: 0,
-        });
+        let worst = worst.unwrap_or(Estimate::symmetric(f64::NAN, f64::NAN, 0));
         (verdict, worst)
     }
 }

@@ -252,11 +252,31 @@ pub struct Estimate {
     pub mean: f64,
     /// Half-width of the 95% interval (infinite with fewer than two values).
     pub half_width: f64,
+    /// Lower end of the 95% interval (within the figure's range).
+    pub low: f64,
+    /// Upper end of the 95% interval (within the figure's range).
+    pub high: f64,
     /// Replications in which the figure was defined.
     pub replications: u64,
 }
 
 impl Estimate {
+    /// A symmetric interval `mean +- half_width`.
+    pub fn symmetric(mean: f64, half_width: f64, replications: u64) -> Estimate {
+        Estimate {
+            mean,
+            half_width,
+            low: mean - half_width,
+            high: mean + half_width,
+            replications,
+        }
+    }
+
+    /// Whether `x` lies inside the 95% interval `[low, high]`.
+    pub fn contains(&self, x: f64) -> bool {
+        self.low <= x && x <= self.high
+    }
+
     /// Whether `x` lies inside the interval widened by `factor` half-widths.
     pub fn covers(&self, x: f64, factor: f64) -> bool {
         (self.mean - x).abs() <= factor * self.half_width
@@ -294,30 +314,18 @@ pub fn estimate(values: impl Iterator<Item = f64> + Clone) -> Estimate {
         sum += x;
     }
     if n == 0 {
-        return Estimate {
-            mean: f64::NAN,
-            half_width: f64::NAN,
-            replications: 0,
-        };
+        return Estimate::symmetric(f64::NAN, f64::NAN, 0);
     }
     let mean = sum / n as f64;
     if n == 1 {
-        return Estimate {
-            mean,
-            half_width: f64::INFINITY,
-            replications: 1,
-        };
+        return Estimate::symmetric(mean, f64::INFINITY, 1);
     }
     let ss: f64 = values
         .filter(|x| !x.is_nan())
         .map(|x| (x - mean) * (x - mean))
         .sum();
     let sd = (ss / (n - 1) as f64).sqrt();
-    Estimate {
-        mean,
-        half_width: t_quantile_975(n - 1) * sd / (n as f64).sqrt(),
-        replications: n,
-    }
+    Estimate::symmetric(mean, t_quantile_975(n - 1) * sd / (n as f64).sqrt(), n)
 }
 
 /// The peakedness (variance / mean) of a stationary process from
@@ -345,11 +353,11 @@ pub fn pooled_peakedness(m1: &[f64], m2: &[f64]) -> Estimate {
         .iter()
         .fold((0.0, 0.0), |acc, p| (acc.0 + p.0, acc.1 + p.1));
     if n < 2 {
-        return Estimate {
-            mean: if n == 1 { theta(s1, s2, 1.0) } else { f64::NAN },
-            half_width: if n == 1 { f64::INFINITY } else { f64::NAN },
-            replications: n as u64,
-        };
+        return Estimate::symmetric(
+            if n == 1 { theta(s1, s2, 1.0) } else { f64::NAN },
+            if n == 1 { f64::INFINITY } else { f64::NAN },
+            n as u64,
+        );
     }
     let all = theta(s1, s2, n as f64);
     let nf = n as f64;
