@@ -12,6 +12,12 @@ use super::error::{LawError, check_mean};
 ///
 /// Sampling draws no random numbers, so a deterministic holding time leaves
 /// the stream's generator where it was.
+///
+/// # Residual law
+///
+/// The length-biased law of a constant d is d itself, so the stationary
+/// excess (equilibrium residual) is d times a uniform on (0, 1): uniform on
+/// (0, d), P(R > w) = 1 - w / d on [0, d]. One 53-bit uniform per draw.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct Deterministic {
     value: f64, // > 0, finite
@@ -49,6 +55,20 @@ impl Deterministic {
     #[inline]
     pub fn sample(&self) -> f64 {
         self.value
+    }
+
+    /// P(R > w) for the residual R: 1 - w / d, clamped to [0, 1].
+    pub fn residual_tail(&self, w: f64) -> f64 {
+        if w.is_nan() {
+            return f64::NAN;
+        }
+        (1.0 - w / self.value).clamp(0.0, 1.0)
+    }
+
+    /// One residual draw: d times a uniform on (0, 1).
+    #[inline]
+    pub fn sample_residual<R: rand::Rng + ?Sized>(&self, rng: &mut R) -> f64 {
+        self.value * super::open_unit(rng)
     }
 }
 

@@ -50,6 +50,27 @@ use super::error::{LawError, is_positive_finite};
 ///
 /// One 53-bit uniform per draw (inverse transform), no allocation, no search:
 /// the index comes straight from n u.
+///
+/// # Residual law
+///
+/// The law above is a mixture of n + 1 pieces: the point masses 1/(2n) on
+/// x(1) and x(n) and, for each gap, mass 1/n spread uniformly over
+/// [x(i), x(i+1)]. Its length-biased law (density x f(x) / m) weights each
+/// piece by its mass times its mean: x(1)/(2n), (x(i) + x(i+1))/(2n) and
+/// x(n)/(2n) (they sum to m), and within a gap has density proportional to
+/// x, drawn as sqrt(a^2 + U (b^2 - a^2)). The stationary excess (equilibrium
+/// residual) is a length-biased draw times an independent uniform on (0, 1),
+/// so it is exact for the law [`Empirical::sample`] draws from. A piece is
+/// chosen by a binary search of the weights' suffix sums (two uniforms and
+/// O(log n) per draw; residual draws are rare, once per call in progress at
+/// the start of a replication).
+///
+/// The tail P(R > w) = E[(S - w)+] / m = (integral of 1 - F from w up) / m
+/// is exact too: 1 - F is linear on each gap, so the integral from x(i) to
+/// x(n) is a sum of trapezoids, (x(i+1) - x(i)) (1 - i/n) for 1-based i,
+/// kept in a table summed from the top (every term >= 0, no cancellation);
+/// the part of the gap holding w adds one more trapezoid. The normaliser
+/// is that integral from 0, which equals the mean up to rounding.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Empirical {
     sorted: Vec<f64>, // ascending, >= 0, finite; len >= 2 (a single value is stored twice)
@@ -58,6 +79,13 @@ pub struct Empirical {
     top: f64,         // count - 1 as f64: the largest position t
     mean: f64,        // > 0
     cv: f64,          // >= 0
+    // Length-biased piece weights summed from the top: biased_above[j] is
+    // the sum over pieces j..=n (0: the mass on x(1), 1..n-1: the gaps, n:
+    // the mass on x(n)); biased_above[n + 1] = 0. Non-increasing.
+    biased_above: Vec<f64>,
+    // excess[i] = integral of 1 - F from sorted[i] to sorted[count - 1]
+    // (0-based i < count). Non-increasing, excess[count - 1] = 0.
+    excess: Vec<f64>,
 }
 
 impl Empirical {
@@ -111,6 +139,7 @@ impl Empirical {
             return Err(out_of_range);
         }
         let cv = variance.sqrt() / mean;
+        let (biased_above, excess) = residual_tables(&values, n);
         if count == 1 {
             values.push(values[0]);
         }
@@ -121,6 +150,8 @@ impl Empirical {
             top: n - 1.0,
             mean,
             cv,
+            biased_above,
+            excess,
         })
     }
 
@@ -179,6 +210,49 @@ impl Empirical {
         a + frac * (b - a)
     }
 
+    /// P(R > w) for the residual R: the exact integral of 1 - F from w up over
+    /// the mean (see the type's doc).
+    pub fn residual_tail(&self, w: f64) -> f64 {
+        if w.is_nan() {
+            return f64::NAN;
+        }
+        let v = self.values();
+        let last = self.count - 1;
+        let whole = self.excess[0] + v[0];
+        if w < v[0] {
+            return ((whole - w.max(0.0)) / whole).clamp(0.0, 1.0);
+        }
+        if w >= v[last] {
+            return 0.0;
+        }
+        // Here count >= 2 and v[0] <= w < v[last]: v[i] <= w < v[i + 1].
+        let i = v.partition_point(|&y| y <= w) - 1;
+        let (a, b) = (v[i], v[i + 1]);
+        let f = (w - a) / (b - a);
+        let piece = (b - w) * (1.0 - (i as f64 + 1.0 + 0.5 * f) / self.n);
+        ((self.excess[i + 1] + piece) / whole).clamp(0.0, 1.0)
+    }
+
+    /// One residual draw: a length-biased draw of this law times an
+    /// independent uniform on (0, 1) (see the type's doc).
+    pub fn sample_residual<R: Rng + ?Sized>(&self, rng: &mut R) -> f64 {
+        let v = self.values();
+        let u: f64 = rng.random();
+        let r = u * self.biased_above[0];
+        // First j with biased_above[j] <= r; piece j - 1 has weight > 0.
+        let piece = self.biased_above.partition_point(|&s| s > r) - 1;
+        let biased = if piece == 0 {
+            v[0]
+        } else if piece >= self.count {
+            v[self.count - 1]
+        } else {
+            let (a, b) = (v[piece - 1], v[piece]);
+            let u: f64 = rng.random();
+            (a * a + u * (b - a) * (b + a)).sqrt().clamp(a, b)
+        };
+        biased * super::open_unit(rng)
+    }
+
     /// The same law with every value multiplied by `factor` (finite, > 0).
     pub(crate) fn scaled(&self, factor: f64) -> Result<Self, LawError> {
         let values: Vec<f64> = self.values().iter().map(|v| v * factor).collect();
@@ -192,6 +266,25 @@ impl Empirical {
         }
         Self::new(values)
     }
+}
+
+/// The residual law's tables for sorted values (see [`Empirical`]'s fields):
+/// the length-biased piece weights summed from the top, and the integral of
+/// 1 - F from each value up.
+fn residual_tables(v: &[f64], n: f64) -> (Vec<f64>, Vec<f64>) {
+    let count = v.len();
+    let mut biased_above = vec![0.0; count + 2];
+    biased_above[count] = v[count - 1] / (2.0 * n);
+    for j in (1..count).rev() {
+        biased_above[j] = biased_above[j + 1] + (v[j - 1] + v[j]) / (2.0 * n);
+    }
+    biased_above[0] = biased_above[1] + v[0] / (2.0 * n);
+    let mut excess = vec![0.0; count];
+    for i in (0..count - 1).rev() {
+        // 1 - F falls linearly over the gap; its mean there is 1 - (i + 1) / n.
+        excess[i] = excess[i + 1] + (v[i + 1] - v[i]) * (1.0 - (i as f64 + 1.0) / n);
+    }
+    (biased_above, excess)
 }
 
 /// Sum with Neumaier's compensation (Neumaier, ZAMM 54, 1974), so that the

@@ -4,7 +4,7 @@ use rand::Rng;
 use rand_distr::{Distribution, Exp1, Gamma};
 
 use super::error::{LawError, check_mean, is_positive_finite};
-use super::gamma::regularized_lower_gamma;
+use super::gamma::{gamma_residual_tail, regularized_lower_gamma};
 
 /// Largest k sampled as a plain sum of k exponential draws.
 ///
@@ -26,12 +26,20 @@ pub const ERLANG_SUM_MAX_K: u32 = 8;
 /// For k <= [`ERLANG_SUM_MAX_K`] a draw is the sum of k ziggurat exponentials
 /// times m / k; above that, `rand_distr::Gamma` (Marsaglia and Tsang, ACM TOMS
 /// 26(3), 2000) with shape k and scale m / k.
+///
+/// # Residual law
+///
+/// The length-biased law of Erlang-k (gamma(k, m / k)) is gamma(k + 1, m / k);
+/// the stationary excess (equilibrium residual) is a length-biased draw
+/// (`rand_distr::Gamma`) times an independent uniform on (0, 1), and its tail
+/// is the gamma law's (see [`super::Gamma`]).
 #[derive(Debug, Clone, PartialEq)]
 pub struct Erlang {
     mean: f64,       // > 0, finite
     k: u32,          // >= 1
     phase_mean: f64, // mean / k, > 0
     sampler: ErlangSampler,
+    biased: Gamma<f64>, // shape k + 1, scale mean / k: the length-biased law
 }
 
 #[derive(Debug, Clone, PartialEq)]
@@ -58,6 +66,13 @@ impl Erlang {
                 value: f64::from(k),
             });
         }
+        let biased =
+            Gamma::new(f64::from(k) + 1.0, phase_mean).map_err(|_| LawError::OutOfRange {
+                law: "erlang",
+                mean,
+                what: "k",
+                value: f64::from(k),
+            })?;
         let sampler = if k <= ERLANG_SUM_MAX_K {
             ErlangSampler::Sum
         } else {
@@ -74,6 +89,7 @@ impl Erlang {
             k,
             phase_mean,
             sampler,
+            biased,
         })
     }
 
@@ -111,6 +127,17 @@ impl Erlang {
             }
             ErlangSampler::Gamma(g) => g.sample(rng),
         }
+    }
+
+    /// P(R > w) for the residual R: Q(k + 1, y) - (y / k) Q(k, y), y = w k / m.
+    pub fn residual_tail(&self, w: f64) -> f64 {
+        gamma_residual_tail(f64::from(self.k), w / self.phase_mean)
+    }
+
+    /// One residual draw: gamma(k + 1, m / k) times an independent uniform on (0, 1).
+    #[inline]
+    pub fn sample_residual<R: Rng + ?Sized>(&self, rng: &mut R) -> f64 {
+        self.biased.sample(rng) * super::open_unit(rng)
     }
 }
 

@@ -17,6 +17,12 @@ use super::error::{LawError, check_mean};
 /// the ziggurat method (Marsaglia and Tsang, "The ziggurat method for
 /// generating random variables", J. Stat. Softw. 5(8), 2000) as implemented
 /// by `rand_distr::Exp1`.
+///
+/// # Residual law
+///
+/// The stationary excess (equilibrium residual) law of an exponential law is
+/// the same exponential law (memorylessness): P(R > w) = exp(-w / m). It is
+/// drawn directly, one ziggurat exponential per draw.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct Exponential {
     mean: f64, // > 0, finite
@@ -56,6 +62,23 @@ impl Exponential {
     pub fn sample<R: Rng + ?Sized>(&self, rng: &mut R) -> f64 {
         let e: f64 = Exp1.sample(rng);
         e * self.mean
+    }
+
+    /// P(R > w) = exp(-w / m) for the residual R (1 for w <= 0).
+    pub fn residual_tail(&self, w: f64) -> f64 {
+        if w.is_nan() {
+            return f64::NAN;
+        }
+        if w <= 0.0 {
+            return 1.0;
+        }
+        (-w / self.mean).exp()
+    }
+
+    /// One residual draw: the same law as [`Exponential::sample`].
+    #[inline]
+    pub fn sample_residual<R: Rng + ?Sized>(&self, rng: &mut R) -> f64 {
+        self.sample(rng)
     }
 }
 

@@ -19,12 +19,27 @@ use super::error::{LawError, check_cv, check_mean, is_positive_finite};
 /// for generating gamma variables", ACM TOMS 26(3), 2000, with their boosting
 /// step for a < 1 (one extra uniform and a `powf`). For a very small shape
 /// (cv above about 30) most draws underflow towards 0.
+///
+/// # Residual law
+///
+/// The length-biased law (density x f(x) / m) of gamma(a, theta) is
+/// gamma(a + 1, theta); the stationary excess (equilibrium residual) is a
+/// length-biased draw times an independent uniform on (0, 1). Its tail is
+/// P(R > w) = E[(S - w)+] / m = Q(a + 1, y) - (y / a) Q(a, y), y = w / theta,
+/// with Q the regularized upper incomplete gamma function (from
+/// E[S; S > w] = m Q(a + 1, y), JKB vol. 1, ch. 17).
+///
+/// The difference loses relative accuracy once y is well above a (both
+/// terms small and close): the absolute error stays near 1e-16, so the tail
+/// is good to about 1e-12 and clamped to [0, 1]; the warm-up rule needs it
+/// only down to 1e-4.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Gamma {
     mean: f64,  // > 0, finite
     shape: f64, // > 0, finite
     scale: f64, // mean / shape, > 0, finite
     sampler: GammaSampler<f64>,
+    biased: GammaSampler<f64>, // shape + 1, same scale: the length-biased law
 }
 
 impl Gamma {
@@ -59,12 +74,14 @@ impl Gamma {
         if !is_positive_finite(shape) || !is_positive_finite(scale) {
             return Err(out_of_range);
         }
-        let sampler = GammaSampler::new(shape, scale).map_err(|_| out_of_range)?;
+        let sampler = GammaSampler::new(shape, scale).map_err(|_| out_of_range.clone())?;
+        let biased = GammaSampler::new(shape + 1.0, scale).map_err(|_| out_of_range)?;
         Ok(Gamma {
             mean,
             shape,
             scale,
             sampler,
+            biased,
         })
     }
 
@@ -93,6 +110,33 @@ impl Gamma {
     pub fn sample<R: Rng + ?Sized>(&self, rng: &mut R) -> f64 {
         self.sampler.sample(rng)
     }
+
+    /// P(R > w) for the residual R: Q(a + 1, y) - (y / a) Q(a, y), y = w / scale.
+    pub fn residual_tail(&self, w: f64) -> f64 {
+        gamma_residual_tail(self.shape, w / self.scale)
+    }
+
+    /// One residual draw: gamma(a + 1, scale) times an independent uniform on (0, 1).
+    #[inline]
+    pub fn sample_residual<R: Rng + ?Sized>(&self, rng: &mut R) -> f64 {
+        self.biased.sample(rng) * super::open_unit(rng)
+    }
+}
+
+/// Residual tail of a gamma law of shape `a` at `y` = w / scale:
+/// Q(a + 1, y) - (y / a) Q(a, y), clamped to [0, 1]; 1 for y <= 0, NaN for NaN.
+pub(crate) fn gamma_residual_tail(a: f64, y: f64) -> f64 {
+    if y.is_nan() || a.is_nan() {
+        return f64::NAN;
+    }
+    if y <= 0.0 {
+        return 1.0;
+    }
+    if y == f64::INFINITY {
+        return 0.0;
+    }
+    let upper = |s: f64| statrs::function::gamma::checked_gamma_ur(s, y).unwrap_or(f64::NAN);
+    (upper(a + 1.0) - y / a * upper(a)).clamp(0.0, 1.0)
 }
 
 /// P(a, y): the regularized lower incomplete gamma function, 0 for y <= 0 and

@@ -28,15 +28,26 @@ use super::error::{LawError, check_mean};
 /// word with the precomputed threshold p2 * 2^64 (performance shortcut: no
 /// float conversion), then one ziggurat exponential is scaled by the phase
 /// mean.
+///
+/// # Residual law
+///
+/// The stationary excess (equilibrium residual) of a mixture of exponentials
+/// is again one: phase i with weight q_i = p_i m_i / m (its share of the
+/// mean), then exponential with that phase's mean (an exponential's residual
+/// is itself). With balanced means q1 = q2 = 1/2. P(R > w) =
+/// q1 exp(-w / m1) + q2 exp(-w / m2). The phase is chosen by a raw 64-bit
+/// word against q2 * 2^64, as in sampling.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct Hyperexponential {
-    mean: f64,        // > 0, finite
-    cv: f64,          // >= 1, finite
-    p1: f64,          // in [1/2, 1)
-    p2: f64,          // 1 - p1, computed without cancellation
-    mean_1: f64,      // m / (2 p1), the shorter phase
-    mean_2: f64,      // m / (2 p2), the longer phase, >= mean_1
-    threshold_2: u64, // p2 * 2^64, rounded down
+    mean: f64,                 // > 0, finite
+    cv: f64,                   // >= 1, finite
+    p1: f64,                   // in [1/2, 1)
+    p2: f64,                   // 1 - p1, computed without cancellation
+    mean_1: f64,               // m / (2 p1), the shorter phase
+    mean_2: f64,               // m / (2 p2), the longer phase, >= mean_1
+    threshold_2: u64,          // p2 * 2^64, rounded down
+    residual_q2: f64,          // p2 m2 / m, the longer phase's share of the mean (1/2)
+    residual_threshold_2: u64, // residual_q2 * 2^64, rounded down
 }
 
 impl Hyperexponential {
@@ -62,6 +73,10 @@ impl Hyperexponential {
         }
         // p2 <= 1/2, so p2 * 2^64 <= 2^63 fits; the cast rounds down.
         let threshold_2 = (p2 * 18_446_744_073_709_551_616.0) as u64;
+        // Balanced means make this 1/2 up to rounding; the cast saturates
+        // below 2^64 should rounding push it a hair over.
+        let residual_q2 = (p2 * mean_2 / mean).clamp(0.0, 1.0);
+        let residual_threshold_2 = (residual_q2 * 18_446_744_073_709_551_616.0) as u64;
         Ok(Hyperexponential {
             mean,
             cv,
@@ -70,6 +85,8 @@ impl Hyperexponential {
             mean_1,
             mean_2,
             threshold_2,
+            residual_q2,
+            residual_threshold_2,
         })
     }
 
@@ -103,6 +120,31 @@ impl Hyperexponential {
     #[inline]
     pub fn sample<R: Rng + ?Sized>(&self, rng: &mut R) -> f64 {
         let phase_mean = if rng.next_u64() < self.threshold_2 {
+            self.mean_2
+        } else {
+            self.mean_1
+        };
+        let e: f64 = Exp1.sample(rng);
+        e * phase_mean
+    }
+
+    /// P(R > w) for the residual R: q1 exp(-w / m1) + q2 exp(-w / m2).
+    pub fn residual_tail(&self, w: f64) -> f64 {
+        if w.is_nan() {
+            return f64::NAN;
+        }
+        if w <= 0.0 {
+            return 1.0;
+        }
+        let q2 = self.residual_q2;
+        ((1.0 - q2) * (-w / self.mean_1).exp() + q2 * (-w / self.mean_2).exp()).clamp(0.0, 1.0)
+    }
+
+    /// One residual draw: a raw word picks the phase by its share of the
+    /// mean, a ziggurat exponential its length.
+    #[inline]
+    pub fn sample_residual<R: Rng + ?Sized>(&self, rng: &mut R) -> f64 {
+        let phase_mean = if rng.next_u64() < self.residual_threshold_2 {
             self.mean_2
         } else {
             self.mean_1

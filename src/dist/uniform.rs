@@ -1,6 +1,6 @@
 //! The uniform law, symmetric about its mean.
 
-use rand::Rng;
+use rand::{Rng, RngExt};
 use rand_distr::{Distribution, Uniform as UniformSampler};
 
 use super::error::{LawError, check_cv, check_mean};
@@ -22,6 +22,16 @@ pub const UNIFORM_MAX_CV: f64 = 0.577_350_269_189_625_8;
 /// A draw is `low + width * U` with U from `rand_distr::Uniform` (53-bit
 /// uniform on [0, 1)). A cv within 1e-12 (relative) above 1 / sqrt(3) is
 /// accepted and its lower end, a rounding error below 0, is set to 0.
+///
+/// # Residual law
+///
+/// The length-biased law has density 2 x / (b^2 - a^2) on [a, b] (a = low,
+/// b = high), drawn by inversion as sqrt(a^2 + U (b^2 - a^2)); the
+/// stationary excess (equilibrium residual) is such a draw times an
+/// independent uniform on (0, 1). Its tail, E[(S - w)+] / m, is
+/// 1 - w / m for w <= a, (b - w)^2 / (2 (b - a) m) for a <= w <= b, 0 above.
+/// b^2 - a^2 is computed as (b - a)(b + a), exact to rounding even for a
+/// narrow interval.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct Uniform {
     mean: f64, // > 0, finite
@@ -29,6 +39,8 @@ pub struct Uniform {
     low: f64,  // >= 0
     high: f64, // > low
     sampler: UniformSampler<f64>,
+    low_sq: f64,  // low^2
+    span_sq: f64, // high^2 - low^2 = (high - low)(high + low), > 0
 }
 
 impl Uniform {
@@ -54,6 +66,8 @@ impl Uniform {
             low,
             high,
             sampler,
+            low_sq: low * low,
+            span_sq: (high - low) * (high + low),
         })
     }
 
@@ -84,6 +98,32 @@ impl Uniform {
     #[inline]
     pub fn sample<R: Rng + ?Sized>(&self, rng: &mut R) -> f64 {
         self.sampler.sample(rng)
+    }
+
+    /// P(R > w) for the residual R (see the type's doc).
+    pub fn residual_tail(&self, w: f64) -> f64 {
+        if w.is_nan() {
+            return f64::NAN;
+        }
+        let (a, b) = (self.low, self.high);
+        let tail = if w <= a {
+            1.0 - w / self.mean
+        } else if w < b {
+            (b - w) * (b - w) / (2.0 * (b - a) * self.mean)
+        } else {
+            0.0
+        };
+        tail.clamp(0.0, 1.0)
+    }
+
+    /// One residual draw: sqrt(a^2 + U (b^2 - a^2)) times an independent
+    /// uniform on (0, 1).
+    #[inline]
+    pub fn sample_residual<R: Rng + ?Sized>(&self, rng: &mut R) -> f64 {
+        let u: f64 = rng.random();
+        let biased = (self.low_sq + u * self.span_sq).sqrt();
+        // Rounding must not leave the interval.
+        biased.clamp(self.low, self.high) * super::open_unit(rng)
     }
 }
 

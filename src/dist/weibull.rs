@@ -1,7 +1,7 @@
 //! The Weibull law, from mean and cv (shape found by a root search) or from mean and shape.
 
 use rand::Rng;
-use rand_distr::{Distribution, Weibull as WeibullSampler};
+use rand_distr::{Distribution, Gamma as GammaSampler, Weibull as WeibullSampler};
 use statrs::function::gamma::ln_gamma;
 
 use super::error::{LawError, check_cv, check_mean, is_positive_finite};
@@ -30,6 +30,18 @@ pub const WEIBULL_SHAPE_MAX: f64 = 500.0;
 /// bracket is below 1e-14 relative; monotonicity makes the bisection
 /// certain to converge. lambda = m exp(-lnG(1 + 1/k)). Draws come from
 /// `rand_distr::Weibull`: lambda (-ln U)^(1/k) with U uniform on (0, 1].
+///
+/// # Residual law
+///
+/// With Y = (X / lambda)^k standard exponential, the length-biased law
+/// (density x f(x) / m) is X = lambda Y^(1/k) with Y ~ gamma(1 + 1/k, 1)
+/// (x dx becomes y^(1/k) e^(-y) dy up to a constant); the stationary excess
+/// (equilibrium residual) is such a draw (`rand_distr::Gamma`, shape from
+/// 1.002 to 21) times an independent uniform on (0, 1). Its tail is
+/// P(R > w) = E[(S - w)+] / m = Q(1 + 1/k, y) - (w / m) exp(-y), y = (w / lambda)^k,
+/// Q the regularized upper incomplete gamma function (E[S; S > w] =
+/// m Q(1 + 1/k, y)). As for the gamma law, the difference keeps an absolute
+/// error near 1e-16 (clamped to [0, 1]).
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct Weibull {
     mean: f64,  // > 0, finite
@@ -37,6 +49,7 @@ pub struct Weibull {
     scale: f64, // > 0, finite
     cv: f64,    // from the shape by the formula above
     sampler: WeibullSampler<f64>,
+    biased: GammaSampler<f64>, // gamma(1 + 1/k, 1): (X / lambda)^k of the length-biased law
 }
 
 /// ln(1 + cv^2) of a Weibull law of shape k: lnG(1 + 2/k) - 2 lnG(1 + 1/k).
@@ -128,13 +141,15 @@ impl Weibull {
         if !is_positive_finite(scale) {
             return Err(out_of_range);
         }
-        let sampler = WeibullSampler::new(scale, shape).map_err(|_| out_of_range)?;
+        let sampler = WeibullSampler::new(scale, shape).map_err(|_| out_of_range.clone())?;
+        let biased = GammaSampler::new(1.0 + 1.0 / shape, 1.0).map_err(|_| out_of_range)?;
         Ok(Weibull {
             mean,
             shape,
             scale,
             cv: weibull_cv_of_shape(shape),
             sampler,
+            biased,
         })
     }
 
@@ -180,6 +195,31 @@ impl Weibull {
     #[inline]
     pub fn sample<R: Rng + ?Sized>(&self, rng: &mut R) -> f64 {
         self.sampler.sample(rng)
+    }
+
+    /// P(R > w) for the residual R: Q(1 + 1/k, y) - (w / m) exp(-y), y = (w / lambda)^k.
+    pub fn residual_tail(&self, w: f64) -> f64 {
+        if w.is_nan() {
+            return f64::NAN;
+        }
+        if w <= 0.0 {
+            return 1.0;
+        }
+        let y = (w / self.scale).powf(self.shape);
+        if y == f64::INFINITY {
+            return 0.0;
+        }
+        let q = statrs::function::gamma::checked_gamma_ur(1.0 + 1.0 / self.shape, y)
+            .unwrap_or(f64::NAN);
+        (q - w / self.mean * (-y).exp()).clamp(0.0, 1.0)
+    }
+
+    /// One residual draw: lambda Y^(1/k), Y ~ gamma(1 + 1/k, 1), times an
+    /// independent uniform on (0, 1).
+    #[inline]
+    pub fn sample_residual<R: Rng + ?Sized>(&self, rng: &mut R) -> f64 {
+        let y = self.biased.sample(rng);
+        self.scale * y.powf(1.0 / self.shape) * super::open_unit(rng)
     }
 }
 
