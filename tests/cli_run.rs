@@ -64,6 +64,9 @@ fn every_shipped_scenario_runs_in_every_format() {
                     stream["name"]
                 );
                 assert!(e["half_width"].is_number());
+                assert!(e["low"].as_f64().unwrap() <= e["mean"].as_f64().unwrap());
+                assert!(e["high"].as_f64().unwrap() >= e["mean"].as_f64().unwrap());
+                assert!(e["estimator"].is_string(), "{s}: {key} names no estimator");
                 assert_eq!(e["replications"], 4);
             }
         }
@@ -78,7 +81,7 @@ fn every_shipped_scenario_runs_in_every_format() {
         assert!(csv.status.success());
         let text = stdout(&csv);
         assert!(text.starts_with(
-            "kind,name,interval_start_s,figure,mean,half_width,replications,formula,formula_value"
+            "kind,name,interval_start_s,figure,mean,half_width,low,high,estimator,replications,formula,formula_value"
         ));
         assert!(text.lines().count() > 5);
     }

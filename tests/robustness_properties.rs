@@ -391,14 +391,19 @@ fn check_figures(m: &Model) {
         o.per_replication
             .iter()
             .flatten()
-            .map(|x| x.to_bits())
+            .flat_map(|o| [o.num.to_bits(), o.den.to_bits()])
             .collect()
     };
     assert_eq!(bits(&one), bits(&two), "1 and 2 threads differ");
     for (i, f) in one.layout.iter().enumerate() {
-        let share = SHARES.contains(&f.name);
+        let share = SHARES.contains(&f.name());
         for (r, values) in one.per_replication.iter().enumerate() {
-            let v = values[i];
+            let o = values[i];
+            assert!(
+                o.den.is_finite() && o.den >= 0.0 && (o.num.is_nan() || o.num >= 0.0),
+                "{f:?} replication {r}: {o:?}"
+            );
+            let v = o.own();
             assert!(
                 v.is_nan() || (v.is_finite() && v >= 0.0),
                 "{f:?} replication {r}: {v}"
@@ -408,10 +413,19 @@ fn check_figures(m: &Model) {
             }
         }
         let e = one.estimates[i];
-        if share && e.replications > 0 {
+        if share && e.replications > 0 && !e.mean.is_nan() {
             assert!((0.0..=1.0).contains(&e.mean), "{f:?}: {e:?}");
+            assert!(
+                0.0 <= e.low && e.high <= 1.0,
+                "share interval out of range {f:?}: {e:?}"
+            );
         }
-        if matches!(f.scope, Scope::Stream(_)) && f.name.starts_with("wait") && e.replications > 0 {
+        if e.mean.is_finite() && e.half_width.is_finite() {
+            assert!(e.low <= e.mean && e.mean <= e.high, "{f:?}: {e:?}");
+            assert!(e.low >= 0.0, "negative lower end {f:?}: {e:?}");
+        }
+        if matches!(f.scope, Scope::Stream(_)) && f.name().starts_with("wait") && e.replications > 0
+        {
             assert!(e.mean >= 0.0, "negative wait {f:?}: {e:?}");
         }
     }

@@ -119,7 +119,7 @@ fn broken_parts_are_refused_by_name() {
     let old = d.join("old.json");
     std::fs::write(
         &old,
-        text.replacen("\"format_version\":1", "\"format_version\":0", 1),
+        text.replacen("\"format_version\":2", "\"format_version\":0", 1),
     )
     .unwrap();
     refused(

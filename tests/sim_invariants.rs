@@ -115,7 +115,7 @@ fn shares_lie_between_zero_and_one() {
     let o = run(&m);
     for (f, e) in o.layout.iter().zip(&o.estimates) {
         let share = matches!(
-            f.name,
+            f.name(),
             "first_attempt_blocking"
                 | "attempt_blocking"
                 | "loss"
@@ -151,7 +151,7 @@ fn same_seed_same_bits_whatever_the_thread_count() {
         o.per_replication
             .iter()
             .flatten()
-            .map(|x| x.to_bits())
+            .flat_map(|o| [o.num.to_bits(), o.den.to_bits()])
             .collect()
     };
     assert_eq!(bits(&one), bits(&two));

@@ -151,12 +151,12 @@ fn common_random_numbers_sharpen_the_difference_of_adjacent_sizes() {
     let ia = a
         .layout
         .iter()
-        .position(|f| f.scope == Scope::Stream(0) && f.name == "loss")
+        .position(|f| f.scope == Scope::Stream(0) && f.name() == "loss")
         .unwrap();
     let ib = b
         .layout
         .iter()
-        .position(|f| f.scope == Scope::Stream(0) && f.name == "loss")
+        .position(|f| f.scope == Scope::Stream(0) && f.name() == "loss")
         .unwrap();
     let paired = size::paired_difference(&a, &b, ia, ib);
     let (ea, eb) = (a.estimates[ia], b.estimates[ib]);

@@ -465,7 +465,7 @@ pub fn sweep(a: &SweepArgs) -> Result<Status> {
         .collect::<Result<Vec<_>, _>>()?;
     let known: Vec<&str> = busyhour::stats::layout(&model)
         .iter()
-        .map(|f| f.name)
+        .map(|f| f.name())
         .collect();
     for f in &a.figure {
         if !known.contains(&f.as_str()) {

@@ -9,7 +9,7 @@ pub mod work;
 
 use crate::engine;
 use crate::scenario::{Model, Replications};
-use crate::stats::{self, Estimate, FigureId, Scope};
+use crate::stats::{self, Estimate, Figure, FigureId, Obs, Scope};
 use std::sync::atomic::{AtomicBool, AtomicU64, Ordering};
 use std::time::Instant;
 use thiserror::Error;
@@ -60,8 +60,8 @@ pub struct Outcome {
     pub layout: Vec<FigureId>,
     /// Estimates, one per figure of the layout.
     pub estimates: Vec<Estimate>,
-    /// Figure values of each replication, in replication order.
-    pub per_replication: Vec<Vec<f64>>,
+    /// What each replication observed of each figure, in replication order.
+    pub per_replication: Vec<Vec<Obs>>,
     /// Replications run.
     pub replications: u64,
     /// Events processed in all replications.
@@ -75,20 +75,41 @@ pub struct Outcome {
 }
 
 impl Outcome {
-    /// The estimate of figure `name` in `scope`, if reported.
+    /// The estimate of the figure named `name` (its design name, as in the
+    /// JSON) in `scope`, if reported.
     pub fn get(&self, scope: Scope, name: &str) -> Option<Estimate> {
+        Figure::from_name(name).and_then(|f| self.get_figure(scope, f))
+    }
+
+    /// The estimate of `figure` in `scope`, if reported.
+    pub fn get_figure(&self, scope: Scope, figure: Figure) -> Option<Estimate> {
+        self.index_of(scope, figure).map(|i| self.estimates[i])
+    }
+
+    /// Position of `figure` in `scope` in the layout.
+    pub fn index_of(&self, scope: Scope, figure: Figure) -> Option<usize> {
         self.layout
             .iter()
-            .position(|f| f.scope == scope && f.name == name)
-            .map(|i| self.estimates[i])
+            .position(|f| f.scope == scope && f.figure == figure)
+    }
+
+    /// The observations of figure `index` of the layout, in replication order.
+    pub fn column(&self, index: usize) -> Vec<Obs> {
+        self.per_replication.iter().map(|v| v[index]).collect()
+    }
+
+    /// The estimate of figure `index` at confidence `level` (sizing verdicts
+    /// use a Bonferroni level above 95%).
+    pub fn estimate_at(&self, index: usize, level: f64) -> Estimate {
+        estimate_one(&self.layout, &self.per_replication, index, level)
     }
 }
 
 /// Figure values of replications 0..n of one model, in replication order.
 #[derive(Debug, Clone, Default)]
 pub struct Accumulated {
-    /// Figure values of each replication.
-    pub per_replication: Vec<Vec<f64>>,
+    /// What each replication observed of each figure.
+    pub per_replication: Vec<Vec<Obs>>,
     /// Events processed.
     pub events: u64,
 }
@@ -152,7 +173,7 @@ impl<'a> Runner<'a> {
         if to <= from {
             return true;
         }
-        let results: Vec<Option<(Vec<f64>, u64)>> = self.pool.install(|| {
+        let results: Vec<Option<(Vec<Obs>, u64)>> = self.pool.install(|| {
             use rayon::prelude::*;
             (from..to)
                 .into_par_iter()
@@ -161,7 +182,7 @@ impl<'a> Runner<'a> {
                         return None;
                     }
                     let tally = engine::run_replication(model, r);
-                    let values = stats::figures(model, layout, &tally);
+                    let values = stats::observe(model, layout, &tally);
                     let n = self.done.fetch_add(1, Ordering::Relaxed) + 1;
                     if let Some(p) = self.opts.progress {
                         p(n, planned);
@@ -276,48 +297,57 @@ pub fn outcome_of(
     }
 }
 
-/// Estimates of every figure from per-replication values in index order.
-///
-/// The overflow peakedness of a group is the exception: it is pooled across
-/// replications from the overflow mean and mean square
-/// ([`stats::pooled_peakedness`]), not averaged over per-replication ratios.
-pub fn estimates_of(layout: &[FigureId], per_replication: &[Vec<f64>]) -> Vec<Estimate> {
-    let column = |i: usize| -> Vec<f64> { per_replication.iter().map(|v| v[i]).collect() };
-    let find = |scope: Scope, name: &str| {
-        layout
-            .iter()
-            .position(|f| f.scope == scope && f.name == name)
-    };
+/// Estimates of every figure from per-replication observations in index
+/// order, at 95%.
+pub fn estimates_of(layout: &[FigureId], per_replication: &[Vec<Obs>]) -> Vec<Estimate> {
     (0..layout.len())
-        .map(|i| {
-            let f = layout[i];
-            if f.name == "overflow_peakedness"
-                && let (Some(m1), Some(m2)) = (
-                    find(f.scope, "overflow_mean"),
-                    find(f.scope, "overflow_mean_square"),
-                )
-            {
-                return stats::pooled_peakedness(&column(m1), &column(m2));
-            }
-            stats::estimate(per_replication.iter().map(move |v| v[i]))
-        })
+        .map(|i| estimate_one(layout, per_replication, i, stats::LEVEL))
         .collect()
 }
 
+/// The estimate of figure `i` of the layout at confidence `level`: each
+/// figure by its own estimator ([`stats::estimate_figure`]); the overflow
+/// peakedness pooled from the overflow mean and mean square of the same
+/// group ([`stats::pooled_peakedness`]).
+pub fn estimate_one(
+    layout: &[FigureId],
+    per_replication: &[Vec<Obs>],
+    i: usize,
+    level: f64,
+) -> Estimate {
+    let column = |i: usize| -> Vec<Obs> { per_replication.iter().map(|v| v[i]).collect() };
+    let f = layout[i];
+    if f.figure == Figure::OverflowPeakedness {
+        let find = |figure: Figure| {
+            layout
+                .iter()
+                .position(|g| g.scope == f.scope && g.figure == figure)
+        };
+        if let (Some(m1), Some(m2)) = (find(Figure::OverflowMean), find(Figure::OverflowMeanSquare))
+        {
+            let own = |c: Vec<Obs>| c.iter().map(Obs::own).collect::<Vec<f64>>();
+            return stats::pooled_peakedness(&own(column(m1)), &own(column(m2)), level)
+                .within(f.figure.range());
+        }
+    }
+    stats::estimate_figure(f.figure, &column(i), level)
+}
+
 /// The key figures of a precision goal: every stream's loss and every group's
-/// carried traffic. Returns the largest relative half-width among them.
+/// carried traffic. Returns the largest relative half-width among them. A
+/// figure never observed to be non-zero (no lost call in any replication)
+/// has no relative precision and is left out: its interval is an absolute
+/// bound ([`stats::clopper_pearson`]), shown as such.
 pub fn worst_relative(layout: &[FigureId], estimates: &[Estimate]) -> f64 {
     layout
         .iter()
         .zip(estimates)
         .filter(|(f, _)| {
-            matches!(
-                (f.scope, f.name),
-                (Scope::Stream(_), "loss") | (Scope::Group(_), "carried_traffic")
-            )
+            matches!(f.scope, Scope::Stream(_) | Scope::Group(_))
+                && f.figure.is_precision_key(f.scope.is_stream())
         })
         .map(|(_, e)| {
-            if e.replications == 0 {
+            if e.replications == 0 || e.mean == 0.0 {
                 0.0
             } else {
                 e.relative_half_width()

@@ -6,13 +6,13 @@
 
 use super::{Accumulated, ExperimentError, Outcome, RunOptions, Runner, outcome_of};
 use crate::scenario::Model;
-use crate::stats::{self, Scope};
+use crate::stats::{self, Obs, Scope};
 use serde::{Deserialize, Serialize};
 use std::time::Instant;
 use thiserror::Error;
 
 /// Version of the part format; parts of another version are refused.
-pub const PART_FORMAT_VERSION: u32 = 1;
+pub const PART_FORMAT_VERSION: u32 = 2;
 /// The `format` field of every part.
 pub const PART_FORMAT: &str = "busyhour-part";
 
@@ -199,8 +199,9 @@ pub struct PartStep {
     pub fingerprint: String,
     /// Figure names in layout order, as "scope:index:name".
     pub figures: Vec<String>,
-    /// Per replication, the figure values (null where undefined).
-    pub values: Vec<Vec<Option<f64>>>,
+    /// Per replication, each figure's observation as [numerator,
+    /// denominator] (see [`stats::Obs`]; null where undefined).
+    pub values: Vec<Vec<[Option<f64>; 2]>>,
 }
 
 /// The models of a run (one, no value) or of a sweep's steps.
@@ -210,10 +211,10 @@ fn figure_keys(model: &Model) -> Vec<String> {
     stats::layout(model)
         .iter()
         .map(|f| match f.scope {
-            Scope::Stream(s) => format!("stream:{s}:{}", f.name),
-            Scope::Group(g) => format!("group:{g}:{}", f.name),
-            Scope::StreamInterval(b, s) => format!("stream-interval:{b}:{s}:{}", f.name),
-            Scope::GroupInterval(b, g) => format!("group-interval:{b}:{g}:{}", f.name),
+            Scope::Stream(s) => format!("stream:{s}:{}", f.name()),
+            Scope::Group(g) => format!("group:{g}:{}", f.name()),
+            Scope::StreamInterval(b, s) => format!("stream-interval:{b}:{s}:{}", f.name()),
+            Scope::GroupInterval(b, g) => format!("group-interval:{b}:{g}:{}", f.name()),
         })
         .collect()
 }
@@ -255,7 +256,16 @@ pub fn run_shard(
             values: acc
                 .per_replication
                 .iter()
-                .map(|v| v.iter().map(|x| x.is_finite().then_some(*x)).collect())
+                .map(|v| {
+                    v.iter()
+                        .map(|o| {
+                            [
+                                o.num.is_finite().then_some(o.num),
+                                o.den.is_finite().then_some(o.den),
+                            ]
+                        })
+                        .collect()
+                })
                 .collect(),
         });
         if partial {
@@ -463,8 +473,14 @@ pub fn merge(
             };
             for p in &ordered {
                 for v in &p.steps[i].values {
-                    acc.per_replication
-                        .push(v.iter().map(|x| x.unwrap_or(f64::NAN)).collect());
+                    acc.per_replication.push(
+                        v.iter()
+                            .map(|[n, d]| Obs {
+                                num: n.unwrap_or(f64::NAN),
+                                den: d.unwrap_or(f64::NAN),
+                            })
+                            .collect(),
+                    );
                 }
             }
             outcome_of(model, acc, wall_s, None, false)

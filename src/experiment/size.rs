@@ -6,7 +6,7 @@
 use super::{Accumulated, ExperimentError, Outcome, RunOptions, Runner, outcome_of};
 use crate::report::formula_column;
 use crate::scenario::{Model, Replications};
-use crate::stats::{self, Estimate, FigureId, Scope};
+use crate::stats::{self, Estimate, Figure, FigureId, Scope};
 use crate::units;
 use std::collections::BTreeMap;
 use std::time::Instant;
@@ -77,8 +77,8 @@ wait_mean, wait_p50, wait_p90, wait_p99, service_level, attempts_per_call, occup
 pub struct Goal {
     /// As the user wrote it.
     pub text: String,
-    /// The figure's name.
-    pub figure: &'static str,
+    /// The figure.
+    pub figure: Figure,
     /// The figures the goal applies to (every stream that reports it, or the
     /// named one; a group figure applies to the named or the sized group).
     pub targets: Vec<FigureId>,
@@ -140,7 +140,7 @@ impl Goal {
             .iter()
             .chain(GROUP_GOALS)
             .find(|n| **n == figure)
-            .copied()
+            .and_then(|n| Figure::from_name(n))
             .ok_or_else(|| GoalError::Figure {
                 goal: text.to_string(),
                 figure: figure.to_string(),
@@ -152,10 +152,10 @@ impl Goal {
         };
         let right = right.trim();
         let bound = match name {
-            "wait_mean" | "wait_p50" | "wait_p90" | "wait_p99" => {
+            Figure::WaitMean | Figure::WaitP50 | Figure::WaitP90 | Figure::WaitP99 => {
                 units::parse_duration(right).map_err(|e| value_err(e.to_string()))?
             }
-            "attempts_per_call" => right
+            Figure::AttemptsPerCall => right
                 .parse::<f64>()
                 .ok()
                 .filter(|x| x.is_finite() && *x >= 1.0)
@@ -176,7 +176,7 @@ impl Goal {
                 .filter(|&s| stats::stream_figures(model, s).contains(&name))
                 .map(|s| FigureId {
                     scope: Scope::Stream(s),
-                    name,
+                    figure: name,
                 })
                 .collect()
         } else {
@@ -190,7 +190,7 @@ impl Goal {
             };
             vec![FigureId {
                 scope: Scope::Group(g),
-                name,
+                figure: name,
             }]
         };
         if targets.is_empty() {
@@ -208,7 +208,7 @@ impl Goal {
     /// Whether the figure falls as servers are added (blocking, waits,
     /// occupancy) rather than rises (service level).
     fn falls_with_servers(&self) -> bool {
-        self.figure != "service_level"
+        self.figure.falls_with_servers()
     }
 
     /// Whether the goal is met by adding servers (a lower bound on the size)
@@ -217,14 +217,13 @@ impl Goal {
         self.at_most == self.falls_with_servers()
     }
 
-    /// The verdict on one estimate, its 95% interval widened to the
-    /// confidence of one of `looks` repeated looks (see [`look_scale`]).
-    pub fn judge(&self, e: &Estimate, looks: u32) -> Verdict {
-        if e.replications < 2 || !e.half_width.is_finite() {
+    /// The verdict on one estimate whose interval is already at the
+    /// confidence of one of the repeated looks (see [`look_level`]).
+    pub fn judge(&self, e: &Estimate) -> Verdict {
+        if e.replications < 2 || !e.low.is_finite() || !e.high.is_finite() {
             return Verdict::Undecided;
         }
-        let hw = e.half_width * look_scale(e.replications, looks);
-        let (lo, hi) = (e.mean - hw, e.mean + hw);
+        let (lo, hi) = (e.low, e.high);
         let (good, bad) = if self.at_most {
             (hi <= self.bound, lo > self.bound)
         } else {
@@ -239,16 +238,19 @@ impl Goal {
         }
     }
 
-    /// The verdict over every target figure of an outcome: holds if all hold,
-    /// fails if any fails. Also returns the worst target's estimate.
+    /// The verdict over every target figure of an outcome, each judged on
+    /// its interval at the Bonferroni level of one of `looks` looks: holds
+    /// if all hold, fails if any fails. Also returns the worst target's
+    /// estimate (at that level) and its index in the layout.
     pub fn judge_outcome(&self, o: &Outcome, looks: u32) -> (Verdict, Estimate) {
         let mut verdict = Verdict::Holds;
         let mut worst: Option<Estimate> = None;
         for f in &self.targets {
-            let Some(e) = o.get(f.scope, f.name) else {
+            let Some(i) = o.index_of(f.scope, f.figure) else {
                 continue;
             };
-            let v = self.judge(&e, looks);
+            let e = o.estimate_at(i, look_level(looks));
+            let v = self.judge(&e);
             let rank = |v: Verdict| match v {
                 Verdict::Holds => 0,
                 Verdict::Undecided => 1,
@@ -273,22 +275,18 @@ impl Goal {
                 verdict = v;
             }
         }
-        let worst = worst.unwrap_or(Estimate::symmetric(f64::NAN, f64::NAN, 0));
+        let worst = worst.unwrap_or(Estimate::UNDEFINED);
         (verdict, worst)
     }
 }
 
-/// Factor that widens a 95% Student-t half-width from `replications` values
-/// to the Bonferroni level 1 - 0.05 / `looks`: a size is looked at again
-/// each time replications are added while a goal is undecided, and each look
-/// is a chance of a wrong verdict, so the chance of any wrong verdict over
-/// all looks stays at most 5%.
-pub fn look_scale(replications: u64, looks: u32) -> f64 {
-    if looks <= 1 || replications < 2 {
-        return 1.0;
-    }
-    let df = replications - 1;
-    stats::t_quantile(df, 1.0 - 0.025 / f64::from(looks)) / stats::t_quantile_975(df)
+/// The confidence of each verdict when a size may be looked at `looks`
+/// times: the Bonferroni level 1 - 0.05 / `looks`. A size is looked at
+/// again each time replications are added while a goal is undecided, and
+/// each look is a chance of a wrong verdict, so the chance of any wrong
+/// verdict over all looks stays at most 5%.
+pub fn look_level(looks: u32) -> f64 {
+    1.0 - (1.0 - stats::LEVEL) / f64::from(looks.max(1))
 }
 
 /// The result at one size.
@@ -575,10 +573,12 @@ pub fn size(
 }
 
 /// The paired (common random numbers) difference b - a of figure `index`
-/// across replications both outcomes share, as a 95% Student-t estimate.
+/// across replications both outcomes share, at 95%
+/// ([`stats::paired_difference`]).
 pub fn paired_difference(a: &Outcome, b: &Outcome, index_a: usize, index_b: usize) -> Estimate {
     let n = a.per_replication.len().min(b.per_replication.len());
-    stats::estimate(
-        (0..n).map(move |r| b.per_replication[r][index_b] - a.per_replication[r][index_a]),
-    )
+    let (mut ca, mut cb) = (a.column(index_a), b.column(index_b));
+    ca.truncate(n);
+    cb.truncate(n);
+    stats::paired_difference(a.layout[index_a].figure, &ca, &cb, stats::LEVEL)
 }

@@ -7,7 +7,7 @@ use crate::experiment::size::Goal;
 use crate::experiment::sweep::Step;
 use crate::report::formula_column;
 use crate::scenario::Model;
-use crate::stats::{self, Estimate, FigureId, Scope};
+use crate::stats::{self, Estimate, Figure, FigureId, Scope};
 
 pub use super::chart::ChartError;
 
@@ -45,14 +45,14 @@ fn series(name: String, points: &[(f64, Estimate)], scale: f64) -> Series {
 
 /// Sum of an interval figure over every stream, as an estimate whose
 /// half-width is taken from the per-replication sums.
-fn summed(r: &RunReport, b: usize, name: &str) -> Estimate {
+fn summed(r: &RunReport, b: usize, name: Figure) -> Estimate {
     let idx: Vec<usize> = r
         .outcome
         .layout
         .iter()
         .enumerate()
         .filter(|(_, f)| {
-            matches!(f.scope, Scope::StreamInterval(bb, _) if bb == b) && f.name == name
+            matches!(f.scope, Scope::StreamInterval(bb, _) if bb == b) && f.figure == name
         })
         .map(|(i, _)| i)
         .collect();
@@ -60,7 +60,7 @@ fn summed(r: &RunReport, b: usize, name: &str) -> Estimate {
         r.outcome
             .per_replication
             .iter()
-            .map(|v| idx.iter().map(|&i| v[i]).sum::<f64>()),
+            .map(|v| idx.iter().map(|&i| v[i].own()).sum::<f64>()),
     )
 }
 
@@ -82,8 +82,8 @@ pub fn run_chart(r: &RunReport) -> Result<String, ChartError> {
     );
     traffic.x_ticks = Some(Box::new(clock_label));
     for (name, fig) in [
-        ("offered traffic", "offered_traffic"),
-        ("carried traffic", "carried_traffic"),
+        ("offered traffic", Figure::OfferedTraffic),
+        ("carried traffic", Figure::CarriedTraffic),
     ] {
         let pts: Vec<(f64, Estimate)> = (0..bins).map(|b| (mid(b), summed(r, b, fig))).collect();
         traffic
@@ -100,7 +100,7 @@ pub fn run_chart(r: &RunReport) -> Result<String, ChartError> {
         let pts: Vec<(f64, Estimate)> = (0..bins)
             .filter_map(|b| {
                 r.outcome
-                    .get(Scope::StreamInterval(b, s), "loss")
+                    .get_figure(Scope::StreamInterval(b, s), Figure::Loss)
                     .map(|e| (mid(b), e))
             })
             .collect();
@@ -111,7 +111,7 @@ pub fn run_chart(r: &RunReport) -> Result<String, ChartError> {
                 r.formulas
                     .get(&FigureId {
                         scope: Scope::StreamInterval(b, s),
-                        name: "loss",
+                        figure: Figure::Loss,
                     })
                     .map(|f| (mid(b), f.value * 100.0))
             })
@@ -147,10 +147,10 @@ pub fn sweep_chart(
     columns: &[FigureId],
     goals: &[Goal],
 ) -> Result<String, ChartError> {
-    let mut figures: Vec<&'static str> = Vec::new();
+    let mut figures: Vec<Figure> = Vec::new();
     for f in columns {
-        if !figures.contains(&f.name) {
-            figures.push(f.name);
+        if !figures.contains(&f.figure) {
+            figures.push(f.figure);
         }
     }
     let mut panels = Vec::new();
@@ -161,10 +161,14 @@ pub fn sweep_chart(
             label_x.to_string(),
             format!("{} ({unit})", label(name)),
         );
-        for f in columns.iter().filter(|f| f.name == name) {
+        for f in columns.iter().filter(|f| f.figure == name) {
             let pts: Vec<(f64, Estimate)> = steps
                 .iter()
-                .filter_map(|st| st.outcome.get(f.scope, f.name).map(|e| (st.value, e)))
+                .filter_map(|st| {
+                    st.outcome
+                        .get_figure(f.scope, f.figure)
+                        .map(|e| (st.value, e))
+                })
                 .collect();
             c.series.push(series(
                 format!("{} (95% band)", column_name(model, f)),

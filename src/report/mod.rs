@@ -9,7 +9,7 @@ pub mod reference;
 
 use crate::experiment::Outcome;
 use crate::scenario::{Arrivals, Model, Queue, Replications};
-use crate::stats::{self, Estimate, FigureId, Scope};
+use crate::stats::{self, Estimate, Figure, FigureId, Scope};
 use crate::units::{format_duration, format_share, trim_float};
 use serde_json::{Map, Value, json};
 use std::collections::HashMap;
@@ -47,51 +47,15 @@ impl<'a> RunReport<'a> {
     }
 }
 
-/// How a figure is printed.
-#[derive(Clone, Copy, PartialEq)]
-pub(crate) enum Kind {
-    Share,
-    Erlangs,
-    Seconds,
-    Count,
-    Ratio,
+/// How a figure is printed: its unit ([`Figure::unit`]).
+pub(crate) use crate::stats::Unit as Kind;
+
+pub(crate) fn kind(figure: Figure) -> Kind {
+    figure.unit()
 }
 
-pub(crate) fn kind(name: &str) -> Kind {
-    match name {
-        "offered_calls" | "overflow_calls" => Kind::Count,
-        "offered_traffic" | "carried_traffic" | "overflow_mean" => Kind::Erlangs,
-        "overflow_mean_square" => Kind::Ratio,
-        "wait_mean" | "wait_p50" | "wait_p90" | "wait_p99" => Kind::Seconds,
-        "attempts_per_call" | "overflow_peakedness" => Kind::Ratio,
-        _ => Kind::Share,
-    }
-}
-
-pub(crate) fn label(name: &str) -> &'static str {
-    match name {
-        "offered_calls" => "offered calls",
-        "offered_traffic" => "offered traffic",
-        "attempts_per_call" => "attempts per call",
-        "first_attempt_blocking" => "first-attempt blocking",
-        "attempt_blocking" => "attempt blocking",
-        "loss" => "loss (calls never served)",
-        "abandonment" => "abandonment",
-        "wait_probability" => "probability of waiting",
-        "carried_traffic" => "carried traffic",
-        "wait_mean" => "mean wait (answered)",
-        "wait_p50" => "wait, median",
-        "wait_p90" => "wait, 90th percentile",
-        "wait_p99" => "wait, 99th percentile",
-        "service_level" => "service level",
-        "occupancy" => "occupancy",
-        "time_congestion" => "time congestion",
-        "overflow_calls" => "overflow calls",
-        "overflow_mean" => "overflow traffic, mean",
-        "overflow_mean_square" => "overflow traffic, mean square",
-        "overflow_peakedness" => "overflow peakedness",
-        _ => "figure",
-    }
+pub(crate) fn label(figure: Figure) -> &'static str {
+    figure.label()
 }
 
 fn fmt_value(k: Kind, x: f64) -> String {
@@ -107,24 +71,40 @@ fn fmt_value(k: Kind, x: f64) -> String {
     }
 }
 
-fn fmt_half_width(k: Kind, h: f64) -> String {
-    if !h.is_finite() {
-        return "± ?".into();
-    }
+fn fmt_bare(k: Kind, x: f64) -> String {
     match k {
-        Kind::Share => format!("± {}", format_share(h)),
-        Kind::Erlangs => format!("± {}", trim_float(h, 3)),
-        Kind::Seconds => format!("± {}", trim_float(h, 2)),
-        Kind::Count => format!("± {}", trim_float(h, 1)),
-        Kind::Ratio => format!("± {}", trim_float(h, 3)),
+        Kind::Share => format_share(x),
+        Kind::Erlangs => trim_float(x, 3),
+        Kind::Seconds => trim_float(x, 2),
+        Kind::Count => trim_float(x, 1),
+        Kind::Ratio => trim_float(x, 3),
     }
 }
 
-fn estimate_json(e: &Estimate, formula: Option<&Formula>) -> Value {
+/// The interval beside an estimate: "± h" when it is symmetric, otherwise
+/// its two ends (cut to the figure's range, or widened by an exact bound
+/// for rare events): "[0% to 0.031%]".
+fn fmt_interval(k: Kind, e: &Estimate) -> String {
+    if !e.half_width.is_finite() || !e.low.is_finite() || !e.high.is_finite() {
+        return "± ?".into();
+    }
+    if e.is_symmetric() {
+        format!("± {}", fmt_bare(k, e.half_width))
+    } else {
+        format!("[{} to {}]", fmt_bare(k, e.low), fmt_bare(k, e.high))
+    }
+}
+
+fn estimate_json(e: &Estimate, figure: Option<Figure>, formula: Option<&Formula>) -> Value {
     let mut m = Map::new();
     m.insert("mean".into(), json!(finite_or_null(e.mean)));
     m.insert("half_width".into(), json!(finite_or_null(e.half_width)));
+    m.insert("low".into(), json!(finite_or_null(e.low)));
+    m.insert("high".into(), json!(finite_or_null(e.high)));
     m.insert("replications".into(), json!(e.replications));
+    if let Some(f) = figure {
+        m.insert("estimator".into(), json!(f.estimator().name()));
+    }
     if let Some(f) = formula {
         m.insert(
             "formula".into(),
@@ -181,8 +161,8 @@ pub fn to_json(r: &RunReport) -> Value {
     let mut by_scope: HashMap<Scope, Map<String, Value>> = HashMap::new();
     for (i, f) in o.layout.iter().enumerate() {
         by_scope.entry(f.scope).or_default().insert(
-            f.name.to_string(),
-            estimate_json(&o.estimates[i], r.formulas.get(f)),
+            f.name().to_string(),
+            estimate_json(&o.estimates[i], Some(f.figure), r.formulas.get(f)),
         );
     }
     let streams: Vec<Value> = (model.streams.iter().enumerate())
@@ -264,9 +244,9 @@ pub fn worst_interval(r: &RunReport) -> Option<usize> {
         if m.is_nan() {
             continue;
         }
-        match (f.scope, f.name) {
-            (Scope::StreamInterval(b, _), "loss") => score[b].0 = score[b].0.max(m),
-            (Scope::GroupInterval(b, _), "time_congestion") => score[b].1 = score[b].1.max(m),
+        match (f.scope, f.figure) {
+            (Scope::StreamInterval(b, _), Figure::Loss) => score[b].0 = score[b].0.max(m),
+            (Scope::GroupInterval(b, _), Figure::TimeCongestion) => score[b].1 = score[b].1.max(m),
             _ => {}
         }
     }
@@ -289,6 +269,9 @@ pub fn to_csv(r: &RunReport) -> String {
         "figure",
         "mean",
         "half_width",
+        "low",
+        "high",
+        "estimator",
         "replications",
         "formula",
         "formula_value",
@@ -326,9 +309,12 @@ pub fn to_csv(r: &RunReport) -> String {
             kind,
             name,
             &start,
-            f.name,
+            f.name(),
             &num(e.mean),
             &num(e.half_width),
+            &num(e.low),
+            &num(e.high),
+            f.figure.estimator().name(),
             &e.replications.to_string(),
             &fname,
             &fval,
@@ -370,11 +356,11 @@ fn figure_rows(r: &RunReport, scope: Scope, first: &str) -> Vec<Vec<String>> {
     for (i, f) in r.outcome.layout.iter().enumerate() {
         // The mean square is a building block of the peakedness, kept in
         // the JSON and CSV for merging and checking, not shown in the table.
-        if f.scope != scope || f.name == "overflow_mean_square" {
+        if f.scope != scope || f.figure == Figure::OverflowMeanSquare {
             continue;
         }
         let e = &r.outcome.estimates[i];
-        let k = kind(f.name);
+        let k = kind(f.figure);
         let formula = r.formulas.get(f).map_or(String::new(), |fo| {
             format!("{} ({})", fmt_value(k, fo.value), fo.name)
         });
@@ -384,12 +370,12 @@ fn figure_rows(r: &RunReport, scope: Scope, first: &str) -> Vec<Vec<String>> {
             } else {
                 String::new()
             },
-            label(f.name).to_string(),
+            label(f.figure).to_string(),
             fmt_value(k, e.mean),
             if e.mean.is_nan() {
                 String::new()
             } else {
-                fmt_half_width(k, e.half_width)
+                fmt_interval(k, &e)
             },
             formula,
         ]);
@@ -447,7 +433,7 @@ pub fn run_tables(r: &RunReport) -> Vec<Table> {
             (0..bins).find_map(|b| {
                 r.formulas.get(&FigureId {
                     scope: Scope::StreamInterval(b, s),
-                    name: "loss",
+                    figure: Figure::Loss,
                 })
             })
         };
@@ -484,7 +470,7 @@ pub fn run_tables(r: &RunReport) -> Vec<Table> {
                 if interval_formula(s).is_some() {
                     let f = r.formulas.get(&FigureId {
                         scope: Scope::StreamInterval(b, s),
-                        name: "loss",
+                        figure: Figure::Loss,
                     });
                     row.push(f.map_or("-".into(), |f| fmt_value(Kind::Share, f.value)));
                 }
@@ -511,7 +497,7 @@ pub fn to_table(r: &RunReport) -> String {
     let mut out = String::new();
     out.push_str(&format!("{}  ({})\n", model.title, r.file));
     out.push_str(&run_line(r));
-    out.push_str("\nFigures are means with 95% confidence half-widths across replications.\n");
+    out.push_str("\nShares, mean waits and attempts per call are pooled over all replications (total over total);\nother figures are means across replications. \"±\" is the 95% half-width; \"[a to b]\" a 95% interval\ncut to the figure's range or widened to the exact binomial bound when events are few.\n");
     if r.outcome.partial {
         out.push_str(
             "PARTIAL RESULT: the run was interrupted; only the finished replications are shown.\n",
@@ -693,7 +679,7 @@ pub fn formula_view_text(model: &Model, view: &HashMap<FigureId, Formula>) -> St
             Scope::StreamInterval(_, s) => (2, s),
             Scope::GroupInterval(_, g) => (3, g),
         };
-        (kind, i, order_of(f.name))
+        (kind, i, f.figure.compact_order())
     });
     for (f, fo) in entries {
         let who = match f.scope {
@@ -706,8 +692,8 @@ pub fn formula_view_text(model: &Model, view: &HashMap<FigureId, Formula>) -> St
         };
         rows.push(vec![
             who,
-            label(f.name).to_string(),
-            fmt_value(kind(f.name), fo.value),
+            label(f.figure).to_string(),
+            fmt_value(kind(f.figure), fo.value),
             fo.name.to_string(),
         ]);
     }
@@ -741,33 +727,13 @@ pub fn formula_view_text(model: &Model, view: &HashMap<FigureId, Formula>) -> St
     out
 }
 
-fn order_of(name: &str) -> usize {
-    [
-        "offered_traffic",
-        "first_attempt_blocking",
-        "loss",
-        "abandonment",
-        "wait_probability",
-        "carried_traffic",
-        "wait_mean",
-        "service_level",
-        "occupancy",
-        "time_congestion",
-        "overflow_mean",
-        "overflow_peakedness",
-    ]
-    .iter()
-    .position(|n| *n == name)
-    .unwrap_or(99)
-}
-
 /// The formula view of `check` as JSON.
 pub fn formula_view_json(model: &Model, view: &HashMap<FigureId, Formula>) -> Value {
     let pick = |scope: Scope| -> Value {
         let mut m = Map::new();
         for (f, fo) in view.iter().filter(|(f, _)| f.scope == scope) {
             m.insert(
-                f.name.to_string(),
+                f.name().to_string(),
                 json!({ "name": fo.name, "value": finite_or_null(fo.value) }),
             );
         }
@@ -789,7 +755,7 @@ pub fn formula_view_json(model: &Model, view: &HashMap<FigureId, Formula>) -> Va
 }
 
 /// Print a goal's bound in the figure's unit.
-fn goal_value(figure: &str, x: f64) -> String {
+fn goal_value(figure: Figure, x: f64) -> String {
     fmt_value(kind(figure), x)
 }
 
@@ -818,7 +784,7 @@ pub fn size_rows(r: &crate::experiment::size::SizeResult) -> Vec<Vec<String>> {
             row.push(format!(
                 "{} {}",
                 fmt_value(k, est.mean),
-                fmt_half_width(k, est.half_width)
+                fmt_interval(k, &est)
             ));
             row.push(match v {
                 Verdict::Holds => "holds".into(),
@@ -886,7 +852,7 @@ pub fn size_json(model: &Model, file: &str, r: &crate::experiment::size::SizeRes
             "goals": r.goals.iter().zip(&e.goals).map(|(g, (v, est))| json!({
                 "goal": g.text,
                 "verdict": v.word(),
-                "estimate": estimate_json(est, None),
+                "estimate": estimate_json(est, Some(g.figure), None),
             })).collect::<Vec<_>>(),
         })
     };
@@ -895,7 +861,7 @@ pub fn size_json(model: &Model, file: &str, r: &crate::experiment::size::SizeRes
         "file": file,
         "group": model.groups[r.group].name,
         "goals": r.goals.iter().map(|g| json!({
-            "goal": g.text, "figure": g.figure, "at_most": g.at_most, "bound": g.bound,
+            "goal": g.text, "figure": g.figure.name(), "at_most": g.at_most, "bound": g.bound,
         })).collect::<Vec<_>>(),
         "servers": r.servers,
         "formula_servers": r.formula_servers,
@@ -917,14 +883,14 @@ pub fn sweep_columns(model: &Model, outcome: &Outcome, chosen: &[String]) -> Vec
     let wanted = |f: &FigureId| -> bool {
         if chosen.is_empty() {
             matches!(
-                (f.scope, f.name),
+                (f.scope, f.name()),
                 (Scope::Stream(_), "loss")
                     | (Scope::Stream(_), "service_level")
                     | (Scope::Group(_), "occupancy")
             )
         } else {
             matches!(f.scope, Scope::Stream(_) | Scope::Group(_))
-                && chosen.iter().any(|c| c == f.name)
+                && chosen.iter().any(|c| c == f.name())
         }
     };
     let _ = model;
@@ -939,10 +905,10 @@ pub fn sweep_columns(model: &Model, outcome: &Outcome, chosen: &[String]) -> Vec
 pub(crate) fn column_name(model: &Model, f: &FigureId) -> String {
     match f.scope {
         Scope::Stream(s) | Scope::StreamInterval(_, s) => {
-            format!("{} {}", model.streams[s].name, f.name)
+            format!("{} {}", model.streams[s].name, f.name())
         }
         Scope::Group(g) | Scope::GroupInterval(_, g) => {
-            format!("{} {}", model.groups[g].name, f.name)
+            format!("{} {}", model.groups[g].name, f.name())
         }
     }
 }
@@ -967,14 +933,10 @@ pub fn sweep_rows(
             .sum();
         let mut row = vec![trim_float(st.value, 3), fmt_value(Kind::Erlangs, offered)];
         for f in columns {
-            let k = kind(f.name);
-            let cell = match st.outcome.get(f.scope, f.name) {
+            let k = kind(f.figure);
+            let cell = match st.outcome.get(f.scope, f.name()) {
                 Some(e) if !e.mean.is_nan() => {
-                    let mut c = format!(
-                        "{} {}",
-                        fmt_value(k, e.mean),
-                        fmt_half_width(k, e.half_width)
-                    );
+                    let mut c = format!("{} {}", fmt_value(k, e.mean), fmt_interval(k, &e));
                     if let Some(fo) = formulas.get(f) {
                         c.push_str(&format!(" [{}]", fmt_value(k, fo.value)));
                     }
@@ -1025,6 +987,9 @@ pub fn sweep_csv(model: &Model, steps: &[crate::experiment::sweep::Step]) -> Str
         "figure",
         "mean",
         "half_width",
+        "low",
+        "high",
+        "estimator",
         "replications",
         "formula",
         "formula_value",
@@ -1054,9 +1019,12 @@ pub fn sweep_csv(model: &Model, steps: &[crate::experiment::sweep::Step]) -> Str
                 &num(st.value),
                 kind,
                 name,
-                f.name,
+                f.name(),
                 &num(e.mean),
                 &num(e.half_width),
+                &num(e.low),
+                &num(e.high),
+                f.figure.estimator().name(),
                 &e.replications.to_string(),
                 &fname,
                 &fval,
@@ -1093,7 +1061,9 @@ pub fn run_html(r: &RunReport, chart: Option<&str>) -> String {
         Block::Pre(describe_model(r.model, r.file)),
         Block::Heading("Results".into()),
         Block::Paragraph(format!(
-            "{}. Figures are means with 95% confidence half-widths across replications; the formula column \
+            "{}. Shares, mean waits and attempts per call are pooled over all replications (total over total); \
+other figures are means across replications. Intervals are 95%; an interval shown by its two ends is cut to the \
+figure's range or widened to the exact binomial bound when events are few. The formula column \
 shows the closed-form value where its assumptions hold.",
             run_line(r)
         )),

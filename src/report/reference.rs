@@ -22,7 +22,7 @@
 
 use crate::formulas::{engset, erlang_a, erlang_b, erlang_c, multirate, overflow};
 use crate::scenario::{Arrivals, Model, Queue, Stream};
-use crate::stats::{FigureId, Scope, group_figures, stream_figures};
+use crate::stats::{Figure, FigureId, Scope, group_figures, stream_figures};
 use std::collections::HashMap;
 
 /// A closed-form value and the method that gave it.
@@ -41,12 +41,12 @@ struct Column<'m> {
 }
 
 impl Column<'_> {
-    fn stream(&mut self, s: usize, name: &'static str, method: &'static str, value: f64) {
-        if value.is_finite() && stream_figures(self.model, s).contains(&name) {
+    fn stream(&mut self, s: usize, figure: Figure, method: &'static str, value: f64) {
+        if value.is_finite() && stream_figures(self.model, s).contains(&figure) {
             self.map.insert(
                 FigureId {
                     scope: Scope::Stream(s),
-                    name,
+                    figure,
                 },
                 Formula {
                     name: method,
@@ -59,7 +59,7 @@ impl Column<'_> {
         &mut self,
         b: usize,
         s: usize,
-        name: &'static str,
+        figure: Figure,
         method: &'static str,
         value: f64,
     ) {
@@ -67,7 +67,7 @@ impl Column<'_> {
             self.map.insert(
                 FigureId {
                     scope: Scope::StreamInterval(b, s),
-                    name,
+                    figure,
                 },
                 Formula {
                     name: method,
@@ -76,12 +76,12 @@ impl Column<'_> {
             );
         }
     }
-    fn group(&mut self, g: usize, name: &'static str, method: &'static str, value: f64) {
-        if value.is_finite() && group_figures(self.model, g).contains(&name) {
+    fn group(&mut self, g: usize, figure: Figure, method: &'static str, value: f64) {
+        if value.is_finite() && group_figures(self.model, g).contains(&figure) {
             self.map.insert(
                 FigureId {
                     scope: Scope::Group(g),
-                    name,
+                    figure,
                 },
                 Formula {
                     name: method,
@@ -171,17 +171,22 @@ fn erlang_b_group(col: &mut Column, g: usize) {
     let Ok(b) = erlang_b::blocking(n, a) else {
         return;
     };
-    col.group(g, "time_congestion", "Erlang B", b);
+    col.group(g, Figure::TimeCongestion, "Erlang B", b);
     // Carried traffic only where no redials add load.
     let users = users(model, g);
     let redials = users.iter().any(|&(s, _)| model.streams[s].retry.is_some());
     if !redials {
-        col.group(g, "carried_traffic", "Erlang B", a * (1.0 - b));
-        col.group(g, "occupancy", "Erlang B", a * (1.0 - b) / f64::from(n));
+        col.group(g, Figure::CarriedTraffic, "Erlang B", a * (1.0 - b));
+        col.group(
+            g,
+            Figure::Occupancy,
+            "Erlang B",
+            a * (1.0 - b) / f64::from(n),
+        );
     }
-    col.group(g, "overflow_mean", "Erlang B: A*B", a * b);
+    col.group(g, Figure::OverflowMean, "Erlang B: A*B", a * b);
     if exponential && let Ok(m) = overflow::riordan(n, a) {
-        col.group(g, "overflow_peakedness", "Riordan", m.peakedness());
+        col.group(g, Figure::OverflowPeakedness, "Riordan", m.peakedness());
     }
     for (s, _) in users {
         let st = &model.streams[s];
@@ -189,15 +194,15 @@ fn erlang_b_group(col: &mut Column, g: usize) {
             continue; // blocked only when every group on the route is full
         }
         if st.retry.is_some() {
-            col.stream(s, "first_attempt_blocking", "Erlang B, no redials", b);
-            col.stream(s, "loss", "Erlang B, no redials", b);
+            col.stream(s, Figure::FirstAttemptBlocking, "Erlang B, no redials", b);
+            col.stream(s, Figure::Loss, "Erlang B, no redials", b);
         } else {
-            col.stream(s, "first_attempt_blocking", "Erlang B", b);
-            col.stream(s, "loss", "Erlang B", b);
+            col.stream(s, Figure::FirstAttemptBlocking, "Erlang B", b);
+            col.stream(s, Figure::Loss, "Erlang B", b);
             if let Some(rate) = poisson_rate(st) {
                 col.stream(
                     s,
-                    "carried_traffic",
+                    Figure::CarriedTraffic,
                     "Erlang B",
                     rate * st.holding.mean() * (1.0 - b),
                 );
@@ -241,18 +246,18 @@ fn multirate_group(col: &mut Column, g: usize) {
         } else {
             "Kaufman-Roberts"
         };
-        col.stream(s, "first_attempt_blocking", method, b);
-        col.stream(s, "loss", method, b);
+        col.stream(s, Figure::FirstAttemptBlocking, method, b);
+        col.stream(s, Figure::Loss, method, b);
         if model.streams[s].retry.is_none() {
-            col.stream(s, "carried_traffic", method, a * (1.0 - b));
+            col.stream(s, Figure::CarriedTraffic, method, a * (1.0 - b));
         }
         carried += a * f64::from(units) * (1.0 - b);
     }
     if users.iter().all(|&(s, _)| model.streams[s].retry.is_none()) {
-        col.group(g, "carried_traffic", "Kaufman-Roberts", carried);
+        col.group(g, Figure::CarriedTraffic, "Kaufman-Roberts", carried);
         col.group(
             g,
-            "occupancy",
+            Figure::Occupancy,
             "Kaufman-Roberts",
             carried / f64::from(model.groups[g].servers),
         );
@@ -307,17 +312,17 @@ fn queue_group(col: &mut Column, g: usize) {
             ) else {
                 return;
             };
-            col.group(g, "carried_traffic", "Erlang C", traffic);
-            col.group(g, "occupancy", "Erlang C", traffic / f64::from(n));
+            col.group(g, Figure::CarriedTraffic, "Erlang C", traffic);
+            col.group(g, Figure::Occupancy, "Erlang C", traffic / f64::from(n));
             for &(s, _) in &users {
                 let st = &model.streams[s];
-                col.stream(s, "wait_probability", "Erlang C", c);
-                col.stream(s, "wait_mean", "Erlang C", w);
-                col.stream(s, "loss", "Erlang C", 0.0);
+                col.stream(s, Figure::WaitProbability, "Erlang C", c);
+                col.stream(s, Figure::WaitMean, "Erlang C", w);
+                col.stream(s, Figure::Loss, "Erlang C", 0.0);
                 if let Some(aw) = st.answer_within_s
                     && let Ok(sl) = erlang_c::service_level(n, traffic, h, aw)
                 {
-                    col.stream(s, "service_level", "Erlang C", sl);
+                    col.stream(s, Figure::ServiceLevel, "Erlang C", sl);
                 }
             }
         }
@@ -327,24 +332,24 @@ fn queue_group(col: &mut Column, g: usize) {
             };
             col.group(
                 g,
-                "carried_traffic",
+                Figure::CarriedTraffic,
                 "Erlang A",
                 traffic * (1.0 - ea.abandonment),
             );
             col.group(
                 g,
-                "occupancy",
+                Figure::Occupancy,
                 "Erlang A",
                 traffic * (1.0 - ea.abandonment) / f64::from(n),
             );
             for &(s, _) in &users {
                 let st = &model.streams[s];
-                col.stream(s, "wait_probability", "Erlang A", ea.wait_probability);
-                col.stream(s, "abandonment", "Erlang A", ea.abandonment);
-                col.stream(s, "loss", "Erlang A", ea.abandonment);
-                col.stream(s, "wait_mean", "Erlang A", ea.mean_wait_answered_s);
+                col.stream(s, Figure::WaitProbability, "Erlang A", ea.wait_probability);
+                col.stream(s, Figure::Abandonment, "Erlang A", ea.abandonment);
+                col.stream(s, Figure::Loss, "Erlang A", ea.abandonment);
+                col.stream(s, Figure::WaitMean, "Erlang A", ea.mean_wait_answered_s);
                 if let Some(aw) = st.answer_within_s {
-                    col.stream(s, "service_level", "Erlang A", ea.service_level(aw));
+                    col.stream(s, Figure::ServiceLevel, "Erlang A", ea.service_level(aw));
                 }
             }
         }
@@ -370,22 +375,27 @@ fn engset_group(col: &mut Column, g: usize) {
     let Ok(e) = engset::solve(*count, grp.servers, beta) else {
         return;
     };
-    col.group(g, "time_congestion", "Engset", e.time_congestion);
-    col.group(g, "carried_traffic", "Engset", e.carried_traffic);
+    col.group(g, Figure::TimeCongestion, "Engset", e.time_congestion);
+    col.group(g, Figure::CarriedTraffic, "Engset", e.carried_traffic);
     col.group(
         g,
-        "occupancy",
+        Figure::Occupancy,
         "Engset",
         e.carried_traffic / f64::from(grp.servers),
     );
     col.stream(
         s,
-        "first_attempt_blocking",
+        Figure::FirstAttemptBlocking,
         "Engset (call congestion)",
         e.call_congestion,
     );
-    col.stream(s, "loss", "Engset (call congestion)", e.call_congestion);
-    col.stream(s, "carried_traffic", "Engset", e.carried_traffic);
+    col.stream(
+        s,
+        Figure::Loss,
+        "Engset (call congestion)",
+        e.call_congestion,
+    );
+    col.stream(s, Figure::CarriedTraffic, "Engset", e.carried_traffic);
 }
 
 /// Loss of streams routed first group -> final group, by the equivalent
@@ -459,7 +469,7 @@ fn equivalent_random(col: &mut Column) {
             if let Ok(b) = erlang_b::blocking(n, a) {
                 col.stream(
                     s,
-                    "loss",
+                    Figure::Loss,
                     "equivalent random (approx.)",
                     b * fin.final_blocking,
                 );
@@ -532,9 +542,9 @@ fn profile_group(col: &mut Column, g: usize) {
     };
     if let Ok(b) = erlang_b::blocking(n, load(0.0, length)) {
         for &(s, _) in &users {
-            col.stream(s, "loss", "Erlang B, average load", b);
+            col.stream(s, Figure::Loss, "Erlang B, average load", b);
         }
-        col.group(g, "time_congestion", "Erlang B, average load", b);
+        col.group(g, Figure::TimeCongestion, "Erlang B, average load", b);
     }
     let width = model.plan.interval_s.unwrap_or(length);
     for bin in 0..model.plan.interval_count() {
@@ -542,7 +552,7 @@ fn profile_group(col: &mut Column, g: usize) {
         let t1 = (t0 + width).min(length);
         if let Ok(b) = erlang_b::blocking(n, load(t0, t1)) {
             for &(s, _) in &users {
-                col.stream_interval(bin, s, "loss", "Erlang B, interval load", b);
+                col.stream_interval(bin, s, Figure::Loss, "Erlang B, interval load", b);
             }
         }
     }

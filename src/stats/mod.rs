@@ -2,11 +2,14 @@
 //! derived from them (named as in the design), and 95% Student-t intervals
 //! across replications. Must not run the engine or print.
 
+pub mod figure;
 pub mod tally;
+
+pub use figure::{Estimator, Figure, Range, Unit};
 
 use crate::scenario::{Model, Queue};
 use serde::Serialize;
-use statrs::distribution::{ContinuousCDF, StudentsT};
+use statrs::distribution::{Beta, ContinuousCDF, StudentsT};
 use tally::Tally;
 
 /// Where a figure belongs.
@@ -22,13 +25,56 @@ pub enum Scope {
     GroupInterval(usize, usize),
 }
 
+impl Scope {
+    /// Whether the scope is a stream's (whole run or one interval).
+    pub fn is_stream(self) -> bool {
+        matches!(self, Scope::Stream(_) | Scope::StreamInterval(..))
+    }
+}
+
 /// One figure of the layout.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
 pub struct FigureId {
     /// Stream, group or interval.
     pub scope: Scope,
-    /// The design's name, e.g. "loss".
-    pub name: &'static str,
+    /// Which figure.
+    pub figure: Figure,
+}
+
+impl FigureId {
+    /// The figure's design name, e.g. "loss".
+    pub fn name(&self) -> &'static str {
+        self.figure.name()
+    }
+}
+
+/// What one replication observed of one figure: a numerator and a
+/// denominator. Ratio figures keep both so that replications are pooled as
+/// a ratio of sums; every other figure has denominator 1 and its value in
+/// `num` (NaN where undefined in the replication).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Obs {
+    /// Numerator (the value itself for figures that are not ratios).
+    pub num: f64,
+    /// Denominator (1 for figures that are not ratios; may be 0).
+    pub den: f64,
+}
+
+impl Obs {
+    /// A plain value.
+    pub fn value(x: f64) -> Obs {
+        Obs { num: x, den: 1.0 }
+    }
+
+    /// A ratio of two counts or sums.
+    pub fn ratio(num: f64, den: f64) -> Obs {
+        Obs { num, den }
+    }
+
+    /// The replication's own value: num / den (NaN when den is 0).
+    pub fn own(&self) -> f64 {
+        ratio(self.num, self.den)
+    }
 }
 
 /// Whether stream `s` can ever wait in a queue.
@@ -54,100 +100,101 @@ pub fn group_overflows(model: &Model, g: usize) -> bool {
 /// redial figures without redials) are left out.
 pub fn layout(model: &Model) -> Vec<FigureId> {
     let mut out = Vec::new();
-    for (s, stream) in model.streams.iter().enumerate() {
-        for name in stream_figures(model, s) {
-            out.push(FigureId {
-                scope: Scope::Stream(s),
-                name,
-            });
-        }
-        let _ = stream;
+    let mut push = |scope: Scope, figures: Vec<Figure>| {
+        out.extend(figures.into_iter().map(|figure| FigureId { scope, figure }));
+    };
+    for s in 0..model.streams.len() {
+        push(Scope::Stream(s), stream_figures(model, s));
     }
     for g in 0..model.groups.len() {
-        for name in group_figures(model, g) {
-            out.push(FigureId {
-                scope: Scope::Group(g),
-                name,
-            });
-        }
+        push(Scope::Group(g), group_figures(model, g));
     }
     for b in 0..model.plan.interval_count() {
         for s in 0..model.streams.len() {
-            for name in stream_interval_figures(model, s) {
-                out.push(FigureId {
-                    scope: Scope::StreamInterval(b, s),
-                    name,
-                });
-            }
+            push(
+                Scope::StreamInterval(b, s),
+                stream_interval_figures(model, s),
+            );
         }
         for g in 0..model.groups.len() {
-            for name in ["carried_traffic", "occupancy", "time_congestion"] {
-                out.push(FigureId {
-                    scope: Scope::GroupInterval(b, g),
-                    name,
-                });
-            }
+            push(Scope::GroupInterval(b, g), GROUP_INTERVAL_FIGURES.to_vec());
         }
     }
     out
 }
 
-/// Names of the figures reported for stream `s`.
-pub fn stream_figures(model: &Model, s: usize) -> Vec<&'static str> {
+/// The per-interval figures of a group.
+pub const GROUP_INTERVAL_FIGURES: [Figure; 3] = [
+    Figure::CarriedTraffic,
+    Figure::Occupancy,
+    Figure::TimeCongestion,
+];
+
+/// The figures reported for stream `s`.
+pub fn stream_figures(model: &Model, s: usize) -> Vec<Figure> {
     let stream = &model.streams[s];
-    let mut v = vec!["offered_calls", "offered_traffic"];
+    let mut v = vec![Figure::OfferedCalls, Figure::OfferedTraffic];
     if stream.retry.is_some() {
-        v.push("attempts_per_call");
+        v.push(Figure::AttemptsPerCall);
     }
-    v.push("first_attempt_blocking");
+    v.push(Figure::FirstAttemptBlocking);
     if stream.retry.is_some() {
-        v.push("attempt_blocking");
+        v.push(Figure::AttemptBlocking);
     }
-    v.push("loss");
+    v.push(Figure::Loss);
     let can_wait = stream_can_wait(model, s);
     if can_wait && stream.patience.is_some() {
-        v.push("abandonment");
+        v.push(Figure::Abandonment);
     }
     if can_wait {
-        v.push("wait_probability");
+        v.push(Figure::WaitProbability);
     }
-    v.push("carried_traffic");
+    v.push(Figure::CarriedTraffic);
     if can_wait {
-        v.extend(["wait_mean", "wait_p50", "wait_p90", "wait_p99"]);
+        v.extend([
+            Figure::WaitMean,
+            Figure::WaitP50,
+            Figure::WaitP90,
+            Figure::WaitP99,
+        ]);
     }
     if stream.answer_within_s.is_some() {
-        v.push("service_level");
+        v.push(Figure::ServiceLevel);
     }
     v
 }
 
-/// Names of the figures reported for group `g`.
-pub fn group_figures(model: &Model, g: usize) -> Vec<&'static str> {
-    let mut v = vec!["carried_traffic", "occupancy", "time_congestion"];
+/// The figures reported for group `g`.
+pub fn group_figures(model: &Model, g: usize) -> Vec<Figure> {
+    let mut v = vec![
+        Figure::CarriedTraffic,
+        Figure::Occupancy,
+        Figure::TimeCongestion,
+    ];
     if group_overflows(model, g) {
         v.extend([
-            "overflow_calls",
-            "overflow_mean",
-            "overflow_mean_square",
-            "overflow_peakedness",
+            Figure::OverflowCalls,
+            Figure::OverflowMean,
+            Figure::OverflowMeanSquare,
+            Figure::OverflowPeakedness,
         ]);
     }
     v
 }
 
-/// Names of the per-interval figures of stream `s`.
-pub fn stream_interval_figures(model: &Model, s: usize) -> Vec<&'static str> {
+/// The per-interval figures of stream `s`.
+pub fn stream_interval_figures(model: &Model, s: usize) -> Vec<Figure> {
     let mut v = vec![
-        "offered_calls",
-        "offered_traffic",
-        "loss",
-        "carried_traffic",
+        Figure::OfferedCalls,
+        Figure::OfferedTraffic,
+        Figure::Loss,
+        Figure::CarriedTraffic,
     ];
     if stream_can_wait(model, s) {
-        v.push("wait_mean");
+        v.push(Figure::WaitMean);
     }
     if model.streams[s].answer_within_s.is_some() {
-        v.push("service_level");
+        v.push(Figure::ServiceLevel);
     }
     v
 }
@@ -162,9 +209,11 @@ pub fn interval_length(model: &Model, b: usize) -> f64 {
     (model.plan.length_s - b as f64 * width).min(width)
 }
 
-/// The value of every figure of `layout` in one replication; NaN where the
-/// figure is undefined in it (for example a mean wait with no answered call).
-pub fn figures(model: &Model, layout: &[FigureId], t: &Tally) -> Vec<f64> {
+/// What one replication observed of every figure of `layout`: numerator and
+/// denominator of ratio figures, the value of the others (NaN where the
+/// figure is undefined in it, for example a percentile with no answered
+/// call).
+pub fn observe(model: &Model, layout: &[FigureId], t: &Tally) -> Vec<Obs> {
     let length = model.plan.length_s;
     layout
         .iter()
@@ -173,90 +222,103 @@ pub fn figures(model: &Model, layout: &[FigureId], t: &Tally) -> Vec<f64> {
                 let st = &t.streams[s];
                 let resolved = st.resolved() as f64;
                 let quantile = |q: f64| {
-                    st.waits
-                        .as_ref()
-                        .filter(|h| !h.is_empty())
-                        .map_or(f64::NAN, |h| h.value_at_quantile(q) as f64 / 1000.0)
+                    Obs::value(
+                        st.waits
+                            .as_ref()
+                            .filter(|h| !h.is_empty())
+                            .map_or(f64::NAN, |h| h.value_at_quantile(q) as f64 / 1000.0),
+                    )
                 };
-                match f.name {
-                    "offered_calls" => st.offered as f64,
-                    "offered_traffic" => st.offered_holding_s / length,
-                    "attempts_per_call" => ratio(st.attempts as f64, st.offered as f64),
-                    "first_attempt_blocking" => ratio(st.first_blocked as f64, st.offered as f64),
-                    "attempt_blocking" => ratio(st.attempts_blocked as f64, st.attempts as f64),
-                    "loss" => ratio(st.lost() as f64, resolved),
-                    "abandonment" => ratio(st.abandoned_final as f64, resolved),
-                    "wait_probability" => ratio(st.waited as f64, resolved),
-                    "carried_traffic" => st.carried_s / length,
-                    "wait_mean" => ratio(st.wait_sum_s, st.answered as f64),
-                    "wait_p50" => quantile(0.5),
-                    "wait_p90" => quantile(0.9),
-                    "wait_p99" => quantile(0.99),
-                    "service_level" => ratio(st.answered_within as f64, resolved),
-                    other => unreachable!("unknown stream figure {other}"),
+                match f.figure {
+                    Figure::OfferedCalls => Obs::value(st.offered as f64),
+                    Figure::OfferedTraffic => Obs::value(st.offered_holding_s / length),
+                    Figure::AttemptsPerCall => Obs::ratio(st.attempts as f64, st.offered as f64),
+                    Figure::FirstAttemptBlocking => {
+                        Obs::ratio(st.first_blocked as f64, st.offered as f64)
+                    }
+                    Figure::AttemptBlocking => {
+                        Obs::ratio(st.attempts_blocked as f64, st.attempts as f64)
+                    }
+                    Figure::Loss => Obs::ratio(st.lost() as f64, resolved),
+                    Figure::Abandonment => Obs::ratio(st.abandoned_final as f64, resolved),
+                    Figure::WaitProbability => Obs::ratio(st.waited as f64, resolved),
+                    Figure::CarriedTraffic => Obs::value(st.carried_s / length),
+                    Figure::WaitMean => Obs::ratio(st.wait_sum_s, st.answered as f64),
+                    Figure::WaitP50 => quantile(0.5),
+                    Figure::WaitP90 => quantile(0.9),
+                    Figure::WaitP99 => quantile(0.99),
+                    Figure::ServiceLevel => Obs::ratio(st.answered_within as f64, resolved),
+                    other => unreachable!("{other} is not a stream figure"),
                 }
             }
             Scope::Group(g) => {
                 let gt = &t.groups[g];
                 let servers = f64::from(model.groups[g].servers);
-                match f.name {
-                    "carried_traffic" => gt.busy_s / length,
+                Obs::value(match f.figure {
+                    Figure::CarriedTraffic => gt.busy_s / length,
                     // Time integrals summed piece by piece can pass their
                     // bound by rounding (1 ulp): a share is capped at 1.
-                    "occupancy" => (gt.busy_s / length / servers).min(1.0),
-                    "time_congestion" => (gt.full_s / length).min(1.0),
-                    "overflow_calls" => gt.overflow_calls as f64,
-                    "overflow_mean" => gt.overflow_s / length,
-                    "overflow_mean_square" => gt.overflow_sq_s / length,
-                    "overflow_peakedness" => {
+                    Figure::Occupancy => (gt.busy_s / length / servers).min(1.0),
+                    Figure::TimeCongestion => (gt.full_s / length).min(1.0),
+                    Figure::OverflowCalls => gt.overflow_calls as f64,
+                    Figure::OverflowMean => gt.overflow_s / length,
+                    Figure::OverflowMeanSquare => gt.overflow_sq_s / length,
+                    Figure::OverflowPeakedness => {
                         let m = gt.overflow_s / length;
                         // A variance is >= 0; rounding may leave -1e-16.
                         let v = (gt.overflow_sq_s / length - m * m).max(0.0);
                         ratio(v, m)
                     }
-                    other => unreachable!("unknown group figure {other}"),
-                }
+                    other => unreachable!("{other} is not a group figure"),
+                })
             }
             Scope::StreamInterval(b, s) => {
                 let it = &t.stream_intervals[b][s];
                 let len = interval_length(model, b);
-                match f.name {
-                    "offered_calls" => it.offered as f64,
-                    "offered_traffic" => it.offered_holding_s / len,
-                    "loss" => ratio(it.lost as f64, it.resolved as f64),
-                    "carried_traffic" => it.carried_s / len,
-                    "wait_mean" => ratio(it.wait_sum_s, it.answered as f64),
-                    "service_level" => ratio(it.answered_within as f64, it.resolved as f64),
-                    other => unreachable!("unknown interval figure {other}"),
+                match f.figure {
+                    Figure::OfferedCalls => Obs::value(it.offered as f64),
+                    Figure::OfferedTraffic => Obs::value(it.offered_holding_s / len),
+                    Figure::Loss => Obs::ratio(it.lost as f64, it.resolved as f64),
+                    Figure::CarriedTraffic => Obs::value(it.carried_s / len),
+                    Figure::WaitMean => Obs::ratio(it.wait_sum_s, it.answered as f64),
+                    Figure::ServiceLevel => {
+                        Obs::ratio(it.answered_within as f64, it.resolved as f64)
+                    }
+                    other => unreachable!("{other} is not an interval figure"),
                 }
             }
             Scope::GroupInterval(b, g) => {
                 let it = &t.group_intervals[b][g];
                 let len = interval_length(model, b);
-                match f.name {
-                    "carried_traffic" => it.busy_s / len,
-                    "occupancy" => (it.busy_s / len / f64::from(model.groups[g].servers)).min(1.0),
-                    "time_congestion" => (it.full_s / len).min(1.0),
-                    other => unreachable!("unknown interval figure {other}"),
-                }
+                Obs::value(match f.figure {
+                    Figure::CarriedTraffic => it.busy_s / len,
+                    Figure::Occupancy => {
+                        (it.busy_s / len / f64::from(model.groups[g].servers)).min(1.0)
+                    }
+                    Figure::TimeCongestion => (it.full_s / len).min(1.0),
+                    other => unreachable!("{other} is not an interval figure"),
+                })
             }
         })
         .collect()
 }
 
-/// A simulated figure: the mean across replications with its 95% Student-t
-/// half-width.
+/// A simulated figure: the estimate from all replications with its 95%
+/// interval `[low, high]` (see [`Estimator`] for how each figure is
+/// estimated).
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
 pub struct Estimate {
-    /// Mean across replications.
+    /// The estimate (for ratio figures, the pooled ratio).
     pub mean: f64,
-    /// Half-width of the 95% interval (infinite with fewer than two values).
+    /// The larger distance from the estimate to an end of its interval:
+    /// the usual "plus or minus" when the interval is symmetric (infinite
+    /// with fewer than two replications).
     pub half_width: f64,
     /// Lower end of the 95% interval (within the figure's range).
     pub low: f64,
     /// Upper end of the 95% interval (within the figure's range).
     pub high: f64,
-    /// Replications in which the figure was defined.
+    /// Replications the estimate rests on.
     pub replications: u64,
 }
 
@@ -272,6 +334,27 @@ impl Estimate {
         }
     }
 
+    /// No estimate (no replication defined the figure).
+    pub const UNDEFINED: Estimate = Estimate {
+        mean: f64::NAN,
+        half_width: f64::NAN,
+        low: f64::NAN,
+        high: f64::NAN,
+        replications: 0,
+    };
+
+    /// The interval `[low, high]` around `mean`, with `half_width` as the
+    /// larger distance from the mean to an end.
+    pub fn between(mean: f64, low: f64, high: f64, replications: u64) -> Estimate {
+        Estimate {
+            mean,
+            half_width: (mean - low).max(high - mean),
+            low,
+            high,
+            replications,
+        }
+    }
+
     /// Whether `x` lies inside the 95% interval `[low, high]`.
     pub fn contains(&self, x: f64) -> bool {
         self.low <= x && x <= self.high
@@ -282,6 +365,13 @@ impl Estimate {
         (self.mean - x).abs() <= factor * self.half_width
     }
 
+    /// Whether the interval is `mean +- half_width` (not cut by the range or
+    /// widened by an exact bound).
+    pub fn is_symmetric(&self) -> bool {
+        let tol = 1e-12 * self.half_width.abs().max(self.mean.abs());
+        ((self.mean - self.low) - (self.high - self.mean)).abs() <= tol
+    }
+
     /// Relative half-width (half-width / |mean|); 0 when both are 0.
     pub fn relative_half_width(&self) -> f64 {
         if self.half_width == 0.0 {
@@ -290,7 +380,20 @@ impl Estimate {
             self.half_width / self.mean.abs()
         }
     }
+
+    /// The interval cut to `range` (the estimate itself always lies in it).
+    pub fn within(self, range: Range) -> Estimate {
+        if self.mean.is_nan() {
+            return self;
+        }
+        let low = range.clamp(self.low);
+        let high = range.clamp(self.high);
+        Estimate::between(self.mean, low, high, self.replications)
+    }
 }
+
+/// Confidence of the intervals shown beside every figure.
+pub const LEVEL: f64 = 0.95;
 
 /// The 0.975 quantile of Student's t with `df` degrees of freedom.
 pub fn t_quantile_975(df: u64) -> f64 {
@@ -304,17 +407,27 @@ pub fn t_quantile(df: u64, p: f64) -> f64 {
         .unwrap_or(f64::INFINITY)
 }
 
+/// The two-sided Student-t factor of confidence `level` with `n` values.
+fn t_factor(n: u64, level: f64) -> f64 {
+    t_quantile(n - 1, 1.0 - (1.0 - level) / 2.0)
+}
+
 /// The 95% Student-t estimate of the values (NaN values skipped). Sums run in
 /// the order given, so callers pass replications in index order and get the
 /// same bits whatever the thread count or shard split.
 pub fn estimate(values: impl Iterator<Item = f64> + Clone) -> Estimate {
+    estimate_at(values, LEVEL)
+}
+
+/// [`estimate`] at confidence `level`.
+pub fn estimate_at(values: impl Iterator<Item = f64> + Clone, level: f64) -> Estimate {
     let (mut n, mut sum) = (0u64, 0.0);
     for x in values.clone().filter(|x| !x.is_nan()) {
         n += 1;
         sum += x;
     }
     if n == 0 {
-        return Estimate::symmetric(f64::NAN, f64::NAN, 0);
+        return Estimate::UNDEFINED;
     }
     let mean = sum / n as f64;
     if n == 1 {
@@ -325,19 +438,128 @@ pub fn estimate(values: impl Iterator<Item = f64> + Clone) -> Estimate {
         .map(|x| (x - mean) * (x - mean))
         .sum();
     let sd = (ss / (n - 1) as f64).sqrt();
-    Estimate::symmetric(mean, t_quantile_975(n - 1) * sd / (n as f64).sqrt(), n)
+    Estimate::symmetric(mean, t_factor(n, level) * sd / (n as f64).sqrt(), n)
+}
+
+/// The exact (Clopper-Pearson 1934) interval of confidence `level` for a
+/// binomial share with `k` successes in `m` trials, from quantiles of the
+/// beta law (statrs). `k = 0` gives `[0, 1 - (alpha/2)^(1/m)]`.
+pub fn clopper_pearson(k: f64, m: f64, level: f64) -> (f64, f64) {
+    if !(m > 0.0) {
+        return (0.0, 1.0);
+    }
+    let k = k.round().clamp(0.0, m.round());
+    let m = m.round();
+    let a = (1.0 - level) / 2.0;
+    let low = if k == 0.0 {
+        0.0
+    } else {
+        Beta::new(k, m - k + 1.0).map_or(0.0, |b| b.inverse_cdf(a))
+    };
+    let high = if k == m {
+        1.0
+    } else {
+        Beta::new(k + 1.0, m - k).map_or(1.0, |b| b.inverse_cdf(1.0 - a))
+    };
+    (low, high)
+}
+
+/// The ratio-of-sums estimate of observations from independent
+/// replications: R = sum num / sum den, with the delta-method (linearised)
+/// variance s^2 = sum (num_i - R den_i)^2 / (n - 1), standard error
+/// s / (sqrt(n) mean den), and Student-t quantiles with n - 1 degrees of
+/// freedom (the usual estimator for regenerative or replicated ratios; Law
+/// and Kelton, "Simulation Modeling and Analysis", ratio estimators).
+/// `call_share`: the observations are counts of calls with num <= den, and
+/// the interval is widened to contain the exact Clopper-Pearson interval of
+/// the pooled counts, so that few or no events never give a narrow interval.
+/// NaN numerators are skipped; a replication with den = 0 counts (it
+/// contributes nothing to either sum but is part of the sample).
+pub fn ratio_estimate(obs: &[Obs], level: f64, call_share: bool) -> Estimate {
+    let (mut n, mut y, mut x) = (0u64, 0.0, 0.0);
+    for o in obs.iter().filter(|o| !o.num.is_nan()) {
+        n += 1;
+        y += o.num;
+        x += o.den;
+    }
+    if n == 0 || !(x > 0.0) {
+        return Estimate {
+            replications: n,
+            ..Estimate::UNDEFINED
+        };
+    }
+    let r = y / x;
+    if n == 1 {
+        return Estimate::symmetric(r, f64::INFINITY, 1);
+    }
+    let ss: f64 = obs
+        .iter()
+        .filter(|o| !o.num.is_nan())
+        .map(|o| {
+            let d = o.num - r * o.den;
+            d * d
+        })
+        .sum();
+    let nf = n as f64;
+    let se = (ss / (nf - 1.0) / nf).sqrt() / (x / nf);
+    let hw = t_factor(n, level) * se;
+    let (mut low, mut high) = (r - hw, r + hw);
+    if call_share {
+        let (cl, ch) = clopper_pearson(y, x, level);
+        low = low.min(cl);
+        high = high.max(ch);
+    }
+    Estimate::between(r, low, high, n)
+}
+
+/// The 95% estimate of a paired difference `b - a` of one figure measured
+/// on the same replications of two designs (common random numbers): for
+/// ratio figures Rb - Ra with the delta-method variance of the paired
+/// linearised residuals; otherwise the mean of the paired differences.
+pub fn paired_difference(figure: Figure, a: &[Obs], b: &[Obs], level: f64) -> Estimate {
+    let pairs: Vec<(Obs, Obs)> = a
+        .iter()
+        .zip(b)
+        .filter(|(p, q)| !p.num.is_nan() && !q.num.is_nan())
+        .map(|(p, q)| (*p, *q))
+        .collect();
+    if figure.estimator() != Estimator::RatioOfSums {
+        return estimate_at(pairs.iter().map(|(p, q)| q.own() - p.own()), level);
+    }
+    let n = pairs.len() as u64;
+    let sums = pairs.iter().fold([0.0; 4], |s, (p, q)| {
+        [s[0] + p.num, s[1] + p.den, s[2] + q.num, s[3] + q.den]
+    });
+    if n < 2 || !(sums[1] > 0.0 && sums[3] > 0.0) {
+        return Estimate::UNDEFINED;
+    }
+    let nf = n as f64;
+    let (ra, rb) = (sums[0] / sums[1], sums[2] / sums[3]);
+    let (ma, mb) = (sums[1] / nf, sums[3] / nf);
+    let ss: f64 = pairs
+        .iter()
+        .map(|(p, q)| {
+            let d = (q.num - rb * q.den) / mb - (p.num - ra * p.den) / ma;
+            d * d
+        })
+        .sum();
+    let hw = t_factor(n, level) * (ss / (nf - 1.0) / nf).sqrt();
+    Estimate::symmetric(rb - ra, hw, n)
 }
 
 /// The peakedness (variance / mean) of a stationary process from
 /// per-replication time averages of the process (`m1`) and of its square
-/// (`m2`), pooled across replications: (mean m2 - (mean m1)^2) / mean m1,
-/// with a jackknife (leave one replication out) 95% interval.
+/// (`m2`), pooled across replications: the estimate is
+/// (mean m2 - (mean m1)^2) / mean m1 over all replications, and its
+/// interval is that value plus or minus Student-t times the jackknife
+/// (leave one replication out) standard error (Efron and Tibshirani 1993,
+/// ch. 11).
 ///
 /// Pooling avoids the bias of a variance measured inside each replication's
 /// own window around that window's own mean, which is short when the window
 /// is a few holding times long (the variance of the window mean is lost).
 /// Replications where either value is undefined are skipped.
-pub fn pooled_peakedness(m1: &[f64], m2: &[f64]) -> Estimate {
+pub fn pooled_peakedness(m1: &[f64], m2: &[f64], level: f64) -> Estimate {
     let pairs: Vec<(f64, f64)> = m1
         .iter()
         .zip(m2)
@@ -347,7 +569,11 @@ pub fn pooled_peakedness(m1: &[f64], m2: &[f64]) -> Estimate {
     let n = pairs.len();
     let theta = |s1: f64, s2: f64, k: f64| {
         let (a, b) = (s1 / k, s2 / k);
-        if a > 0.0 { (b - a * a) / a } else { f64::NAN }
+        if a > 0.0 {
+            ((b - a * a) / a).max(0.0)
+        } else {
+            f64::NAN
+        }
     };
     let (s1, s2) = pairs
         .iter()
@@ -361,10 +587,35 @@ pub fn pooled_peakedness(m1: &[f64], m2: &[f64]) -> Estimate {
     }
     let all = theta(s1, s2, n as f64);
     let nf = n as f64;
-    let pseudo = pairs
+    let leave_out: Vec<f64> = pairs
         .iter()
-        .map(move |p| nf * all - (nf - 1.0) * theta(s1 - p.0, s2 - p.1, nf - 1.0));
-    estimate(pseudo)
+        .map(|p| theta(s1 - p.0, s2 - p.1, nf - 1.0))
+        .collect();
+    if !all.is_finite() || leave_out.iter().any(|x| !x.is_finite()) {
+        return Estimate::symmetric(all, f64::INFINITY, n as u64);
+    }
+    let mean_out = leave_out.iter().sum::<f64>() / nf;
+    let var = (nf - 1.0) / nf
+        * leave_out
+            .iter()
+            .map(|x| (x - mean_out).powi(2))
+            .sum::<f64>();
+    Estimate::symmetric(all, t_factor(n as u64, level) * var.sqrt(), n as u64)
+}
+
+/// The estimate of one figure from its observations in replication order,
+/// at confidence `level`, cut to the figure's range. The overflow
+/// peakedness needs the mean and mean-square columns instead:
+/// [`pooled_peakedness`].
+pub fn estimate_figure(figure: Figure, obs: &[Obs], level: f64) -> Estimate {
+    let e = match figure.estimator() {
+        Estimator::RatioOfSums => ratio_estimate(obs, level, figure.is_call_share()),
+        Estimator::TimeAverage
+        | Estimator::MeanOfReplications
+        | Estimator::MeanOfReplicationPercentiles
+        | Estimator::PooledVarianceToMean => estimate_at(obs.iter().map(Obs::own), level),
+    };
+    e.within(figure.range())
 }
 
 #[cfg(test)]
@@ -383,13 +634,14 @@ mod tests {
     fn pooled_peakedness_of_a_known_process() {
         // Two replications of a process taking values 0 and 2 half the time
         // each: mean 1, mean square 2, variance 1, peakedness 1.
-        let e = pooled_peakedness(&[1.0, 1.0, 1.0], &[2.0, 2.0, 2.0]);
+        let e = pooled_peakedness(&[1.0, 1.0, 1.0], &[2.0, 2.0, 2.0], LEVEL);
         assert!((e.mean - 1.0).abs() < 1e-12);
         assert!(e.half_width.abs() < 1e-12);
         // Windows with different means: the spread between them counts too.
-        let e = pooled_peakedness(&[0.5, 1.5], &[0.5, 3.5]);
-        // pooled mean 1, mean square 2 -> variance 1 -> peakedness 1
-        assert!(e.mean.is_finite());
+        let e = pooled_peakedness(&[0.5, 1.5], &[0.5, 3.5], LEVEL);
+        // pooled mean 1, mean square 2 -> variance 1 -> peakedness 1 (the
+        // pooled value itself, not a bias-corrected jackknife mean).
+        assert!((e.mean - 1.0).abs() < 1e-12);
     }
 
     #[test]
