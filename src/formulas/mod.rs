@@ -37,6 +37,7 @@
 //! # Ok::<(), busyhour::formulas::FormulaError>(())
 //! ```
 
+pub mod chains;
 pub mod engset;
 pub mod erlang_a;
 pub mod erlang_b;
