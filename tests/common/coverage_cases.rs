@@ -1,0 +1,640 @@
+//! Coverage cases: scenarios whose figures have exact answers (closed forms
+//! from `busyhour::formulas`, or the Markov chains of `formulas::chains`),
+//! run over many independent master seeds to measure whether the 95%
+//! intervals cover the truth and whether the estimates are centred on it.
+//!
+//! Shared by `examples/coverage.rs` (the harness, `scripts/coverage.sh`) and
+//! `tests/coverage.rs` (fixed seeds, the same pass rule), included by both
+//! with `#[path]`. Uses only the library's public API.
+#![allow(dead_code)]
+
+use busyhour::experiment::{self, RunOptions};
+use busyhour::formulas::chains::{self, FirstChoice};
+use busyhour::formulas::{FormulaError, engset, erlang_a, erlang_b, erlang_c};
+use busyhour::scenario::{self, Replications};
+use busyhour::stats::{Estimate, Scope};
+use std::path::Path;
+use std::sync::Mutex;
+use std::sync::atomic::{AtomicUsize, Ordering};
+
+/// A case fails when its coverage is below this share...
+pub const MIN_COVERAGE: f64 = 0.92;
+/// ... or when the mean of its estimates lies more than this many standard
+/// errors from the exact value.
+pub const MAX_BIAS_SE: f64 = 3.0;
+
+/// One figure of a case with its exact value.
+#[derive(Debug, Clone)]
+pub struct Check {
+    /// Where the figure is reported.
+    pub scope: Scope,
+    /// The figure's JSON name (`loss`, `carried_traffic`, ...).
+    pub figure: &'static str,
+    /// A short label for the table (`stream`, `group primary-a`, ...).
+    pub place: String,
+    /// The exact value the intervals should cover.
+    pub exact: f64,
+    /// Where the exact value comes from.
+    pub source: &'static str,
+}
+
+/// A scenario with exact answers.
+#[derive(Debug, Clone)]
+pub struct Case {
+    /// Short name, for `--case`.
+    pub name: &'static str,
+    /// One line on what it checks.
+    pub about: &'static str,
+    /// Scenario text without a seed; the `[simulation]` table gets one per
+    /// run.
+    pub text: String,
+    /// Replications per master seed (the shape of one study).
+    pub replications: u32,
+    /// The figures checked.
+    pub checks: Vec<Check>,
+}
+
+impl Case {
+    /// The scenario text with `seed = N` written into `[simulation]`.
+    pub fn scenario(&self, seed: u64) -> String {
+        self.text.replacen(
+            "[simulation]\n",
+            &format!("[simulation]\nseed = {seed}\n"),
+            1,
+        )
+    }
+}
+
+/// The summary of one figure over many master seeds.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Summary {
+    /// Exact value.
+    pub exact: f64,
+    /// Master seeds (studies) run.
+    pub seeds: usize,
+    /// Mean of the estimates over seeds.
+    pub mean: f64,
+    /// Standard error of that mean (sd of the estimates / sqrt(seeds)).
+    pub se: f64,
+    /// (mean - exact) / se.
+    pub bias_se: f64,
+    /// Share of the intervals `[low, high]` containing the exact value.
+    pub coverage: f64,
+    /// Binomial standard error of the coverage, sqrt(c (1 - c) / seeds).
+    pub coverage_se: f64,
+    /// Mean over seeds of the interval's half length / exact value.
+    pub relative_half_width: f64,
+}
+
+impl Summary {
+    /// Summarises the estimates of one figure (one per seed); an estimate
+    /// without a defined mean or interval counts as not covering.
+    pub fn of(exact: f64, estimates: &[Estimate]) -> Summary {
+        let seeds = estimates.len();
+        let n = seeds as f64;
+        let means: Vec<f64> = estimates
+            .iter()
+            .map(|e| e.mean)
+            .filter(|m| m.is_finite())
+            .collect();
+        let k = means.len() as f64;
+        let mean = means.iter().sum::<f64>() / k;
+        let var = means.iter().map(|m| (m - mean).powi(2)).sum::<f64>() / (k - 1.0);
+        let se = (var / k).sqrt();
+        let bias_se = if se > 0.0 {
+            (mean - exact) / se
+        } else if mean == exact {
+            0.0
+        } else {
+            f64::INFINITY
+        };
+        let covered = estimates.iter().filter(|e| e.contains(exact)).count() as f64;
+        let coverage = covered / n;
+        let relative_half_width = estimates
+            .iter()
+            .map(|e| (e.high - e.low) / 2.0 / exact.abs())
+            .sum::<f64>()
+            / n;
+        Summary {
+            exact,
+            seeds,
+            mean,
+            se,
+            bias_se,
+            coverage,
+            coverage_se: (coverage * (1.0 - coverage) / n).sqrt(),
+            relative_half_width,
+        }
+    }
+
+    /// The pass rule: coverage at least [`MIN_COVERAGE`] and |bias| at most
+    /// [`MAX_BIAS_SE`] standard errors (NaN fails).
+    pub fn passes(&self) -> bool {
+        self.coverage >= MIN_COVERAGE && self.bias_se.abs() <= MAX_BIAS_SE
+    }
+}
+
+/// Every figure of a case, summarised.
+#[derive(Debug, Clone)]
+pub struct CaseResult {
+    /// The case's name.
+    pub case: &'static str,
+    /// Replications per seed.
+    pub replications: u32,
+    /// One summary per check, in the case's order.
+    pub figures: Vec<(Check, Summary)>,
+}
+
+impl CaseResult {
+    /// Whether every figure passes.
+    pub fn passes(&self) -> bool {
+        self.figures.iter().all(|(_, s)| s.passes())
+    }
+}
+
+/// Runs `case` once per master seed in `seeds` (each a study of
+/// `case.replications` replications on one thread), `threads` studies at a
+/// time, and summarises each checked figure.
+pub fn run_case(case: &Case, seeds: &[u64], threads: usize) -> Result<CaseResult, String> {
+    let next = AtomicUsize::new(0);
+    let results: Mutex<Vec<Option<Vec<Estimate>>>> = Mutex::new(vec![None; seeds.len()]);
+    let failure: Mutex<Option<String>> = Mutex::new(None);
+    std::thread::scope(|scope| {
+        for _ in 0..threads.max(1) {
+            scope.spawn(|| {
+                loop {
+                    let i = next.fetch_add(1, Ordering::Relaxed);
+                    if i >= seeds.len() {
+                        break;
+                    }
+                    match run_seed(case, seeds[i]) {
+                        Ok(v) => {
+                            if let Ok(mut r) = results.lock() {
+                                r[i] = Some(v);
+                            }
+                        }
+                        Err(e) => {
+                            if let Ok(mut f) = failure.lock() {
+                                f.get_or_insert(e);
+                            }
+                            next.store(seeds.len(), Ordering::Relaxed);
+                        }
+                    }
+                }
+            });
+        }
+    });
+    if let Some(e) = failure.into_inner().map_err(|e| e.to_string())? {
+        return Err(e);
+    }
+    let per_seed: Vec<Vec<Estimate>> = results
+        .into_inner()
+        .map_err(|e| e.to_string())?
+        .into_iter()
+        .map(|r| r.ok_or_else(|| format!("{}: a seed did not run", case.name)))
+        .collect::<Result<_, _>>()?;
+    let figures = case
+        .checks
+        .iter()
+        .enumerate()
+        .map(|(j, check)| {
+            let column: Vec<Estimate> = per_seed.iter().map(|v| v[j]).collect();
+            (check.clone(), Summary::of(check.exact, &column))
+        })
+        .collect();
+    Ok(CaseResult {
+        case: case.name,
+        replications: case.replications,
+        figures,
+    })
+}
+
+/// One study: the case at one master seed; the estimates of its checks.
+fn run_seed(case: &Case, seed: u64) -> Result<Vec<Estimate>, String> {
+    let text = case.scenario(seed);
+    let model = scenario::parse(&text, "case.toml", Path::new("."), case.name)
+        .map_err(|e| format!("{}: scenario does not compile: {e}", case.name))?;
+    let outcome = experiment::run(
+        &model,
+        Some(Replications::Fixed(case.replications)),
+        &RunOptions {
+            threads: Some(1),
+            ..Default::default()
+        },
+    )
+    .map_err(|e| format!("{}: run failed: {e}", case.name))?;
+    case.checks
+        .iter()
+        .map(|c| {
+            outcome.get(c.scope, c.figure).ok_or_else(|| {
+                format!(
+                    "{}: figure {} of {} not reported",
+                    case.name, c.figure, c.place
+                )
+            })
+        })
+        .collect()
+}
+
+/// The results as a markdown table (one row per figure).
+pub fn markdown_table(results: &[CaseResult], seeds: usize) -> String {
+    let mut out = String::new();
+    out.push_str(&format!(
+        "| case | reps/seed | figure | exact | mean over {seeds} seeds ± se | bias (se) | coverage ± se | rel. half-width | verdict |\n"
+    ));
+    out.push_str("| --- | ---: | --- | ---: | ---: | ---: | ---: | ---: | --- |\n");
+    for r in results {
+        for (c, s) in &r.figures {
+            out.push_str(&format!(
+                "| {} | {} | {} {} | {} | {} ± {} | {:+.1} | {:.1}% ± {:.1}% | {:.1}% | {} |\n",
+                r.case,
+                r.replications,
+                c.place,
+                c.figure,
+                number(s.exact),
+                number(s.mean),
+                number(s.se),
+                s.bias_se,
+                100.0 * s.coverage,
+                100.0 * s.coverage_se,
+                100.0 * s.relative_half_width,
+                if s.passes() { "pass" } else { "FAIL" },
+            ));
+        }
+    }
+    out
+}
+
+/// Five significant digits.
+fn number(x: f64) -> String {
+    if x == 0.0 || !x.is_finite() {
+        return format!("{x}");
+    }
+    let digits = (4 - x.abs().log10().floor() as i32).max(0) as usize;
+    format!("{x:.digits$}")
+}
+
+fn stream(s: usize, figure: &'static str, exact: f64, source: &'static str) -> Check {
+    Check {
+        scope: Scope::Stream(s),
+        figure,
+        place: if s == 0 {
+            "stream".to_string()
+        } else {
+            format!("stream {}", s + 1)
+        },
+        exact,
+        source,
+    }
+}
+
+fn group(g: usize, name: &str, figure: &'static str, exact: f64, source: &'static str) -> Check {
+    Check {
+        scope: Scope::Group(g),
+        figure,
+        place: format!("group {name}"),
+        exact,
+        source,
+    }
+}
+
+/// Three-minute holding, the common case.
+const HOLDING_S: f64 = 180.0;
+
+/// Calls per hour offering `traffic` erlangs of three-minute calls.
+fn per_hour(traffic: f64) -> f64 {
+    traffic * 3600.0 / HOLDING_S
+}
+
+fn small_hour() -> Result<Case, FormulaError> {
+    let (n, a) = (10, 5.0);
+    let b = erlang_b::blocking(n, a)?;
+    Ok(Case {
+        name: "small-hour",
+        about: "10 circuits, 5 E, exponential 3 min, 1 h replications, 30 min warm-up",
+        text: format!(
+            "[simulation]\nwarmup = \"30m\"\nlength = \"1h\"\n\n\
+             [[group]]\nname = \"circuits\"\nservers = {n}\n\n\
+             [[stream]]\nname = \"calls\"\n\
+             arrivals = {{ law = \"poisson\", rate = \"{}/h\" }}\n\
+             holding = {{ law = \"exponential\", mean = \"3m\" }}\n\
+             route = [\"circuits\"]\n",
+            per_hour(a)
+        ),
+        replications: 100,
+        checks: vec![
+            stream(0, "loss", b, "Erlang B"),
+            stream(0, "first_attempt_blocking", b, "Erlang B"),
+            group(
+                0,
+                "circuits",
+                "carried_traffic",
+                a * (1.0 - b),
+                "A (1 - Erlang B)",
+            ),
+            group(0, "circuits", "time_congestion", b, "Erlang B"),
+        ],
+    })
+}
+
+fn four_lines() -> Result<Case, FormulaError> {
+    let (n, a) = (4, 2.0);
+    Ok(Case {
+        name: "four-lines",
+        about: "2 E on 4 lines, exponential 3 min, 15 min replications, no warm-up given",
+        text: format!(
+            "[simulation]\nlength = \"15m\"\n\n\
+             [[group]]\nname = \"lines\"\nservers = {n}\n\n\
+             [[stream]]\nname = \"calls\"\n\
+             arrivals = {{ law = \"poisson\", rate = \"{}/h\" }}\n\
+             holding = {{ law = \"exponential\", mean = \"3m\" }}\n\
+             route = [\"lines\"]\n",
+            per_hour(a)
+        ),
+        replications: 40,
+        checks: vec![stream(0, "loss", erlang_b::blocking(n, a)?, "Erlang B")],
+    })
+}
+
+fn lognormal_short_warmup() -> Result<Case, FormulaError> {
+    let (n, a) = (107, 90.0);
+    Ok(Case {
+        name: "lognormal-short-warmup",
+        about: "107 circuits, 90 E, lognormal 3 min cv 2, 30 min warm-up, 2 h replications",
+        text: format!(
+            "[simulation]\nwarmup = \"30m\"\nlength = \"2h\"\n\n\
+             [[group]]\nname = \"trunks\"\nservers = {n}\n\n\
+             [[stream]]\nname = \"calls\"\n\
+             arrivals = {{ law = \"poisson\", rate = \"{}/h\" }}\n\
+             holding = {{ law = \"lognormal\", mean = \"3m\", cv = 2 }}\n\
+             route = [\"trunks\"]\n",
+            per_hour(a)
+        ),
+        replications: 20,
+        checks: vec![stream(
+            0,
+            "loss",
+            erlang_b::blocking(n, a)?,
+            "Erlang B (insensitivity)",
+        )],
+    })
+}
+
+fn hyperexp_cv3() -> Result<Case, FormulaError> {
+    let n = 30;
+    // The traffic Erlang B blocks at 1%, rounded to whole calls per hour;
+    // the exact value is computed from the rounded rate.
+    let rate = per_hour(erlang_b::traffic_for(n, 0.01)?).round();
+    let a = rate * HOLDING_S / 3600.0;
+    Ok(Case {
+        name: "hyperexp-cv3",
+        about: "30 circuits at about 1% Erlang B, hyperexponential 3 min cv 3, 5 min warm-up, 1 h replications",
+        text: format!(
+            "[simulation]\nwarmup = \"5m\"\nlength = \"1h\"\n\n\
+             [[group]]\nname = \"trunks\"\nservers = {n}\n\n\
+             [[stream]]\nname = \"calls\"\n\
+             arrivals = {{ law = \"poisson\", rate = \"{rate}/h\" }}\n\
+             holding = {{ law = \"hyperexponential\", mean = \"3m\", cv = 3 }}\n\
+             route = [\"trunks\"]\n"
+        ),
+        replications: 40,
+        checks: vec![stream(
+            0,
+            "loss",
+            erlang_b::blocking(n, a)?,
+            "Erlang B (insensitivity)",
+        )],
+    })
+}
+
+fn erlang_c_half_hour() -> Result<Case, FormulaError> {
+    let (n, a, within_s) = (14, 12.0, 20.0);
+    Ok(Case {
+        name: "erlang-c-half-hour",
+        about: "14 agents, 12 E, unlimited queue, exponential 3 min, 15 min warm-up, 30 min replications",
+        text: format!(
+            "[simulation]\nwarmup = \"15m\"\nlength = \"30m\"\n\n\
+             [[group]]\nname = \"agents\"\nservers = {n}\nqueue = \"unlimited\"\n\n\
+             [[stream]]\nname = \"callers\"\n\
+             arrivals = {{ law = \"poisson\", rate = \"{}/h\" }}\n\
+             holding = {{ law = \"exponential\", mean = \"3m\" }}\n\
+             route = [\"agents\"]\nanswer_within = \"20s\"\n",
+            per_hour(a)
+        ),
+        replications: 40,
+        checks: vec![
+            stream(
+                0,
+                "wait_probability",
+                erlang_c::wait_probability(n, a)?,
+                "Erlang C",
+            ),
+            stream(
+                0,
+                "wait_mean",
+                erlang_c::mean_wait(n, a, HOLDING_S)?,
+                "Erlang C",
+            ),
+            stream(
+                0,
+                "service_level",
+                erlang_c::service_level(n, a, HOLDING_S, within_s)?,
+                "Erlang C",
+            ),
+        ],
+    })
+}
+
+fn erlang_a_half_hour() -> Result<Case, FormulaError> {
+    let (n, a, patience_s, within_s) = (13, 12.0, 60.0, 20.0);
+    let q = erlang_a::solve(n, a, HOLDING_S, patience_s)?;
+    Ok(Case {
+        name: "erlang-a-half-hour",
+        about: "13 agents, 12 E, exponential 3 min, exponential patience 1 min, 15 min warm-up, 30 min replications",
+        text: format!(
+            "[simulation]\nwarmup = \"15m\"\nlength = \"30m\"\n\n\
+             [[group]]\nname = \"agents\"\nservers = {n}\nqueue = \"unlimited\"\n\n\
+             [[stream]]\nname = \"callers\"\n\
+             arrivals = {{ law = \"poisson\", rate = \"{}/h\" }}\n\
+             holding = {{ law = \"exponential\", mean = \"3m\" }}\n\
+             patience = {{ law = \"exponential\", mean = \"1m\" }}\n\
+             route = [\"agents\"]\nanswer_within = \"20s\"\n",
+            per_hour(a)
+        ),
+        replications: 40,
+        checks: vec![
+            stream(0, "abandonment", q.abandonment, "Erlang A"),
+            stream(0, "wait_probability", q.wait_probability, "Erlang A"),
+            stream(
+                0,
+                "wait_mean",
+                q.mean_wait_answered_s,
+                "Erlang A (answered calls)",
+            ),
+            stream(0, "service_level", q.service_level(within_s), "Erlang A"),
+        ],
+    })
+}
+
+fn redials() -> Result<Case, FormulaError> {
+    let (n, a, p, delay_s) = (10, 7.0, 0.7, 60.0);
+    let r = chains::redials(n, a, HOLDING_S, p, delay_s)?;
+    Ok(Case {
+        name: "redials",
+        about: "10 circuits, 7 E fresh, exponential 3 min; blocked callers redial with chance 70% after exponential 1 min; 30 min warm-up, 1 h replications",
+        text: format!(
+            "[simulation]\nwarmup = \"30m\"\nlength = \"1h\"\n\n\
+             [[group]]\nname = \"circuits\"\nservers = {n}\n\n\
+             [[stream]]\nname = \"calls\"\n\
+             arrivals = {{ law = \"poisson\", rate = \"{}/h\" }}\n\
+             holding = {{ law = \"exponential\", mean = \"3m\" }}\n\
+             route = [\"circuits\"]\n\
+             retry = {{ chance = [\"70%\"], delay = {{ law = \"exponential\", mean = \"1m\" }}, max_attempts = 1000 }}\n",
+            per_hour(a)
+        ),
+        replications: 40,
+        checks: vec![
+            stream(
+                0,
+                "first_attempt_blocking",
+                r.first_attempt_blocking,
+                "redial chain",
+            ),
+            stream(0, "attempt_blocking", r.attempt_blocking, "redial chain"),
+            stream(0, "loss", r.loss, "redial chain"),
+            stream(0, "attempts_per_call", r.attempts_per_call, "redial chain"),
+        ],
+    })
+}
+
+fn engset_sources() -> Result<Case, FormulaError> {
+    // 30 sources idle for exponential 15 min between calls of 3 min: each
+    // idle source offers 0.2 E.
+    let (sources, n, beta) = (30, 10, HOLDING_S / 900.0);
+    let g = engset::solve(sources, n, beta)?;
+    Ok(Case {
+        name: "engset",
+        about: "30 sources (idle exponential 15 min), 10 circuits, exponential 3 min, 30 min warm-up, 1 h replications",
+        text: format!(
+            "[simulation]\nwarmup = \"30m\"\nlength = \"1h\"\n\n\
+             [[group]]\nname = \"circuits\"\nservers = {n}\n\n\
+             [[stream]]\nname = \"sources\"\n\
+             arrivals = {{ law = \"sources\", count = {sources}, idle = {{ law = \"exponential\", mean = \"15m\" }} }}\n\
+             holding = {{ law = \"exponential\", mean = \"3m\" }}\n\
+             route = [\"circuits\"]\n"
+        ),
+        replications: 40,
+        checks: vec![
+            stream(
+                0,
+                "first_attempt_blocking",
+                g.call_congestion,
+                "Engset call congestion",
+            ),
+            stream(0, "loss", g.call_congestion, "Engset call congestion"),
+            group(
+                0,
+                "circuits",
+                "time_congestion",
+                g.time_congestion,
+                "Engset time congestion",
+            ),
+            group(
+                0,
+                "circuits",
+                "carried_traffic",
+                g.carried_traffic,
+                "Engset",
+            ),
+        ],
+    })
+}
+
+fn overflow_network() -> Result<Case, FormulaError> {
+    let first = [
+        FirstChoice {
+            servers: 10,
+            traffic: 8.0,
+        },
+        FirstChoice {
+            servers: 7,
+            traffic: 5.0,
+        },
+    ];
+    let (final_servers, direct) = (8, 2.0);
+    let net = chains::overflow_network(&first, final_servers, direct)?;
+    Ok(Case {
+        name: "overflow-network",
+        about: "first-choice groups 10 circuits/8 E and 7/5 E overflowing to a final group of 8 with 2 E direct; exponential 3 min; 30 min warm-up, 1 h replications",
+        text: format!(
+            "[simulation]\nwarmup = \"30m\"\nlength = \"1h\"\n\n\
+             [[group]]\nname = \"first-a\"\nservers = {}\n\n\
+             [[group]]\nname = \"first-b\"\nservers = {}\n\n\
+             [[group]]\nname = \"final\"\nservers = {final_servers}\n\n\
+             [[stream]]\nname = \"a\"\n\
+             arrivals = {{ law = \"poisson\", rate = \"{}/h\" }}\n\
+             holding = {{ law = \"exponential\", mean = \"3m\" }}\n\
+             route = [\"first-a\", \"final\"]\n\n\
+             [[stream]]\nname = \"b\"\n\
+             arrivals = {{ law = \"poisson\", rate = \"{}/h\" }}\n\
+             holding = {{ law = \"exponential\", mean = \"3m\" }}\n\
+             route = [\"first-b\", \"final\"]\n\n\
+             [[stream]]\nname = \"direct\"\n\
+             arrivals = {{ law = \"poisson\", rate = \"{}/h\" }}\n\
+             holding = {{ law = \"exponential\", mean = \"3m\" }}\n\
+             route = [\"final\"]\n",
+            first[0].servers,
+            first[1].servers,
+            per_hour(first[0].traffic),
+            per_hour(first[1].traffic),
+            per_hour(direct),
+        ),
+        replications: 30,
+        checks: vec![
+            stream(0, "loss", net.first_choice_loss[0], "overflow chain"),
+            stream(1, "loss", net.first_choice_loss[1], "overflow chain"),
+            stream(2, "loss", net.direct_loss, "overflow chain"),
+            group(
+                0,
+                "first-a",
+                "overflow_mean",
+                net.overflow_mean[0],
+                "overflow chain (Riordan's mean)",
+            ),
+            group(
+                1,
+                "first-b",
+                "overflow_mean",
+                net.overflow_mean[1],
+                "overflow chain (Riordan's mean)",
+            ),
+            group(
+                2,
+                "final",
+                "carried_traffic",
+                net.final_carried,
+                "overflow chain",
+            ),
+        ],
+    })
+}
+
+/// Every case, in the harness's order.
+pub fn cases() -> Result<Vec<Case>, FormulaError> {
+    Ok(vec![
+        small_hour()?,
+        four_lines()?,
+        lognormal_short_warmup()?,
+        hyperexp_cv3()?,
+        erlang_c_half_hour()?,
+        erlang_a_half_hour()?,
+        redials()?,
+        engset_sources()?,
+        overflow_network()?,
+    ])
+}
+
+/// The case named `name`.
+pub fn case(name: &str) -> Result<Option<Case>, FormulaError> {
+    Ok(cases()?.into_iter().find(|c| c.name == name))
+}
