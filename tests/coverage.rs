@@ -1,0 +1,74 @@
+//! Coverage of the 95% intervals on cases with exact answers, with fixed
+//! seeds: each case runs as 1,000 independent studies (master seeds), and
+//! every checked figure must have its exact value inside at least 92% of the
+//! studies' intervals, with the mean of the estimates within 3 standard
+//! errors of it (the rule of `scripts/coverage.sh`, shared code in
+//! `tests/common/coverage_cases.rs`).
+//!
+//! Exact values: Erlang B (Erlang 1917; for lognormal holding by
+//! insensitivity, Sevastyanov 1957), Erlang C (Erlang 1917), and the redial
+//! chain of `formulas::chains` (the retrial queue with non-persistent
+//! callers, Falin and Templeton 1997).
+//!
+//! With 1,000 studies the coverage has a standard error of 0.7%, so a true
+//! 95% coverage falls below 92% with a chance near 1e-5 per figure: a failure
+//! is a finding, not bad luck.
+
+#[path = "common/coverage_cases.rs"]
+mod coverage_cases;
+
+/// Studies per case.
+const SEEDS: u64 = 1000;
+/// Master seeds 20,001 to 21,000: other draws than the harness's default
+/// (seeds from 1).
+const FIRST_SEED: u64 = 20_001;
+/// Studies run at a time.
+const THREADS: usize = 2;
+
+#[track_caller]
+fn assert_covers_truth(name: &str) {
+    let case = coverage_cases::case(name)
+        .expect("exact values compute")
+        .expect("the case exists");
+    let seeds: Vec<u64> = (FIRST_SEED..FIRST_SEED + SEEDS).collect();
+    let result = coverage_cases::run_case(&case, &seeds, THREADS).expect("the case runs");
+    let table = coverage_cases::markdown_table(std::slice::from_ref(&result), seeds.len());
+    assert!(
+        result.passes(),
+        "{name}: coverage below {:.0}% or bias beyond {} standard errors\n{table}",
+        100.0 * coverage_cases::MIN_COVERAGE,
+        coverage_cases::MAX_BIAS_SE
+    );
+}
+
+#[test]
+fn small_hour_loss_and_carried_traffic_cover_erlang_b() {
+    // 10 circuits, 5 E, one-hour replications, 100 per study: per-replication
+    // loss ratios averaged were 5% low (coverage 90%); the pooled ratio of
+    // sums is centred.
+    assert_covers_truth("small-hour");
+}
+
+#[test]
+fn redial_figures_cover_the_exact_retrial_chain() {
+    assert_covers_truth("redials");
+}
+
+// Ignored until replications start near steady state (issue 12): from an
+// empty start, 15 minutes of warm-up leave a queue at 86% occupancy far from
+// its steady state (relaxation time about 40 minutes): the mean wait came
+// out 16 to 26% low. `.ci/run` runs it with `--ignored`.
+#[test]
+#[ignore = "fails until replications start near steady state (issue 12)"]
+fn erlang_c_half_hour_covers_erlang_c() {
+    assert_covers_truth("erlang-c-half-hour");
+}
+
+// Ignored until replications start near steady state (issue 12): lognormal
+// holding with cv 2 keeps long calls that a 30-minute warm-up from empty has
+// not yet accumulated: the loss came out 17% low.
+#[test]
+#[ignore = "fails until replications start near steady state (issue 12)"]
+fn lognormal_loss_after_a_short_warmup_covers_erlang_b() {
+    assert_covers_truth("lognormal-short-warmup");
+}
