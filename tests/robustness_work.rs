@@ -30,6 +30,7 @@ fn a_loss_group_costs_two_events_per_call() {
     let m = model(
         r#"
 [simulation]
+warmup = 0
 length = "10h"
 replications = 4
 [[group]]
@@ -84,6 +85,7 @@ fn the_estimate_bounds_the_shipped_scenarios_from_above() {
 /// interrupted run stops at once.
 const HUGE: &str = r#"
 [simulation]
+warmup = 0
 length = "1h"
 replications = 1000000
 [[group]]

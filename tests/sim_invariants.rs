@@ -249,4 +249,4 @@ fn value_stability_of_a_fixed_seed() {
     assert_eq!(got, PINNED, "random-number use changed");
 }
 
-const PINNED: [(u64, u64, u64, u64); 3] = [(92, 66, 131, 26), (85, 66, 96, 19), (75, 17, 75, 58)];
+const PINNED: [(u64, u64, u64, u64); 3] = [(92, 67, 127, 25), (85, 68, 96, 17), (74, 20, 74, 54)];

@@ -25,12 +25,45 @@
 //! replication keeps running (arrivals included, unmeasured) until every such
 //! call is resolved, or for at most one more `length`. Time integrals are
 //! clipped to the period.
+//!
+//! # Start
+//!
+//! At a steady start (`[simulation] start = "steady"`, the default) every
+//! stream with Poisson or peak-profile arrivals (at its first rate: the
+//! warm-up runs at it) begins with its calls in progress: as an
+//! infinite-server system holds them in equilibrium, their number is
+//! Poisson with mean rate x mean holding time and each has an independent
+//! residual holding time (`Law::sample_residual`; the M/G/inf steady state).
+//! Each call gets a uniform key, and all streams' calls are seated in key
+//! order, so that streams sharing groups share them fairly while each
+//! stream's draws come from its own `seeds::INITIAL` generator alone. A call
+//! takes the first group on its route with `need` free servers and departs
+//! at its residual time (a normal `Departure`); a call that fits nowhere is
+//! dropped: no queueing, no overflow counting, no redial. Seated calls are
+//! never measured; they add to the time integrals like any other call.
+//!
+//! The keys of a stream are drawn as a Poisson process of rate
+//! A = rate x mean holding on (0, 1) (partial sums of Exp(1) / A): given
+//! their number, such points are independent uniforms in increasing order,
+//! so this is the same law as a Poisson(A) count of uniform keys, and it
+//! lets a stream stop after as many calls as its route can hold (calls
+//! beyond that can never be seated: once a stream's call is dropped, its
+//! route stays full for it, since nothing leaves during seating). A stream
+//! of a million erlangs costs no more than its route's servers.
+//!
+//! Renewal arrivals and finite sources are not seated; they start empty.
+//! For them the number of calls in progress in equilibrium is not the
+//! Poisson law above (a renewal input's count depends on the whole
+//! inter-arrival law, and finite sources hold an Engset-like state that
+//! depends on the servers), and their arrival processes would have to start
+//! in equilibrium too. The default warm-up (`Model::warmup_needed_s`) is
+//! longer for them.
 
 pub mod calendar;
 pub mod seeds;
 
 use crate::dist::Law;
-use crate::scenario::{Arrivals, Model};
+use crate::scenario::{Arrivals, Model, Start};
 use crate::stats::tally::{
     GroupIntervalTally, GroupTally, StreamIntervalTally, StreamTally, Tally, WAIT_DIGITS,
     WAIT_MAX_MS,
@@ -120,6 +153,7 @@ struct GroupState {
     // (one cache line, no extra indexing) and copied into the tally at the
     // end of the replication: the same sums in the same order.
     busy_s: f64,
+    busy_first_half_s: f64,
     full_s: f64,
     overflow_s: f64,
     overflow_sq_s: f64,
@@ -151,6 +185,8 @@ struct Sim<'m> {
     redials: Vec<Call>,
     free_redials: Vec<u32>,
     start: f64,
+    /// Middle of the measured period: `start + length / 2`.
+    half: f64,
     end: f64,
     interval_s: f64,
     bins: usize,
@@ -213,6 +249,7 @@ impl<'m> Sim<'m> {
                 virtual_busy: 0,
                 virtual_last_change: 0.0,
                 busy_s: 0.0,
+                busy_first_half_s: 0.0,
                 full_s: 0.0,
                 overflow_s: 0.0,
                 overflow_sq_s: 0.0,
@@ -257,6 +294,7 @@ impl<'m> Sim<'m> {
             redials: Vec::new(),
             free_redials: Vec::new(),
             start: plan.warmup_s,
+            half: plan.warmup_s + 0.5 * plan.length_s,
             end: plan.warmup_s + plan.length_s,
             interval_s: plan.interval_s.unwrap_or(plan.length_s),
             bins,
@@ -266,6 +304,9 @@ impl<'m> Sim<'m> {
     }
 
     fn run(&mut self) {
+        if self.model.plan.start == Start::Steady {
+            self.seat_calls_in_progress();
+        }
         for si in 0..self.model.streams.len() {
             let stream = &self.model.streams[si];
             match &stream.arrivals {
@@ -311,6 +352,7 @@ impl<'m> Sim<'m> {
             let grp = &self.groups[g];
             let gt = &mut self.tally.groups[g];
             gt.busy_s = grp.busy_s;
+            gt.busy_first_half_s = grp.busy_first_half_s;
             gt.full_s = grp.full_s;
             gt.overflow_s = grp.overflow_s;
             gt.overflow_sq_s = grp.overflow_sq_s;
@@ -333,6 +375,62 @@ impl<'m> Sim<'m> {
         }
         for (s, n) in redialling.into_iter().enumerate() {
             self.tally.streams[s].pending_end += n;
+        }
+    }
+
+    /// A steady start: seat the calls in progress at time 0 (see the
+    /// module's "Start"). Runs once per replication, before the event loop.
+    fn seat_calls_in_progress(&mut self) {
+        let model = self.model;
+        let (seed, replication) = (model.plan.seed, self.tally.replication);
+        // (key, stream, residual holding time)
+        let mut initial: Vec<(f64, u32, f64)> = Vec::new();
+        for (si, s) in model.streams.iter().enumerate() {
+            let Some(rate) = s.arrivals.initial_rate() else {
+                continue;
+            };
+            let traffic = rate * s.holding.mean();
+            if !(traffic > 0.0 && traffic.is_finite()) {
+                continue;
+            }
+            let route_servers: u64 = s
+                .route
+                .iter()
+                .map(|&g| u64::from(model.groups[g as usize].servers))
+                .sum();
+            let most = route_servers / u64::from(s.units);
+            let mut rng = seeds::generator(seed, replication, s.seed_key, seeds::INITIAL);
+            let mut key = 0.0;
+            for _ in 0..most {
+                let e: f64 = rand_distr::Distribution::sample(&rand_distr::Exp1, &mut rng);
+                key += e / traffic;
+                if key >= 1.0 {
+                    break;
+                }
+                let residual = s.holding.sample_residual(&mut rng);
+                initial.push((key, si as u32, residual));
+            }
+        }
+        // Equal keys (all but impossible) go in stream order.
+        initial.sort_by(|a, b| a.0.total_cmp(&b.0).then(a.1.cmp(&b.1)));
+        for (_, stream, residual) in initial {
+            let si = stream as usize;
+            let call = Call {
+                stream,
+                attempt: 1,
+                bin: NOT_MEASURED,
+                waited: false,
+                holding: residual,
+                attempt_at: 0.0,
+            };
+            for pos in 0..self.routes[si].len() {
+                let step = self.routes[si][pos];
+                let grp = &self.groups[step.group as usize];
+                if grp.servers - grp.busy >= step.need {
+                    self.seize(step.group as usize, call, 0.0);
+                    break;
+                }
+            }
         }
     }
 
@@ -776,6 +874,12 @@ impl<'m> Sim<'m> {
         let busy = f64::from(grp.busy);
         let full = grp.busy >= grp.servers;
         grp.busy_s += busy * (t1 - t0);
+        // The first half's share: a fixed point in time, so one comparison
+        // for pieces after it and a split only for the piece across it.
+        if t0 < self.half {
+            let t_half = if t1 < self.half { t1 } else { self.half };
+            grp.busy_first_half_s += busy * (t_half - t0);
+        }
         if full {
             grp.full_s += t1 - t0;
         }

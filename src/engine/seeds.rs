@@ -18,6 +18,9 @@ pub const HOLDING: u64 = 2;
 pub const RETRY: u64 = 3;
 /// Purpose: patience of waiting callers.
 pub const PATIENCE: u64 = 4;
+/// Purpose: the calls in progress seated at time 0 (steady start): their
+/// keys and residual holding times.
+pub const INITIAL: u64 = 5;
 
 /// SplitMix64's finaliser (Steele, Lea and Flood, 2014): a bijective mix of
 /// 64 bits with good avalanche.

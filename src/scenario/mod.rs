@@ -5,7 +5,9 @@
 pub mod model;
 pub mod spec;
 
-pub use model::{Arrivals, Group, Model, Queue, Replications, Retry, RunPlan, Stream};
+pub use model::{
+    Arrivals, Group, Model, Queue, Replications, Retry, RunPlan, Start, Stream, residual_quantile,
+};
 
 use crate::dist::{self, Law};
 use crate::units;
@@ -558,18 +560,36 @@ impl Compiler {
                 seed_key: name_key(&s.name),
             });
         }
-        Ok(Model {
+        let mut model = Model {
             title: spec.title.unwrap_or_else(|| default_title.to_string()),
             plan,
             groups,
             streams,
-        })
+        };
+        if !model.plan.warmup_given {
+            // The default warm-up from the holding laws, whole seconds, at
+            // most the longest warm-up a file may give.
+            model.plan.warmup_s = model.warmup_needed_s().ceil().min(MAX_LENGTH_S);
+        }
+        Ok(model)
     }
 
     fn plan(&self, s: &spec::SimulationSpec) -> R<RunPlan> {
+        // Without `warmup` the compiled model gets its default from the laws
+        // (`Model::warmup_needed_s`), set once the streams are known.
         let warmup_s = match &s.warmup {
             None => 0.0,
             Some(a) => self.duration("simulation.warmup", a)?,
+        };
+        let start = match s.start.as_deref() {
+            None | Some("steady") => Start::Steady,
+            Some("empty") => Start::Empty,
+            Some(other) => {
+                return Err(self.err(
+                    "simulation.start",
+                    format!("\"{other}\" is not a start: expected \"steady\" (calls in progress at time 0, the default) or \"empty\" (every replication opens with no calls)"),
+                ));
+            }
         };
         let length_s = self.positive_duration("simulation.length", &s.length)?;
         let replications = match (s.replications, &s.precision) {
@@ -631,6 +651,8 @@ impl Compiler {
         };
         Ok(RunPlan {
             warmup_s,
+            warmup_given: s.warmup.is_some(),
+            start,
             length_s,
             replications,
             seed,

@@ -18,11 +18,41 @@ pub enum Replications {
     },
 }
 
+/// How each replication starts (`[simulation] start`).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Start {
+    /// `"steady"` (the default): the calls in progress of every Poisson or
+    /// peak-profile stream are seated at time 0, as many as an
+    /// infinite-server system holds in equilibrium, each with its residual
+    /// holding time (see `engine`).
+    Steady,
+    /// `"empty"`: every replication opens with no call in progress (a system
+    /// that opens in the morning).
+    Empty,
+}
+
+/// Smallest residual tail the default warm-up waits for, for a stream
+/// whose calls in progress are seated at a steady start: they already start
+/// in the infinite-server equilibrium, only the calls that did not fit are
+/// missing.
+pub const WARMUP_TAIL_SEATED: f64 = 1e-2;
+/// The same for a stream that starts empty (renewal arrivals, finite
+/// sources, or `start = "empty"`).
+pub const WARMUP_TAIL_EMPTY: f64 = 1e-4;
+/// Fewest mean holding times of default warm-up for a stream whose route
+/// has a queue or that redials (queues and redials are not seated).
+pub const WARMUP_HOLDINGS_QUEUE: f64 = 10.0;
+
 /// The `[simulation]` section, in seconds.
 #[derive(Debug, Clone, PartialEq)]
 pub struct RunPlan {
-    /// Discarded at the start of each replication (s).
+    /// Discarded at the start of each replication (s). When the file gives
+    /// none, [`Model::warmup_needed_s`] rounded up to a whole second.
     pub warmup_s: f64,
+    /// Whether the file gave `warmup` (false: the default above).
+    pub warmup_given: bool,
+    /// How each replication starts.
+    pub start: Start,
     /// Measured period per replication (s).
     pub length_s: f64,
     /// Replication count or precision goal.
@@ -116,6 +146,18 @@ pub enum Arrivals {
 }
 
 impl Arrivals {
+    /// The rate of first attempts at time 0 in calls/s, for the streams whose
+    /// calls in progress are seated at a steady start: Poisson, or a peak
+    /// profile's first rate (the warm-up runs at it). `None` for renewal
+    /// arrivals and finite sources, which start empty.
+    pub fn initial_rate(&self) -> Option<f64> {
+        match self {
+            Arrivals::Poisson { rate } => Some(*rate),
+            Arrivals::Profile { rates, .. } => Some(rates[0]),
+            Arrivals::Renewal { .. } | Arrivals::Sources { .. } => None,
+        }
+    }
+
     /// Mean rate of first attempts in calls/s over the measured period of
     /// length `length_s`, for offered-traffic figures. Finite sources have no
     /// fixed rate: `None`.
@@ -220,6 +262,66 @@ impl Model {
         self.groups.iter().any(|g| g.queue != Queue::None)
     }
 
+    /// Whether stream `stream`'s calls in progress are seated at time 0.
+    pub fn is_seated(&self, stream: usize) -> bool {
+        self.plan.start == Start::Steady && self.streams[stream].arrivals.initial_rate().is_some()
+    }
+
+    /// The warm-up the holding laws ask for (s), before rounding: the largest
+    /// over streams of the smallest w with `holding.residual_tail(w) <= eps`,
+    /// eps = [`WARMUP_TAIL_SEATED`] for a seated stream and
+    /// [`WARMUP_TAIL_EMPTY`] for one that starts empty, and at least
+    /// [`WARMUP_HOLDINGS_QUEUE`] mean holding times for a stream whose route
+    /// has a queue or that redials.
+    ///
+    /// Why the residual tail: a call in progress at time w of a stream that
+    /// started empty is missing from the equilibrium picture only if it began
+    /// before 0, and the share of equilibrium calls in progress that began
+    /// more than w ago is residual_tail(w) (the age and the residual of a
+    /// call in progress have the same law). So after w the infinite-server
+    /// occupancy has reached 1 - eps of its equilibrium mean (exactly so for
+    /// Poisson arrivals, the M/G/inf transient). For a seated stream only
+    /// the calls that did not fit at time 0 (a loss system's blocked share)
+    /// are missing, so a coarser eps is enough.
+    ///
+    /// Not covered: waiting calls, redials in progress and the virtual
+    /// overflow groups start empty (hence the floor of ten holding times);
+    /// renewal and finite-source arrival processes start with a fresh
+    /// interval, not an equilibrium one (only their holding laws are
+    /// looked at); a peak profile is seated at its first rate, which is
+    /// exact because the warm-up runs at that rate.
+    pub fn warmup_needed_s(&self) -> f64 {
+        let mut needed: f64 = 0.0;
+        for (si, s) in self.streams.iter().enumerate() {
+            let eps = if self.is_seated(si) {
+                WARMUP_TAIL_SEATED
+            } else {
+                WARMUP_TAIL_EMPTY
+            };
+            let mut w = residual_quantile(&s.holding, eps);
+            let queued = s
+                .route
+                .iter()
+                .any(|&g| self.groups[g as usize].queue != Queue::None);
+            if queued || s.retry.is_some() {
+                w = w.max(WARMUP_HOLDINGS_QUEUE * s.holding.mean());
+            }
+            needed = needed.max(w);
+        }
+        needed
+    }
+
+    /// When the file gives a warm-up shorter than [`Model::warmup_needed_s`],
+    /// the needed warm-up rounded up to a whole second (for a warning);
+    /// otherwise `None` (also when the warm-up is the default).
+    pub fn warmup_short(&self) -> Option<f64> {
+        if !self.plan.warmup_given {
+            return None;
+        }
+        let needed = self.warmup_needed_s().ceil();
+        (self.plan.warmup_s < needed).then_some(needed)
+    }
+
     /// Index of the group with this name.
     pub fn group_index(&self, name: &str) -> Option<usize> {
         self.groups.iter().position(|g| g.name == name)
@@ -265,4 +367,36 @@ impl Model {
         m.groups[group].reserve = m.groups[group].reserve.min(servers.saturating_sub(1));
         m
     }
+}
+
+/// The smallest w with `law.residual_tail(w) <= eps` (0 < eps < 1), by
+/// bisection on the monotone tail: double from the mean until the tail is
+/// at or below eps, then halve the bracket to 1e-9 relative (or until the
+/// midpoint rounds to an end). Returns the upper end of the bracket, so the
+/// tail there is at most eps.
+pub fn residual_quantile(law: &Law, eps: f64) -> f64 {
+    let below = |w: f64| law.residual_tail(w) <= eps;
+    if below(0.0) {
+        return 0.0;
+    }
+    let (mut lo, mut hi) = (0.0, law.mean());
+    while !below(hi) {
+        lo = hi;
+        hi *= 2.0;
+        if !hi.is_finite() {
+            return f64::MAX;
+        }
+    }
+    for _ in 0..200 {
+        let mid = 0.5 * (lo + hi);
+        if mid <= lo || mid >= hi || hi - lo <= 1e-9 * hi {
+            break;
+        }
+        if below(mid) {
+            hi = mid;
+        } else {
+            lo = mid;
+        }
+    }
+    hi
 }

@@ -129,6 +129,8 @@ pub struct SimulationSpec {
     pub seed: Option<i64>,
     /// Report figures per interval of this length too.
     pub interval: Option<Amount>,
+    /// `"steady"` (calls in progress seated at time 0, the default) or `"empty"`.
+    pub start: Option<String>,
 }
 
 /// `[[group]]`.

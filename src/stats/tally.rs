@@ -63,6 +63,10 @@ impl StreamTally {
 pub struct GroupTally {
     /// Server-seconds busy inside the measured period.
     pub busy_s: f64,
+    /// Server-seconds busy in the first half of the measured period,
+    /// `[warmup, warmup + length / 2)`: against `busy_s` a check for a
+    /// start-up transient (in a steady system both halves carry alike).
+    pub busy_first_half_s: f64,
     /// Seconds with every server busy.
     pub full_s: f64,
     /// Calls that found the group full and did not wait there (moved on along
