@@ -194,7 +194,9 @@ pub struct SizeArgs {
     #[command(flatten)]
     pub reps: ReplicationArgs,
     /// Most replications at one size while a goal's interval straddles its
-    /// bound (default: 10 times the starting count, at most 2000).
+    /// bound (default: 10 times the starting count, at most 2000, raised
+    /// for strict goals on shares of calls to what showing the goal with no
+    /// event seen takes, within about 15 s of engine work per size).
     #[arg(long = "decide-within", value_name = "N")]
     pub decide_within: Option<u32>,
     #[command(flatten)]
@@ -411,7 +413,7 @@ pub fn size(a: &SizeArgs) -> Result<Status> {
     let max_replications = match a.decide_within {
         Some(m) if m < 2 => bail!("--decide-within {m}: at least 2 replications are needed"),
         Some(m) => m,
-        None => start.saturating_mul(10).min(2000).max(start),
+        None => size::default_cap(&model, &goals, start),
     };
     guard::check_size(&model, &replications, &a.reps, a.output.quiet)?;
     let how = SizeOptions {

@@ -352,6 +352,56 @@ pub struct SizeOptions {
     pub max_replications: u32,
 }
 
+/// Most replications the default decision cap asks for at one size.
+pub const DEFAULT_CAP_MAX: u32 = 20_000;
+/// Engine events the default decision cap may spend at one size (about 15
+/// seconds of one core at the engine's measured 4 million events per
+/// second; DEVELOPERS.md, "The work guard").
+pub const DEFAULT_CAP_EVENTS: f64 = 6.0e7;
+
+/// The default `--decide-within`: replications at one size while a goal is
+/// undecided. At least 10 times the starting count (at most 2000, as
+/// before), raised for strict goals on shares of calls to what it takes to
+/// show the goal with no event observed: a share bounded by b with zero
+/// events in m calls needs m > ln(2K / 0.05) / b at the Bonferroni level
+/// of K looks (the Clopper-Pearson bound for zero events is
+/// 1 - (alpha/2)^(1/m), about ln(2/alpha) / m), and the cap asks for twice
+/// that. Bounded by [`DEFAULT_CAP_MAX`] and by [`DEFAULT_CAP_EVENTS`] of
+/// engine work (the starting count is always allowed).
+pub fn default_cap(model: &Model, goals: &[Goal], start: u32) -> u32 {
+    let base = start.saturating_mul(10).min(2000).max(start);
+    let length = model.plan.length_s;
+    let mut wanted = f64::from(base);
+    for g in goals.iter().filter(|g| g.figure.is_call_share()) {
+        // The share whose rare events decide: failures below an upper bound
+        // (loss <= b), successes missing for a lower bound (service level >= b).
+        let rare = if g.at_most { g.bound } else { 1.0 - g.bound };
+        if !(rare > 0.0) {
+            continue;
+        }
+        for f in &g.targets {
+            let Scope::Stream(s) = f.scope else { continue };
+            let calls = model.streams[s]
+                .arrivals
+                .mean_rate(length)
+                .map(|r| r * length);
+            if let Some(c) = calls.filter(|c| *c > 0.0) {
+                let looks = 1.0
+                    + (DEFAULT_CAP_MAX as f64 / f64::from(start.max(1)))
+                        .log2()
+                        .ceil();
+                let m = (2.0 * looks / (1.0 - stats::LEVEL)).ln() / rare;
+                wanted = wanted.max(2.0 * m / c);
+            }
+        }
+    }
+    let per_rep = super::work::events_per_replication(model).max(1.0);
+    let by_work = (DEFAULT_CAP_EVENTS / per_rep).floor();
+    (wanted.min(by_work).min(f64::from(DEFAULT_CAP_MAX)).ceil() as u32)
+        .max(base.min(by_work as u32))
+        .max(start)
+}
+
 /// The fewest servers for which the formula column meets every goal, when
 /// every goal's figures have a formula at every size tried.
 pub fn formula_answer(model: &Model, group: usize, goals: &[Goal], limit: u32) -> Option<u32> {

@@ -9,7 +9,7 @@ pub use figure::{Estimator, Figure, Range, Unit};
 
 use crate::scenario::{Model, Queue};
 use serde::Serialize;
-use statrs::distribution::{Beta, ContinuousCDF, StudentsT};
+use statrs::distribution::{ContinuousCDF, StudentsT};
 use tally::Tally;
 
 /// Where a figure belongs.
@@ -441,27 +441,90 @@ pub fn estimate_at(values: impl Iterator<Item = f64> + Clone, level: f64) -> Est
     Estimate::symmetric(mean, t_factor(n, level) * sd / (n as f64).sqrt(), n)
 }
 
+/// Fewer events than this (or fewer non-events) get the exact
+/// Clopper-Pearson interval; more get Wilson's score interval, which then
+/// agrees with it closely and costs nothing to compute.
+pub const EXACT_BINOMIAL_BELOW: f64 = 200.0;
+
 /// The exact (Clopper-Pearson 1934) interval of confidence `level` for a
-/// binomial share with `k` successes in `m` trials, from quantiles of the
-/// beta law (statrs). `k = 0` gives `[0, 1 - (alpha/2)^(1/m)]`.
+/// binomial share with `k` successes in `m` trials: the shares p at which
+/// P(X >= k) and P(X <= k) are at least (1 - level) / 2. `k = 0` gives
+/// `[0, 1 - (alpha/2)^(1/m)]`. Computed by bisection on the binomial tail,
+/// summed term by term in logarithms (exact for any m, cost proportional to
+/// min(k, m - k)); with at least [`EXACT_BINOMIAL_BELOW`] events and
+/// non-events, Wilson's (1927) score interval is returned instead.
 pub fn clopper_pearson(k: f64, m: f64, level: f64) -> (f64, f64) {
-    if !(m > 0.0) {
+    if !(m >= 1.0) || !m.is_finite() {
         return (0.0, 1.0);
     }
-    let k = k.round().clamp(0.0, m.round());
     let m = m.round();
+    let k = k.round().clamp(0.0, m);
+    // Symmetry: the interval of m - k non-events, mirrored.
+    if k > m - k {
+        let (lo, hi) = clopper_pearson(m - k, m, level);
+        return (1.0 - hi, 1.0 - lo);
+    }
     let a = (1.0 - level) / 2.0;
+    if k >= EXACT_BINOMIAL_BELOW {
+        let z = normal_quantile(1.0 - a);
+        let p = k / m;
+        let centre = (p + z * z / (2.0 * m)) / (1.0 + z * z / m);
+        let half = z / (1.0 + z * z / m) * (p * (1.0 - p) / m + z * z / (4.0 * m * m)).sqrt();
+        return ((centre - half).max(0.0), (centre + half).min(1.0));
+    }
+    // P(X <= j) for X ~ Binomial(m, p), j small: terms in logarithms.
+    let cdf = |j: f64, p: f64| -> f64 {
+        if p <= 0.0 {
+            return 1.0;
+        }
+        if p >= 1.0 {
+            return if j >= m { 1.0 } else { 0.0 };
+        }
+        let step = (p / (1.0 - p)).ln();
+        let mut lt = m * (-p).ln_1p();
+        let mut terms = Vec::with_capacity(j as usize + 1);
+        terms.push(lt);
+        let mut i = 0.0;
+        while i < j {
+            lt += ((m - i) / (i + 1.0)).ln() + step;
+            terms.push(lt);
+            i += 1.0;
+        }
+        let top = terms.iter().copied().fold(f64::NEG_INFINITY, f64::max);
+        (top + terms.iter().map(|t| (t - top).exp()).sum::<f64>().ln())
+            .exp()
+            .min(1.0)
+    };
+    // Bisection for the p where a decreasing function of p crosses a.
+    let solve = |f: &dyn Fn(f64) -> f64| -> f64 {
+        let (mut lo, mut hi) = (0.0f64, 1.0f64);
+        for _ in 0..200 {
+            let mid = 0.5 * (lo + hi);
+            if f(mid) > a {
+                lo = mid;
+            } else {
+                hi = mid;
+            }
+            if hi - lo <= 1e-15 * hi {
+                break;
+            }
+        }
+        0.5 * (lo + hi)
+    };
+    // Upper end: P(X <= k) = a; lower end: P(X >= k) = a, i.e.
+    // 1 - P(X <= k - 1) = a, increasing in p.
+    let high = solve(&|p| cdf(k, p));
     let low = if k == 0.0 {
         0.0
     } else {
-        Beta::new(k, m - k + 1.0).map_or(0.0, |b| b.inverse_cdf(a))
-    };
-    let high = if k == m {
-        1.0
-    } else {
-        Beta::new(k + 1.0, m - k).map_or(1.0, |b| b.inverse_cdf(1.0 - a))
+        solve(&|p| cdf(k - 1.0, p) - (1.0 - 2.0 * a))
     };
     (low, high)
+}
+
+/// The standard normal quantile (statrs).
+fn normal_quantile(p: f64) -> f64 {
+    statrs::distribution::Normal::new(0.0, 1.0).map_or(f64::NAN, |n| n.inverse_cdf(p))
 }
 
 /// The ratio-of-sums estimate of observations from independent
@@ -651,5 +714,83 @@ mod tests {
         assert_eq!(e.mean, 2.0);
         // sd = 1, t(2) = 4.303 (tables): hw = 4.303 / sqrt(3)
         assert!((e.half_width - 4.302_652_7 / 3f64.sqrt()).abs() < 1e-6);
+    }
+
+    #[test]
+    fn clopper_pearson_matches_the_beta_quantiles_and_the_closed_forms() {
+        use statrs::distribution::{Beta, Binomial, DiscreteCDF};
+        // Zero events: upper end 1 - (alpha/2)^(1/m) in closed form
+        // (Clopper and Pearson 1934); 0 of 10 gives 0.3085 (also in the
+        // usual tables, recalled from memory).
+        let (lo, hi) = clopper_pearson(0.0, 10.0, 0.95);
+        assert_eq!(lo, 0.0);
+        assert!((hi - (1.0 - 0.025f64.powf(0.1))).abs() < 1e-12);
+        assert!((hi - 0.3085).abs() < 1e-4);
+        let (lo, hi) = clopper_pearson(10.0, 10.0, 0.95);
+        assert!((lo - 0.025f64.powf(0.1)).abs() < 1e-12 && hi == 1.0);
+        // Moderate counts: the beta quantiles from statrs (the textbook form
+        // of the interval).
+        for (k, m) in [(1.0, 20.0), (5.0, 20.0), (7.0, 300.0), (150.0, 400.0)] {
+            let (lo, hi) = clopper_pearson(k, m, 0.95);
+            let blo = Beta::new(k, m - k + 1.0).unwrap().inverse_cdf(0.025);
+            let bhi = Beta::new(k + 1.0, m - k).unwrap().inverse_cdf(0.975);
+            assert!(
+                (lo - blo).abs() < 1e-9 * blo.max(1e-3),
+                "{k}/{m}: {lo} vs {blo}"
+            );
+            assert!((hi - bhi).abs() < 1e-9, "{k}/{m}: {hi} vs {bhi}");
+        }
+        // Rare events among millions of calls (where the beta quantile is
+        // slow): the defining property, checked with statrs' binomial cdf.
+        let (k, m) = (3.0, 2.0e7);
+        let (lo, hi) = clopper_pearson(k, m, 0.95);
+        let at = |p: f64| Binomial::new(p, m as u64).unwrap().cdf(k as u64);
+        assert!((at(hi) - 0.025).abs() < 1e-6, "{}", at(hi));
+        let below = |p: f64| 1.0 - Binomial::new(p, m as u64).unwrap().cdf(k as u64 - 1);
+        assert!((below(lo) - 0.025).abs() < 1e-6, "{}", below(lo));
+        // Many events: Wilson's interval, close to the exact one.
+        let (lo, hi) = clopper_pearson(5000.0, 20000.0, 0.95);
+        assert!((lo - 0.2440).abs() < 1e-3 && (hi - 0.2560).abs() < 1e-3);
+    }
+
+    #[test]
+    fn ratio_of_sums_by_hand() {
+        // Three replications: 1/10, 3/10, 2/20 -> R = 6/40 = 0.15;
+        // residuals 1-1.5, 3-1.5, 2-3 = -0.5, 1.5, -1; ss = 3.5;
+        // se = sqrt(3.5 / 2 / 3) / (40 / 3); t(2) = 4.302653 (tables).
+        let obs = [
+            Obs::ratio(1.0, 10.0),
+            Obs::ratio(3.0, 10.0),
+            Obs::ratio(2.0, 20.0),
+        ];
+        let e = ratio_estimate(&obs, 0.95, false);
+        assert!((e.mean - 0.15).abs() < 1e-15);
+        let se = (3.5f64 / 6.0).sqrt() / (40.0 / 3.0);
+        assert!((e.half_width - 4.302_652_7 * se).abs() < 1e-6);
+        assert!(e.is_symmetric());
+        // Zero events never give a zero-width interval for a share of calls.
+        let none = [Obs::ratio(0.0, 500.0); 4];
+        let e = estimate_figure(Figure::Loss, &none, 0.95);
+        assert_eq!((e.mean, e.low), (0.0, 0.0));
+        assert!((e.high - (1.0 - 0.025f64.powf(1.0 / 2000.0))).abs() < 1e-12);
+        // Intervals stay in range.
+        let few = [
+            Obs::ratio(1.0, 3.0),
+            Obs::ratio(0.0, 3.0),
+            Obs::ratio(0.0, 3.0),
+        ];
+        let e = estimate_figure(Figure::Loss, &few, 0.95);
+        assert!(e.low >= 0.0 && e.high <= 1.0 && !e.is_symmetric());
+    }
+
+    #[test]
+    fn paired_difference_of_identical_designs_is_zero() {
+        let a = [
+            Obs::ratio(1.0, 10.0),
+            Obs::ratio(3.0, 12.0),
+            Obs::ratio(2.0, 20.0),
+        ];
+        let d = paired_difference(Figure::Loss, &a, &a, 0.95);
+        assert_eq!((d.mean, d.half_width), (0.0, 0.0));
     }
 }
