@@ -280,6 +280,44 @@ impl Goal {
     }
 }
 
+impl Goal {
+    /// The per-period view: the share of replications (periods of the
+    /// measured length, say one half hour) in which the goal held for every
+    /// target figure, each judged on that replication's own value, with its
+    /// exact 95% (Clopper-Pearson) interval. It answers "how often does a
+    /// period miss the goal", a different question from the long-run figure
+    /// the verdict is about. Replications where a target is undefined (no
+    /// call resolved) are left out.
+    pub fn period_share(&self, o: &Outcome) -> Estimate {
+        let idx: Vec<usize> = self
+            .targets
+            .iter()
+            .filter_map(|f| o.index_of(f.scope, f.figure))
+            .collect();
+        let (mut held, mut n) = (0u64, 0u64);
+        for rep in &o.per_replication {
+            let values: Vec<f64> = idx.iter().map(|&i| rep[i].own()).collect();
+            if idx.is_empty() || values.iter().any(|v| v.is_nan()) {
+                continue;
+            }
+            n += 1;
+            let ok = values.iter().all(|&v| {
+                if self.at_most {
+                    v <= self.bound
+                } else {
+                    v >= self.bound
+                }
+            });
+            held += u64::from(ok);
+        }
+        if n == 0 {
+            return Estimate::UNDEFINED;
+        }
+        let (low, high) = stats::clopper_pearson(held as f64, n as f64, stats::LEVEL);
+        Estimate::between(held as f64 / n as f64, low, high, n)
+    }
+}
+
 /// The confidence of each verdict when a size may be looked at `looks`
 /// times: the Bonferroni level 1 - 0.05 / `looks`. A size is looked at
 /// again each time replications are added while a goal is undecided, and
@@ -298,6 +336,9 @@ pub struct Evaluation {
     pub outcome: Outcome,
     /// Per goal: the verdict and the deciding estimate.
     pub goals: Vec<(Verdict, Estimate)>,
+    /// Per goal, the share of replications (periods) in which it held
+    /// ([`Goal::period_share`]).
+    pub periods: Vec<Estimate>,
 }
 
 impl Evaluation {
@@ -490,10 +531,12 @@ pub fn size(
             let o = outcome_of(&m, acc.clone(), 0.0, None, false);
             let goals_v: Vec<(Verdict, Estimate)> =
                 goals.iter().map(|g| g.judge_outcome(&o, looks)).collect();
+            let periods = goals.iter().map(|g| g.period_share(&o)).collect();
             let e = Evaluation {
                 servers: n,
                 outcome: o,
                 goals: goals_v,
+                periods,
             };
             let have = acc.per_replication.len() as u64;
             let cap = u64::from(how.max_replications);

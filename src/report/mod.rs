@@ -793,6 +793,17 @@ pub fn size_rows(r: &crate::experiment::size::SizeResult) -> Vec<Vec<String>> {
             });
         }
         rows.push(row);
+        let mut row = vec!["  periods meeting it (one per replication)".to_string()];
+        for e in &cols {
+            let p = e.periods[i];
+            row.push(format!(
+                "{} {}",
+                fmt_value(Kind::Share, p.mean),
+                fmt_interval(Kind::Share, &p)
+            ));
+            row.push(String::new());
+        }
+        rows.push(row);
     }
     rows
 }
@@ -805,13 +816,20 @@ pub fn size_table(model: &Model, file: &str, r: &crate::experiment::size::SizeRe
     out.push_str(&format!("Goals: {}\n", goals.join(", ")));
     out.push_str(&format!(
         "A goal holds at a size when its whole interval lies on the right side of the bound; with up to {} looks \
-at one size the intervals are {:.2}% (Bonferroni), 95% overall.\n\n",
+at one size the intervals are {:.2}% (Bonferroni), 95% overall. The goal is judged on the long-run figure \
+(shares pooled over all calls); \"periods meeting it\" is the share of replications, each one measured period long, \
+whose own figure met the bound (95% exact interval).\n\n",
         r.looks,
         100.0 - 5.0 / f64::from(r.looks)
     ));
     match r.servers {
         Some(n) => out.push_str(&format!("Answer: {n} servers")),
         None if r.partial => out.push_str("No answer: the search was interrupted"),
+        None if r.tried.last().is_some_and(|t| t.2 == crate::experiment::size::Verdict::Undecided) => out.push_str(&format!(
+            "No answer: up to {} servers the goals could not be decided within the replication cap \
+(raise --decide-within)",
+            r.limit
+        )),
         None => out.push_str(&format!(
             "No answer: no size up to {} servers meets every goal",
             r.limit
@@ -849,10 +867,11 @@ pub fn size_json(model: &Model, file: &str, r: &crate::experiment::size::SizeRes
             "servers": e.servers,
             "replications": e.outcome.replications,
             "verdict": e.verdict().word(),
-            "goals": r.goals.iter().zip(&e.goals).map(|(g, (v, est))| json!({
+            "goals": r.goals.iter().zip(&e.goals).zip(&e.periods).map(|((g, (v, est)), p)| json!({
                 "goal": g.text,
                 "verdict": v.word(),
                 "estimate": estimate_json(est, Some(g.figure), None),
+                "periods_meeting": estimate_json(p, None, None),
             })).collect::<Vec<_>>(),
         })
     };
