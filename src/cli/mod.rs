@@ -355,6 +355,12 @@ pub fn run(a: &RunArgs) -> Result<Status> {
         write_file(path, &report::run_html(&r, chart.as_deref()))?;
     }
     emit(&a.output, &text)?;
+    let table_on_terminal = !a.output.json && !a.output.csv && a.output.out.is_none();
+    if !a.output.quiet && !table_on_terminal {
+        for w in &outcome.warnings {
+            eprintln!("busyhour: warning: {w}");
+        }
+    }
     Ok(if outcome.partial {
         Status::Interrupted
     } else {

@@ -5,6 +5,7 @@
 pub mod shard;
 pub mod size;
 pub mod sweep;
+pub mod warnings;
 pub mod work;
 
 use crate::engine;
@@ -72,6 +73,8 @@ pub struct Outcome {
     pub precision: Option<PrecisionStatus>,
     /// Stopped early on request: fewer replications than planned.
     pub partial: bool,
+    /// Warnings about the start (short warm-up, visible transient).
+    pub warnings: Vec<warnings::Warning>,
 }
 
 impl Outcome {
@@ -110,6 +113,9 @@ impl Outcome {
 pub struct Accumulated {
     /// What each replication observed of each figure.
     pub per_replication: Vec<Vec<Obs>>,
+    /// Per replication and group, carried traffic in the first and second
+    /// half of the measured period (for the transient check).
+    pub halves: Vec<Vec<(f64, f64)>>,
     /// Events processed.
     pub events: u64,
 }
@@ -173,7 +179,7 @@ impl<'a> Runner<'a> {
         if to <= from {
             return true;
         }
-        let results: Vec<Option<(Vec<Obs>, u64)>> = self.pool.install(|| {
+        let results: Vec<Option<(Vec<Obs>, Vec<(f64, f64)>, u64)>> = self.pool.install(|| {
             use rayon::prelude::*;
             (from..to)
                 .into_par_iter()
@@ -187,14 +193,15 @@ impl<'a> Runner<'a> {
                     if let Some(p) = self.opts.progress {
                         p(n, planned);
                     }
-                    Some((values, tally.events))
+                    Some((values, warnings::halves_of(model, &tally), tally.events))
                 })
                 .collect()
         });
         for r in results {
             match r {
-                Some((values, events)) => {
+                Some((values, halves, events)) => {
                     acc.per_replication.push(values);
+                    acc.halves.push(halves);
                     acc.events += events;
                 }
                 None => return false,
@@ -285,7 +292,9 @@ pub fn outcome_of(
 ) -> Outcome {
     let layout = stats::layout(model);
     let estimates = estimates_of(&layout, &acc.per_replication);
+    let warnings = warnings::warnings(model, &acc.halves);
     Outcome {
+        warnings,
         replications: acc.per_replication.len() as u64,
         layout,
         estimates,

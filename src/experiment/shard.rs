@@ -202,6 +202,9 @@ pub struct PartStep {
     /// Per replication, each figure's observation as [numerator,
     /// denominator] (see [`stats::Obs`]; null where undefined).
     pub values: Vec<Vec<[Option<f64>; 2]>>,
+    /// Per replication and group, carried traffic in the first and second
+    /// half of the measured period (the transient check).
+    pub halves: Vec<Vec<[f64; 2]>>,
 }
 
 /// The models of a run (one, no value) or of a sweep's steps.
@@ -253,6 +256,11 @@ pub fn run_shard(
             value: *value,
             fingerprint: fingerprint(model),
             figures: figure_keys(model),
+            halves: acc
+                .halves
+                .iter()
+                .map(|h| h.iter().map(|&(a, b)| [a, b]).collect())
+                .collect(),
             values: acc
                 .per_replication
                 .iter()
@@ -343,6 +351,7 @@ pub fn read_part(text: &str, file: &str) -> Result<Part, ShardError> {
         || part.steps.is_empty()
         || part.steps.iter().any(|st| {
             st.values.len() as u64 != expected.1 - expected.0
+                || st.halves.len() != st.values.len()
                 || st.values.iter().any(|v| v.len() != st.figures.len())
         })
     {
@@ -472,6 +481,9 @@ pub fn merge(
                 ..Accumulated::default()
             };
             for p in &ordered {
+                for h in &p.steps[i].halves {
+                    acc.halves.push(h.iter().map(|&[a, b]| (a, b)).collect());
+                }
                 for v in &p.steps[i].values {
                     acc.per_replication.push(
                         v.iter()

@@ -227,6 +227,13 @@ pub fn to_json(r: &RunReport) -> Value {
             doc["worst_interval"] = json!(w);
         }
     }
+    doc["warnings"] = json!(
+        r.outcome
+            .warnings
+            .iter()
+            .map(|w| w.to_string())
+            .collect::<Vec<_>>()
+    );
     doc["caution"] = json!(CAUTION);
     doc
 }
@@ -506,6 +513,12 @@ pub fn to_table(r: &RunReport) -> String {
     for t in run_tables(r) {
         out.push_str(&format!("\n{}\n", t.title));
         out.push_str(&align(&t.rows, "  "));
+    }
+    for w in &r.outcome.warnings {
+        out.push_str(&format!("\nWarning: {w}"));
+    }
+    if !r.outcome.warnings.is_empty() {
+        out.push('\n');
     }
     out.push_str(&format!(
         "\n{} events in {:.2} s\n",
@@ -1092,6 +1105,9 @@ shows the closed-form value where its assumptions hold.",
             "PARTIAL RESULT: the run was interrupted; only the finished replications are shown."
                 .into(),
         ));
+    }
+    for w in &r.outcome.warnings {
+        blocks.push(Block::Paragraph(format!("Warning: {w}.")));
     }
     blocks.extend(run_tables(r).into_iter().map(Block::Table));
     if let Some(svg) = chart {

@@ -411,9 +411,9 @@ fn erlang_c_half_hour() -> Result<Case, FormulaError> {
     let (n, a, within_s) = (14, 12.0, 20.0);
     Ok(Case {
         name: "erlang-c-half-hour",
-        about: "14 agents, 12 E, unlimited queue, exponential 3 min, 15 min warm-up, 30 min replications",
+        about: "14 agents, 12 E, unlimited queue, exponential 3 min, default warm-up (no key), 30 min replications",
         text: format!(
-            "[simulation]\nwarmup = \"15m\"\nlength = \"30m\"\n\n\
+            "[simulation]\nlength = \"30m\"\n\n\
              [[group]]\nname = \"agents\"\nservers = {n}\nqueue = \"unlimited\"\n\n\
              [[stream]]\nname = \"callers\"\n\
              arrivals = {{ law = \"poisson\", rate = \"{}/h\" }}\n\

@@ -1,0 +1,111 @@
+//! Warnings about a run's start: a warm-up shorter than the laws need, and a
+//! visible transient (the first and second halves of the measured period
+//! disagree beyond their intervals). A warning never changes a figure; it
+//! says the figures may carry a start-up bias.
+
+use crate::scenario::{Arrivals, Model};
+use crate::stats;
+use crate::units;
+
+/// Overall false-alarm rate of the transient check, shared by the groups
+/// (Bonferroni): a stationary run warns about once in a hundred runs.
+pub const TRANSIENT_FALSE_ALARM: f64 = 0.01;
+
+/// Something the reader of a report should know about the start.
+#[derive(Debug, Clone, PartialEq)]
+pub enum Warning {
+    /// The file's warm-up is shorter than the laws need
+    /// ([`Model::warmup_needed_s`]).
+    ShortWarmup {
+        /// Warm-up given (s).
+        given_s: f64,
+        /// Warm-up needed (s).
+        needed_s: f64,
+    },
+    /// Carried traffic of a group differs between the two halves of the
+    /// measured period beyond the interval of the paired difference.
+    Transient {
+        /// Group name.
+        group: String,
+        /// Carried traffic in the first half (E).
+        first: f64,
+        /// In the second half (E).
+        second: f64,
+    },
+}
+
+impl std::fmt::Display for Warning {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        match self {
+            Warning::ShortWarmup { given_s, needed_s } => write!(
+                f,
+                "the warm-up ({}) is shorter than the holding laws and queues need ({}): figures may be biased by the start; lengthen warmup or leave it out to get the derived default",
+                units::format_duration(*given_s),
+                units::format_duration(*needed_s)
+            ),
+            Warning::Transient {
+                group,
+                first,
+                second,
+            } => write!(
+                f,
+                "group \"{group}\" carried {first:.3} E in the first half of the measured period and {second:.3} E in the second, a difference beyond its interval: a transient is visible; lengthen the warm-up"
+            ),
+        }
+    }
+}
+
+/// Whether every stream's arrival rate is constant over the measured period
+/// (a peak profile changes the load on purpose: halves are not compared).
+fn stationary_load(model: &Model) -> bool {
+    model.streams.iter().all(|s| match &s.arrivals {
+        Arrivals::Profile { rates, .. } => rates.windows(2).all(|w| w[0] == w[1]),
+        _ => true,
+    })
+}
+
+/// The warnings of a run: the warm-up check, then, for models with a steady
+/// load, the paired comparison of each group's carried traffic in the two
+/// halves of the measured period across replications (Student-t at
+/// 1 - [`TRANSIENT_FALSE_ALARM`] / groups). `halves` holds, per
+/// replication and group, (first-half, second-half) carried traffic.
+pub fn warnings(model: &Model, halves: &[Vec<(f64, f64)>]) -> Vec<Warning> {
+    let mut out = Vec::new();
+    if let Some(needed_s) = model.warmup_short() {
+        out.push(Warning::ShortWarmup {
+            given_s: model.plan.warmup_s,
+            needed_s,
+        });
+    }
+    if !stationary_load(model) || halves.len() < 2 {
+        return out;
+    }
+    let level = 1.0 - TRANSIENT_FALSE_ALARM / model.groups.len().max(1) as f64;
+    for (g, group) in model.groups.iter().enumerate() {
+        let pairs: Vec<(f64, f64)> = halves.iter().filter_map(|h| h.get(g).copied()).collect();
+        let d = stats::estimate_at(pairs.iter().map(|(a, b)| a - b), level);
+        if d.replications >= 2 && d.half_width.is_finite() && !d.contains(0.0) {
+            let n = pairs.len() as f64;
+            out.push(Warning::Transient {
+                group: group.name.clone(),
+                first: pairs.iter().map(|p| p.0).sum::<f64>() / n,
+                second: pairs.iter().map(|p| p.1).sum::<f64>() / n,
+            });
+        }
+    }
+    out
+}
+
+/// Per group, (first-half, second-half) carried traffic of one replication.
+pub fn halves_of(model: &Model, t: &crate::stats::tally::Tally) -> Vec<(f64, f64)> {
+    let half = model.plan.length_s / 2.0;
+    t.groups
+        .iter()
+        .map(|g| {
+            (
+                g.busy_first_half_s / half,
+                (g.busy_s - g.busy_first_half_s) / half,
+            )
+        })
+        .collect()
+}
