@@ -567,14 +567,21 @@ pub fn ratio_estimate(obs: &[Obs], level: f64, call_share: bool) -> Estimate {
     let se = (ss / (nf - 1.0) / nf).sqrt() / (x / nf);
     let hw = t_factor(n, level) * se;
     let (mut low, mut high) = (r - hw, r + hw);
-    if !call_share && r > 0.0 {
-        // A positive ratio of sums that is not a share (a mean wait) is
-        // skewed to the right when the spread between replications is large
-        // (a few congested periods hold most of the waiting): the interval
-        // is made on the log scale, R exp(+-t se / R), which has the same
-        // width to first order and covers better (measured: mean wait of
-        // Erlang C, 14 agents at 86%, 40 half-hour replications, 90.6%
-        // coverage on the linear scale).
+    // The delta interval is made on a scale where the estimate is closer to
+    // normal, then mapped back (same width to first order): the log scale
+    // for a positive ratio that is not a share (a mean wait, right-skewed
+    // when a few congested periods hold most of the waiting), the logit
+    // scale for a share of calls (right-skewed near 0, left-skewed near 1).
+    // Measured with the coverage harness: mean wait of Erlang C (14 agents
+    // at 86%, 40 half-hour replications) 90.6% coverage on the linear
+    // scale, 92.5% on the log scale; a 0.79% overflow loss from 30
+    // replications 90.8% linear.
+    if call_share && r > 0.0 && r < 1.0 {
+        let logit = |p: f64| (p / (1.0 - p)).ln();
+        let back = |x: f64| 1.0 / (1.0 + (-x).exp());
+        let h = hw / (r * (1.0 - r));
+        (low, high) = (back(logit(r) - h), back(logit(r) + h));
+    } else if !call_share && r > 0.0 {
         let f = (hw / r).exp();
         (low, high) = (r / f, r * f);
     }
