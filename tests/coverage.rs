@@ -42,7 +42,7 @@ fn assert_covers_truth(name: &str) {
 }
 
 #[test]
-fn small_hour_loss_and_carried_traffic_cover_erlang_b() {
+fn coverage_small_hour_loss_and_carried_traffic_cover_erlang_b() {
     // 10 circuits, 5 E, one-hour replications, 100 per study: per-replication
     // loss ratios averaged were 5% low (coverage 90%); the pooled ratio of
     // sums is centred.
@@ -50,19 +50,19 @@ fn small_hour_loss_and_carried_traffic_cover_erlang_b() {
 }
 
 #[test]
-fn redial_figures_cover_the_exact_retrial_chain() {
+fn coverage_redial_figures_cover_the_exact_retrial_chain() {
     assert_covers_truth("redials");
 }
 
 #[test]
-fn overflow_network_losses_cover_the_exact_chain() {
+fn coverage_overflow_network_losses_cover_the_exact_chain() {
     // Per-stream loss of two first-choice groups overflowing to a shared
     // final group with a direct stream, against the exact network chain.
     assert_covers_truth("overflow-network");
 }
 
 #[test]
-fn erlang_a_half_hour_covers_erlang_a() {
+fn coverage_erlang_a_half_hour_covers_erlang_a() {
     assert_covers_truth("erlang-a-half-hour");
 }
 
@@ -71,7 +71,7 @@ fn erlang_a_half_hour_covers_erlang_a() {
 // wait came out 16 to 26% low. The case gives no warm-up: the default spans
 // five relaxation times of the queue (`Model::queue_relaxation_s`).
 #[test]
-fn erlang_c_half_hour_covers_erlang_c() {
+fn coverage_erlang_c_half_hour_covers_erlang_c() {
     assert_covers_truth("erlang-c-half-hour");
 }
 
@@ -79,6 +79,6 @@ fn erlang_c_half_hour_covers_erlang_c() {
 // empty had not yet accumulated: the loss came out 17% low. Replications now
 // start with the calls in progress of the steady state seated.
 #[test]
-fn lognormal_loss_after_a_short_warmup_covers_erlang_b() {
+fn coverage_lognormal_loss_after_a_short_warmup_covers_erlang_b() {
     assert_covers_truth("lognormal-short-warmup");
 }

@@ -181,7 +181,10 @@ route = ["agents"]
     let empty = model(&text("empty", 0, ""));
     assert_eq!(empty.plan.warmup_s, (180.0 * 1e4f64.ln()).ceil()); // 1658 s
     let queued = model(&text("steady", 5, ""));
-    assert_eq!(queued.plan.warmup_s, 1800.0); // ten mean holding times
+    // Ten mean holding times (1800 s), or five relaxation times of the
+    // M/M/c queue, h / (sqrt c - sqrt A)^2 with c = 20, A = 15 E: 2508 s.
+    let relax = 5.0 * 180.0 / (20f64.sqrt() - 15f64.sqrt()).powi(2);
+    assert_eq!(queued.plan.warmup_s, relax.max(1800.0).ceil());
     let short = model(&text("empty", 0, "warmup = \"10m\""));
     assert!(short.plan.warmup_given);
     assert_eq!(short.plan.warmup_s, 600.0);

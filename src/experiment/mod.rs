@@ -120,6 +120,10 @@ pub struct Accumulated {
     pub events: u64,
 }
 
+/// One finished replication: its observations, its halves (per group,
+/// first and second half carried traffic) and its events.
+type Finished = (Vec<Obs>, Vec<(f64, f64)>, u64);
+
 /// A pool of workers that runs replications and reports progress.
 pub struct Runner<'a> {
     pool: rayon::ThreadPool,
@@ -179,7 +183,7 @@ impl<'a> Runner<'a> {
         if to <= from {
             return true;
         }
-        let results: Vec<Option<(Vec<Obs>, Vec<(f64, f64)>, u64)>> = self.pool.install(|| {
+        let results: Vec<Option<Finished>> = self.pool.install(|| {
             use rayon::prelude::*;
             (from..to)
                 .into_par_iter()

@@ -382,7 +382,7 @@ fn figure_rows(r: &RunReport, scope: Scope, first: &str) -> Vec<Vec<String>> {
             if e.mean.is_nan() {
                 String::new()
             } else {
-                fmt_interval(k, &e)
+                fmt_interval(k, e)
             },
             formula,
         ]);
