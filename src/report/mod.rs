@@ -118,14 +118,25 @@ fn finite_or_null(x: f64) -> Option<f64> {
     x.is_finite().then_some(x)
 }
 
+/// How the warm-up was chosen and how replications start, for the run line.
+fn warmup_origin(model: &Model) -> &'static str {
+    match (model.plan.warmup_given, model.plan.start) {
+        (false, crate::scenario::Start::Steady) => " (derived from the laws), steady start",
+        (false, crate::scenario::Start::Empty) => " (derived from the laws), empty start",
+        (true, crate::scenario::Start::Steady) => ", steady start",
+        (true, crate::scenario::Start::Empty) => ", empty start",
+    }
+}
+
 /// Describe how the run was made, in one line.
 fn run_line(r: &RunReport) -> String {
     let p = &r.model.plan;
     let mut s = format!(
-        "{} replications of {} measured after {} warm-up, seed {}",
+        "{} replications of {} measured after {} warm-up{}, seed {}",
         r.outcome.replications,
         format_duration(p.length_s),
         format_duration(p.warmup_s),
+        warmup_origin(r.model),
         p.seed
     );
     if let Some(pr) = r.outcome.precision {
@@ -182,6 +193,11 @@ pub fn to_json(r: &RunReport) -> Value {
         "seed": model.plan.seed,
         "replications": o.replications,
         "warmup_s": model.plan.warmup_s,
+        "warmup_derived": !model.plan.warmup_given,
+        "start": match model.plan.start {
+            crate::scenario::Start::Steady => "steady",
+            crate::scenario::Start::Empty => "empty",
+        },
         "length_s": model.plan.length_s,
         "partial": o.partial,
         "streams": streams,
@@ -547,9 +563,10 @@ pub fn describe_model(model: &Model, file: &str) -> String {
         }
     };
     out.push_str(&format!(
-        "Run: {reps}, each {} measured after {} warm-up, seed {}{}\n",
+        "Run: {reps}, each {} measured after {} warm-up{}, seed {}{}\n",
         format_duration(p.length_s),
         format_duration(p.warmup_s),
+        warmup_origin(model),
         p.seed,
         p.interval_s.map_or(String::new(), |i| format!(
             ", figures per {}",
