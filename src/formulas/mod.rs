@@ -2,8 +2,9 @@
 //! the crate.
 //!
 //! Owns Erlang B, Erlang C, Erlang A, Engset, overflow moments with the
-//! equivalent random method, and Kaufman-Roberts multi-rate blocking. Must
-//! not touch simulation, files or printing.
+//! equivalent random method, Kaufman-Roberts multi-rate blocking, and M/G/N
+//! mean waits (Pollaczek-Khinchine, Allen-Cunneen, Cosmetatos). Must not
+//! touch simulation, files or printing.
 //!
 //! Units: traffic in erlangs, times in seconds, shares between 0 and 1,
 //! servers (agents, circuits) as `u32`. Every function validates its
@@ -45,6 +46,7 @@ pub mod erlang_c;
 mod error;
 pub mod multirate;
 pub mod overflow;
+pub mod queue_general;
 mod scaled;
 
 pub use error::FormulaError;

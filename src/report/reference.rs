@@ -17,10 +17,19 @@
 //! - Erlang C: an unlimited queue on a single group, Poisson arrivals,
 //!   exponential holding with one mean, no patience limit.
 //! - Erlang A: the same with exponential patience of one mean.
+//! - M/G/N, the Erlang C conditions except that the holding law is not
+//!   exponential (one mean and one cv for every stream, no patience):
+//!   Pollaczek-Khinchine for one agent (exact: mean wait and P(wait) = load),
+//!   Cosmetatos for constant holding on several agents and Allen-Cunneen
+//!   otherwise (both approx., named so), for `wait_mean` and
+//!   `wait_probability` (Erlang C's, kept by both approximations). Loss 0
+//!   and carried traffic = offered are exact for any law and labelled
+//!   "unlimited queue, no loss". No service level: no two-moment form of the
+//!   wait distribution is shown.
 //! - Engset: one finite-source stream alone on a loss group (insensitive to
 //!   the holding and idle laws).
 
-use crate::formulas::{engset, erlang_a, erlang_b, erlang_c, multirate, overflow};
+use crate::formulas::{engset, erlang_a, erlang_b, erlang_c, multirate, overflow, queue_general};
 use crate::scenario::{Arrivals, Model, Queue, Stream};
 use crate::stats::{Figure, FigureId, Scope, group_figures, stream_figures};
 use std::collections::HashMap;
@@ -274,21 +283,25 @@ fn queue_group(col: &mut Column, g: usize) {
     let mut traffic = 0.0;
     let mut holding = None::<f64>;
     let mut patience = None::<Option<f64>>;
+    let mut exponential = true;
+    let mut cv = None::<f64>;
     for &(s, _) in &users {
         let st = &model.streams[s];
-        if st.route.len() != 1
-            || st.units != 1
-            || st.retry.is_some()
-            || !is_exponential(&st.holding)
-        {
+        if st.route.len() != 1 || st.units != 1 || st.retry.is_some() {
             return;
         }
         let Some(rate) = poisson_rate(st) else { return };
         let h = st.holding.mean();
         if holding.is_some_and(|x| (x - h).abs() > 1e-12 * h) {
-            return; // M/M/N needs one holding-time mean
+            return; // M/M/N and M/G/N need one holding-time mean
         }
         holding = Some(h);
+        exponential &= is_exponential(&st.holding);
+        let c = st.holding.cv();
+        if !c.is_finite() || cv.is_some_and(|x| (x - c).abs() > 1e-12 * x.max(1.0)) {
+            return; // the two-moment methods need one cv
+        }
+        cv = Some(c);
         let p = match &st.patience {
             None => None,
             Some(l) if is_exponential(l) => Some(l.mean()),
@@ -304,6 +317,14 @@ fn queue_group(col: &mut Column, g: usize) {
         return;
     };
     let n = grp.servers;
+    if !exponential {
+        if patience.is_none()
+            && let Some(cv) = cv
+        {
+            general_queue(col, g, &users, traffic, h, cv);
+        }
+        return;
+    }
     match patience {
         None => {
             let (Ok(c), Ok(w)) = (
@@ -355,6 +376,38 @@ fn queue_group(col: &mut Column, g: usize) {
         }
     }
 }
+
+/// M/G/N without patience: Pollaczek-Khinchine (one agent, exact),
+/// Cosmetatos (constant holding) or Allen-Cunneen for the mean wait and the
+/// probability of waiting. Nobody is lost and every call is carried, for
+/// any holding law, so those figures are exact whatever the method.
+fn general_queue(
+    col: &mut Column,
+    g: usize,
+    users: &[(usize, usize)],
+    traffic: f64,
+    h: f64,
+    cv: f64,
+) {
+    let n = col.model.groups[g].servers;
+    let Ok(w) = queue_general::mean_wait(n, traffic, h, cv) else {
+        return;
+    };
+    let method = w.method.label();
+    col.group(g, Figure::CarriedTraffic, NO_LOSS, traffic);
+    col.group(g, Figure::Occupancy, NO_LOSS, traffic / f64::from(n));
+    for &(s, _) in users {
+        col.stream(s, Figure::WaitProbability, method, w.wait_probability);
+        // The simulated figure is the mean wait of answered calls; with no
+        // patience every call is answered, so it is the mean over all calls.
+        col.stream(s, Figure::WaitMean, method, w.mean_wait_s);
+        col.stream(s, Figure::Loss, NO_LOSS, 0.0);
+    }
+}
+
+/// Label of the figures that follow from a stable queue without patience
+/// losing nobody (exact for any holding law).
+const NO_LOSS: &str = "unlimited queue, no loss";
 
 fn engset_group(col: &mut Column, g: usize) {
     let model = col.model;
