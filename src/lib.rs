@@ -28,6 +28,7 @@
 pub mod dist;
 pub mod engine;
 pub mod experiment;
+pub mod files;
 pub mod formulas;
 pub mod records;
 pub mod report;

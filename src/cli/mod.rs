@@ -7,12 +7,13 @@ pub mod records;
 
 use anyhow::{Context, Result, bail};
 use busyhour::experiment::{self, RunOptions};
+use busyhour::files::{FilePlan, OutputKind};
 use busyhour::report::{self, RunReport};
-use busyhour::scenario::{self, Replications};
+use busyhour::scenario::{self, Model, Replications};
 use busyhour::units;
 use clap::Args;
 use std::io::{IsTerminal, Write};
-use std::path::PathBuf;
+use std::path::{Path, PathBuf};
 use std::process::ExitCode;
 use std::sync::atomic::{AtomicBool, Ordering};
 
@@ -81,6 +82,55 @@ pub struct OutputArgs {
     /// No progress bar.
     #[arg(long, short)]
     pub quiet: bool,
+    /// Replace an existing output file even when it does not look like an
+    /// earlier busyhour output (never a file this command reads).
+    #[arg(long)]
+    pub force: bool,
+}
+
+impl OutputArgs {
+    /// What `--out` holds: JSON, CSV, a part file or the text report.
+    fn out_kind(&self, part: bool) -> OutputKind {
+        if part {
+            OutputKind::Part
+        } else if self.json {
+            OutputKind::Json
+        } else if self.csv {
+            OutputKind::Csv
+        } else {
+            OutputKind::Text
+        }
+    }
+
+    /// A plan of the files of a command: `--out` and `--report` as outputs,
+    /// plus the scenario and its data files as inputs when given.
+    fn plan(&self, scenario: Option<(&Path, &Model)>, part: bool) -> FilePlan {
+        let mut plan = FilePlan::new(self.force);
+        if let Some((path, model)) = scenario {
+            scenario_inputs(&mut plan, path, model);
+        }
+        if let Some(out) = &self.out {
+            plan.output("--out", out, self.out_kind(part));
+        }
+        if let Some(report) = &self.report {
+            plan.output("--report", report, OutputKind::Html);
+        }
+        plan
+    }
+}
+
+/// The scenario and every data file it read, as inputs.
+fn scenario_inputs(plan: &mut FilePlan, path: &Path, model: &Model) {
+    plan.input("the scenario", path);
+    for d in &model.data_files {
+        plan.input(
+            format!(
+                "the data file {} of the scenario",
+                busyhour::scenario::printable(&d.display().to_string())
+            ),
+            d,
+        );
+    }
 }
 
 /// `busyhour run`.
@@ -314,6 +364,13 @@ fn write_file(path: &std::path::Path, text: &str) -> Result<()> {
 /// `busyhour run`.
 pub fn run(a: &RunArgs) -> Result<Status> {
     let mut model = scenario::load(&a.scenario)?;
+    let mut files = a
+        .output
+        .plan(Some((&a.scenario, &model)), a.shard.is_some());
+    if let Some(chart) = &a.chart {
+        files.output("--chart", chart, OutputKind::Svg);
+    }
+    files.check()?;
     if let Some(seed) = a.reps.seed {
         model.plan.seed = seed;
     }
@@ -395,6 +452,7 @@ pub fn size(a: &SizeArgs) -> Result<Status> {
         bail!("size prints a table or --json; --csv is for run and sweep");
     }
     let mut model = scenario::load(&a.scenario)?;
+    a.output.plan(Some((&a.scenario, &model)), false).check()?;
     if let Some(seed) = a.reps.seed {
         model.plan.seed = seed;
     }
@@ -454,6 +512,13 @@ pub fn size(a: &SizeArgs) -> Result<Status> {
 pub fn sweep(a: &SweepArgs) -> Result<Status> {
     use busyhour::experiment::sweep::{self, Sweep};
     let mut model = scenario::load(&a.scenario)?;
+    let mut files = a
+        .output
+        .plan(Some((&a.scenario, &model)), a.shard.is_some());
+    if let Some(chart) = &a.chart {
+        files.output("--chart", chart, OutputKind::Svg);
+    }
+    files.check()?;
     if let Some(seed) = a.reps.seed {
         model.plan.seed = seed;
     }
@@ -604,6 +669,17 @@ pub fn merge(a: &MergeArgs) -> Result<Status> {
         .clone()
         .unwrap_or_else(|| PathBuf::from(&recorded));
     let loaded = scenario::load(&scenario_path)?;
+    let mut files = a.output.plan(Some((&scenario_path, &loaded)), false);
+    for p in &a.parts {
+        files.input(
+            format!(
+                "the part file {}",
+                scenario::printable(&p.display().to_string())
+            ),
+            p,
+        );
+    }
+    files.check()?;
     let model = shard::model_for(&loaded, &parts);
     let scenario_name = scenario_path.display().to_string();
     if let Some(spec) = parts[0].1.sweep.clone() {

@@ -2,6 +2,7 @@
 //! `busyhour::records` and prints; no analysis here.
 
 use anyhow::{Context, Result};
+use busyhour::files::{FilePlan, OutputKind};
 use busyhour::records::{self, Columns, DayFilter, Options, report, scenario_out};
 use busyhour::report::{chart, write_atomically};
 use busyhour::units;
@@ -70,6 +71,10 @@ pub struct RecordsArgs {
     /// Write the report or JSON to FILE (atomically) instead of standard output.
     #[arg(long, value_name = "FILE")]
     pub out: Option<PathBuf>,
+    /// Replace an existing output file even when it does not look like an
+    /// earlier busyhour output (never the call-record file itself).
+    #[arg(long)]
+    pub force: bool,
 }
 
 /// The holding-time file written beside a scenario: `NAME-holding.csv`.
@@ -104,6 +109,34 @@ pub fn run(a: &RecordsArgs) -> Result<()> {
         days,
         ..Options::default()
     };
+    // No output may replace the records or another output (checked before
+    // reading them).
+    let mut files = FilePlan::new(a.force);
+    files.input("the call-record file", &a.file);
+    if let Some(out) = &a.out {
+        let kind = if a.json {
+            OutputKind::Json
+        } else {
+            OutputKind::Text
+        };
+        files.output("--out", out, kind);
+    }
+    if let Some(chart) = &a.chart {
+        files.output("--chart", chart, OutputKind::Svg);
+    }
+    if let Some(path) = &a.scenario_out {
+        files.output("--scenario-out", path, OutputKind::Scenario);
+        let beside = path
+            .parent()
+            .unwrap_or(Path::new(""))
+            .join(holding_file_name(path));
+        files.output(
+            "the holding-time file beside --scenario-out",
+            &beside,
+            OutputKind::HoldingCsv,
+        );
+    }
+    files.check()?;
     // Stage two: read, analyse, write.
     let analysis = records::analyse(&a.file, &opts)?;
     let mut json = a.json.then(|| report::to_json(&analysis));

@@ -131,13 +131,14 @@ pub fn parse(
     Compiler {
         file: file.to_string(),
         base: base.to_path_buf(),
+        data_files: Default::default(),
     }
     .compile(spec, default_title)
 }
 
 /// Text from the user's file in a message, control characters (line breaks
 /// included) escaped, so that every message stays on one line.
-fn printable(text: &str) -> String {
+pub fn printable(text: &str) -> String {
     if !text.chars().any(char::is_control) {
         return text.to_string();
     }
@@ -291,6 +292,8 @@ pub fn name_key(name: &str) -> u64 {
 struct Compiler {
     file: String,
     base: PathBuf,
+    /// Data files read so far (empirical laws).
+    data_files: std::cell::RefCell<Vec<PathBuf>>,
 }
 
 type R<T> = Result<T, ScenarioError>;
@@ -565,6 +568,7 @@ impl Compiler {
             plan,
             groups,
             streams,
+            data_files: self.data_files.take(),
         };
         if !model.plan.warmup_given {
             // The default warm-up from the holding laws, whole seconds, at
@@ -792,6 +796,7 @@ impl Compiler {
                     format!("\"{file}\" is this scenario file itself: name a CSV file of measured values"),
                 ));
             }
+            self.data_files.borrow_mut().push(path.clone());
             let values = dist::empirical::read_column(&path, l.column.as_deref(), scale)
                 .map_err(|e| self.err(format!("{key}.file"), e.to_string()))?;
             return Law::empirical(values).map_err(law_err);

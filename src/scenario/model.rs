@@ -257,6 +257,9 @@ pub struct Model {
     pub groups: Vec<Group>,
     /// Streams.
     pub streams: Vec<Stream>,
+    /// Data files the scenario read (empirical laws), as resolved against
+    /// the scenario's folder: inputs that no output may replace.
+    pub data_files: Vec<std::path::PathBuf>,
 }
 
 impl Model {
