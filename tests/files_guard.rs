@@ -266,3 +266,39 @@ fn a_foreign_file_is_replaced_only_with_force() {
         "that is the data file",
     );
 }
+
+#[test]
+fn data_files_outside_the_data_folder_are_refused_before_reading() {
+    let d = folder("confined");
+    std::fs::create_dir_all(d.join("data")).unwrap();
+    refused(
+        &d,
+        &["check", "ferry-booking.toml", "--data-dir", "data"],
+        "is not a readable file inside the data folder data (--data-dir)",
+    );
+    refused(
+        &d,
+        &["run", "ferry-booking.toml", "--data-dir", "data"],
+        "(--data-dir)",
+    );
+    let o = busyhour(&d, &["check", "ferry-booking.toml", "--data-dir", "."]);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+}
+
+#[test]
+fn a_data_file_is_quoted_in_short_excerpts_only() {
+    // A file that is not a CSV of measured values (here: a long single line)
+    // named as a data file: the message quotes at most 40 characters of it.
+    let d = folder("excerpt");
+    let secret = format!("{},other", "x".repeat(500));
+    std::fs::write(d.join("long.csv"), format!("{secret}\n1,2\n")).unwrap();
+    let text = std::fs::read_to_string(d.join("ferry-booking.toml"))
+        .unwrap()
+        .replace("ferry-talk-times.csv", "long.csv");
+    std::fs::write(d.join("bad.toml"), text).unwrap();
+    let o = busyhour(&d, &["check", "bad.toml"]);
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert_eq!(o.status.code(), Some(2), "{err}");
+    assert!(err.contains("has no column"), "{err}");
+    assert!(!err.contains(&"x".repeat(41)), "quotes too much: {err}");
+}

@@ -163,6 +163,10 @@ pub struct MergeArgs {
     /// the parts).
     #[arg(long, value_name = "FILE")]
     pub scenario: Option<PathBuf>,
+    /// Refuse any data file the scenario names that does not lie inside
+    /// DIR (a scenario can name any file its user can read).
+    #[arg(long = "data-dir", value_name = "DIR")]
+    pub data_dir: Option<PathBuf>,
     #[command(flatten)]
     pub output: OutputArgs,
 }
@@ -189,6 +193,11 @@ pub struct ReplicationArgs {
     /// Run even when the estimated time is over ten minutes.
     #[arg(long)]
     pub yes: bool,
+    /// Refuse any data file the scenario names that does not lie inside
+    /// DIR (for services that run scenarios written by others: a scenario
+    /// can name any file its user can read).
+    #[arg(long = "data-dir", value_name = "DIR")]
+    pub data_dir: Option<PathBuf>,
 }
 
 /// `busyhour sweep`.
@@ -261,6 +270,11 @@ pub struct CheckArgs {
     /// Print the formula view as JSON.
     #[arg(long)]
     pub json: bool,
+    /// Refuse any data file the scenario names that does not lie inside
+    /// DIR (for services that run scenarios written by others: a scenario
+    /// can name any file its user can read).
+    #[arg(long = "data-dir", value_name = "DIR")]
+    pub data_dir: Option<PathBuf>,
 }
 
 fn replications_override(
@@ -363,7 +377,7 @@ fn write_file(path: &std::path::Path, text: &str) -> Result<()> {
 
 /// `busyhour run`.
 pub fn run(a: &RunArgs) -> Result<Status> {
-    let mut model = scenario::load(&a.scenario)?;
+    let mut model = scenario::load_confined(&a.scenario, a.reps.data_dir.as_deref())?;
     let mut files = a
         .output
         .plan(Some((&a.scenario, &model)), a.shard.is_some());
@@ -427,7 +441,7 @@ pub fn run(a: &RunArgs) -> Result<Status> {
 
 /// `busyhour check`.
 pub fn check(a: &CheckArgs) -> Result<Status> {
-    let model = scenario::load(&a.scenario)?;
+    let model = scenario::load_confined(&a.scenario, a.data_dir.as_deref())?;
     let file = a.scenario.display().to_string();
     let view = report::formula_view(&model);
     let text = if a.json {
@@ -451,7 +465,7 @@ pub fn size(a: &SizeArgs) -> Result<Status> {
     if a.output.csv {
         bail!("size prints a table or --json; --csv is for run and sweep");
     }
-    let mut model = scenario::load(&a.scenario)?;
+    let mut model = scenario::load_confined(&a.scenario, a.reps.data_dir.as_deref())?;
     a.output.plan(Some((&a.scenario, &model)), false).check()?;
     if let Some(seed) = a.reps.seed {
         model.plan.seed = seed;
@@ -511,7 +525,7 @@ pub fn size(a: &SizeArgs) -> Result<Status> {
 /// `busyhour sweep`.
 pub fn sweep(a: &SweepArgs) -> Result<Status> {
     use busyhour::experiment::sweep::{self, Sweep};
-    let mut model = scenario::load(&a.scenario)?;
+    let mut model = scenario::load_confined(&a.scenario, a.reps.data_dir.as_deref())?;
     let mut files = a
         .output
         .plan(Some((&a.scenario, &model)), a.shard.is_some());
@@ -668,7 +682,7 @@ pub fn merge(a: &MergeArgs) -> Result<Status> {
         .scenario
         .clone()
         .unwrap_or_else(|| PathBuf::from(&recorded));
-    let loaded = scenario::load(&scenario_path)?;
+    let loaded = scenario::load_confined(&scenario_path, a.data_dir.as_deref())?;
     let mut files = a.output.plan(Some((&scenario_path, &loaded)), false);
     for p in &a.parts {
         files.input(

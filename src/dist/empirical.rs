@@ -569,8 +569,8 @@ pub fn read_column(
                 None => {
                     return Err(EmpiricalError::NoSuchColumn {
                         path: path_buf(),
-                        column: c.to_string(),
-                        available: first_fields.join(", "),
+                        column: quote(c),
+                        available: quote(&first_fields.join(", ")),
                     });
                 }
             },

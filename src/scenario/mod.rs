@@ -77,6 +77,14 @@ const MAX_FILE_BYTES: u64 = 16 * 1024 * 1024;
 
 /// Read, parse and validate a scenario file.
 pub fn load(path: &Path) -> Result<Model, ScenarioError> {
+    load_confined(path, None)
+}
+
+/// [`load`], refusing any data file that does not lie inside `data_dir`
+/// (after following links), before reading it: a scenario may name any file
+/// its user can read, so a service that runs scenarios written by others
+/// confines them to a folder.
+pub fn load_confined(path: &Path, data_dir: Option<&Path>) -> Result<Model, ScenarioError> {
     let file = printable(&path.display().to_string());
     let read_err = |reason: String| ScenarioError::Read {
         file: file.clone(),
@@ -104,7 +112,7 @@ pub fn load(path: &Path) -> Result<Model, ScenarioError> {
         .file_stem()
         .map(|s| s.to_string_lossy().into_owned())
         .unwrap_or_default();
-    parse(&text, &file, &base, &default_title)
+    parse_confined(&text, &file, &base, &default_title, data_dir)
 }
 
 /// Parse and validate scenario text. `file` names it in errors; `base` is the
@@ -114,6 +122,17 @@ pub fn parse(
     file: &str,
     base: &Path,
     default_title: &str,
+) -> Result<Model, ScenarioError> {
+    parse_confined(text, file, base, default_title, None)
+}
+
+/// [`parse`] with data files confined to `data_dir` (see [`load_confined`]).
+pub fn parse_confined(
+    text: &str,
+    file: &str,
+    base: &Path,
+    default_title: &str,
+    data_dir: Option<&Path>,
 ) -> Result<Model, ScenarioError> {
     let file = &printable(file);
     let spec: ScenarioSpec = toml::from_str(text).map_err(|e| {
@@ -132,6 +151,7 @@ pub fn parse(
         file: file.to_string(),
         base: base.to_path_buf(),
         data_files: Default::default(),
+        data_dir: data_dir.map(Path::to_path_buf),
     }
     .compile(spec, default_title)
 }
@@ -294,6 +314,8 @@ struct Compiler {
     base: PathBuf,
     /// Data files read so far (empirical laws).
     data_files: std::cell::RefCell<Vec<PathBuf>>,
+    /// Data files must lie inside this folder (`--data-dir`).
+    data_dir: Option<PathBuf>,
 }
 
 type R<T> = Result<T, ScenarioError>;
@@ -795,6 +817,21 @@ impl Compiler {
                     format!("{key}.file"),
                     format!("\"{file}\" is this scenario file itself: name a CSV file of measured values"),
                 ));
+            }
+            if let Some(dir) = &self.data_dir {
+                let inside = match (path.canonicalize(), dir.canonicalize()) {
+                    (Ok(p), Ok(d)) => p.starts_with(d),
+                    _ => false,
+                };
+                if !inside {
+                    return Err(self.err(
+                        format!("{key}.file"),
+                        format!(
+                            "\"{file}\" is not a readable file inside the data folder {} (--data-dir)",
+                            dir.display()
+                        ),
+                    ));
+                }
             }
             self.data_files.borrow_mut().push(path.clone());
             let values = dist::empirical::read_column(&path, l.column.as_deref(), scale)
