@@ -3,8 +3,9 @@
 //!
 //! Owns Erlang B, Erlang C, Erlang A, Engset, overflow moments with the
 //! equivalent random method, Kaufman-Roberts multi-rate blocking, and M/G/N
-//! mean waits (Pollaczek-Khinchine, Allen-Cunneen, Cosmetatos). Must not
-//! touch simulation, files or printing.
+//! mean waits (Pollaczek-Khinchine, Allen-Cunneen, Cosmetatos) and the redial
+//! fixed point of a loss group. Must not touch simulation, files or
+//! printing.
 //!
 //! Units: traffic in erlangs, times in seconds, shares between 0 and 1,
 //! servers (agents, circuits) as `u32`. Every function validates its
@@ -47,6 +48,7 @@ mod error;
 pub mod multirate;
 pub mod overflow;
 pub mod queue_general;
+pub mod redial_fixed_point;
 mod scaled;
 
 pub use error::FormulaError;

@@ -6,9 +6,19 @@
 //! - Erlang B: a loss group offered Poisson traffic directly (first choice of
 //!   every stream that uses it), one server per call, no reservation. Erlang B
 //!   is insensitive to the holding-time law (Sevastyanov), so any law
-//!   qualifies. For streams that redial it is the no-redial reference of
-//!   first attempts alone; the overflow mean A*B is insensitive too, Riordan's
+//!   qualifies; the overflow mean A*B is insensitive too, Riordan's
 //!   peakedness holds for exponential holding only.
+//! - Erlang B with redials, fixed point (approx.): the same group when some
+//!   of its streams redial and every stream ends on it. `B = E_N(offered
+//!   attempts)`, solved with each stream's own redial chances (the last
+//!   repeating, as simulated) and attempt limit; gives time congestion,
+//!   first-attempt and attempt blocking (both `B`), attempts per call, loss,
+//!   carried traffic and the overflow mean (`B` x attempt traffic); no
+//!   peakedness. Close for redials long after the blocking, understates
+//!   attempt blocking and loss for quick ones (tests/formulas_redial_fixed_point.rs).
+//!   Where a redialing group also passes calls on, only "Erlang B, no
+//!   redials" is shown (time congestion; first attempts and loss of the
+//!   streams ending there), named for what it ignores.
 //! - Equivalent random (Wilkinson, Rapp): loss of a stream routed over a first
 //!   group that meets the Erlang B conditions and then a final group that is
 //!   offered only such overflow and direct Poisson traffic; exponential holding.
@@ -29,7 +39,9 @@
 //! - Engset: one finite-source stream alone on a loss group (insensitive to
 //!   the holding and idle laws).
 
-use crate::formulas::{engset, erlang_a, erlang_b, erlang_c, multirate, overflow, queue_general};
+use crate::formulas::{
+    engset, erlang_a, erlang_b, erlang_c, multirate, overflow, queue_general, redial_fixed_point,
+};
 use crate::scenario::{Arrivals, Model, Queue, Stream};
 use crate::stats::{Figure, FigureId, Scope, group_figures, stream_figures};
 use std::collections::HashMap;
@@ -171,28 +183,51 @@ pub fn formula_column(model: &Model) -> HashMap<FigureId, Formula> {
     col.map
 }
 
+/// Label of the redial fixed point.
+const REDIAL_FIXED_POINT: &str = "Erlang B with redials, fixed point (approx.)";
+
 fn erlang_b_group(col: &mut Column, g: usize) {
     let model = col.model;
     let Some((a, exponential)) = direct_poisson_load(model, g, false) else {
         return;
     };
+    let users = users(model, g);
+    let redials = users.iter().any(|&(s, _)| model.streams[s].retry.is_some());
+    if redials {
+        if users
+            .iter()
+            .all(|&(s, _)| model.streams[s].route.len() == 1)
+        {
+            redial_group(col, g, &users);
+        } else {
+            // Redials of calls that also overflow elsewhere: no fixed point
+            // here; Erlang B of the fresh traffic, named for what it ignores.
+            let Ok(b) = erlang_b::blocking(model.groups[g].servers, a) else {
+                return;
+            };
+            col.group(g, Figure::TimeCongestion, "Erlang B, no redials", b);
+            for &(s, _) in &users {
+                let st = &model.streams[s];
+                if st.route.len() == 1 && st.retry.is_some() {
+                    col.stream(s, Figure::FirstAttemptBlocking, "Erlang B, no redials", b);
+                    col.stream(s, Figure::Loss, "Erlang B, no redials", b);
+                }
+            }
+        }
+        return;
+    }
     let n = model.groups[g].servers;
     let Ok(b) = erlang_b::blocking(n, a) else {
         return;
     };
     col.group(g, Figure::TimeCongestion, "Erlang B", b);
-    // Carried traffic only where no redials add load.
-    let users = users(model, g);
-    let redials = users.iter().any(|&(s, _)| model.streams[s].retry.is_some());
-    if !redials {
-        col.group(g, Figure::CarriedTraffic, "Erlang B", a * (1.0 - b));
-        col.group(
-            g,
-            Figure::Occupancy,
-            "Erlang B",
-            a * (1.0 - b) / f64::from(n),
-        );
-    }
+    col.group(g, Figure::CarriedTraffic, "Erlang B", a * (1.0 - b));
+    col.group(
+        g,
+        Figure::Occupancy,
+        "Erlang B",
+        a * (1.0 - b) / f64::from(n),
+    );
     col.group(g, Figure::OverflowMean, "Erlang B: A*B", a * b);
     if exponential && let Ok(m) = overflow::riordan(n, a) {
         col.group(g, Figure::OverflowPeakedness, "Riordan", m.peakedness());
@@ -202,21 +237,82 @@ fn erlang_b_group(col: &mut Column, g: usize) {
         if st.route.len() != 1 {
             continue; // blocked only when every group on the route is full
         }
-        if st.retry.is_some() {
-            col.stream(s, Figure::FirstAttemptBlocking, "Erlang B, no redials", b);
-            col.stream(s, Figure::Loss, "Erlang B, no redials", b);
-        } else {
-            col.stream(s, Figure::FirstAttemptBlocking, "Erlang B", b);
-            col.stream(s, Figure::Loss, "Erlang B", b);
-            if let Some(rate) = poisson_rate(st) {
-                col.stream(
-                    s,
-                    Figure::CarriedTraffic,
-                    "Erlang B",
-                    rate * st.holding.mean() * (1.0 - b),
-                );
-            }
+        col.stream(s, Figure::FirstAttemptBlocking, "Erlang B", b);
+        col.stream(s, Figure::Loss, "Erlang B", b);
+        if let Some(rate) = poisson_rate(st) {
+            col.stream(
+                s,
+                Figure::CarriedTraffic,
+                "Erlang B",
+                rate * st.holding.mean() * (1.0 - b),
+            );
         }
+    }
+}
+
+/// A loss group offered only direct Poisson streams that end on it, some of
+/// which redial: the redial fixed point with each stream's own chances
+/// (the last repeating, as the simulator does) and attempt limit, so no
+/// behaviour of the retry is dropped. Every attempt meets the same
+/// blocking `B`, which is then also the time congestion; blocked attempts
+/// occupy the virtual overflow group, so its mean is `B` x attempt traffic.
+fn redial_group(col: &mut Column, g: usize, users: &[(usize, usize)]) {
+    let model = col.model;
+    let mut streams = Vec::with_capacity(users.len());
+    for &(s, _) in users {
+        let st = &model.streams[s];
+        let Some(rate) = poisson_rate(st) else { return };
+        let (chances, max_attempts) = match &st.retry {
+            Some(r) => (r.chances.clone(), r.max_attempts),
+            None => (Vec::new(), 1),
+        };
+        streams.push(redial_fixed_point::RedialingStream {
+            traffic: rate * st.holding.mean(),
+            chances,
+            max_attempts: Some(max_attempts),
+        });
+    }
+    let n = model.groups[g].servers;
+    let Ok(f) = redial_fixed_point::solve(n, &streams) else {
+        return;
+    };
+    let b = f.blocking;
+    col.group(g, Figure::TimeCongestion, REDIAL_FIXED_POINT, b);
+    col.group(
+        g,
+        Figure::CarriedTraffic,
+        REDIAL_FIXED_POINT,
+        f.carried_traffic(),
+    );
+    col.group(
+        g,
+        Figure::Occupancy,
+        REDIAL_FIXED_POINT,
+        f.carried_traffic() / f64::from(n),
+    );
+    col.group(
+        g,
+        Figure::OverflowMean,
+        REDIAL_FIXED_POINT,
+        b * f.attempt_traffic,
+    );
+    for (i, &(s, _)) in users.iter().enumerate() {
+        let shares = f.streams[i];
+        col.stream(s, Figure::FirstAttemptBlocking, REDIAL_FIXED_POINT, b);
+        col.stream(s, Figure::AttemptBlocking, REDIAL_FIXED_POINT, b);
+        col.stream(
+            s,
+            Figure::AttemptsPerCall,
+            REDIAL_FIXED_POINT,
+            shares.attempts_per_call,
+        );
+        col.stream(s, Figure::Loss, REDIAL_FIXED_POINT, shares.loss);
+        col.stream(
+            s,
+            Figure::CarriedTraffic,
+            REDIAL_FIXED_POINT,
+            streams[i].traffic * (1.0 - shares.loss),
+        );
     }
 }
 
