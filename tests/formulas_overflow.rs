@@ -286,3 +286,55 @@ fn extreme_range_is_finite() {
         assert!(f.final_blocking.is_finite() && (0.0..=1.0).contains(&f.final_blocking));
     }
 }
+
+#[test]
+fn per_parcel_final_blocking_follows_the_exact_network_chain() {
+    use busyhour::formulas::chains::{FirstChoice, overflow_network};
+    // Two first-choice groups (10 circuits / 8 E, 7 / 5 E) and 2 E direct on
+    // a final group of 8, 9 and 10 circuits, exponential holding: the exact
+    // chain of the network (formulas::chains) against the equivalent random
+    // method with the peakedness split B_i = B Z_i / Z (direct traffic:
+    // Z = 1). The plain method gives every parcel the same B and
+    // understates the peaky parcels' loss about twice (0.54% against 1.007%
+    // and 0.788%). Measured here: the split is -22%, -32%, -42% for the
+    // peakier parcel (8, 9, 10 final circuits) and -14%, -23%, -33% for the
+    // other, against -46% to -60% for the plain method; the direct stream
+    // within +4% to -10%. Better, not yet good: a parcel's share of the
+    // losses grows faster than its peakedness.
+    for final_servers in [8, 9, 10] {
+        let exact = overflow_network(
+            &[
+                FirstChoice {
+                    servers: 10,
+                    traffic: 8.0,
+                },
+                FirstChoice {
+                    servers: 7,
+                    traffic: 5.0,
+                },
+            ],
+            final_servers,
+            2.0,
+        )
+        .unwrap();
+        let fin = overflow::final_group(&[(8.0, 10), (5.0, 7)], 2.0, final_servers).unwrap();
+        let parcels = [(8.0, 10), (5.0, 7)];
+        for (i, &(a, n)) in parcels.iter().enumerate() {
+            let m = overflow::riordan(n, a).unwrap();
+            let split = erlang_b::blocking(n, a).unwrap() * fin.parcel_blocking(m.peakedness());
+            let plain = erlang_b::blocking(n, a).unwrap() * fin.final_blocking;
+            let truth = exact.first_choice_loss[i];
+            assert!(
+                (split / truth - 1.0).abs() < 0.45,
+                "final {final_servers}, parcel {i}: split {split} exact {truth}"
+            );
+            assert!((split - truth).abs() < (plain - truth).abs());
+        }
+        let direct = fin.parcel_blocking(1.0);
+        assert!(
+            (direct / exact.direct_loss - 1.0).abs() < 0.15,
+            "final {final_servers}: direct {direct} exact {}",
+            exact.direct_loss
+        );
+    }
+}

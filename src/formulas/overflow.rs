@@ -454,6 +454,22 @@ pub fn final_group(
     })
 }
 
+impl FinalGroup {
+    /// The final-group blocking of one parcel of the offered overflow with
+    /// peakedness `z` (1 for direct Poisson traffic): the peakedness split
+    /// B_i = B Z_i / Z of the equivalent random method (an approximation
+    /// recalled from the teletraffic literature as common practice with
+    /// Wilkinson's method; a peaky parcel arrives in bursts and meets a full
+    /// final group more often than a smooth one). Conserves lost traffic:
+    /// sum M_i B_i = B M when the parcels' variances add up to the total.
+    pub fn parcel_blocking(&self, z: f64) -> f64 {
+        if !(self.peakedness > 0.0) || !(z > 0.0) {
+            return self.final_blocking;
+        }
+        (self.final_blocking * z / self.peakedness).min(1.0)
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

@@ -22,6 +22,10 @@
 //! - Equivalent random (Wilkinson, Rapp): loss of a stream routed over a first
 //!   group that meets the Erlang B conditions and then a final group that is
 //!   offered only such overflow and direct Poisson traffic; exponential holding.
+//!   Each parcel (and the direct stream, peakedness 1) gets the final
+//!   group's blocking split by peakedness, B_i = B Z_i / Z (approx.; against
+//!   the exact network chain it still understates peaky parcels by 20-40%,
+//!   `tests/formulas_overflow.rs`).
 //! - Kaufman-Roberts: a loss group whose direct Poisson streams take different
 //!   numbers of servers per call.
 //! - Erlang C: an unlimited queue on a single group, Poisson arrivals,
@@ -612,16 +616,24 @@ fn equivalent_random(col: &mut Column) {
         let Ok(fin) = overflow::final_group(&list, direct, fg.servers) else {
             continue;
         };
+        // Each parcel meets the final group's blocking in proportion to its
+        // peakedness (B_i = B Z_i / Z; direct Poisson traffic Z = 1).
+        const METHOD: &str = "equivalent random, peakedness split (approx.)";
         for (s, p) in two_step {
             let n = model.groups[p].servers;
             let a = primaries.iter().find(|x| x.0 == p).map_or(0.0, |x| x.1);
-            if let Ok(b) = erlang_b::blocking(n, a) {
+            if let (Ok(b), Ok(m)) = (erlang_b::blocking(n, a), overflow::riordan(n, a)) {
                 col.stream(
                     s,
                     Figure::Loss,
-                    "equivalent random (approx.)",
-                    b * fin.final_blocking,
+                    METHOD,
+                    b * fin.parcel_blocking(m.peakedness()),
                 );
+            }
+        }
+        for (s, pos) in users(model, f) {
+            if pos == 0 && model.streams[s].route.len() == 1 {
+                col.stream(s, Figure::Loss, METHOD, fin.parcel_blocking(1.0));
             }
         }
     }
