@@ -372,3 +372,14 @@ fn interrupt_prints_a_partial_result_and_exits_130() {
     assert!(n > 0 && n < 10000, "{n}");
     assert!(stderr(&o).contains("interrupted"));
 }
+
+#[test]
+fn check_lists_interval_formulas_labelled_and_in_time_order() {
+    let a = stdout(&busyhour(&["check", "scenarios/harbour-peak.toml"]));
+    let b = stdout(&busyhour(&["check", "scenarios/harbour-peak.toml"]));
+    assert_eq!(a, b, "the formula view changes between runs");
+    let first = a.find("(0:00-0:15)").expect("first interval labelled");
+    let second = a.find("(0:15-0:30)").expect("second interval labelled");
+    let last = a.find("(2:45-3:00)").expect("last interval labelled");
+    assert!(first < second && second < last);
+}

@@ -703,15 +703,27 @@ pub fn formula_view_text(model: &Model, view: &HashMap<FigureId, Formula>) -> St
     let mut rows = Vec::new();
     let mut entries: Vec<(&FigureId, &Formula)> = view.iter().collect();
     entries.sort_by_key(|(f, _)| {
-        let (kind, i) = match f.scope {
-            Scope::Stream(s) => (0, s),
-            Scope::Group(g) => (1, g),
-            Scope::StreamInterval(_, s) => (2, s),
-            Scope::GroupInterval(_, g) => (3, g),
+        // A fixed order: streams, groups, then intervals in time order.
+        let (kind, i, b) = match f.scope {
+            Scope::Stream(s) => (0, s, 0),
+            Scope::Group(g) => (1, g, 0),
+            Scope::StreamInterval(b, s) => (2, s, b),
+            Scope::GroupInterval(b, g) => (3, g, b),
         };
-        (kind, i, f.figure.compact_order())
+        (kind, i, b, f.figure.compact_order(), f.figure)
     });
+    let width = model.plan.interval_s.unwrap_or(model.plan.length_s);
+    let clock = |b: usize| {
+        let t = |x: f64| {
+            let m = (x / 60.0).round() as u64;
+            format!("{}:{:02}", m / 60, m % 60)
+        };
+        let start = b as f64 * width;
+        let end = (start + width).min(model.plan.length_s);
+        format!("{}-{}", t(start), t(end))
+    };
     for (f, fo) in entries {
+        let label_of = |b: usize| format!("{} ({})", label(f.figure), clock(b));
         let who = match f.scope {
             Scope::Stream(s) | Scope::StreamInterval(_, s) => {
                 format!("stream {}", model.streams[s].name)
@@ -720,9 +732,13 @@ pub fn formula_view_text(model: &Model, view: &HashMap<FigureId, Formula>) -> St
                 format!("group {}", model.groups[g].name)
             }
         };
+        let what = match f.scope {
+            Scope::StreamInterval(b, _) | Scope::GroupInterval(b, _) => label_of(b),
+            _ => label(f.figure).to_string(),
+        };
         rows.push(vec![
             who,
-            label(f.figure).to_string(),
+            what,
             fmt_value(kind(f.figure), fo.value),
             fo.name.to_string(),
         ]);
