@@ -34,4 +34,5 @@ pub mod records;
 pub mod report;
 pub mod scenario;
 pub mod stats;
+pub mod textbook;
 pub mod units;

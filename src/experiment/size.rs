@@ -4,9 +4,9 @@
 //! size), so neighbouring sizes are compared fairly.
 
 use super::{Accumulated, ExperimentError, Outcome, RunOptions, Runner, outcome_of};
-use crate::report::formula_column;
 use crate::scenario::{Model, Replications};
 use crate::stats::{self, Estimate, Figure, FigureId, Scope};
+use crate::textbook::formula_column;
 use crate::units;
 use std::collections::BTreeMap;
 use std::time::Instant;

@@ -5,7 +5,6 @@
 pub mod chart;
 pub mod charts;
 pub mod html;
-pub mod reference;
 
 use crate::experiment::Outcome;
 use crate::scenario::{Arrivals, Model, Queue, Replications};
@@ -16,7 +15,7 @@ use std::collections::HashMap;
 use std::io::Write;
 use std::path::Path;
 
-pub use reference::{Formula, formula_column, formula_view};
+pub use crate::textbook::{Formula, formula_column, formula_view};
 
 /// The caution printed under every report.
 pub const CAUTION: &str = "Estimates under the stated model assumptions, not guarantees. \

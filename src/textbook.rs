@@ -1,6 +1,9 @@
-//! The formula column: closed-form values beside simulated figures wherever a
-//! formula's assumptions hold for the model, so the engineer sees how far the
-//! simulated design moves from the textbook. Calls `formulas`; changes nothing.
+//! The textbook view of a model (the formula column): which closed form
+//! applies to which figure of this design, and its value, wherever a
+//! formula's assumptions hold, so the engineer sees how far the simulated
+//! design moves from the textbook. Model analysis between `formulas` and its
+//! users (`report`, `experiment::size`); calls `formulas`, changes nothing,
+//! and imports nothing from `report`.
 //!
 //! Which formula applies where:
 //! - Erlang B: a loss group offered Poisson traffic directly (first choice of
