@@ -383,3 +383,27 @@ fn check_lists_interval_formulas_labelled_and_in_time_order() {
     let last = a.find("(2:45-3:00)").expect("last interval labelled");
     assert!(first < second && second < last);
 }
+
+#[test]
+fn a_precision_goal_not_met_is_a_failed_goal() {
+    let out = scratch("short-precision.csv");
+    let o = busyhour(&[
+        "run",
+        "scenarios/harbour-peak.toml",
+        "--precision",
+        "0.5%",
+        "--max-replications",
+        "12",
+        "--csv",
+        "--out",
+        out.to_str().unwrap(),
+    ]);
+    assert_eq!(o.status.code(), Some(1), "{}", stderr(&o));
+    let err = stderr(&o);
+    assert!(
+        err.contains("precision goal 0.50% not met after 12 replications"),
+        "{err}"
+    );
+    assert!(err.contains("stream \"public\" loss"), "{err}");
+    assert!(out.exists(), "the results are still written");
+}

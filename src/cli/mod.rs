@@ -432,8 +432,36 @@ pub fn run(a: &RunArgs) -> Result<Status> {
             eprintln!("busyhour: warning: {w}");
         }
     }
+    // A precision goal that was not met is a failed goal: said on stderr
+    // whatever the output, exit status 1.
+    let short = outcome.precision.filter(|p| !p.met);
+    if let Some(p) = short {
+        let which = experiment::worst_key(&outcome.layout, &outcome.estimates).map_or(
+            String::new(),
+            |(f, _)| {
+                let whose = match f.scope {
+                    busyhour::stats::Scope::Stream(s) => {
+                        format!("stream \"{}\"", model.streams[s].name)
+                    }
+                    busyhour::stats::Scope::Group(g) => {
+                        format!("group \"{}\"", model.groups[g].name)
+                    }
+                    _ => String::new(),
+                };
+                format!(" ({whose} {})", f.name())
+            },
+        );
+        eprintln!(
+            "busyhour: precision goal {} not met after {} replications: the worst key figure{which} reached {}; raise max_replications or accept a wider interval",
+            units::format_share(p.target),
+            outcome.replications,
+            units::format_share(p.achieved)
+        );
+    }
     Ok(if outcome.partial {
         Status::Interrupted
+    } else if short.is_some() {
+        Status::Failed
     } else {
         Status::Done
     })

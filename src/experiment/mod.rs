@@ -346,6 +346,22 @@ pub fn estimate_one(
     stats::estimate_figure(f.figure, &column(i), level)
 }
 
+/// The key figure of a precision goal with the largest relative half-width,
+/// and that half-width (see [`worst_relative`]).
+pub fn worst_key(layout: &[FigureId], estimates: &[Estimate]) -> Option<(FigureId, f64)> {
+    layout
+        .iter()
+        .zip(estimates)
+        .filter(|(f, e)| {
+            matches!(f.scope, Scope::Stream(_) | Scope::Group(_))
+                && f.figure.is_precision_key(f.scope.is_stream())
+                && e.replications > 0
+                && e.mean != 0.0
+        })
+        .map(|(f, e)| (*f, e.relative_half_width()))
+        .max_by(|a, b| a.1.total_cmp(&b.1))
+}
+
 /// The key figures of a precision goal: every stream's loss and every group's
 /// carried traffic. Returns the largest relative half-width among them. A
 /// figure never observed to be non-zero (no lost call in any replication)
