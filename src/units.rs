@@ -18,6 +18,11 @@ pub enum UnitError {
         "'{0}' is not a rate: expected calls per unit of time like \"420/h\", \"7/m\", \"0.5/s\""
     )]
     Rate(String),
+    /// A bare number where a rate is needed: calls per what?
+    #[error(
+        "'{0}' has no time unit: write calls per hour like \"{0}/h\" (or /m, /s), so that a rate is never read per second by accident"
+    )]
+    RateUnit(String),
     /// Shares are a percentage ("1%") or a fraction ("0.01") between 0 and 1.
     #[error(
         "'{0}' is not a share: expected a percentage like \"1%\" or a fraction from 0 to 1 like \"0.01\""
@@ -101,14 +106,17 @@ pub fn parse_duration(text: &str) -> Result<f64, UnitError> {
 }
 
 /// Parse a rate to events per second: `<count>/<unit>` with unit `h`, `m`,
-/// `s` or `d` (also "/hour", "/min", "/sec", "/day"), or a plain number taken
-/// as per second. The result is finite and not negative.
+/// `s` or `d` (also "/hour", "/min", "/sec", "/day"). A plain number is
+/// refused ([`UnitError::RateUnit`]): "30" read as per second once sized
+/// 5,400 erlangs where 30 calls an hour were meant. The result is finite and
+/// not negative.
 ///
 /// # Example
 /// ```
 /// use busyhour::units::parse_rate;
 /// assert_eq!(parse_rate("1800/h").unwrap(), 0.5);
 /// assert_eq!(parse_rate("30/m").unwrap(), 0.5);
+/// assert!(parse_rate("30").unwrap_err().to_string().contains("no time unit"));
 /// ```
 pub fn parse_rate(text: &str) -> Result<f64, UnitError> {
     let err = || UnitError::Rate(text.to_string());
@@ -124,7 +132,12 @@ pub fn parse_rate(text: &str) -> Result<f64, UnitError> {
             };
             (parse_number(c).ok_or_else(err)?, per)
         }
-        None => (parse_number(t).ok_or_else(err)?, 1.0),
+        None => {
+            return Err(match parse_number(t) {
+                Some(_) => UnitError::RateUnit(t.to_string()),
+                None => err(),
+            });
+        }
     };
     if count < 0.0 {
         return Err(err());

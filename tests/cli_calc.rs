@@ -581,6 +581,20 @@ fn bad_values_exit_2_with_one_line() {
         ],
         "100%",
     );
+    // A bare number is not read as calls per second (30 calls an hour once
+    // became 5,400 erlangs).
+    assert_refused(
+        &[
+            "servers",
+            "--calls",
+            "30",
+            "--holding",
+            "3m",
+            "--loss",
+            "1%",
+        ],
+        "'30' has no time unit",
+    );
     assert_refused(
         &[
             "loss",
