@@ -169,3 +169,31 @@ fn common_random_numbers_sharpen_the_difference_of_adjacent_sizes() {
         independent
     );
 }
+
+#[test]
+fn the_deciding_target_is_the_worst_stream() {
+    // A goal over every stream is decided by the stream with the worst
+    // estimate; the sizing table and JSON name it.
+    let m = busyhour::scenario::load(std::path::Path::new(concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/scenarios/campus-overflow.toml"
+    )))
+    .unwrap();
+    let g = m.group_index("carrier-shared").unwrap();
+    let goal = Goal::parse("loss<=1%", &m, g).unwrap();
+    assert!(goal.targets.len() > 1);
+    let o = run_n(&m, 40);
+    let (_, worst, deciding) = goal.judge_targets(&o, 1);
+    let deciding = deciding.expect("a target decides");
+    let means: Vec<f64> = goal
+        .targets
+        .iter()
+        .map(|f| o.get_figure(f.scope, f.figure).unwrap().mean)
+        .collect();
+    let top = means.iter().copied().fold(f64::MIN, f64::max);
+    assert_eq!(
+        o.get_figure(deciding.scope, deciding.figure).unwrap().mean,
+        top
+    );
+    assert_eq!(worst.mean, top);
+}

@@ -243,8 +243,16 @@ impl Goal {
     /// if all hold, fails if any fails. Also returns the worst target's
     /// estimate (at that level) and its index in the layout.
     pub fn judge_outcome(&self, o: &Outcome, looks: u32) -> (Verdict, Estimate) {
+        let (v, e, _) = self.judge_targets(o, looks);
+        (v, e)
+    }
+
+    /// [`Goal::judge_outcome`], also naming the target whose estimate is the
+    /// worst (the one that decides the verdict).
+    pub fn judge_targets(&self, o: &Outcome, looks: u32) -> (Verdict, Estimate, Option<FigureId>) {
         let mut verdict = Verdict::Holds;
         let mut worst: Option<Estimate> = None;
+        let mut deciding: Option<FigureId> = None;
         for f in &self.targets {
             let Some(i) = o.index_of(f.scope, f.figure) else {
                 continue;
@@ -270,13 +278,14 @@ impl Goal {
             };
             if worse {
                 worst = Some(e);
+                deciding = Some(*f);
             }
             if rank(v) > rank(verdict) {
                 verdict = v;
             }
         }
         let worst = worst.unwrap_or(Estimate::UNDEFINED);
-        (verdict, worst)
+        (verdict, worst, deciding)
     }
 }
 
@@ -339,6 +348,8 @@ pub struct Evaluation {
     /// Per goal, the share of replications (periods) in which it held
     /// ([`Goal::period_share`]).
     pub periods: Vec<Estimate>,
+    /// Per goal, the target figure whose estimate decides it (the worst).
+    pub deciding: Vec<Option<FigureId>>,
 }
 
 impl Evaluation {
@@ -529,14 +540,17 @@ pub fn size(
         }
         loop {
             let o = outcome_of(&m, acc.clone(), 0.0, None, false);
-            let goals_v: Vec<(Verdict, Estimate)> =
-                goals.iter().map(|g| g.judge_outcome(&o, looks)).collect();
+            let judged: Vec<(Verdict, Estimate, Option<FigureId>)> =
+                goals.iter().map(|g| g.judge_targets(&o, looks)).collect();
+            let goals_v: Vec<(Verdict, Estimate)> = judged.iter().map(|j| (j.0, j.1)).collect();
+            let deciding = judged.iter().map(|j| j.2).collect();
             let periods = goals.iter().map(|g| g.period_share(&o)).collect();
             let e = Evaluation {
                 servers: n,
                 outcome: o,
                 goals: goals_v,
                 periods,
+                deciding,
             };
             let have = acc.per_replication.len() as u64;
             let cap = u64::from(how.max_replications);

@@ -805,7 +805,7 @@ fn goal_value(figure: Figure, x: f64) -> String {
 }
 
 /// The goal table of a sizing: each goal at the answer and one fewer.
-pub fn size_rows(r: &crate::experiment::size::SizeResult) -> Vec<Vec<String>> {
+pub fn size_rows(model: &Model, r: &crate::experiment::size::SizeResult) -> Vec<Vec<String>> {
     use crate::experiment::size::Verdict;
     let mut rows = vec![vec!["goal".to_string()]];
     let cols: Vec<&crate::experiment::size::Evaluation> =
@@ -826,8 +826,15 @@ pub fn size_rows(r: &crate::experiment::size::SizeResult) -> Vec<Vec<String>> {
         for e in &cols {
             let (v, est) = e.goals[i];
             let k = kind(goal.figure);
+            // Name the stream or group whose figure decides, when the goal
+            // covers several.
+            let whose = match (goal.targets.len() > 1, e.deciding[i].map(|f| f.scope)) {
+                (true, Some(Scope::Stream(s))) => format!(" ({})", model.streams[s].name),
+                (true, Some(Scope::Group(g))) => format!(" ({})", model.groups[g].name),
+                _ => String::new(),
+            };
             row.push(format!(
-                "{} {}",
+                "{} {}{whose}",
                 fmt_value(k, est.mean),
                 fmt_interval(k, &est)
             ));
@@ -890,7 +897,7 @@ whose own figure met the bound (95% exact interval).\n\n",
 the answer is the smallest size shown to meet them, and may be one more than needed.\n",
         );
     }
-    let rows = size_rows(r);
+    let rows = size_rows(model, r);
     if rows.len() > 1 {
         out.push('\n');
         out.push_str(&align(&rows, "  "));
@@ -912,10 +919,15 @@ pub fn size_json(model: &Model, file: &str, r: &crate::experiment::size::SizeRes
             "servers": e.servers,
             "replications": e.outcome.replications,
             "verdict": e.verdict().word(),
-            "goals": r.goals.iter().zip(&e.goals).zip(&e.periods).map(|((g, (v, est)), p)| json!({
+            "goals": r.goals.iter().zip(&e.goals).zip(&e.periods).zip(&e.deciding).map(|(((g, (v, est)), p), d)| json!({
                 "goal": g.text,
                 "verdict": v.word(),
                 "estimate": estimate_json(est, Some(g.figure), None),
+                "decided_by": d.map(|f| match f.scope {
+                    Scope::Stream(s) => json!({ "stream": model.streams[s].name }),
+                    Scope::Group(g) => json!({ "group": model.groups[g].name }),
+                    _ => Value::Null,
+                }),
                 "periods_meeting": estimate_json(p, None, None),
             })).collect::<Vec<_>>(),
         })
@@ -1187,7 +1199,7 @@ smallest size shown to meet them and may be one more than needed."
     }
     blocks.push(Block::Table(Table {
         title: "Goals at the answer and at one server fewer".into(),
-        rows: size_rows(r),
+        rows: size_rows(model, r),
     }));
     let mut tried = vec![vec![
         "servers".to_string(),
