@@ -119,6 +119,23 @@ impl OutputArgs {
     }
 }
 
+/// Check the files of a command that reads a scenario and writes `--out`,
+/// `--report` and an optional `--chart`, before any work.
+fn check_files(
+    output: &OutputArgs,
+    scenario: &Path,
+    model: &Model,
+    part: bool,
+    chart: Option<&Path>,
+) -> Result<()> {
+    let mut files = output.plan(Some((scenario, model)), part);
+    if let Some(chart) = chart {
+        files.output("--chart", chart, OutputKind::Svg);
+    }
+    files.check()?;
+    Ok(())
+}
+
 /// The scenario and every data file it read, as inputs.
 fn scenario_inputs(plan: &mut FilePlan, path: &Path, model: &Model) {
     plan.input("the scenario", path);
@@ -378,13 +395,13 @@ fn write_file(path: &std::path::Path, text: &str) -> Result<()> {
 /// `busyhour run`.
 pub fn run(a: &RunArgs) -> Result<Status> {
     let mut model = scenario::load_confined(&a.scenario, a.reps.data_dir.as_deref())?;
-    let mut files = a
-        .output
-        .plan(Some((&a.scenario, &model)), a.shard.is_some());
-    if let Some(chart) = &a.chart {
-        files.output("--chart", chart, OutputKind::Svg);
-    }
-    files.check()?;
+    check_files(
+        &a.output,
+        &a.scenario,
+        &model,
+        a.shard.is_some(),
+        a.chart.as_deref(),
+    )?;
     if let Some(seed) = a.reps.seed {
         model.plan.seed = seed;
     }
@@ -554,13 +571,13 @@ pub fn size(a: &SizeArgs) -> Result<Status> {
 pub fn sweep(a: &SweepArgs) -> Result<Status> {
     use busyhour::experiment::sweep::{self, Sweep};
     let mut model = scenario::load_confined(&a.scenario, a.reps.data_dir.as_deref())?;
-    let mut files = a
-        .output
-        .plan(Some((&a.scenario, &model)), a.shard.is_some());
-    if let Some(chart) = &a.chart {
-        files.output("--chart", chart, OutputKind::Svg);
-    }
-    files.check()?;
+    check_files(
+        &a.output,
+        &a.scenario,
+        &model,
+        a.shard.is_some(),
+        a.chart.as_deref(),
+    )?;
     if let Some(seed) = a.reps.seed {
         model.plan.seed = seed;
     }
