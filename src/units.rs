@@ -242,7 +242,8 @@ mod tests {
         assert_eq!(parse_rate("1800/h"), Ok(0.5));
         assert_eq!(parse_rate("30/m"), Ok(0.5));
         assert_eq!(parse_rate("0.5/s"), Ok(0.5));
-        assert_eq!(parse_rate("0.5"), Ok(0.5));
+        // A bare number has no unit: refused, never read per second.
+        assert_eq!(parse_rate("0.5"), Err(UnitError::RateUnit("0.5".into())));
         assert_eq!(parse_rate("86400/day"), Ok(1.0));
         for bad in ["", "/h", "3/x", "-3/h", "NaN/h", "inf", "3/h/h"] {
             assert!(parse_rate(bad).is_err(), "{bad:?} should fail");
