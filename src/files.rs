@@ -138,20 +138,20 @@ enum Identity {
 }
 
 #[cfg(unix)]
-fn inode(meta: &std::fs::Metadata) -> Identity {
+fn inode(meta: &std::fs::Metadata) -> Option<Identity> {
     use std::os::unix::fs::MetadataExt;
-    Identity::Inode(meta.dev(), meta.ino())
+    Some(Identity::Inode(meta.dev(), meta.ino()))
 }
 
+/// Elsewhere an existing file is known by its canonical path.
 #[cfg(not(unix))]
-fn inode(_meta: &std::fs::Metadata) -> Identity {
-    Identity::Path(PathBuf::new())
+fn inode(_meta: &std::fs::Metadata) -> Option<Identity> {
+    None
 }
 
 fn identity(path: &Path) -> Identity {
     if let Ok(meta) = std::fs::metadata(path) {
-        let id = inode(&meta);
-        if id != Identity::Path(PathBuf::new()) {
+        if let Some(id) = inode(&meta) {
             return id;
         }
         if let Ok(c) = path.canonicalize() {

@@ -102,13 +102,11 @@ impl OutputArgs {
         }
     }
 
-    /// A plan of the files of a command: `--out` and `--report` as outputs,
-    /// plus the scenario and its data files as inputs when given.
-    fn plan(&self, scenario: Option<(&Path, &Model)>, part: bool) -> FilePlan {
+    /// A plan of the files of a command: the scenario and its data files as
+    /// inputs, `--out` and `--report` as outputs.
+    fn plan(&self, scenario: &Path, model: &Model, part: bool) -> FilePlan {
         let mut plan = FilePlan::new(self.force);
-        if let Some((path, model)) = scenario {
-            scenario_inputs(&mut plan, path, model);
-        }
+        scenario_inputs(&mut plan, scenario, model);
         if let Some(out) = &self.out {
             plan.output("--out", out, self.out_kind(part));
         }
@@ -128,7 +126,7 @@ fn check_files(
     part: bool,
     chart: Option<&Path>,
 ) -> Result<()> {
-    let mut files = output.plan(Some((scenario, model)), part);
+    let mut files = output.plan(scenario, model, part);
     if let Some(chart) = chart {
         files.output("--chart", chart, OutputKind::Svg);
     }
@@ -511,7 +509,7 @@ pub fn size(a: &SizeArgs) -> Result<Status> {
         bail!("size prints a table or --json; --csv is for run and sweep");
     }
     let mut model = scenario::load_confined(&a.scenario, a.reps.data_dir.as_deref())?;
-    a.output.plan(Some((&a.scenario, &model)), false).check()?;
+    a.output.plan(&a.scenario, &model, false).check()?;
     if let Some(seed) = a.reps.seed {
         model.plan.seed = seed;
     }
@@ -728,7 +726,7 @@ pub fn merge(a: &MergeArgs) -> Result<Status> {
         .clone()
         .unwrap_or_else(|| PathBuf::from(&recorded));
     let loaded = scenario::load_confined(&scenario_path, a.data_dir.as_deref())?;
-    let mut files = a.output.plan(Some((&scenario_path, &loaded)), false);
+    let mut files = a.output.plan(&scenario_path, &loaded, false);
     for p in &a.parts {
         files.input(
             format!(

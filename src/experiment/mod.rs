@@ -359,6 +359,7 @@ pub fn worst_key(layout: &[FigureId], estimates: &[Estimate]) -> Option<(FigureI
                 && e.mean != 0.0
         })
         .map(|(f, e)| (*f, e.relative_half_width()))
+        .filter(|(_, r)| !r.is_nan())
         .max_by(|a, b| a.1.total_cmp(&b.1))
 }
 
@@ -368,19 +369,5 @@ pub fn worst_key(layout: &[FigureId], estimates: &[Estimate]) -> Option<(FigureI
 /// has no relative precision and is left out: its interval is an absolute
 /// bound ([`stats::clopper_pearson`]), shown as such.
 pub fn worst_relative(layout: &[FigureId], estimates: &[Estimate]) -> f64 {
-    layout
-        .iter()
-        .zip(estimates)
-        .filter(|(f, _)| {
-            matches!(f.scope, Scope::Stream(_) | Scope::Group(_))
-                && f.figure.is_precision_key(f.scope.is_stream())
-        })
-        .map(|(_, e)| {
-            if e.replications == 0 || e.mean == 0.0 {
-                0.0
-            } else {
-                e.relative_half_width()
-            }
-        })
-        .fold(0.0, f64::max)
+    worst_key(layout, estimates).map_or(0.0, |(_, r)| r.max(0.0))
 }

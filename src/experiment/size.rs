@@ -424,6 +424,10 @@ pub fn default_cap(model: &Model, goals: &[Goal], start: u32) -> u32 {
     let base = start.saturating_mul(10).min(2000).max(start);
     let length = model.plan.length_s;
     let mut wanted = f64::from(base);
+    let looks = 1.0
+        + (DEFAULT_CAP_MAX as f64 / f64::from(start.max(1)))
+            .log2()
+            .ceil();
     for g in goals.iter().filter(|g| g.figure.is_call_share()) {
         // The share whose rare events decide: failures below an upper bound
         // (loss <= b), successes missing for a lower bound (service level >= b).
@@ -438,10 +442,6 @@ pub fn default_cap(model: &Model, goals: &[Goal], start: u32) -> u32 {
                 .mean_rate(length)
                 .map(|r| r * length);
             if let Some(c) = calls.filter(|c| *c > 0.0) {
-                let looks = 1.0
-                    + (DEFAULT_CAP_MAX as f64 / f64::from(start.max(1)))
-                        .log2()
-                        .ceil();
                 let m = (2.0 * looks / (1.0 - stats::LEVEL)).ln() / rare;
                 wanted = wanted.max(2.0 * m / c);
             }

@@ -2,7 +2,7 @@
 //! (figures against the swept value), built on [`super::chart`].
 
 use super::chart::{LineChart, Series, render_svg, stack};
-use super::{Kind, RunReport, column_name, kind, label};
+use super::{Kind, RunReport, column_name};
 use crate::experiment::size::Goal;
 use crate::experiment::sweep::Step;
 use crate::report::formula_column;
@@ -155,11 +155,11 @@ pub fn sweep_chart(
     }
     let mut panels = Vec::new();
     for name in figures {
-        let (unit, scale) = unit_of(kind(name));
+        let (unit, scale) = unit_of(name.unit());
         let mut c = LineChart::new(
-            format!("{}: {}", model.title, label(name)),
+            format!("{}: {}", model.title, name.label()),
             label_x.to_string(),
-            format!("{} ({unit})", label(name)),
+            format!("{} ({unit})", name.label()),
         );
         for f in columns.iter().filter(|f| f.figure == name) {
             let pts: Vec<(f64, Estimate)> = steps

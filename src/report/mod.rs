@@ -49,14 +49,6 @@ impl<'a> RunReport<'a> {
 /// How a figure is printed: its unit ([`Figure::unit`]).
 pub(crate) use crate::stats::Unit as Kind;
 
-pub(crate) fn kind(figure: Figure) -> Kind {
-    figure.unit()
-}
-
-pub(crate) fn label(figure: Figure) -> &'static str {
-    figure.label()
-}
-
 fn fmt_value(k: Kind, x: f64) -> String {
     if x.is_nan() {
         return "-".into();
@@ -382,7 +374,7 @@ fn figure_rows(r: &RunReport, scope: Scope, first: &str) -> Vec<Vec<String>> {
             continue;
         }
         let e = &r.outcome.estimates[i];
-        let k = kind(f.figure);
+        let k = f.figure.unit();
         let formula = r.formulas.get(f).map_or(String::new(), |fo| {
             format!("{} ({})", fmt_value(k, fo.value), fo.name)
         });
@@ -392,7 +384,7 @@ fn figure_rows(r: &RunReport, scope: Scope, first: &str) -> Vec<Vec<String>> {
             } else {
                 String::new()
             },
-            label(f.figure).to_string(),
+            f.figure.label().to_string(),
             fmt_value(k, e.mean),
             if e.mean.is_nan() {
                 String::new()
@@ -722,7 +714,7 @@ pub fn formula_view_text(model: &Model, view: &HashMap<FigureId, Formula>) -> St
         format!("{}-{}", t(start), t(end))
     };
     for (f, fo) in entries {
-        let label_of = |b: usize| format!("{} ({})", label(f.figure), clock(b));
+        let label_of = |b: usize| format!("{} ({})", f.figure.label(), clock(b));
         let who = match f.scope {
             Scope::Stream(s) | Scope::StreamInterval(_, s) => {
                 format!("stream {}", model.streams[s].name)
@@ -733,12 +725,12 @@ pub fn formula_view_text(model: &Model, view: &HashMap<FigureId, Formula>) -> St
         };
         let what = match f.scope {
             Scope::StreamInterval(b, _) | Scope::GroupInterval(b, _) => label_of(b),
-            _ => label(f.figure).to_string(),
+            _ => f.figure.label().to_string(),
         };
         rows.push(vec![
             who,
             what,
-            fmt_value(kind(f.figure), fo.value),
+            fmt_value(f.figure.unit(), fo.value),
             fo.name.to_string(),
         ]);
     }
@@ -801,7 +793,7 @@ pub fn formula_view_json(model: &Model, view: &HashMap<FigureId, Formula>) -> Va
 
 /// Print a goal's bound in the figure's unit.
 fn goal_value(figure: Figure, x: f64) -> String {
-    fmt_value(kind(figure), x)
+    fmt_value(figure.unit(), x)
 }
 
 /// The goal table of a sizing: each goal at the answer and one fewer.
@@ -825,7 +817,7 @@ pub fn size_rows(model: &Model, r: &crate::experiment::size::SizeResult) -> Vec<
         )];
         for e in &cols {
             let (v, est) = e.goals[i];
-            let k = kind(goal.figure);
+            let k = goal.figure.unit();
             // Name the stream or group whose figure decides, when the goal
             // covers several.
             let whose = match (goal.targets.len() > 1, e.deciding[i].map(|f| f.scope)) {
@@ -1009,7 +1001,7 @@ pub fn sweep_rows(
             .sum();
         let mut row = vec![trim_float(st.value, 3), fmt_value(Kind::Erlangs, offered)];
         for f in columns {
-            let k = kind(f.figure);
+            let k = f.figure.unit();
             let cell = match st.outcome.get(f.scope, f.name()) {
                 Some(e) if !e.mean.is_nan() => {
                     let mut c = format!("{} {}", fmt_value(k, e.mean), fmt_interval(k, &e));
