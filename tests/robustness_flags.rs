@@ -303,7 +303,7 @@ fn bad_flags_of_calc() {
                 "--patience",
                 "0s",
             ],
-            "mean patience (s) = 0 is not valid",
+            "'--patience <DURATION>': '0s' is not valid: expected a duration above zero",
         ),
         (
             vec![

@@ -6,12 +6,14 @@
 
 use std::io::Write;
 
-use anyhow::{Context, Result, bail};
+use anyhow::{Result, bail};
 use clap::{Args, Subcommand};
 use serde::Serialize;
 
 use busyhour::formulas::{engset, erlang_a, erlang_b, erlang_c, multirate, overflow};
 use busyhour::units;
+
+use super::flags;
 
 /// Arguments of `busyhour calc`.
 #[derive(Debug, Args)]
@@ -61,12 +63,13 @@ pub struct Offered {
         value_name = "ERLANGS",
         allow_negative_numbers = true,
         required_unless_present = "calls",
-        conflicts_with = "calls"
+        conflicts_with = "calls",
+        value_parser = flags::erlangs
     )]
     pub traffic: Option<f64>,
     /// Call rate such as "420/h", "7/m" or "0.5/s"; offered traffic is rate × holding time.
-    #[arg(long, value_name = "RATE", requires = "holding")]
-    pub calls: Option<String>,
+    #[arg(long, value_name = "RATE", requires = "holding", allow_hyphen_values = true, value_parser = flags::rate)]
+    pub calls: Option<f64>,
 }
 
 /// `calc loss`.
@@ -75,10 +78,10 @@ pub struct LossArgs {
     #[command(flatten)]
     pub offered: Offered,
     /// Mean holding time such as "3m", "180s" or "180" (needed with --calls).
-    #[arg(long, value_name = "DURATION")]
-    pub holding: Option<String>,
+    #[arg(long, value_name = "DURATION", value_parser = flags::positive_duration)]
+    pub holding: Option<f64>,
     /// Number of servers (circuits, channels, ports).
-    #[arg(long, value_name = "N")]
+    #[arg(long, value_name = "N", value_parser = flags::at_least_one)]
     pub servers: u32,
     #[command(flatten)]
     pub output: Output,
@@ -90,11 +93,11 @@ pub struct ServersArgs {
     #[command(flatten)]
     pub offered: Offered,
     /// Mean holding time such as "3m" (needed with --calls).
-    #[arg(long, value_name = "DURATION")]
-    pub holding: Option<String>,
+    #[arg(long, value_name = "DURATION", value_parser = flags::positive_duration)]
+    pub holding: Option<f64>,
     /// Grade of service: the largest acceptable loss, such as "1%" or 0.01.
-    #[arg(long, value_name = "SHARE")]
-    pub loss: String,
+    #[arg(long, value_name = "SHARE", value_parser = flags::open_share)]
+    pub loss: f64,
     #[command(flatten)]
     pub output: Output,
 }
@@ -103,11 +106,11 @@ pub struct ServersArgs {
 #[derive(Debug, Args)]
 pub struct TrafficArgs {
     /// Number of servers.
-    #[arg(long, value_name = "N")]
+    #[arg(long, value_name = "N", value_parser = flags::at_least_one)]
     pub servers: u32,
     /// Grade of service: the largest acceptable loss, such as "1%" or 0.01.
-    #[arg(long, value_name = "SHARE")]
-    pub loss: String,
+    #[arg(long, value_name = "SHARE", value_parser = flags::open_share)]
+    pub loss: f64,
     #[command(flatten)]
     pub output: Output,
 }
@@ -118,14 +121,14 @@ pub struct QueueArgs {
     #[command(flatten)]
     pub offered: Offered,
     /// Mean holding (handling) time such as "3m" or "180s".
-    #[arg(long, value_name = "DURATION")]
-    pub holding: String,
+    #[arg(long, value_name = "DURATION", value_parser = flags::positive_duration)]
+    pub holding: f64,
     /// Number of agents.
-    #[arg(long, value_name = "N")]
+    #[arg(long, value_name = "N", value_parser = flags::at_least_one)]
     pub agents: u32,
     /// Answer-time goal for the service level, such as "20s".
-    #[arg(long, value_name = "DURATION")]
-    pub answer_within: String,
+    #[arg(long, value_name = "DURATION", value_parser = flags::duration)]
+    pub answer_within: f64,
     #[command(flatten)]
     pub output: Output,
 }
@@ -137,17 +140,17 @@ pub struct AgentsArgs {
     #[command(flatten)]
     pub offered: Offered,
     /// Mean holding (handling) time such as "3m" or "180s".
-    #[arg(long, value_name = "DURATION")]
-    pub holding: String,
+    #[arg(long, value_name = "DURATION", value_parser = flags::positive_duration)]
+    pub holding: f64,
     /// Answer-time goal for the service level, such as "20s".
-    #[arg(long, value_name = "DURATION")]
-    pub answer_within: Option<String>,
+    #[arg(long, value_name = "DURATION", value_parser = flags::duration)]
+    pub answer_within: Option<f64>,
     /// Goal: at least this share answered within --answer-within, such as "80%".
-    #[arg(long, value_name = "SHARE", requires = "answer_within")]
-    pub service_level: Option<String>,
+    #[arg(long, value_name = "SHARE", requires = "answer_within", value_parser = flags::open_share)]
+    pub service_level: Option<f64>,
     /// Goal: mean wait of all calls at most this, such as "15s".
-    #[arg(long, value_name = "DURATION")]
-    pub mean_wait: Option<String>,
+    #[arg(long, value_name = "DURATION", value_parser = flags::duration)]
+    pub mean_wait: Option<f64>,
     #[command(flatten)]
     pub output: Output,
 }
@@ -158,17 +161,17 @@ pub struct AbandonArgs {
     #[command(flatten)]
     pub offered: Offered,
     /// Mean holding (handling) time such as "3m" or "180s".
-    #[arg(long, value_name = "DURATION")]
-    pub holding: String,
+    #[arg(long, value_name = "DURATION", value_parser = flags::positive_duration)]
+    pub holding: f64,
     /// Number of agents.
-    #[arg(long, value_name = "N")]
+    #[arg(long, value_name = "N", value_parser = flags::at_least_one)]
     pub agents: u32,
     /// Mean patience: how long callers wait on average before giving up, such as "1m".
-    #[arg(long, value_name = "DURATION")]
-    pub patience: String,
+    #[arg(long, value_name = "DURATION", value_parser = flags::positive_duration)]
+    pub patience: f64,
     /// Answer-time goal for the service level, such as "20s".
-    #[arg(long, value_name = "DURATION")]
-    pub answer_within: Option<String>,
+    #[arg(long, value_name = "DURATION", value_parser = flags::duration)]
+    pub answer_within: Option<f64>,
     #[command(flatten)]
     pub output: Output,
 }
@@ -177,10 +180,10 @@ pub struct AbandonArgs {
 #[derive(Debug, Args)]
 pub struct FiniteArgs {
     /// Number of traffic sources (subscribers, terminals).
-    #[arg(long, value_name = "S")]
+    #[arg(long, value_name = "S", value_parser = flags::at_least_one)]
     pub sources: u32,
     /// Number of servers.
-    #[arg(long, value_name = "N")]
+    #[arg(long, value_name = "N", value_parser = flags::at_least_one)]
     pub servers: u32,
     /// Offered traffic per idle source in erlangs: its call rate while idle × mean holding time.
     #[arg(long, value_name = "ERLANGS", allow_negative_numbers = true)]
@@ -197,26 +200,27 @@ pub struct OverflowArgs {
         long,
         value_name = "ERLANGS",
         allow_negative_numbers = true,
-        conflicts_with = "calls"
+        conflicts_with = "calls",
+        value_parser = flags::erlangs
     )]
     pub traffic: Option<f64>,
     /// Call rate of a single first-choice group, such as "420/h" (with --holding and --servers).
-    #[arg(long, value_name = "RATE", requires = "holding")]
-    pub calls: Option<String>,
+    #[arg(long, value_name = "RATE", requires = "holding", allow_hyphen_values = true, value_parser = flags::rate)]
+    pub calls: Option<f64>,
     /// Mean holding time such as "3m" (needed with --calls).
-    #[arg(long, value_name = "DURATION")]
-    pub holding: Option<String>,
+    #[arg(long, value_name = "DURATION", value_parser = flags::positive_duration)]
+    pub holding: Option<f64>,
     /// Servers of the single first-choice group.
-    #[arg(long, value_name = "N")]
+    #[arg(long, value_name = "N", value_parser = flags::at_least_one)]
     pub servers: Option<u32>,
     /// A first-choice group as TRAFFIC:SERVERS, such as "12:15"; repeat for several.
     #[arg(long, value_name = "ERLANGS:N", conflicts_with_all = ["traffic", "calls", "servers"])]
     pub primary: Vec<String>,
     /// Poisson traffic in erlangs offered straight to the final group.
-    #[arg(long, value_name = "ERLANGS", allow_negative_numbers = true)]
+    #[arg(long, value_name = "ERLANGS", allow_negative_numbers = true, value_parser = flags::erlangs)]
     pub direct: Option<f64>,
     /// Servers of the shared final group.
-    #[arg(long = "final", value_name = "N")]
+    #[arg(long = "final", value_name = "N", value_parser = flags::at_least_one)]
     pub final_servers: Option<u32>,
     #[command(flatten)]
     pub output: Output,
@@ -226,7 +230,7 @@ pub struct OverflowArgs {
 #[derive(Debug, Args)]
 pub struct MultirateArgs {
     /// Channels of the shared group.
-    #[arg(long, value_name = "C")]
+    #[arg(long, value_name = "C", value_parser = flags::at_least_one)]
     pub capacity: u32,
     /// A traffic class as ERLANGS:CHANNELS_PER_CALL, such as "2.5:6"; repeat for each class.
     #[arg(long, value_name = "ERLANGS:UNITS", required = true)]
@@ -288,55 +292,21 @@ fn evaluate(command: &CalcCommand) -> Result<Report> {
 }
 
 // ---------------------------------------------------------------------------
-// Stage 1: text to numbers.
-
-fn duration(flag: &str, text: &str) -> Result<f64> {
-    units::parse_duration(text).with_context(|| format!("--{flag}"))
-}
-
-fn share(flag: &str, text: &str) -> Result<f64> {
-    units::parse_share(text).with_context(|| format!("--{flag}"))
-}
+// Stage 1: the flags arrive as numbers (`flags`); what is left is the
+// offered traffic, given one of two ways, and the `ERLANGS:COUNT` pairs.
 
 /// Offered traffic in erlangs from `--traffic`, or `--calls` × `--holding`.
-fn offered_traffic(
-    traffic: Option<f64>,
-    calls: Option<&str>,
-    holding: Option<&str>,
-) -> Result<f64> {
-    let erlangs = match (traffic, calls) {
-        (Some(a), _) => a,
-        (None, Some(rate)) => {
-            let per_second = units::parse_rate(rate).context("--calls")?;
-            let Some(holding) = holding else {
-                bail!("--calls needs --holding to turn a call rate into erlangs");
-            };
-            per_second * duration("holding", holding)?
+fn offered_traffic(traffic: Option<f64>, calls: Option<f64>, holding: Option<f64>) -> Result<f64> {
+    match (traffic, calls, holding) {
+        (Some(a), _, _) => Ok(a),
+        (None, Some(per_second), Some(h)) => Ok(per_second * h),
+        (None, Some(_), None) => {
+            bail!("--calls needs --holding to turn a call rate into erlangs")
         }
-        (None, None) => bail!("give the offered traffic with --traffic, or --calls with --holding"),
-    };
-    if !(erlangs >= 0.0 && erlangs.is_finite()) {
-        bail!("offered traffic {erlangs} erlangs is not valid: expected a finite number >= 0");
+        (None, None, _) => {
+            bail!("give the offered traffic with --traffic, or --calls with --holding")
+        }
     }
-    Ok(erlangs)
-}
-
-fn at_least_one(flag: &str, value: u32) -> Result<u32> {
-    if value == 0 {
-        bail!("--{flag} 0 is not valid: expected at least 1");
-    }
-    Ok(value)
-}
-
-/// A loss goal strictly between 0 and 100%.
-fn grade_of_service(text: &str) -> Result<f64> {
-    let g = share("loss", text)?;
-    if !(g > 0.0 && g < 1.0) {
-        bail!(
-            "--loss '{text}' is not valid: expected a share above 0 and below 100%, such as \"1%\""
-        );
-    }
-    Ok(g)
 }
 
 /// `ERLANGS:COUNT`, as in `--primary 12:15` or `--class 2.5:6`.
@@ -424,12 +394,8 @@ fn percent(x: f64) -> String {
 }
 
 fn loss(a: &LossArgs) -> Result<Report> {
-    let traffic = offered_traffic(
-        a.offered.traffic,
-        a.offered.calls.as_deref(),
-        a.holding.as_deref(),
-    )?;
-    let servers = at_least_one("servers", a.servers)?;
+    let traffic = offered_traffic(a.offered.traffic, a.offered.calls, a.holding)?;
+    let servers = a.servers;
     let blocking = erlang_b::blocking(servers, traffic)?;
     let text = Block::new("Erlang B loss system (blocked calls cleared)")
         .row("offered traffic", erlangs(traffic))
@@ -449,12 +415,8 @@ fn loss(a: &LossArgs) -> Result<Report> {
 }
 
 fn servers(a: &ServersArgs) -> Result<Report> {
-    let traffic = offered_traffic(
-        a.offered.traffic,
-        a.offered.calls.as_deref(),
-        a.holding.as_deref(),
-    )?;
-    let target = grade_of_service(&a.loss)?;
+    let traffic = offered_traffic(a.offered.traffic, a.offered.calls, a.holding)?;
+    let target = a.loss;
     let servers = erlang_b::servers_for(traffic, target)?;
     let blocking = erlang_b::blocking(servers, traffic)?;
     let text = Block::new("Erlang B sizing: fewest servers for the grade of service")
@@ -479,8 +441,8 @@ fn servers(a: &ServersArgs) -> Result<Report> {
 }
 
 fn traffic(a: &TrafficArgs) -> Result<Report> {
-    let servers = at_least_one("servers", a.servers)?;
-    let target = grade_of_service(&a.loss)?;
+    let servers = a.servers;
+    let target = a.loss;
     let traffic = erlang_b::traffic_for(servers, target)?;
     let text = Block::new("Erlang B capacity: most traffic at the grade of service")
         .row("servers", servers.to_string())
@@ -503,13 +465,9 @@ fn traffic(a: &TrafficArgs) -> Result<Report> {
 }
 
 fn queue(a: &QueueArgs) -> Result<Report> {
-    let holding = duration("holding", &a.holding)?;
-    let traffic = offered_traffic(
-        a.offered.traffic,
-        a.offered.calls.as_deref(),
-        Some(&a.holding),
-    )?;
-    let within = duration("answer-within", &a.answer_within)?;
+    let holding = a.holding;
+    let traffic = offered_traffic(a.offered.traffic, a.offered.calls, Some(holding))?;
+    let within = a.answer_within;
     let agents = a.agents;
     let wait_probability = erlang_c::wait_probability(agents, traffic)?;
     let mean_wait_s = erlang_c::mean_wait(agents, traffic, holding)?;
@@ -546,33 +504,9 @@ fn queue(a: &QueueArgs) -> Result<Report> {
 }
 
 fn agents(a: &AgentsArgs) -> Result<Report> {
-    let holding = duration("holding", &a.holding)?;
-    let traffic = offered_traffic(
-        a.offered.traffic,
-        a.offered.calls.as_deref(),
-        Some(&a.holding),
-    )?;
-    let within = a
-        .answer_within
-        .as_deref()
-        .map(|t| duration("answer-within", t))
-        .transpose()?;
-    let level_goal = a
-        .service_level
-        .as_deref()
-        .map(|t| {
-            let s = share("service-level", t)?;
-            if !(s > 0.0 && s < 1.0) {
-                bail!("--service-level '{t}' is not valid: expected a share above 0 and below 100%, such as \"80%\"");
-            }
-            Ok(s)
-        })
-        .transpose()?;
-    let wait_goal = a
-        .mean_wait
-        .as_deref()
-        .map(|t| duration("mean-wait", t))
-        .transpose()?;
+    let holding = a.holding;
+    let traffic = offered_traffic(a.offered.traffic, a.offered.calls, Some(holding))?;
+    let (within, level_goal, wait_goal) = (a.answer_within, a.service_level, a.mean_wait);
     let mut agents = 1;
     if let (Some(goal), Some(within)) = (level_goal, within) {
         agents = agents.max(erlang_c::agents_for_service_level(
@@ -614,7 +548,7 @@ fn agents(a: &AgentsArgs) -> Result<Report> {
         );
     }
     let text = block
-        .row("occupancy", percent(traffic / f64::from(agents)))
+        .row("occupancy", percent(erlang_c::occupancy(agents, traffic)?))
         .render();
     #[derive(Serialize)]
     struct Json {
@@ -635,18 +569,9 @@ fn agents(a: &AgentsArgs) -> Result<Report> {
 }
 
 fn abandon(a: &AbandonArgs) -> Result<Report> {
-    let holding = duration("holding", &a.holding)?;
-    let traffic = offered_traffic(
-        a.offered.traffic,
-        a.offered.calls.as_deref(),
-        Some(&a.holding),
-    )?;
-    let patience = duration("patience", &a.patience)?;
-    let within = a
-        .answer_within
-        .as_deref()
-        .map(|t| duration("answer-within", t))
-        .transpose()?;
+    let holding = a.holding;
+    let traffic = offered_traffic(a.offered.traffic, a.offered.calls, Some(holding))?;
+    let (patience, within) = (a.patience, a.answer_within);
     let q = erlang_a::solve(a.agents, traffic, holding, patience)?;
     let service_level = within.map(|t| q.service_level(t));
     let mut block = Block::new("Erlang A delay system with abandonment (M/M/N+M)")
@@ -687,8 +612,7 @@ fn abandon(a: &AbandonArgs) -> Result<Report> {
 }
 
 fn finite(a: &FiniteArgs) -> Result<Report> {
-    let sources = at_least_one("sources", a.sources)?;
-    let servers = at_least_one("servers", a.servers)?;
+    let (sources, servers) = (a.sources, a.servers);
     let g = engset::solve(sources, servers, a.idle_traffic)?;
     let mut block = Block::new("Engset loss system (finite sources, blocked calls cleared)")
         .row("sources", sources.to_string())
@@ -725,29 +649,17 @@ fn overflow_groups(a: &OverflowArgs) -> Result<Report> {
                 "give one first-choice group with --traffic (or --calls) and --servers, or several with --primary ERLANGS:N"
             );
         };
-        let traffic = offered_traffic(a.traffic, a.calls.as_deref(), a.holding.as_deref())?;
-        groups.push((traffic, at_least_one("servers", servers)?));
+        let traffic = offered_traffic(a.traffic, a.calls, a.holding)?;
+        groups.push((traffic, servers));
     } else {
         for p in &a.primary {
             groups.push(pair("primary", p, "SERVERS", "12.5:20")?);
         }
     }
     let direct = a.direct.unwrap_or(0.0);
-    if !(direct >= 0.0 && direct.is_finite()) {
-        bail!("--direct {direct} is not valid: expected erlangs >= 0");
-    }
-    let final_servers = a
-        .final_servers
-        .map(|n| at_least_one("final", n))
-        .transpose()?;
-
-    let (mut mean, mut variance) = (direct, direct);
-    for &(traffic, servers) in &groups {
-        let m = overflow::riordan(servers, traffic)?;
-        mean += m.mean;
-        variance += m.variance;
-    }
-    let peakedness = if mean > 0.0 { variance / mean } else { 1.0 };
+    let final_servers = a.final_servers;
+    let moments = overflow::offered_moments(&groups, direct)?;
+    let (mean, variance, peakedness) = (moments.mean, moments.variance, moments.peakedness());
     let final_group = final_servers
         .map(|n| overflow::final_group(&groups, direct, n))
         .transpose()?;
@@ -807,7 +719,7 @@ fn overflow_groups(a: &OverflowArgs) -> Result<Report> {
 }
 
 fn multirate_classes(a: &MultirateArgs) -> Result<Report> {
-    let capacity = at_least_one("capacity", a.capacity)?;
+    let capacity = a.capacity;
     let classes = a
         .class
         .iter()

@@ -371,6 +371,40 @@ pub struct FinalGroup {
     pub total_loss: f64,
 }
 
+/// Mean and variance of the traffic offered to a final group: the overflow
+/// of first-choice groups `primaries` (each `(traffic, servers)`, Riordan's
+/// moments) plus `direct` erlangs of Poisson traffic (variance = mean).
+/// Moments of independent streams add. Each stream's variance is at least
+/// its mean, so the sum is clamped to `V >= M` against rounding.
+///
+/// # Example
+///
+/// ```
+/// use busyhour::formulas::overflow;
+/// let m = overflow::offered_moments(&[(10.0, 12)], 2.0)?;
+/// let one = overflow::riordan(12, 10.0)?;
+/// assert!((m.mean - (one.mean + 2.0)).abs() < 1e-12);
+/// assert!(m.variance >= m.mean);
+/// # Ok::<(), busyhour::formulas::FormulaError>(())
+/// ```
+pub fn offered_moments(
+    primaries: &[(f64, u32)],
+    direct: f64,
+) -> Result<OverflowMoments, FormulaError> {
+    let direct = non_negative("direct traffic (erlangs)", direct)?;
+    let mut mean = direct;
+    let mut variance = direct;
+    for &(traffic, servers) in primaries {
+        let m = riordan(servers, traffic)?;
+        mean += m.mean;
+        variance += m.variance;
+    }
+    Ok(OverflowMoments {
+        mean,
+        variance: variance.max(mean),
+    })
+}
+
 /// Blocking on a final group offered the overflow of first-choice groups
 /// `primaries` (each `(traffic, servers)`) plus `direct` erlangs of Poisson
 /// traffic, by the equivalent random method.
@@ -413,17 +447,9 @@ pub fn final_group(
     direct: f64,
     final_servers: u32,
 ) -> Result<FinalGroup, FormulaError> {
-    let direct = non_negative("direct traffic (erlangs)", direct)?;
     let final_servers = erlang_b::check_servers("final-group servers", final_servers)?;
-    let mut mean = direct;
-    let mut variance = direct;
-    let mut offered = direct;
-    for &(traffic, servers) in primaries {
-        let m = riordan(servers, traffic)?;
-        mean += m.mean;
-        variance += m.variance;
-        offered += traffic;
-    }
+    let OverflowMoments { mean, variance } = offered_moments(primaries, direct)?;
+    let offered = direct + primaries.iter().map(|p| p.0).sum::<f64>();
     if mean.partial_cmp(&0.0) != Some(std::cmp::Ordering::Greater) {
         return Ok(FinalGroup {
             overflow_mean: 0.0,
@@ -435,8 +461,6 @@ pub fn final_group(
             total_loss: 0.0,
         });
     }
-    // Each stream's variance is at least its mean, so V >= M up to rounding.
-    let variance = variance.max(mean);
     let equivalent = equivalent_random_exact(mean, variance)?;
     let blocking = erlang_b::blocking_continuous(
         equivalent.servers + f64::from(final_servers),

@@ -8,7 +8,7 @@
 //! **Day to day** (two or more analysed days): each clock slot s has its own
 //! mean m_s, estimated by the mean over the D_s days that have the slot.
 //! With SS_s the sum of squared deviations of the slot's counts from m_s,
-//! E[SS_s] = (D_s - 1) Var_s, so
+//! E\[SS_s\] = (D_s - 1) Var_s, so
 //!
 //! ```text
 //! Z = sum_s SS_s / sum_s (D_s - 1) m_s
