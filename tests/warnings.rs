@@ -61,3 +61,70 @@ fn a_steady_start_with_the_derived_warm_up_warns_of_nothing() {
     let o = run_n(&m, 100);
     assert!(o.warnings.is_empty(), "{:?}", o.warnings);
 }
+
+/// An unlimited queue without patience at `rate` calls an hour of 3-minute
+/// calls on 5 agents (offered traffic rate * 0.05 E).
+fn queue_text(rate: u32, warmup: &str) -> String {
+    format!(
+        r#"
+title = "desk"
+[simulation]
+length = "1h"
+{warmup}
+
+[[group]]
+name = "desk"
+servers = 5
+queue = "unlimited"
+
+[[stream]]
+name = "callers"
+arrivals = {{ law = "poisson", rate = "{rate}/h" }}
+holding = {{ law = "exponential", mean = "3m" }}
+route = ["desk"]
+"#
+    )
+}
+
+#[test]
+fn an_overloaded_queue_and_a_short_warm_up_fail_the_check() {
+    use busyhour::experiment::warnings::model_warnings;
+    // 6 E on 5 agents: Erlang C has no steady state at A >= N (the M/M/c
+    // stability condition, any queueing text).
+    let w = model_warnings(&model(&queue_text(120, "")));
+    assert!(
+        matches!(&w[..], [Warning::Overloaded { offered, servers: 5, .. }] if (offered - 6.0).abs() < 1e-9),
+        "{w:?}"
+    );
+    // Exactly at the boundary (5 E on 5) it is still unstable.
+    assert_eq!(model_warnings(&model(&queue_text(100, ""))).len(), 1);
+    // 4.5 E is stable, and the derived warm-up leaves nothing to say.
+    assert!(model_warnings(&model(&queue_text(90, ""))).is_empty());
+    // ... but a one-minute warm-up is far short of its relaxation time.
+    let w = model_warnings(&model(&queue_text(90, "warmup = \"1m\"")));
+    assert!(matches!(&w[..], [Warning::ShortWarmup { .. }]), "{w:?}");
+
+    // The binary: exit 1, the reasons listed under the model.
+    let dir = std::env::temp_dir().join(format!("busyhour-check-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let file = dir.join("overloaded.toml");
+    std::fs::write(&file, queue_text(120, "warmup = \"1m\"")).unwrap();
+    let out = std::process::Command::new(env!("CARGO_BIN_EXE_busyhour"))
+        .arg("check")
+        .arg(&file)
+        .output()
+        .unwrap();
+    let stdout = String::from_utf8_lossy(&out.stdout);
+    assert_eq!(out.status.code(), Some(1), "{stdout}");
+    assert!(stdout.contains("the check failed"), "{stdout}");
+    assert!(stdout.contains("grows without bound"), "{stdout}");
+    assert!(stdout.contains("warm-up (60 s) is shorter"), "{stdout}");
+    std::fs::write(&file, queue_text(90, "")).unwrap();
+    let out = std::process::Command::new(env!("CARGO_BIN_EXE_busyhour"))
+        .arg("check")
+        .arg(&file)
+        .output()
+        .unwrap();
+    assert_eq!(out.status.code(), Some(0));
+    std::fs::remove_dir_all(&dir).ok();
+}

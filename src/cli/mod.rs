@@ -488,6 +488,7 @@ pub fn check(a: &CheckArgs) -> Result<Status> {
     let model = scenario::load_confined(&a.scenario, a.data_dir.as_deref())?;
     let file = a.scenario.display().to_string();
     let view = report::formula_view(&model);
+    let problems = busyhour::experiment::warnings::model_warnings(&model);
     let text = if a.json {
         let mut s = serde_json::to_string_pretty(&report::formula_view_json(&model, &view))?;
         s.push('\n');
@@ -495,12 +496,23 @@ pub fn check(a: &CheckArgs) -> Result<Status> {
     } else {
         let mut s = report::describe_model(&model, &file);
         s.push_str(&report::formula_view_text(&model, &view));
-        s.push_str("\nThe scenario is valid.\n");
+        if problems.is_empty() {
+            s.push_str("\nThe scenario is valid.\n");
+        } else {
+            s.push_str("\nThe scenario is valid as a file, but the check failed:\n");
+            for p in &problems {
+                s.push_str(&format!("  - {p}\n"));
+            }
+        }
         s
     };
     let mut out = std::io::stdout().lock();
     out.write_all(text.as_bytes())?;
-    Ok(Status::Done)
+    Ok(if problems.is_empty() {
+        Status::Done
+    } else {
+        Status::Failed
+    })
 }
 
 /// `busyhour size`.

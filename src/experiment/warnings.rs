@@ -3,7 +3,7 @@
 //! disagree beyond their intervals). A warning never changes a figure; it
 //! says the figures may carry a start-up bias.
 
-use crate::scenario::{Arrivals, Model};
+use crate::scenario::{Arrivals, Model, Queue};
 use crate::stats;
 use crate::units;
 
@@ -21,6 +21,18 @@ pub enum Warning {
         given_s: f64,
         /// Warm-up needed (s).
         needed_s: f64,
+    },
+    /// A group with an unlimited queue whose callers never give up is
+    /// offered at least as much traffic as it has servers: the queue has no
+    /// steady state and every waiting figure grows with the run's length.
+    Overloaded {
+        /// Group name.
+        group: String,
+        /// Traffic offered to it by the streams that reach it first (E),
+        /// a lower bound of its load (overflow from elsewhere adds to it).
+        offered: f64,
+        /// Its servers.
+        servers: u32,
     },
     /// Carried traffic of a group differs between the two halves of the
     /// measured period beyond the interval of the paired difference.
@@ -43,6 +55,14 @@ impl std::fmt::Display for Warning {
                 units::format_duration(*given_s),
                 units::format_duration(*needed_s)
             ),
+            Warning::Overloaded {
+                group,
+                offered,
+                servers,
+            } => write!(
+                f,
+                "group \"{group}\" is offered {offered:.3} E on {servers} servers with an unlimited queue and callers who never give up: the queue grows without bound and its waiting figures depend on the run's length; add servers, limit the queue or give the callers a patience"
+            ),
             Warning::Transient {
                 group,
                 first,
@@ -53,6 +73,56 @@ impl std::fmt::Display for Warning {
             ),
         }
     }
+}
+
+/// The warnings that the model alone gives, before any replication: the
+/// warm-up check and the overloaded queues. `busyhour check` fails (exit 1)
+/// on any of them.
+pub fn model_warnings(model: &Model) -> Vec<Warning> {
+    let mut out = Vec::new();
+    if let Some(needed_s) = model.warmup_short() {
+        out.push(Warning::ShortWarmup {
+            given_s: model.plan.warmup_s,
+            needed_s,
+        });
+    }
+    out.extend(overloaded_queues(model));
+    out
+}
+
+/// Groups with an unlimited queue, callers without patience, and at least
+/// as much offered traffic (from the streams whose route starts there, over
+/// the measured period) as servers: an M/G/c queue with load >= 1 has no
+/// steady state (common knowledge of queueing theory; for Erlang C, C = 1
+/// at A >= N).
+fn overloaded_queues(model: &Model) -> Vec<Warning> {
+    let length = model.plan.length_s;
+    let mut out = Vec::new();
+    for (g, group) in model.groups.iter().enumerate() {
+        if group.queue != Queue::Unlimited {
+            continue;
+        }
+        let users: Vec<_> = model
+            .streams
+            .iter()
+            .filter(|s| s.route.first().is_some_and(|&x| x as usize == g))
+            .collect();
+        if users.is_empty() || users.iter().any(|s| s.patience.is_some()) {
+            continue;
+        }
+        let offered: f64 = users
+            .iter()
+            .filter_map(|s| s.offered_traffic(length).map(|a| a * f64::from(s.units)))
+            .sum();
+        if offered >= f64::from(group.servers) {
+            out.push(Warning::Overloaded {
+                group: group.name.clone(),
+                offered,
+                servers: group.servers,
+            });
+        }
+    }
+    out
 }
 
 /// Whether every stream's arrival rate is constant over the measured period
@@ -70,13 +140,7 @@ fn stationary_load(model: &Model) -> bool {
 /// 1 - [`TRANSIENT_FALSE_ALARM`] / groups). `halves` holds, per
 /// replication and group, (first-half, second-half) carried traffic.
 pub fn warnings(model: &Model, halves: &[Vec<(f64, f64)>]) -> Vec<Warning> {
-    let mut out = Vec::new();
-    if let Some(needed_s) = model.warmup_short() {
-        out.push(Warning::ShortWarmup {
-            given_s: model.plan.warmup_s,
-            needed_s,
-        });
-    }
+    let mut out = model_warnings(model);
     if !stationary_load(model) || halves.len() < 2 {
         return out;
     }
