@@ -3,7 +3,7 @@
 # exact Markov chains): each case runs once per master seed, and each checked
 # figure gets its exact value, the mean of the estimates with its standard
 # error, the bias in standard errors, the coverage and the mean relative
-# half-width, then a markdown table for DEVELOPERS.md.
+# half-width, then a markdown table for docs/coverage.md.
 #
 #   bash scripts/coverage.sh --threads 2                  # 1,000 seeds per case (~15 s on 2 cores)
 #   bash scripts/coverage.sh --seeds 200 --case redials --case engset

@@ -27,7 +27,7 @@ use super::error::{LawError, check_cv, check_mean, is_positive_finite};
 /// length-biased draw times an independent uniform on (0, 1). Its tail is
 /// P(R > w) = E[(S - w)+] / m = Q(a + 1, y) - (y / a) Q(a, y), y = w / theta,
 /// with Q the regularized upper incomplete gamma function (from
-/// E[S; S > w] = m Q(a + 1, y), JKB vol. 1, ch. 17).
+/// E\[S; S > w\] = m Q(a + 1, y), JKB vol. 1, ch. 17).
 ///
 /// The difference loses relative accuracy once y is well above a (both
 /// terms small and close): the absolute error stays near 1e-16, so the tail

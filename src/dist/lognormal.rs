@@ -28,7 +28,7 @@ use super::error::{LawError, check_cv, check_mean};
 /// independent uniform on (0, 1). Its tail is
 /// P(R > w) = E[(S - w)+] / m = Phi'(d1) - (w / m) Phi'(d2), with Phi' = 1 - Phi,
 /// d1 = (ln w - mu - sigma^2) / sigma, d2 = (ln w - mu) / sigma (the partial
-/// expectation E[S; S > w] = m Phi'(d1), JKB vol. 1, ch. 14). Both terms come
+/// expectation E\[S; S > w\] = m Phi'(d1), JKB vol. 1, ch. 14). Both terms come
 /// from `erfc`, so each is accurate in the tail; their difference keeps an
 /// absolute error near 1e-16 (clamped to [0, 1]).
 #[derive(Debug, Clone, PartialEq)]

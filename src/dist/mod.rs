@@ -299,14 +299,14 @@ impl Law {
     }
 
     /// The stationary-excess (equilibrium residual) law's tail:
-    /// P(R > w) = E[(S - w)+] / E[S], the integral of 1 - F(x) from w up over
+    /// P(R > w) = E\[(S - w)+\] / E\[S\], the integral of 1 - F(x) from w up over
     /// the mean. 1 for w <= 0, 0 beyond the largest possible holding time,
     /// non-increasing, NaN for NaN.
     ///
     /// R is the remaining time of a call found in progress at a random
     /// instant of a stationary system (the forward recurrence time of renewal
     /// theory; Cox, *Renewal Theory*, 1962, ch. 5): its density is
-    /// (1 - F(x)) / E[S] and its mean E[S^2] / (2 E[S]) = m (1 + cv^2) / 2.
+    /// (1 - F(x)) / E\[S\] and its mean E\[S^2\] / (2 E\[S\]) = m (1 + cv^2) / 2.
     ///
     /// # Numerics
     ///
@@ -351,8 +351,8 @@ impl Law {
     /// # Numerics
     ///
     /// Exact for every law: a draw of the length-biased law (density
-    /// x f(x) / E[S]) times an independent uniform on (0, 1) has density
-    /// (1 - F(x)) / E[S] (Cox 1962, ch. 5). Exponential and hyperexponential
+    /// x f(x) / E\[S\]) times an independent uniform on (0, 1) has density
+    /// (1 - F(x)) / E\[S\] (Cox 1962, ch. 5). Exponential and hyperexponential
     /// phases are drawn directly (an exponential's residual is itself). The
     /// length-biased samplers are built with the law. The generator words
     /// used differ from [`Law::sample`]'s, so a residual draw never shifts

@@ -39,7 +39,7 @@ pub const WEIBULL_SHAPE_MAX: f64 = 500.0;
 /// (equilibrium residual) is such a draw (`rand_distr::Gamma`, shape from
 /// 1.002 to 21) times an independent uniform on (0, 1). Its tail is
 /// P(R > w) = E[(S - w)+] / m = Q(1 + 1/k, y) - (w / m) exp(-y), y = (w / lambda)^k,
-/// Q the regularized upper incomplete gamma function (E[S; S > w] =
+/// Q the regularized upper incomplete gamma function (E\[S; S > w\] =
 /// m Q(1 + 1/k, y)). As for the gamma law, the difference keeps an absolute
 /// error near 1e-16 (clamped to [0, 1]).
 #[derive(Debug, Clone, Copy, PartialEq)]
