@@ -9,6 +9,43 @@
 //! replication) -> [`stats`] summary -> [`experiment`] (many replications) ->
 //! [`report`]. [`formulas`] is a leaf that `report` and `experiment` call.
 //!
+//! # Example
+//!
+//! Load a scenario, run it, read an estimate beside its closed form:
+//!
+//! ```
+//! use busyhour::experiment::{self, RunOptions};
+//! use busyhour::formulas::erlang_b;
+//! use busyhour::stats::{Figure, Scope};
+//!
+//! let text = r#"
+//! [simulation]
+//! length = "1h"
+//! replications = 20
+//! seed = 7
+//!
+//! [[group]]
+//! name = "trunks"
+//! servers = 10
+//!
+//! [[stream]]
+//! name = "office"
+//! arrivals = { law = "poisson", rate = "120/h" }
+//! holding = { law = "lognormal", mean = "3m", cv = 1.5 }
+//! route = ["trunks"]
+//! "#;
+//! let model = busyhour::scenario::parse(text, "example.toml", ".".as_ref(), "example")?;
+//! let outcome = experiment::run(&model, None, &RunOptions::default())?;
+//! let loss = outcome.get_figure(Scope::Stream(0), Figure::Loss).unwrap();
+//! // 6 E on 10 trunks: Erlang B is 4.31% for any holding-time law
+//! // (insensitivity), and the 95% interval of the simulation says how sure
+//! // the estimate is.
+//! let book = erlang_b::blocking(10, 6.0)?;
+//! assert!(loss.low <= loss.mean && loss.mean <= loss.high);
+//! assert!((loss.mean - book).abs() < 0.02, "{} vs {book}", loss.mean);
+//! # Ok::<(), Box<dyn std::error::Error>>(())
+//! ```
+//!
 //! # Panics and errors
 //!
 //! Anything a user's file or flag can reach returns a typed error (`thiserror`
