@@ -681,3 +681,145 @@ fn usage_errors_exit_2() {
         assert_eq!(busyhour(&args).status.code(), Some(2), "busyhour {args:?}");
     }
 }
+
+#[test]
+fn queue_with_general_holding() {
+    // M/D/1: Pollaczek-Khinchine is exact, W = rho h / (2 (1 - rho)) (any
+    // queueing text); 0.5 E of 120 s calls waits 60 s on average.
+    let out = busyhour(&[
+        "calc",
+        "queue",
+        "--traffic",
+        "0.5",
+        "--agents",
+        "1",
+        "--holding",
+        "120s",
+        "--answer-within",
+        "20s",
+        "--holding-cv",
+        "0",
+        "--json",
+    ]);
+    assert!(out.status.success());
+    let json: Value = serde_json::from_slice(&out.stdout).unwrap();
+    let g = &json["general_holding"];
+    assert_close(
+        "M/D/1 wait",
+        g["mean_wait_s"].as_f64().unwrap(),
+        60.0,
+        1e-12,
+    );
+    assert_eq!(g["exact"], Value::Bool(true));
+    // Erlang C beside it: the M/M/1 wait, twice as long.
+    assert_close("M/M/1 wait", number(&json, "mean_wait_s"), 120.0, 1e-12);
+    // M/D/10 at 80% load: Cosmetatos' approximation, about half of Erlang C
+    // (Cosmetatos 1976; the simulator gives 19.86 +- 0.2 s for this queue,
+    // issue 15), and marked as an approximation.
+    let out = busyhour(&[
+        "calc",
+        "queue",
+        "--traffic",
+        "8",
+        "--agents",
+        "10",
+        "--holding",
+        "3m",
+        "--answer-within",
+        "20s",
+        "--holding-cv",
+        "0",
+    ]);
+    let text = String::from_utf8_lossy(&out.stdout);
+    assert!(text.contains("Cosmetatos (approx.)"), "{text}");
+    let out = busyhour(&[
+        "calc",
+        "queue",
+        "--traffic",
+        "8",
+        "--agents",
+        "10",
+        "--holding",
+        "3m",
+        "--answer-within",
+        "20s",
+        "--holding-cv",
+        "0",
+        "--json",
+    ]);
+    let json: Value = serde_json::from_slice(&out.stdout).unwrap();
+    let w = json["general_holding"]["mean_wait_s"].as_f64().unwrap();
+    assert!((w - 19.86).abs() < 0.02 * 19.86, "{w}");
+    // A bad cv is refused with the flag named.
+    let out = busyhour(&[
+        "calc",
+        "queue",
+        "--traffic",
+        "8",
+        "--agents",
+        "10",
+        "--holding",
+        "3m",
+        "--answer-within",
+        "20s",
+        "--holding-cv",
+        "-1",
+    ]);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&out.stderr).contains("--holding-cv"));
+}
+
+#[test]
+fn redial_fixed_point_against_the_exact_chain() {
+    use busyhour::formulas::chains;
+    // 10 E fresh on 12 servers, 70% of blocked callers redial after an
+    // exponential delay: the exact two-dimensional chain (formulas::chains,
+    // checked against its own balance equations there) gives the reference;
+    // the fixed point assumes Poisson attempts and is an approximation,
+    // within 30% here (issue 15's bound). The redial delay does not enter
+    // the fixed point; a delay of one holding time is a common case.
+    let keys = [
+        "method",
+        "blocking",
+        "attempt_traffic",
+        "attempts_per_call",
+        "loss",
+        "erlang_b_without_redials",
+    ];
+    let json = calc_json(
+        &[
+            "redial",
+            "--traffic",
+            "10",
+            "--servers",
+            "12",
+            "--redial",
+            "70%",
+        ],
+        &keys,
+    );
+    let exact = chains::redials(12, 10.0, 180.0, 0.7, 180.0).unwrap();
+    let b = number(&json, "blocking");
+    let rel = (b / exact.first_attempt_blocking - 1.0).abs();
+    assert!(
+        rel < 0.30,
+        "fixed point {b} vs exact {}",
+        exact.first_attempt_blocking
+    );
+    let loss = number(&json, "loss");
+    assert!(
+        (loss / exact.loss - 1.0).abs() < 0.30,
+        "{loss} vs {}",
+        exact.loss
+    );
+    let apc = number(&json, "attempts_per_call");
+    assert!((apc / exact.attempts_per_call - 1.0).abs() < 0.05, "{apc}");
+    // Redials add load: blocking above plain Erlang B.
+    assert!(b > erlang_b::blocking(12, 10.0).unwrap());
+    assert_close(
+        "plain",
+        number(&json, "erlang_b_without_redials"),
+        erlang_b::blocking(12, 10.0).unwrap(),
+        1e-15,
+    );
+}

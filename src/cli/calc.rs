@@ -10,7 +10,9 @@ use anyhow::{Result, bail};
 use clap::{Args, Subcommand};
 use serde::Serialize;
 
-use busyhour::formulas::{engset, erlang_a, erlang_b, erlang_c, multirate, overflow};
+use busyhour::formulas::{
+    engset, erlang_a, erlang_b, erlang_c, multirate, overflow, queue_general, redial_fixed_point,
+};
 use busyhour::units;
 
 use super::flags;
@@ -36,6 +38,8 @@ pub enum CalcCommand {
     Queue(QueueArgs),
     /// Erlang C: fewest agents for a service-level and/or mean-wait goal.
     Agents(AgentsArgs),
+    /// Erlang B with redials: blocking when blocked callers try again (fixed point).
+    Redial(RedialArgs),
     /// Erlang A: waiting and abandonment when callers give up.
     Abandon(AbandonArgs),
     /// Engset: loss on a group serving a finite number of sources.
@@ -129,8 +133,44 @@ pub struct QueueArgs {
     /// Answer-time goal for the service level, such as "20s".
     #[arg(long, value_name = "DURATION", value_parser = flags::duration)]
     pub answer_within: f64,
+    /// Coefficient of variation of the holding time (1 is exponential, 0
+    /// constant): adds the M/G/N mean wait by a two-moment method.
+    #[arg(long, value_name = "CV", allow_negative_numbers = true, value_parser = cv)]
+    pub holding_cv: Option<f64>,
     #[command(flatten)]
     pub output: Output,
+}
+
+/// `calc redial`.
+#[derive(Debug, Args)]
+pub struct RedialArgs {
+    #[command(flatten)]
+    pub offered: Offered,
+    /// Mean holding time such as "3m" (needed with --calls).
+    #[arg(long, value_name = "DURATION", value_parser = flags::positive_duration)]
+    pub holding: Option<f64>,
+    /// Number of servers.
+    #[arg(long, value_name = "N", value_parser = flags::at_least_one)]
+    pub servers: u32,
+    /// Chance that a blocked caller tries again, such as "70%"; repeat for
+    /// the second, third ... redial (the last repeats).
+    #[arg(long = "redial", value_name = "SHARE", required = true, value_parser = flags::share)]
+    pub chances: Vec<f64>,
+    /// Attempts in all, the first included (default: no limit).
+    #[arg(long, value_name = "N", value_parser = flags::at_least_one)]
+    pub max_attempts: Option<u32>,
+    #[command(flatten)]
+    pub output: Output,
+}
+
+/// A coefficient of variation: finite and not negative.
+fn cv(text: &str) -> Result<f64, String> {
+    match text.trim().parse::<f64>() {
+        Ok(x) if x >= 0.0 && x.is_finite() => Ok(x),
+        _ => Err(format!(
+            "'{text}' is not a coefficient of variation: expected a number >= 0 such as 0.5 (1 is exponential)"
+        )),
+    }
 }
 
 /// `calc agents`.
@@ -264,6 +304,7 @@ fn output_of(command: &CalcCommand) -> &Output {
         CalcCommand::Traffic(a) => &a.output,
         CalcCommand::Queue(a) => &a.output,
         CalcCommand::Agents(a) => &a.output,
+        CalcCommand::Redial(a) => &a.output,
         CalcCommand::Abandon(a) => &a.output,
         CalcCommand::Finite(a) => &a.output,
         CalcCommand::Overflow(a) => &a.output,
@@ -284,6 +325,7 @@ fn evaluate(command: &CalcCommand) -> Result<Report> {
         CalcCommand::Traffic(a) => traffic(a),
         CalcCommand::Queue(a) => queue(a),
         CalcCommand::Agents(a) => agents(a),
+        CalcCommand::Redial(a) => redial(a),
         CalcCommand::Abandon(a) => abandon(a),
         CalcCommand::Finite(a) => finite(a),
         CalcCommand::Overflow(a) => overflow_groups(a),
@@ -473,7 +515,11 @@ fn queue(a: &QueueArgs) -> Result<Report> {
     let mean_wait_s = erlang_c::mean_wait(agents, traffic, holding)?;
     let service_level = erlang_c::service_level(agents, traffic, holding, within)?;
     let occupancy = erlang_c::occupancy(agents, traffic)?;
-    let text = Block::new("Erlang C delay system (callers wait without giving up)")
+    let general = a
+        .holding_cv
+        .map(|cv| queue_general::mean_wait(agents, traffic, holding, cv))
+        .transpose()?;
+    let mut block = Block::new("Erlang C delay system (callers wait without giving up)")
         .row("offered traffic", erlangs(traffic))
         .row("mean holding time", seconds(holding))
         .row("agents", agents.to_string())
@@ -483,22 +529,51 @@ fn queue(a: &QueueArgs) -> Result<Report> {
             &format!("answered within {}", units::format_duration(within)),
             percent(service_level),
         )
-        .row("occupancy", percent(occupancy))
-        .render();
+        .row("occupancy", percent(occupancy));
+    if let (Some(w), Some(cv)) = (&general, a.holding_cv) {
+        block = block
+            .row("holding-time cv", number(cv, 3))
+            .row(
+                &format!("probability of waiting, {}", w.method.label()),
+                percent(w.wait_probability),
+            )
+            .row(
+                &format!("mean wait, all calls, {}", w.method.label()),
+                seconds(w.mean_wait_s),
+            )
+            .note("the Erlang C rows assume exponential holding (cv 1); the service level has no general-holding form here");
+    }
+    #[derive(Serialize)]
+    struct General {
+        cv: f64,
+        method: &'static str,
+        exact: bool,
+        wait_probability: f64,
+        mean_wait_s: f64,
+    }
     #[derive(Serialize)]
     struct Json {
         wait_probability: f64,
         mean_wait_s: f64,
         service_level: f64,
         occupancy: f64,
+        #[serde(skip_serializing_if = "Option::is_none")]
+        general_holding: Option<General>,
     }
     Ok(Report {
-        text,
+        text: block.render(),
         json: serde_json::to_value(Json {
             wait_probability,
             mean_wait_s,
             service_level,
             occupancy,
+            general_holding: general.zip(a.holding_cv).map(|(w, cv)| General {
+                cv,
+                method: w.method.label(),
+                exact: w.method.is_exact(),
+                wait_probability: w.wait_probability,
+                mean_wait_s: w.mean_wait_s,
+            }),
         })?,
     })
 }
@@ -564,6 +639,60 @@ fn agents(a: &AgentsArgs) -> Result<Report> {
             service_level,
             mean_wait_s,
             wait_probability,
+        })?,
+    })
+}
+
+fn redial(a: &RedialArgs) -> Result<Report> {
+    let traffic = offered_traffic(a.offered.traffic, a.offered.calls, a.holding)?;
+    let servers = a.servers;
+    let stream = redial_fixed_point::RedialingStream {
+        traffic,
+        chances: a.chances.clone(),
+        max_attempts: a.max_attempts,
+    };
+    let fp = redial_fixed_point::solve(servers, std::slice::from_ref(&stream))?;
+    let shares = fp.streams[0];
+    let plain = erlang_b::blocking(servers, traffic)?;
+    let chances: Vec<String> = a.chances.iter().map(|&c| percent(c)).collect();
+    let text = Block::new("Loss system with redials (fixed point B = E_N(attempt traffic); approximation)")
+        .row("fresh offered traffic", erlangs(traffic))
+        .row("servers", servers.to_string())
+        .row(
+            "redial chances",
+            format!("{} (the last repeats)", chances.join(", ")),
+        )
+        .row(
+            "attempts in all",
+            a.max_attempts
+                .map_or("no limit".to_string(), |n| n.to_string()),
+        )
+        .row("attempt traffic", erlangs(fp.attempt_traffic))
+        .row("blocking of every attempt", percent(fp.blocking))
+        .row("attempts per fresh call", number(shares.attempts_per_call, 4))
+        .row("fresh calls finally lost", percent(shares.loss))
+        .row("carried traffic", erlangs(fp.carried_traffic()))
+        .row("Erlang B without redials", percent(plain))
+        .note("each attempt is taken to meet the same blocking and the attempts to be Poisson; redials bunch after busy spells, so the simulator is the reference")
+        .render();
+    #[derive(Serialize)]
+    struct Json {
+        method: &'static str,
+        blocking: f64,
+        attempt_traffic: f64,
+        attempts_per_call: f64,
+        loss: f64,
+        erlang_b_without_redials: f64,
+    }
+    Ok(Report {
+        text,
+        json: serde_json::to_value(Json {
+            method: "redial fixed point (approx.)",
+            blocking: fp.blocking,
+            attempt_traffic: fp.attempt_traffic,
+            attempts_per_call: shares.attempts_per_call,
+            loss: shares.loss,
+            erlang_b_without_redials: plain,
         })?,
     })
 }
