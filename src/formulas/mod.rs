@@ -40,6 +40,7 @@
 //! ```
 
 pub mod chains;
+pub mod delay_goals;
 pub mod engset;
 pub mod erlang_a;
 pub mod erlang_b;
