@@ -123,8 +123,11 @@ fn a_goal_line_needs_a_chart() {
 
 /// CSV rows (header first) as cells.
 fn csv_rows(text: &str) -> Vec<Vec<String>> {
-    text.lines()
-        .map(|l| l.split(',').map(str::to_string).collect())
+    csv::ReaderBuilder::new()
+        .has_headers(false)
+        .from_reader(text.as_bytes())
+        .records()
+        .map(|r| r.unwrap().iter().map(str::to_string).collect())
         .collect()
 }
 
