@@ -62,16 +62,6 @@ fn a_shard_writes_its_part_and_nothing_else() {
         "--out",
         &p,
     ];
-    for (extra, flag) in [
-        (vec!["--report", &h], "--report"),
-        (vec!["--chart", &c], "--chart"),
-        (vec!["--json"], "--json"),
-        (vec!["--csv"], "--csv"),
-    ] {
-        let mut args = run.to_vec();
-        args.extend(&extra);
-        refused(&args, &["--shard", flag], &[&part, &html, &svg]);
-    }
     let sweep = [
         "sweep",
         s,
@@ -84,16 +74,22 @@ fn a_shard_writes_its_part_and_nothing_else() {
         "--out",
         &p,
     ];
-    for (extra, flag) in [
-        (vec!["--report", &h], "--report"),
-        (vec!["--chart", &c], "--chart"),
+    // Every output flag beside --shard, on run and on sweep; --figure and
+    // --goal on sweep.
+    let outputs = [
+        (vec!["--report", h.as_str()], "--report"),
+        (vec!["--chart", c.as_str()], "--chart"),
         (vec!["--json"], "--json"),
         (vec!["--csv"], "--csv"),
+    ];
+    let sweep_only = [
         (vec!["--figure", "loss"], "--figure"),
         (vec!["--goal", "loss<=1%"], "--goal"),
-    ] {
-        let mut args = sweep.to_vec();
-        args.extend(&extra);
+    ];
+    let cases = (outputs.iter().map(|o| (&run[..], o)))
+        .chain(outputs.iter().chain(&sweep_only).map(|o| (&sweep[..], o)));
+    for (command, (extra, flag)) in cases {
+        let args = [command, &extra[..]].concat();
         refused(&args, &["--shard", flag], &[&part, &html, &svg]);
     }
     // Alone, the shard writes its part.

@@ -9,7 +9,7 @@ pub mod records;
 use anyhow::{Context, Result, bail};
 use busyhour::experiment::{self, RunOptions};
 use busyhour::files::{FilePlan, OutputKind};
-use busyhour::report::{self, Document, Format, RunDocument, SweepDocument};
+use busyhour::report::{self, Charted, Document, Format, RunDocument, SweepDocument};
 use busyhour::scenario::{self, Model, Replications};
 use busyhour::units;
 use clap::Args;
@@ -490,35 +490,11 @@ pub fn run(a: &RunArgs) -> Result<Status> {
     })
 }
 
-/// Print a run's document in the format asked for, with its chart and
-/// HTML page where asked (`run`, and `merge` of run parts); warnings go to
-/// stderr too unless the table on the terminal shows them.
-fn emit_run(doc: &RunDocument, output: &OutputArgs, chart_path: Option<&Path>) -> Result<()> {
-    let chart = if !doc.intervals.is_empty() && (chart_path.is_some() || output.report.is_some()) {
-        Some(doc.chart().context("chart")?)
-    } else {
-        None
-    };
-    if let (Some(path), Some(svg)) = (chart_path, &chart) {
-        write_file(path, svg)?;
-    }
-    if let Some(path) = &output.report {
-        write_file(path, &doc.html(chart.as_deref()))?;
-    }
-    emit(output.format(), doc, output.out.as_deref())?;
-    let table_on_terminal = output.format() == Format::Table && output.out.is_none();
-    if !output.quiet && !table_on_terminal {
-        for w in &doc.warnings {
-            eprintln!("busyhour: warning: {w}");
-        }
-    }
-    Ok(())
-}
-
-/// Print a sweep's document in the format asked for, with its chart and
-/// HTML page where asked (`sweep`, and `merge` of sweep parts).
-fn emit_sweep(doc: &SweepDocument, output: &OutputArgs, chart_path: Option<&Path>) -> Result<()> {
-    let chart = if chart_path.is_some() || output.report.is_some() {
+/// Print a document in the format asked for, after writing its chart
+/// (`--chart`) and HTML page (`--report`) where asked (`run`, `sweep` and
+/// `merge`).
+fn emit_charted(doc: &impl Charted, output: &OutputArgs, chart_path: Option<&Path>) -> Result<()> {
+    let chart = if doc.has_chart() && (chart_path.is_some() || output.report.is_some()) {
         Some(doc.chart().context("chart")?)
     } else {
         None
@@ -530,6 +506,19 @@ fn emit_sweep(doc: &SweepDocument, output: &OutputArgs, chart_path: Option<&Path
         write_file(path, &doc.html(chart.as_deref()))?;
     }
     emit(output.format(), doc, output.out.as_deref())
+}
+
+/// A run's document (`run`, and `merge` of run parts): printed, and its
+/// warnings on stderr unless the table on the terminal shows them.
+fn emit_run(doc: &RunDocument, output: &OutputArgs, chart_path: Option<&Path>) -> Result<()> {
+    emit_charted(doc, output, chart_path)?;
+    let table_on_terminal = output.format() == Format::Table && output.out.is_none();
+    if !output.quiet && !table_on_terminal {
+        for w in &doc.warnings {
+            eprintln!("busyhour: warning: {w}");
+        }
+    }
+    Ok(())
 }
 
 /// `busyhour check`.
@@ -686,7 +675,7 @@ pub fn sweep(a: &SweepArgs) -> Result<Status> {
     let file = a.scenario.display().to_string();
     let label = spec.label(&model);
     let doc = SweepDocument::new(&model, &file, &label, &steps, partial, &figures, &goals);
-    emit_sweep(&doc, &a.output, a.chart.as_deref())?;
+    emit_charted(&doc, &a.output, a.chart.as_deref())?;
     Ok(if partial {
         Status::Interrupted
     } else {
@@ -800,6 +789,6 @@ fn merge_sweep(
         .collect();
     let label = sw.label(model);
     let doc = SweepDocument::new(model, recorded, &label, &steps, false, &[], &[]);
-    emit_sweep(&doc, &a.output, None)?;
+    emit_charted(&doc, &a.output, None)?;
     Ok(Status::Done)
 }

@@ -4,6 +4,7 @@
 //! figure needs nothing here.
 
 use super::json::finite;
+use super::text::csv_number;
 use crate::stats::{Estimate, Estimator, Figure};
 use crate::textbook::Formula;
 use serde::ser::{Serialize, SerializeMap, Serializer};
@@ -46,6 +47,43 @@ pub struct FigureValue {
 }
 
 impl FigureValue {
+    /// The CSV columns of a figure's value, after the columns that say
+    /// whose it is.
+    pub const CSV_COLUMNS: [&'static str; 9] = [
+        "figure",
+        "mean",
+        "half_width",
+        "low",
+        "high",
+        "estimator",
+        "replications",
+        "formula",
+        "formula_value",
+    ];
+
+    /// The value's cells under [`FigureValue::CSV_COLUMNS`] (empty where
+    /// undefined or absent).
+    pub fn csv_cells(&self) -> [String; 9] {
+        let e = &self.estimate;
+        let (formula, formula_value) = self
+            .formula
+            .as_ref()
+            .map_or((String::new(), String::new()), |f| {
+                (f.name.to_string(), csv_number(f.value))
+            });
+        [
+            self.figure.name().to_string(),
+            csv_number(e.mean),
+            csv_number(e.half_width),
+            csv_number(e.low),
+            csv_number(e.high),
+            self.estimator.name().to_string(),
+            e.replications.to_string(),
+            formula,
+            formula_value,
+        ]
+    }
+
     /// The estimate of `figure`, with its closed form if any.
     pub fn new(figure: Figure, estimate: Estimate, formula: Option<&Formula>) -> FigureValue {
         FigureValue {

@@ -58,6 +58,22 @@ pub trait Document: Serialize {
     }
 }
 
+/// A document with a chart, and an HTML page that embeds it (`run`,
+/// `sweep`).
+pub trait Charted: Document {
+    /// Whether there is anything to draw (a run without intervals has no
+    /// chart).
+    fn has_chart(&self) -> bool {
+        true
+    }
+
+    /// The chart as SVG.
+    fn chart(&self) -> Result<String, plot::ChartError>;
+
+    /// The HTML page, with the chart where one is given.
+    fn html(&self, chart: Option<&str>) -> String;
+}
+
 /// A document that cannot be printed in the format asked for.
 #[derive(Debug, thiserror::Error)]
 pub enum RenderError {

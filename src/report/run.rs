@@ -9,7 +9,7 @@ use super::figures::{FigureSet, FigureValue};
 use super::json::finite;
 use super::plot::{self, ChartError, LineChart, Series};
 use super::text::{self, Table, align, clock};
-use super::{CAUTION, Document, html};
+use super::{CAUTION, Charted, Document, html};
 use crate::experiment::Outcome;
 use crate::scenario::{Model, Start};
 use crate::stats::{self, Estimate, Figure, Scope, Unit};
@@ -308,10 +308,12 @@ impl RunDocument {
         }
         rows
     }
+}
 
+impl Charted for RunDocument {
     /// The run as one self-contained HTML page, with the per-interval chart
     /// when one is given.
-    pub fn html(&self, chart: Option<&str>) -> String {
+    fn html(&self, chart: Option<&str>) -> String {
         use html::Block;
         let mut blocks = vec![
             Block::Heading("The scenario in plain words".into()),
@@ -350,10 +352,14 @@ shows the closed-form value where its assumptions hold.",
         )
     }
 
+    fn has_chart(&self) -> bool {
+        !self.intervals.is_empty()
+    }
+
     /// The per-interval chart: offered and carried traffic (all streams)
     /// with their 95% bands, and each stream's loss with its band and the
     /// Erlang B of the interval load where it applies. Needs intervals.
-    pub fn chart(&self) -> Result<String, ChartError> {
+    fn chart(&self) -> Result<String, ChartError> {
         if self.intervals.is_empty() {
             return Err(ChartError::NoData);
         }
@@ -450,21 +456,11 @@ impl Document for RunDocument {
     /// Long format: one row per figure, streams, groups, then each
     /// interval's.
     fn csv(&self) -> Option<String> {
-        let header = [
-            "kind",
-            "name",
-            "interval_start_s",
-            "figure",
-            "mean",
-            "half_width",
-            "low",
-            "high",
-            "estimator",
-            "replications",
-            "formula",
-            "formula_value",
-        ]
-        .map(String::from);
+        let header: Vec<String> = ["kind", "name", "interval_start_s"]
+            .into_iter()
+            .chain(FigureValue::CSV_COLUMNS)
+            .map(String::from)
+            .collect();
         let whole = (self.streams.iter().map(|s| ("stream", s)))
             .chain(self.groups.iter().map(|g| ("group", g)))
             .map(|(kind, set)| (kind, set, String::new()));
@@ -475,37 +471,13 @@ impl Document for RunDocument {
                 .map(move |(kind, set)| (kind, set, start.clone()))
         });
         let rows = whole.chain(by_interval).flat_map(|(kind, set, start)| {
-            set.figures
-                .iter()
-                .map(move |v| figure_csv_row(&[kind, &set.name, &start], v))
+            set.figures.iter().map(move |v| {
+                let lead = [kind.to_string(), set.name.clone(), start.clone()];
+                lead.into_iter().chain(v.csv_cells()).collect()
+            })
         });
-        Some(text::csv(std::iter::once(header.to_vec()).chain(rows)))
+        Some(text::csv(std::iter::once(header).chain(rows)))
     }
-}
-
-/// A CSV row: the leading cells, then the figure's name, estimate,
-/// estimator, replications and closed form.
-pub(crate) fn figure_csv_row(lead: &[&str], v: &FigureValue) -> Vec<String> {
-    let e = &v.estimate;
-    let (formula, formula_value) = v
-        .formula
-        .as_ref()
-        .map_or((String::new(), String::new()), |f| {
-            (f.name.to_string(), text::csv_number(f.value))
-        });
-    let mut row: Vec<String> = lead.iter().map(|s| s.to_string()).collect();
-    row.extend([
-        v.figure.name().to_string(),
-        text::csv_number(e.mean),
-        text::csv_number(e.half_width),
-        text::csv_number(e.low),
-        text::csv_number(e.high),
-        v.estimator.name().to_string(),
-        e.replications.to_string(),
-        formula,
-        formula_value,
-    ]);
-    row
 }
 
 /// The table rows of one stream or group: label, estimate, interval and

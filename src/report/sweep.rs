@@ -6,9 +6,9 @@
 use super::describe::describe_model;
 use super::figures::{FigureSet, FigureValue};
 use super::plot::{self, ChartError, LineChart, Series};
-use super::run::{RunDocument, figure_csv_row};
+use super::run::RunDocument;
 use super::text::{self, Table, align};
-use super::{CAUTION, Document, html};
+use super::{CAUTION, Charted, Document, html};
 use crate::experiment::size::Goal;
 use crate::experiment::sweep::Step;
 use crate::scenario::Model;
@@ -213,10 +213,12 @@ impl SweepDocument {
         }
         rows
     }
+}
 
+impl Charted for SweepDocument {
     /// The sweep as one self-contained HTML page, with its chart when one
     /// is given.
-    pub fn html(&self, chart: Option<&str>) -> String {
+    fn html(&self, chart: Option<&str>) -> String {
         use html::Block;
         let mut blocks = vec![
             Block::Heading("The scenario in plain words".into()),
@@ -251,7 +253,7 @@ impl SweepDocument {
     /// The chart: the columns' figures against the swept value, with their
     /// 95% bands, the closed-form curve where one applies, and goal lines;
     /// one panel per figure.
-    pub fn chart(&self) -> Result<String, ChartError> {
+    fn chart(&self) -> Result<String, ChartError> {
         let mut figures: Vec<Figure> = Vec::new();
         for c in &self.columns {
             if !figures.contains(&c.figure) {
@@ -329,33 +331,24 @@ impl Document for SweepDocument {
     /// Long format: one row per step and whole-period figure (only the
     /// chosen figures when `--figure` was given).
     fn csv(&self) -> Option<String> {
-        let header = [
-            "value",
-            "kind",
-            "name",
-            "figure",
-            "mean",
-            "half_width",
-            "low",
-            "high",
-            "estimator",
-            "replications",
-            "formula",
-            "formula_value",
-        ]
-        .map(String::from);
+        let header: Vec<String> = ["value", "kind", "name"]
+            .into_iter()
+            .chain(FigureValue::CSV_COLUMNS)
+            .map(String::from)
+            .collect();
         let rows = self.steps.iter().flat_map(|st| {
             let value = text::csv_number(st.value);
             (st.result.streams.iter().map(|s| ("stream", s)))
                 .chain(st.result.groups.iter().map(|g| ("group", g)))
                 .flat_map(move |(kind, set)| {
                     let value = value.clone();
-                    set.figures
-                        .iter()
-                        .map(move |v| figure_csv_row(&[&value, kind, &set.name], v))
+                    set.figures.iter().map(move |v| {
+                        let lead = [value.clone(), kind.to_string(), set.name.clone()];
+                        lead.into_iter().chain(v.csv_cells()).collect()
+                    })
                 })
         });
-        Some(text::csv(std::iter::once(header.to_vec()).chain(rows)))
+        Some(text::csv(std::iter::once(header).chain(rows)))
     }
 }
 
