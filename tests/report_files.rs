@@ -107,6 +107,38 @@ fn sweep_chart_has_bands_formula_and_goal_lines() {
     }
 }
 
+/// What keeps an HTML page from opening on its own, offline: scripts, and
+/// any reference to the network (the SVG namespace name is not one: it is
+/// never fetched).
+fn not_self_contained(html: &str) -> Vec<String> {
+    let mut problems = Vec::new();
+    if html.contains("<script") {
+        problems.push("it has a script".to_string());
+    }
+    let without_namespace = html.replace("http://www.w3.org/2000/svg", "");
+    for scheme in ["http://", "https://"] {
+        if without_namespace.contains(scheme) {
+            problems.push(format!("it refers to the network ({scheme})"));
+        }
+    }
+    problems
+}
+
+#[test]
+fn the_self_containment_check_can_fail() {
+    // The check once read `!script && !http || svg`: any page with an inline
+    // SVG passed, scripts and links included.
+    let svg = "<svg xmlns=\"http://www.w3.org/2000/svg\"></svg>";
+    assert!(not_self_contained(&format!("<p>ok</p>{svg}")).is_empty());
+    for bad in [
+        format!("<script>alert(1)</script>{svg}"),
+        format!("<img src=\"http://example.com/a.png\">{svg}"),
+        format!("<link href=\"https://example.com/a.css\">{svg}"),
+    ] {
+        assert!(!not_self_contained(&bad).is_empty(), "{bad} passed");
+    }
+}
+
 fn chromium() -> Option<&'static str> {
     ["/usr/bin/chromium", "/usr/bin/chromium-browser"]
         .into_iter()
@@ -162,11 +194,17 @@ fn html_reports_are_self_contained_and_render() {
             "{name}: the caution is missing"
         );
         assert!(html.contains("Assumptions"));
+        let problems = not_self_contained(&html);
+        assert!(problems.is_empty(), "{name}: {problems:?}");
+        let expected = match name {
+            "run.html" => "loss (calls never served)",
+            "size.html" => "servers on carrier-shared",
+            _ => "video loss",
+        };
         assert!(
-            !html.contains("<script") && !html.contains("http://")
-                || html.contains("http://www.w3.org/2000/svg")
+            html.contains(expected),
+            "{name}: the page lacks {expected:?}"
         );
-        assert!(!html.contains("https://"), "{name}: no network references");
         let Some(browser) = chromium() else {
             eprintln!("Chromium is not installed: skipping the browser check of {name}");
             continue;
@@ -201,11 +239,6 @@ fn html_reports_are_self_contained_and_render() {
             console_errors.is_empty(),
             "{name}: console errors: {console_errors:?}"
         );
-        let expected = match name {
-            "run.html" => "loss (calls never served)",
-            "size.html" => "servers on carrier-shared",
-            _ => "video loss",
-        };
         assert!(
             dom.contains(expected),
             "{name}: rendered page lacks {expected:?}"

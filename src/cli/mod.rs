@@ -9,7 +9,7 @@ pub mod records;
 use anyhow::{Context, Result, bail};
 use busyhour::experiment::{self, RunOptions};
 use busyhour::files::{FilePlan, OutputKind};
-use busyhour::report::{self, RunReport};
+use busyhour::report::{self, Charted, Document, Format, RunDocument, SweepDocument};
 use busyhour::scenario::{self, Model, Replications};
 use busyhour::units;
 use clap::Args;
@@ -90,16 +90,26 @@ pub struct OutputArgs {
 }
 
 impl OutputArgs {
+    /// The format the flags ask for.
+    fn format(&self) -> Format {
+        if self.json {
+            Format::Json
+        } else if self.csv {
+            Format::Csv
+        } else {
+            Format::Table
+        }
+    }
+
     /// What `--out` holds: JSON, CSV, a part file or the text report.
     fn out_kind(&self, part: bool) -> OutputKind {
         if part {
-            OutputKind::Part
-        } else if self.json {
-            OutputKind::Json
-        } else if self.csv {
-            OutputKind::Csv
-        } else {
-            OutputKind::Text
+            return OutputKind::Part;
+        }
+        match self.format() {
+            Format::Json => OutputKind::Json,
+            Format::Csv => OutputKind::Csv,
+            Format::Table => OutputKind::Text,
         }
     }
 
@@ -162,8 +172,13 @@ pub struct RunArgs {
     pub chart: Option<PathBuf>,
     /// Run only shard I of N (a contiguous slice of the replications, with
     /// the seeds of the whole run) and write its raw part file to --out, for
-    /// `busyhour merge`.
-    #[arg(long, value_name = "I/N", requires = "out")]
+    /// `busyhour merge` (which prints the table, JSON, CSV and report).
+    #[arg(
+        long,
+        value_name = "I/N",
+        requires = "out",
+        conflicts_with_all = ["json", "csv", "report", "chart"]
+    )]
     pub shard: Option<String>,
     #[command(flatten)]
     pub output: OutputArgs,
@@ -233,21 +248,30 @@ pub struct SweepArgs {
     /// Set one group's servers to each size of start:end[:step] ("trunks=40:60").
     #[arg(long, value_name = "GROUP=RANGE")]
     pub servers: Option<String>,
-    /// A figure to show (repeatable; default: loss, service level, occupancy).
+    /// A figure to show (repeatable): the table and chart show these
+    /// (default: loss, service level, occupancy), the CSV and JSON only
+    /// these (default: every figure).
     #[arg(long, value_name = "NAME")]
     pub figure: Vec<String>,
     /// Draw the figures against the swept value, with 95% bands, the
     /// closed-form curve and goal lines, to FILE.svg.
     #[arg(long, value_name = "FILE.svg")]
     pub chart: Option<PathBuf>,
-    /// A goal line to draw across the chart, like "loss<=1%" (repeatable).
+    /// A goal line to draw across the chart (--chart or --report), like
+    /// "loss<=1%" (repeatable).
     #[arg(long, value_name = "GOAL")]
     pub goal: Vec<String>,
     #[command(flatten)]
     pub reps: ReplicationArgs,
     /// Run only shard I of N of every step's replications and write the raw
-    /// part file to --out, for `busyhour merge`.
-    #[arg(long, value_name = "I/N", requires = "out")]
+    /// part file to --out, for `busyhour merge` (which prints the table,
+    /// JSON, CSV and report).
+    #[arg(
+        long,
+        value_name = "I/N",
+        requires = "out",
+        conflicts_with_all = ["json", "csv", "report", "chart", "figure", "goal"]
+    )]
     pub shard: Option<String>,
     #[command(flatten)]
     pub output: OutputArgs,
@@ -363,7 +387,7 @@ fn with_progress<T>(quiet: bool, threads: Option<u32>, work: impl FnOnce(&RunOpt
 fn emit_part(output: &OutputArgs, part: &busyhour::experiment::shard::Part) -> Result<Status> {
     let mut text = serde_json::to_string(part)?;
     text.push('\n');
-    emit(output, &text)?;
+    write_output(output.out.as_deref(), &text)?;
     Ok(if part.partial {
         Status::Interrupted
     } else {
@@ -371,9 +395,16 @@ fn emit_part(output: &OutputArgs, part: &busyhour::experiment::shard::Part) -> R
     })
 }
 
-/// Print or write the output.
-fn emit(output: &OutputArgs, text: &str) -> Result<()> {
-    match &output.out {
+/// Print a command's document in `format` on standard output, or write it
+/// to `out`: the one place every command's output is rendered.
+fn emit(format: Format, doc: &impl Document, out: Option<&Path>) -> Result<()> {
+    let text = report::render(format, doc)?;
+    write_output(out, &text)
+}
+
+/// Print `text`, or write it to `out` atomically.
+fn write_output(out: Option<&Path>, text: &str) -> Result<()> {
+    match out {
         Some(path) => report::write_atomically(path, text.as_bytes())
             .with_context(|| format!("cannot write {}", path.display())),
         None => {
@@ -419,35 +450,11 @@ pub fn run(a: &RunArgs) -> Result<Status> {
         experiment::run(&model, reps, opts)
     })?;
     let file = a.scenario.display().to_string();
-    let r = RunReport::new(&model, &outcome, &file);
-    let chart =
-        if model.plan.interval_count() > 0 && (a.chart.is_some() || a.output.report.is_some()) {
-            Some(report::charts::run_chart(&r).context("chart")?)
-        } else {
-            None
-        };
-    let text = if a.output.json {
-        let mut s = serde_json::to_string_pretty(&report::to_json(&r))?;
-        s.push('\n');
-        s
-    } else if a.output.csv {
-        report::to_csv(&r)
-    } else {
-        report::to_table(&r)
-    };
-    if let (Some(path), Some(svg)) = (&a.chart, &chart) {
-        write_file(path, svg)?;
-    }
-    if let Some(path) = &a.output.report {
-        write_file(path, &report::run_html(&r, chart.as_deref()))?;
-    }
-    emit(&a.output, &text)?;
-    let table_on_terminal = !a.output.json && !a.output.csv && a.output.out.is_none();
-    if !a.output.quiet && !table_on_terminal {
-        for w in &outcome.warnings {
-            eprintln!("busyhour: warning: {w}");
-        }
-    }
+    emit_run(
+        &RunDocument::new(&model, &outcome, &file),
+        &a.output,
+        a.chart.as_deref(),
+    )?;
     // A precision goal that was not met is a failed goal: said on stderr
     // whatever the output, exit status 1.
     let short = outcome.precision.filter(|p| !p.met);
@@ -483,32 +490,49 @@ pub fn run(a: &RunArgs) -> Result<Status> {
     })
 }
 
+/// Print a document in the format asked for, after writing its chart
+/// (`--chart`) and HTML page (`--report`) where asked (`run`, `sweep` and
+/// `merge`).
+fn emit_charted(doc: &impl Charted, output: &OutputArgs, chart_path: Option<&Path>) -> Result<()> {
+    let chart = if doc.has_chart() && (chart_path.is_some() || output.report.is_some()) {
+        Some(doc.chart().context("chart")?)
+    } else {
+        None
+    };
+    if let (Some(path), Some(svg)) = (chart_path, &chart) {
+        write_file(path, svg)?;
+    }
+    if let Some(path) = &output.report {
+        write_file(path, &doc.html(chart.as_deref()))?;
+    }
+    emit(output.format(), doc, output.out.as_deref())
+}
+
+/// A run's document (`run`, and `merge` of run parts): printed, and its
+/// warnings on stderr unless the table on the terminal shows them.
+fn emit_run(doc: &RunDocument, output: &OutputArgs, chart_path: Option<&Path>) -> Result<()> {
+    emit_charted(doc, output, chart_path)?;
+    let table_on_terminal = output.format() == Format::Table && output.out.is_none();
+    if !output.quiet && !table_on_terminal {
+        for w in &doc.warnings {
+            eprintln!("busyhour: warning: {w}");
+        }
+    }
+    Ok(())
+}
+
 /// `busyhour check`.
 pub fn check(a: &CheckArgs) -> Result<Status> {
     let model = scenario::load_confined(&a.scenario, a.data_dir.as_deref())?;
     let file = a.scenario.display().to_string();
-    let view = report::formula_view(&model);
-    let problems = busyhour::experiment::warnings::model_warnings(&model);
-    let text = if a.json {
-        let mut s = serde_json::to_string_pretty(&report::formula_view_json(&model, &view))?;
-        s.push('\n');
-        s
-    } else {
-        let mut s = report::describe_model(&model, &file);
-        s.push_str(&report::formula_view_text(&model, &view));
-        if problems.is_empty() {
-            s.push_str("\nThe scenario is valid.\n");
-        } else {
-            s.push_str("\nThe scenario is valid as a file, but the check failed:\n");
-            for p in &problems {
-                s.push_str(&format!("  - {p}\n"));
-            }
-        }
-        s
-    };
-    let mut out = std::io::stdout().lock();
-    out.write_all(text.as_bytes())?;
-    Ok(if problems.is_empty() {
+    let problems = busyhour::experiment::warnings::model_warnings(&model)
+        .iter()
+        .map(|p| p.to_string())
+        .collect();
+    let doc = report::CheckDocument::new(&model, &file, &report::formula_view(&model), problems);
+    let format = if a.json { Format::Json } else { Format::Table };
+    emit(format, &doc, None)?;
+    Ok(if doc.passed() {
         Status::Done
     } else {
         Status::Failed
@@ -558,17 +582,11 @@ pub fn size(a: &SizeArgs) -> Result<Status> {
         size::size(&model, group, goals, &how, opts)
     })?;
     let file = a.scenario.display().to_string();
-    let text = if a.output.json {
-        let mut s = serde_json::to_string_pretty(&report::size_json(&model, &file, &result))?;
-        s.push('\n');
-        s
-    } else {
-        report::size_table(&model, &file, &result)
-    };
+    let doc = report::SizeDocument::new(&model, &file, &result);
     if let Some(path) = &a.output.report {
-        write_file(path, &report::size_html(&model, &file, &result))?;
+        write_file(path, &doc.html())?;
     }
-    emit(&a.output, &text)?;
+    emit(a.output.format(), &doc, a.output.out.as_deref())?;
     Ok(if result.partial {
         Status::Interrupted
     } else if result.servers.is_some() {
@@ -581,6 +599,11 @@ pub fn size(a: &SizeArgs) -> Result<Status> {
 /// `busyhour sweep`.
 pub fn sweep(a: &SweepArgs) -> Result<Status> {
     use busyhour::experiment::sweep::{self, Sweep};
+    // Goal lines are drawn on the chart; without one they would be ignored.
+    // (Checked here, not by clap, so that the message names --goal.)
+    if !a.goal.is_empty() && a.chart.is_none() && a.output.report.is_none() {
+        bail!("--goal draws a line on the chart: add --chart FILE.svg or --report FILE.html");
+    }
     let mut model = scenario::load_confined(&a.scenario, a.reps.data_dir.as_deref())?;
     check_files(
         &a.output,
@@ -606,13 +629,13 @@ pub fn sweep(a: &SweepArgs) -> Result<Status> {
         .iter()
         .map(|g| busyhour::experiment::size::Goal::parse(g, &model, goal_group))
         .collect::<Result<Vec<_>, _>>()?;
-    let known: Vec<&str> = busyhour::stats::layout(&model)
-        .iter()
-        .map(|f| f.name())
-        .collect();
-    for f in &a.figure {
-        if !known.contains(&f.as_str()) {
-            bail!("--figure {f}: this scenario reports no figure of that name");
+    let layout = busyhour::stats::layout(&model);
+    let mut figures = Vec::new();
+    for name in &a.figure {
+        match layout.iter().find(|f| f.name() == name) {
+            Some(f) if !figures.contains(&f.figure) => figures.push(f.figure),
+            Some(_) => {}
+            None => bail!("--figure {name}: this scenario reports no figure of that name"),
         }
     }
     let plan =
@@ -649,46 +672,10 @@ pub fn sweep(a: &SweepArgs) -> Result<Status> {
     let (steps, partial) = with_progress(a.output.quiet, a.reps.threads, |opts| {
         sweep::run(&model, &spec, &plan, opts)
     })?;
-    let columns = steps
-        .first()
-        .map(|st| report::sweep_columns(&st.model, &st.outcome, &a.figure))
-        .unwrap_or_default();
     let file = a.scenario.display().to_string();
     let label = spec.label(&model);
-    let text = if a.output.json {
-        let mut s =
-            serde_json::to_string_pretty(&report::sweep_json(&file, &label, &steps, partial))?;
-        s.push('\n');
-        s
-    } else if a.output.csv {
-        report::sweep_csv(&model, &steps)
-    } else {
-        report::sweep_table(&model, &file, &label, &steps, &columns, partial)
-    };
-    let chart = if a.chart.is_some() || a.output.report.is_some() {
-        Some(
-            report::charts::sweep_chart(&model, &label, &steps, &columns, &goals)
-                .context("chart")?,
-        )
-    } else {
-        None
-    };
-    if let (Some(path), Some(svg)) = (&a.chart, &chart) {
-        write_file(path, svg)?;
-    }
-    if let Some(path) = &a.output.report {
-        let html = report::sweep_html(
-            &model,
-            &file,
-            &label,
-            &steps,
-            &columns,
-            chart.as_deref(),
-            partial,
-        );
-        write_file(path, &html)?;
-    }
-    emit(&a.output, &text)?;
+    let doc = SweepDocument::new(&model, &file, &label, &steps, partial, &figures, &goals);
+    emit_charted(&doc, &a.output, a.chart.as_deref())?;
     Ok(if partial {
         Status::Interrupted
     } else {
@@ -712,9 +699,6 @@ fn run_shard(
 then shard with --replications N (see the README, \"Beyond one machine\")"
         ),
     };
-    if a.output.json || a.output.csv {
-        bail!("--shard writes a raw part file; use --json or --csv with `busyhour merge`");
-    }
     let file = a.scenario.display().to_string();
     let steps = [(None, model.clone())];
     let part = with_progress(a.output.quiet, a.reps.threads, |opts| {
@@ -757,25 +741,11 @@ pub fn merge(a: &MergeArgs) -> Result<Status> {
     }
     let mut outcomes = shard::merge(&[(None, model.clone())], &scenario_name, &parts)?;
     let outcome = outcomes.remove(0);
-    let r = RunReport::new(&model, &outcome, &recorded);
-    if let Some(path) = &a.output.report {
-        let chart = if model.plan.interval_count() > 0 {
-            Some(report::charts::run_chart(&r).context("chart")?)
-        } else {
-            None
-        };
-        write_file(path, &report::run_html(&r, chart.as_deref()))?;
-    }
-    let text = if a.output.json {
-        let mut s = serde_json::to_string_pretty(&report::to_json(&r))?;
-        s.push('\n');
-        s
-    } else if a.output.csv {
-        report::to_csv(&r)
-    } else {
-        report::to_table(&r)
-    };
-    emit(&a.output, &text)?;
+    emit_run(
+        &RunDocument::new(&model, &outcome, &recorded),
+        &a.output,
+        None,
+    )?;
     Ok(Status::Done)
 }
 
@@ -818,38 +788,7 @@ fn merge_sweep(
         })
         .collect();
     let label = sw.label(model);
-    let columns = steps
-        .first()
-        .map(|st| report::sweep_columns(&st.model, &st.outcome, &[]))
-        .unwrap_or_default();
-    if let Some(path) = &a.output.report {
-        let chart =
-            report::charts::sweep_chart(model, &label, &steps, &columns, &[]).context("chart")?;
-        let html = report::sweep_html(
-            model,
-            recorded,
-            &label,
-            &steps,
-            &columns,
-            Some(&chart),
-            false,
-        );
-        write_file(path, &html)?;
-    }
-    let text = if a.output.json {
-        let mut s =
-            serde_json::to_string_pretty(&report::sweep_json(recorded, &label, &steps, false))?;
-        s.push('\n');
-        s
-    } else if a.output.csv {
-        report::sweep_csv(model, &steps)
-    } else {
-        let columns = steps
-            .first()
-            .map(|st| report::sweep_columns(&st.model, &st.outcome, &[]))
-            .unwrap_or_default();
-        report::sweep_table(model, recorded, &label, &steps, &columns, false)
-    };
-    emit(&a.output, &text)?;
+    let doc = SweepDocument::new(model, recorded, &label, &steps, false, &[], &[]);
+    emit_charted(&doc, &a.output, None)?;
     Ok(Status::Done)
 }

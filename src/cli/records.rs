@@ -1,13 +1,14 @@
 //! `busyhour records`: measured call records -> design load. Maps flags to
-//! `busyhour::records` and prints; no analysis here.
+//! `busyhour::records`, writes the files asked for and prints the records
+//! document (`busyhour::records::report`); no analysis here.
 
 use anyhow::{Context, Result};
 use busyhour::files::{FilePlan, OutputKind};
+use busyhour::records::report::{RecordsDocument, ScenarioWritten};
 use busyhour::records::{self, Columns, DayFilter, Options, report, scenario_out};
-use busyhour::report::{chart, write_atomically};
+use busyhour::report::{Format, plot, write_atomically};
 use busyhour::units;
 use clap::Args;
-use std::io::Write;
 use std::path::{Path, PathBuf};
 
 /// `busyhour records`.
@@ -139,8 +140,7 @@ pub fn run(a: &RecordsArgs) -> Result<()> {
     files.check()?;
     // Stage two: read, analyse, write.
     let analysis = records::analyse(&a.file, &opts)?;
-    let mut json = a.json.then(|| report::to_json(&analysis));
-    let mut notes = Vec::new();
+    let mut doc = RecordsDocument::new(&analysis);
     if let Some(path) = &a.scenario_out {
         let holding_file = holding_file_name(path);
         let out = scenario_out::render(
@@ -162,56 +162,19 @@ pub fn run(a: &RecordsArgs) -> Result<()> {
         }
         write_atomically(path, out.text.as_bytes())
             .with_context(|| format!("cannot write {}", path.display()))?;
-        notes.push(format!(
-            "Scenario written: {} ({} servers for {} E; run it with: busyhour run {})",
-            written.join(" and "),
-            out.servers,
-            units::trim_float(out.offered_traffic, 2),
-            path.display()
+        doc.scenario_out = Some(ScenarioWritten::new(
+            written,
+            &out,
+            a.servers.is_some(),
+            grade,
         ));
-        if let Some(j) = json.as_mut() {
-            j["scenario_out"] = serde_json::json!({
-                "files": written,
-                "servers": out.servers,
-                "sized_by": if a.servers.is_some() { "given" } else { "Erlang B" },
-                "grade": grade,
-                "offered_traffic": out.offered_traffic,
-                "holding": out.holding.name(),
-            });
-        }
     }
     if let Some(path) = &a.chart {
-        let svg = chart::render_svg(&report::chart(&analysis))?;
+        let svg = plot::render_svg(&report::chart(&analysis))?;
         write_atomically(path, svg.as_bytes())
             .with_context(|| format!("cannot write {}", path.display()))?;
-        notes.push(format!("Chart written: {}", path.display()));
-        if let Some(j) = json.as_mut() {
-            j["chart"] = serde_json::json!(path.display().to_string());
-        }
+        doc.chart = Some(path.display().to_string());
     }
-    let text = match json {
-        Some(j) => {
-            let mut s = serde_json::to_string_pretty(&j)?;
-            s.push('\n');
-            s
-        }
-        None => {
-            let mut s = report::to_text(&analysis);
-            for n in &notes {
-                s.push_str(n);
-                s.push('\n');
-            }
-            s
-        }
-    };
-    match &a.out {
-        Some(path) => write_atomically(path, text.as_bytes())
-            .with_context(|| format!("cannot write {}", path.display())),
-        None => {
-            let mut out = std::io::stdout().lock();
-            out.write_all(text.as_bytes())?;
-            out.flush()?;
-            Ok(())
-        }
-    }
+    let format = if a.json { Format::Json } else { Format::Table };
+    super::emit(format, &doc, a.out.as_deref())
 }

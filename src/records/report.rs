@@ -1,17 +1,22 @@
-//! The analysis as people read it: a terminal report, JSON with snake_case
-//! keys, and the traffic chart. Builds text and values only; the command
-//! prints or writes them.
+//! The document of `records`: what the analysis found (traffic per
+//! interval, busy hours, holding-time fits, peakedness) and what the command
+//! wrote (the scenario, the chart), built once; its JSON (snake_case keys)
+//! and the terminal report render it. Also the traffic chart. Builds values
+//! only; the command prints or writes them.
 
 use super::busy_hour::{ClockHour, DailyPeak};
 use super::intervals::Interval;
 use super::peakedness::Peakedness;
-use super::scenario_out::{ProfileStep, busy_hour_profile};
+use super::scenario_out::{ProfileStep, ScenarioOut, busy_hour_profile};
 use super::time::{self, Clock, DAY_S, Date, TimeKind};
 use super::{Analysis, Fit};
 use crate::dist::Law;
-use crate::report::chart::{LineChart, Markers, Series};
-use crate::units::{format_share, trim_float};
-use serde_json::{Value, json};
+use crate::report::json::{Rounded, round, round_opt};
+use crate::report::plot::{LineChart, Markers, Series};
+use crate::report::{CAUTION, Document};
+use crate::units::{format_duration, format_share, trim_float};
+use serde::Serialize;
+use serde::ser::{SerializeMap, Serializer};
 use std::fmt::Write as _;
 
 /// How the busy-hour figures rank windows, in one sentence.
@@ -26,404 +31,771 @@ pub const ADPH_DEFINITION: &str = "average daily peak hour: each day's own busie
 /// The offered traffic estimator, in words.
 pub const OFFERED_ESTIMATOR: &str = "offered = carried + (blocked + abandoned attempts) x mean holding time of answered calls / interval; it assumes unanswered callers would have held as long as answered ones and that every attempt is a fresh call: redials are counted again, so where callers redial it overstates the fresh demand";
 
-fn kind_name(k: TimeKind) -> &'static str {
-    match k {
+fn kind_name<S: Serializer>(k: &TimeKind, s: S) -> Result<S::Ok, S::Error> {
+    s.serialize_str(match k {
         TimeKind::Zoned => "zoned",
         TimeKind::Naive => "naive",
         TimeKind::Unix => "unix",
-    }
-}
-
-fn round(x: f64, digits: i32) -> Value {
-    if !x.is_finite() {
-        return Value::Null;
-    }
-    let f = 10f64.powi(digits);
-    json!((x * f).round() / f)
-}
-
-fn interval_label(a: &Analysis, iv: &Interval) -> String {
-    let offset = (a.time_kind == TimeKind::Zoned).then_some(iv.offset_s);
-    time::format_local(iv.local_start_s(), offset)
-}
-
-/// Parameters of a law for JSON: mean, cv and its shape parameter.
-fn law_json(law: &Law) -> Value {
-    let mut v = json!({
-        "law": law.name(),
-        "mean_s": round(law.mean(), 4),
-        "cv": round(law.cv(), 6),
-        "description": law.describe(),
-    });
-    match law {
-        Law::Erlang(l) => v["k"] = json!(l.k()),
-        Law::Gamma(l) => v["shape"] = round(l.shape(), 6),
-        Law::Lognormal(l) => {
-            v["mu"] = round(l.mu(), 6);
-            v["sigma"] = round(l.sigma(), 6);
-        }
-        Law::Empirical(l) => v["values"] = json!(l.len()),
-        _ => {}
-    }
-    v
-}
-
-fn fit_json(f: &Fit) -> Value {
-    let mut v = law_json(&f.law);
-    v["method"] = json!(f.method);
-    v["ks_distance"] = round(f.ks_distance, 6);
-    v["fits"] = json!(f.acceptable);
-    v
+    })
 }
 
 fn clock(s: u32) -> String {
     Clock(i64::from(s)).to_string()
 }
 
-fn tcbh_json(b: &ClockHour) -> Value {
-    json!({
-        "definition": TCBH_DEFINITION,
-        "start": clock(b.start_clock_s),
-        "end": clock(b.start_clock_s + 3600),
-        "offered_traffic": round(b.offered_traffic, 4),
-        "carried_traffic": round(b.carried_traffic, 4),
-        "calls_per_hour": round(b.calls_per_hour, 2),
-        "days": b.days,
-    })
+/// Rows of the file.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Rows {
+    /// Data rows read (header excluded).
+    pub read: u64,
+    /// Bad rows skipped (`--skip-bad`).
+    pub skipped: u64,
+    /// The first few skipped rows' messages (`file:line: reason`).
+    pub skipped_examples: Vec<String>,
+    /// Rows on days `--days` leaves out.
+    pub outside_days: u64,
 }
 
-fn daily_json(p: &DailyPeak) -> Value {
-    json!({
-        "date": Date(p.day).to_string(),
-        "weekday": time::weekday_name(time::weekday(p.day)),
-        "start": clock(p.start_clock_s),
-        "end": clock((p.start_clock_s + 3600) % DAY_S as u32),
-        "offered_traffic": round(p.offered_traffic, 4),
-        "carried_traffic": round(p.carried_traffic, 4),
-        "calls": p.calls,
-    })
+/// Calls by outcome on the analysed days.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Calls {
+    /// Call attempts (rows).
+    pub attempts: u64,
+    /// Answered (every call, without an outcome column).
+    pub answered: u64,
+    /// Blocked: found no free server.
+    pub blocked: u64,
+    /// Abandoned before being answered.
+    pub abandoned: u64,
+    /// Whether the file has an outcome column.
+    pub outcomes_given: bool,
 }
 
-fn peakedness_json(p: &Peakedness) -> Value {
-    json!({
-        "value": round(p.value, 4),
-        "standard_error": round(p.standard_error, 4),
-        "method": p.method.describe(),
-        "intervals": p.intervals,
-        "poisson_fair": p.poisson_fair(),
-    })
+/// The time-consistent busy hour.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct TimeConsistent {
+    /// Its definition.
+    pub definition: &'static str,
+    /// Local clock at its start ("09:15").
+    pub start: String,
+    /// Local clock at its end.
+    pub end: String,
+    /// Mean offered traffic over the days (E; 4 decimals in the JSON).
+    #[serde(serialize_with = "round::<4, _>")]
+    pub offered_traffic: f64,
+    /// Mean carried traffic over the days (E).
+    #[serde(serialize_with = "round::<4, _>")]
+    pub carried_traffic: f64,
+    /// Mean calls per hour over the days (2 decimals).
+    #[serde(serialize_with = "round::<2, _>")]
+    pub calls_per_hour: f64,
+    /// Days averaged.
+    pub days: usize,
 }
 
-fn profile_json(p: &[ProfileStep], interval_s: u32) -> Value {
-    Value::Array(
-        p.iter()
-            .map(|s| {
-                json!({
-                    "start": clock(s.clock_s),
-                    "end": clock(s.clock_s + interval_s),
-                    "calls_per_hour": round(s.calls_per_hour, 2),
-                    "offered_traffic": round(s.offered_traffic, 4),
-                })
-            })
-            .collect(),
-    )
+impl From<&ClockHour> for TimeConsistent {
+    fn from(b: &ClockHour) -> TimeConsistent {
+        TimeConsistent {
+            definition: TCBH_DEFINITION,
+            start: clock(b.start_clock_s),
+            end: clock(b.start_clock_s + 3600),
+            offered_traffic: b.offered_traffic,
+            carried_traffic: b.carried_traffic,
+            calls_per_hour: b.calls_per_hour,
+            days: b.days,
+        }
+    }
 }
 
-/// The analysis as JSON (keys documented in the README's "Call records").
-pub fn to_json(a: &Analysis) -> Value {
-    let h = &a.holding;
-    let t = &a.timeline;
-    let percentiles: serde_json::Map<String, Value> = h
-        .percentiles
-        .iter()
-        .map(|(p, v)| (format!("p{}", trim_float(p * 100.0, 1)), round(*v, 3)))
-        .collect();
-    let days: Vec<Value> = t
-        .days
-        .iter()
-        .map(|d| {
-            let ivs = t.of(d);
-            json!({
-                "date": Date(d.day).to_string(),
-                "weekday": time::weekday_name(time::weekday(d.day)),
-                "intervals": d.len,
-                "analysed": d.selected,
-                "calls": ivs.iter().map(|iv| iv.calls).sum::<u64>(),
-                "carried_traffic_mean": round(ivs.iter().map(|iv| iv.carried_traffic).sum::<f64>() / d.len as f64, 4),
-            })
-        })
-        .collect();
-    let intervals: Vec<Value> = t
-        .intervals
-        .iter()
-        .map(|iv| {
-            let mut v = json!({
-                "start": interval_label(a, iv),
-                "calls": iv.calls,
-                "carried_traffic": round(iv.carried_traffic, 4),
-                "offered_traffic": round(iv.offered_traffic, 4),
-            });
-            if a.has_outcomes {
-                v["answered"] = json!(iv.answered);
-                v["blocked"] = json!(iv.blocked);
-                v["abandoned"] = json!(iv.abandoned);
+/// The average daily peak hour.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct AverageDailyPeak {
+    /// Its definition.
+    pub definition: &'static str,
+    /// Offered traffic of each day's own busiest hour, averaged (E); null
+    /// without a day.
+    #[serde(serialize_with = "round_opt::<4, _>")]
+    pub offered_traffic: Option<f64>,
+    /// Carried traffic likewise (E).
+    #[serde(serialize_with = "round_opt::<4, _>")]
+    pub carried_traffic: Option<f64>,
+    /// Days averaged.
+    pub days: usize,
+}
+
+/// One day's own busiest hour.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct DailyBusyHour {
+    /// The local date ("2025-03-03").
+    pub date: String,
+    /// Its weekday ("Mon").
+    pub weekday: &'static str,
+    /// Local clock at the start.
+    pub start: String,
+    /// Local clock at the end.
+    pub end: String,
+    /// Offered traffic (E).
+    #[serde(serialize_with = "round::<4, _>")]
+    pub offered_traffic: f64,
+    /// Carried traffic (E).
+    #[serde(serialize_with = "round::<4, _>")]
+    pub carried_traffic: f64,
+    /// Calls in the hour.
+    pub calls: u64,
+}
+
+impl From<&DailyPeak> for DailyBusyHour {
+    fn from(p: &DailyPeak) -> DailyBusyHour {
+        DailyBusyHour {
+            date: Date(p.day).to_string(),
+            weekday: time::weekday_name(time::weekday(p.day)),
+            start: clock(p.start_clock_s),
+            end: clock((p.start_clock_s + 3600) % DAY_S as u32),
+            offered_traffic: p.offered_traffic,
+            carried_traffic: p.carried_traffic,
+            calls: p.calls,
+        }
+    }
+}
+
+/// One interval of the busy-hour profile.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct ProfileInterval {
+    /// Local clock at the start.
+    pub start: String,
+    /// Local clock at the end.
+    pub end: String,
+    /// Mean calls per hour over the days analysed.
+    #[serde(serialize_with = "round::<2, _>")]
+    pub calls_per_hour: f64,
+    /// Mean offered traffic (E).
+    #[serde(serialize_with = "round::<4, _>")]
+    pub offered_traffic: f64,
+}
+
+impl ProfileInterval {
+    fn new(p: &ProfileStep, interval_s: u32) -> ProfileInterval {
+        ProfileInterval {
+            start: clock(p.clock_s),
+            end: clock(p.clock_s + interval_s),
+            calls_per_hour: p.calls_per_hour,
+            offered_traffic: p.offered_traffic,
+        }
+    }
+}
+
+/// The busy hours.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct BusyHours {
+    /// How windows are ranked.
+    pub basis: &'static str,
+    /// The time-consistent busy hour; null without a day.
+    pub time_consistent: Option<TimeConsistent>,
+    /// The average daily peak hour.
+    pub average_daily_peak: AverageDailyPeak,
+    /// Each day's own busiest hour.
+    pub daily: Vec<DailyBusyHour>,
+    /// The time-consistent busy hour with one interval either side.
+    pub profile: Vec<ProfileInterval>,
+}
+
+/// A holding-time law as written in the JSON: its name, mean, cv, words
+/// and shape parameter.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct LawSummary {
+    /// The law's name in scenario files ("lognormal").
+    pub law: &'static str,
+    /// Mean (s).
+    #[serde(serialize_with = "round::<4, _>")]
+    pub mean_s: f64,
+    /// Coefficient of variation.
+    #[serde(serialize_with = "round::<6, _>")]
+    pub cv: f64,
+    /// The law in words.
+    pub description: String,
+    /// Erlang phases.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub k: Option<u32>,
+    /// Gamma shape.
+    #[serde(
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "round_opt::<6, _>"
+    )]
+    pub shape: Option<f64>,
+    /// Lognormal mu (of the log, seconds).
+    #[serde(
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "round_opt::<6, _>"
+    )]
+    pub mu: Option<f64>,
+    /// Lognormal sigma.
+    #[serde(
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "round_opt::<6, _>"
+    )]
+    pub sigma: Option<f64>,
+    /// Values of the empirical law.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub values: Option<usize>,
+    /// Whether it is the empirical law (the measured times themselves).
+    #[serde(skip)]
+    pub measured: bool,
+}
+
+impl From<&Law> for LawSummary {
+    fn from(law: &Law) -> LawSummary {
+        let mut s = LawSummary {
+            law: law.name(),
+            mean_s: law.mean(),
+            cv: law.cv(),
+            description: law.describe(),
+            k: None,
+            shape: None,
+            mu: None,
+            sigma: None,
+            values: None,
+            measured: false,
+        };
+        match law {
+            Law::Erlang(l) => s.k = Some(l.k()),
+            Law::Gamma(l) => s.shape = Some(l.shape()),
+            Law::Lognormal(l) => {
+                s.mu = Some(l.mu());
+                s.sigma = Some(l.sigma());
             }
-            v
-        })
-        .collect();
-    let bh = &a.busy_hour;
-    json!({
-        "file": a.file,
-        "interval_s": a.interval_s,
-        "time_kind": kind_name(a.time_kind),
-        "days_filter": a.days.as_ref().map(|d| d.text.clone()),
-        "rows": {
-            "read": a.rows.read,
-            "skipped": a.rows.skipped,
-            "skipped_examples": a.rows.skipped_examples,
-            "outside_days": a.rows.outside_days,
-        },
-        "calls": {
-            "attempts": a.totals.calls,
-            "answered": a.totals.answered,
-            "blocked": a.totals.blocked,
-            "abandoned": a.totals.abandoned,
-            "outcomes_given": a.has_outcomes,
-        },
-        "offered_traffic_estimator": OFFERED_ESTIMATOR,
-        "busy_hour": {
-            "basis": BASIS,
-            "time_consistent": bh.time_consistent.as_ref().map(tcbh_json),
-            "average_daily_peak": {
-                "definition": ADPH_DEFINITION,
-                "offered_traffic": bh.average_daily_peak_offered.map_or(Value::Null, |x| round(x, 4)),
-                "carried_traffic": bh.average_daily_peak_carried.map_or(Value::Null, |x| round(x, 4)),
-                "days": bh.daily.len(),
+            Law::Empirical(l) => {
+                s.values = Some(l.len());
+                s.measured = true;
+            }
+            _ => {}
+        }
+        s
+    }
+}
+
+/// A fitted law and how well it fits.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct LawFit {
+    /// The law.
+    #[serde(flatten)]
+    pub law: LawSummary,
+    /// How its parameters were found.
+    pub method: &'static str,
+    /// Kolmogorov-Smirnov distance to the sample.
+    #[serde(serialize_with = "round::<6, _>")]
+    pub ks_distance: f64,
+    /// Below the 1% critical value (always true for the empirical law).
+    pub fits: bool,
+}
+
+impl From<&Fit> for LawFit {
+    fn from(f: &Fit) -> LawFit {
+        LawFit {
+            law: LawSummary::from(&f.law),
+            method: f.method,
+            ks_distance: f.ks_distance,
+            fits: f.acceptable,
+        }
+    }
+}
+
+/// (share, seconds) pairs, written as `{"p50": seconds, ...}`.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Percentiles(pub Vec<(f64, f64)>);
+
+impl Serialize for Percentiles {
+    fn serialize<S: Serializer>(&self, s: S) -> Result<S::Ok, S::Error> {
+        let mut map = s.serialize_map(Some(self.0.len()))?;
+        for (p, v) in &self.0 {
+            map.serialize_entry(&format!("p{}", trim_float(p * 100.0, 1)), &Rounded::<3>(*v))?;
+        }
+        map.end()
+    }
+}
+
+/// Holding times of answered calls.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Holding {
+    /// Values measured.
+    pub count: u64,
+    /// Of which exactly 0 s.
+    pub zeros: u64,
+    /// Mean (s).
+    #[serde(serialize_with = "round::<4, _>")]
+    pub mean_s: f64,
+    /// Coefficient of variation.
+    #[serde(serialize_with = "round::<6, _>")]
+    pub cv: f64,
+    /// Shortest (s).
+    #[serde(serialize_with = "round::<3, _>")]
+    pub min_s: f64,
+    /// Longest (s).
+    #[serde(serialize_with = "round::<3, _>")]
+    pub max_s: f64,
+    /// Percentiles (s).
+    pub percentiles_s: Percentiles,
+    /// Values the fits were tested on.
+    pub sample_size: usize,
+    /// The 1% critical Kolmogorov-Smirnov distance.
+    #[serde(serialize_with = "round::<6, _>")]
+    pub ks_critical: f64,
+    /// Laws from best to worst fit, then the empirical law.
+    pub fits: Vec<LawFit>,
+    /// Whether some parametric law fits.
+    pub parametric_fits: bool,
+    /// The law to use.
+    pub recommended: LawSummary,
+}
+
+/// The peakedness of arrivals.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct PeakednessSummary {
+    /// Variance over mean of calls per interval.
+    #[serde(serialize_with = "round::<4, _>")]
+    pub value: f64,
+    /// Its standard error.
+    #[serde(serialize_with = "round::<4, _>")]
+    pub standard_error: f64,
+    /// How it was measured, in words.
+    pub method: String,
+    /// Intervals it rests on.
+    pub intervals: usize,
+    /// Within two standard errors of 1.
+    pub poisson_fair: bool,
+}
+
+impl From<&Peakedness> for PeakednessSummary {
+    fn from(p: &Peakedness) -> PeakednessSummary {
+        PeakednessSummary {
+            value: p.value,
+            standard_error: p.standard_error,
+            method: p.method.describe(),
+            intervals: p.intervals,
+            poisson_fair: p.poisson_fair(),
+        }
+    }
+}
+
+/// One local day of the file.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct DaySummary {
+    /// The local date.
+    pub date: String,
+    /// Its weekday.
+    pub weekday: &'static str,
+    /// Its intervals (more or fewer on a day the clocks change).
+    pub intervals: usize,
+    /// Whether `--days` keeps it.
+    pub analysed: bool,
+    /// Calls that day.
+    pub calls: u64,
+    /// Mean carried traffic over its intervals (E).
+    #[serde(serialize_with = "round::<4, _>")]
+    pub carried_traffic_mean: f64,
+}
+
+/// Traffic in one interval.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct IntervalTraffic {
+    /// Local start ("2025-03-03T09:15", with the offset where the file has one).
+    pub start: String,
+    /// Calls starting in it.
+    pub calls: u64,
+    /// Carried traffic (E).
+    #[serde(serialize_with = "round::<4, _>")]
+    pub carried_traffic: f64,
+    /// Offered traffic estimate (E).
+    #[serde(serialize_with = "round::<4, _>")]
+    pub offered_traffic: f64,
+    /// Answered calls (with an outcome column).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub answered: Option<u64>,
+    /// Blocked calls (with an outcome column).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub blocked: Option<u64>,
+    /// Abandoned calls (with an outcome column).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub abandoned: Option<u64>,
+}
+
+/// The scenario `--scenario-out` wrote.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct ScenarioWritten {
+    /// The files written: the scenario, and the holding-time file beside it
+    /// for the empirical law.
+    pub files: Vec<String>,
+    /// Servers of its group.
+    pub servers: u32,
+    /// "given" (`--servers`) or "Erlang B" (sized for the grade).
+    pub sized_by: &'static str,
+    /// The grade of service asked for (a blocking share).
+    pub grade: f64,
+    /// The busy-hour offered traffic it was sized for (E).
+    pub offered_traffic: f64,
+    /// The holding law written.
+    pub holding: &'static str,
+}
+
+impl ScenarioWritten {
+    /// What was written: `files` from `out`, its servers `given` or sized
+    /// by Erlang B for `grade`.
+    pub fn new(files: Vec<String>, out: &ScenarioOut, given: bool, grade: f64) -> Self {
+        ScenarioWritten {
+            files,
+            servers: out.servers,
+            sized_by: if given { "given" } else { "Erlang B" },
+            grade,
+            offered_traffic: out.offered_traffic,
+            holding: out.holding.name(),
+        }
+    }
+}
+
+/// What `records` found and wrote.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct RecordsDocument {
+    /// The call-record file, as named.
+    pub file: String,
+    /// Interval length (s).
+    pub interval_s: u32,
+    /// How start times were written: "zoned", "naive" or "unix".
+    #[serde(serialize_with = "kind_name")]
+    pub time_kind: TimeKind,
+    /// `--days` as given; null without it.
+    pub days_filter: Option<String>,
+    /// Rows read and skipped.
+    pub rows: Rows,
+    /// Calls by outcome.
+    pub calls: Calls,
+    /// The offered traffic estimator, in words.
+    pub offered_traffic_estimator: &'static str,
+    /// The busy hours.
+    pub busy_hour: BusyHours,
+    /// Holding times and fitted laws.
+    pub holding: Holding,
+    /// Peakedness of arrivals; null with too few intervals.
+    pub peakedness: Option<PeakednessSummary>,
+    /// Every local day of the file.
+    pub days: Vec<DaySummary>,
+    /// Every interval, in time order.
+    pub intervals: Vec<IntervalTraffic>,
+    /// The safety caution.
+    pub caution: &'static str,
+    /// The scenario written, with `--scenario-out`.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub scenario_out: Option<ScenarioWritten>,
+    /// The chart written, with `--chart`.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub chart: Option<String>,
+}
+
+impl RecordsDocument {
+    /// The document of an analysis (nothing written yet).
+    pub fn new(a: &Analysis) -> RecordsDocument {
+        let h = &a.holding;
+        let t = &a.timeline;
+        let bh = &a.busy_hour;
+        let zoned = a.time_kind == TimeKind::Zoned;
+        let interval_label =
+            |iv: &Interval| time::format_local(iv.local_start_s(), zoned.then_some(iv.offset_s));
+        RecordsDocument {
+            file: a.file.clone(),
+            interval_s: a.interval_s,
+            time_kind: a.time_kind,
+            days_filter: a.days.as_ref().map(|d| d.text.clone()),
+            rows: Rows {
+                read: a.rows.read,
+                skipped: a.rows.skipped,
+                skipped_examples: a.rows.skipped_examples.clone(),
+                outside_days: a.rows.outside_days,
             },
-            "daily": bh.daily.iter().map(daily_json).collect::<Vec<_>>(),
-            "profile": profile_json(&busy_hour_profile(a), a.interval_s),
-        },
-        "holding": {
-            "count": h.count,
-            "zeros": h.zeros,
-            "mean_s": round(h.mean_s, 4),
-            "cv": round(h.cv, 6),
-            "min_s": round(h.min_s, 3),
-            "max_s": round(h.max_s, 3),
-            "percentiles_s": percentiles,
-            "sample_size": h.sample_size,
-            "ks_critical": round(h.ks_critical, 6),
-            "fits": h.fits.iter().map(fit_json).collect::<Vec<_>>(),
-            "parametric_fits": h.parametric_fits,
-            "recommended": law_json(&h.recommended),
-        },
-        "peakedness": a.peakedness.as_ref().map(peakedness_json),
-        "days": days,
-        "intervals": intervals,
-        "caution": crate::report::CAUTION,
-    })
+            calls: Calls {
+                attempts: a.totals.calls,
+                answered: a.totals.answered,
+                blocked: a.totals.blocked,
+                abandoned: a.totals.abandoned,
+                outcomes_given: a.has_outcomes,
+            },
+            offered_traffic_estimator: OFFERED_ESTIMATOR,
+            busy_hour: BusyHours {
+                basis: BASIS,
+                time_consistent: bh.time_consistent.as_ref().map(TimeConsistent::from),
+                average_daily_peak: AverageDailyPeak {
+                    definition: ADPH_DEFINITION,
+                    offered_traffic: bh.average_daily_peak_offered,
+                    carried_traffic: bh.average_daily_peak_carried,
+                    days: bh.daily.len(),
+                },
+                daily: bh.daily.iter().map(DailyBusyHour::from).collect(),
+                profile: (busy_hour_profile(a).iter())
+                    .map(|p| ProfileInterval::new(p, a.interval_s))
+                    .collect(),
+            },
+            holding: Holding {
+                count: h.count,
+                zeros: h.zeros,
+                mean_s: h.mean_s,
+                cv: h.cv,
+                min_s: h.min_s,
+                max_s: h.max_s,
+                percentiles_s: Percentiles(h.percentiles.clone()),
+                sample_size: h.sample_size,
+                ks_critical: h.ks_critical,
+                fits: h.fits.iter().map(LawFit::from).collect(),
+                parametric_fits: h.parametric_fits,
+                recommended: LawSummary::from(&h.recommended),
+            },
+            peakedness: a.peakedness.as_ref().map(PeakednessSummary::from),
+            days: (t.days.iter())
+                .map(|d| {
+                    let ivs = t.of(d);
+                    DaySummary {
+                        date: Date(d.day).to_string(),
+                        weekday: time::weekday_name(time::weekday(d.day)),
+                        intervals: d.len,
+                        analysed: d.selected,
+                        calls: ivs.iter().map(|iv| iv.calls).sum(),
+                        carried_traffic_mean: ivs.iter().map(|iv| iv.carried_traffic).sum::<f64>()
+                            / d.len as f64,
+                    }
+                })
+                .collect(),
+            intervals: (t.intervals.iter())
+                .map(|iv| {
+                    let outcome = |n: u64| a.has_outcomes.then_some(n);
+                    IntervalTraffic {
+                        start: interval_label(iv),
+                        calls: iv.calls,
+                        carried_traffic: iv.carried_traffic,
+                        offered_traffic: iv.offered_traffic,
+                        answered: outcome(iv.answered),
+                        blocked: outcome(iv.blocked),
+                        abandoned: outcome(iv.abandoned),
+                    }
+                })
+                .collect(),
+            caution: CAUTION,
+            scenario_out: None,
+            chart: None,
+        }
+    }
 }
 
 fn e(x: f64) -> String {
     format!("{:.2}", x)
 }
 
-/// The analysis as a terminal report.
-pub fn to_text(a: &Analysis) -> String {
-    let mut s = String::new();
-    let w = &mut s;
-    let t = &a.timeline;
-    let all_days: Vec<_> = t.days.iter().collect();
-    let _ = writeln!(w, "Call records: {}", a.file);
-    let _ = writeln!(
-        w,
-        "  {} rows read{}; start times as {}; intervals of {}",
-        a.rows.read,
-        if a.rows.skipped > 0 {
-            format!(", {} bad rows skipped", a.rows.skipped)
-        } else {
-            String::new()
-        },
-        a.time_kind.describe(),
-        crate::units::format_duration(f64::from(a.interval_s))
-    );
-    for m in &a.rows.skipped_examples {
-        let _ = writeln!(w, "    skipped: {m}");
-    }
-    if let (Some(f), Some(l)) = (all_days.first(), all_days.last()) {
-        let analysed = t.selected_days().count();
+impl Document for RecordsDocument {
+    /// The terminal report, with a line for each file written.
+    fn table(&self) -> String {
+        let mut s = String::new();
+        let w = &mut s;
+        let _ = writeln!(w, "Call records: {}", self.file);
         let _ = writeln!(
             w,
-            "  {} days, {} to {}; {} analysed{}",
-            all_days.len(),
-            Date(f.day),
-            Date(l.day),
-            analysed,
-            a.days
-                .as_ref()
-                .map_or(String::new(), |d| format!(" (--days {})", d.text))
+            "  {} rows read{}; start times as {}; intervals of {}",
+            self.rows.read,
+            if self.rows.skipped > 0 {
+                format!(", {} bad rows skipped", self.rows.skipped)
+            } else {
+                String::new()
+            },
+            self.time_kind.describe(),
+            format_duration(f64::from(self.interval_s))
         );
-    }
-    let tot = a.totals;
-    if a.has_outcomes {
-        let share = |n: u64| format_share(n as f64 / tot.calls.max(1) as f64);
-        let _ = writeln!(
-            w,
-            "  {} call attempts: {} answered, {} blocked ({}), {} abandoned ({})",
-            tot.calls,
-            tot.answered,
-            tot.blocked,
-            share(tot.blocked),
-            tot.abandoned,
-            share(tot.abandoned)
-        );
-    } else {
-        let _ = writeln!(
-            w,
-            "  {} calls (no outcome column: every call taken as answered)",
-            tot.calls
-        );
-    }
-
-    let bh = &a.busy_hour;
-    let _ = writeln!(w, "\nBusy hour, traffic in erlangs: {BASIS}");
-    let _ = writeln!(
-        w,
-        "  day              hour           calls   carried   offered"
-    );
-    for p in &bh.daily {
-        let _ = writeln!(
-            w,
-            "  {} {}   {}-{}   {:>6}   {:>7}   {:>7}",
-            Date(p.day),
-            time::weekday_name(time::weekday(p.day)),
-            clock(p.start_clock_s),
-            clock((p.start_clock_s + 3600) % DAY_S as u32),
-            p.calls,
-            e(p.carried_traffic),
-            e(p.offered_traffic)
-        );
-    }
-    if let Some(b) = &bh.time_consistent {
-        let _ = writeln!(
-            w,
-            "  Time-consistent busy hour {}-{}: offered {} E, carried {} E, {} calls/h (mean of {} days)",
-            clock(b.start_clock_s),
-            clock(b.start_clock_s + 3600),
-            e(b.offered_traffic),
-            e(b.carried_traffic),
-            trim_float(b.calls_per_hour, 1),
-            b.days
-        );
-        let _ = writeln!(w, "    = {TCBH_DEFINITION}");
-    }
-    if let (Some(o), Some(c)) = (bh.average_daily_peak_offered, bh.average_daily_peak_carried) {
-        let _ = writeln!(
-            w,
-            "  Average daily peak hour: offered {} E, carried {} E",
-            e(o),
-            e(c)
-        );
-        let _ = writeln!(w, "    = {ADPH_DEFINITION}");
-    }
-    if a.has_outcomes {
-        let _ = writeln!(w, "  Offered traffic estimate: {OFFERED_ESTIMATOR}");
-    }
-    let profile = busy_hour_profile(a);
-    if !profile.is_empty() {
-        let _ = writeln!(
-            w,
-            "\nBusy-hour profile (mean over the days analysed; one interval either side)"
-        );
-        let _ = writeln!(w, "  interval        calls/h   offered");
-        for p in &profile {
+        for m in &self.rows.skipped_examples {
+            let _ = writeln!(w, "    skipped: {m}");
+        }
+        if let (Some(f), Some(l)) = (self.days.first(), self.days.last()) {
+            let analysed = self.days.iter().filter(|d| d.analysed).count();
             let _ = writeln!(
                 w,
-                "  {}-{}   {:>8}   {:>7}",
-                clock(p.clock_s),
-                clock(p.clock_s + a.interval_s),
-                trim_float(p.calls_per_hour, 1),
+                "  {} days, {} to {}; {} analysed{}",
+                self.days.len(),
+                f.date,
+                l.date,
+                analysed,
+                self.days_filter
+                    .as_ref()
+                    .map_or(String::new(), |d| format!(" (--days {d})"))
+            );
+        }
+        let c = &self.calls;
+        if c.outcomes_given {
+            let share = |n: u64| format_share(n as f64 / c.attempts.max(1) as f64);
+            let _ = writeln!(
+                w,
+                "  {} call attempts: {} answered, {} blocked ({}), {} abandoned ({})",
+                c.attempts,
+                c.answered,
+                c.blocked,
+                share(c.blocked),
+                c.abandoned,
+                share(c.abandoned)
+            );
+        } else {
+            let _ = writeln!(
+                w,
+                "  {} calls (no outcome column: every call taken as answered)",
+                c.attempts
+            );
+        }
+
+        let bh = &self.busy_hour;
+        let _ = writeln!(w, "\nBusy hour, traffic in erlangs: {BASIS}");
+        let _ = writeln!(
+            w,
+            "  day              hour           calls   carried   offered"
+        );
+        for p in &bh.daily {
+            let _ = writeln!(
+                w,
+                "  {} {}   {}-{}   {:>6}   {:>7}   {:>7}",
+                p.date,
+                p.weekday,
+                p.start,
+                p.end,
+                p.calls,
+                e(p.carried_traffic),
                 e(p.offered_traffic)
             );
         }
-    }
-
-    let h = &a.holding;
-    let _ = writeln!(
-        w,
-        "\nHolding time of answered calls: {} calls{}, mean {} s, cv {:.2}",
-        h.count,
-        if h.zeros > 0 {
-            format!(" ({} of 0 s)", h.zeros)
-        } else {
-            String::new()
-        },
-        trim_float(h.mean_s, 1),
-        h.cv
-    );
-    let pct: Vec<String> = h
-        .percentiles
-        .iter()
-        .map(|(p, v)| format!("{}% {} s", trim_float(p * 100.0, 1), trim_float(*v, 1)))
-        .collect();
-    let _ = writeln!(w, "  percentiles: {}", pct.join(", "));
-    let _ = writeln!(
-        w,
-        "  fits ranked by Kolmogorov-Smirnov distance D on {} values; a law fits when D < {:.4} (1% critical value)",
-        h.sample_size, h.ks_critical
-    );
-    for f in &h.fits {
-        let verdict = match (&f.law, f.acceptable) {
-            (Law::Empirical(_), _) => "the data itself",
-            (_, true) => "fits",
-            (_, false) => "does not fit",
-        };
-        let _ = writeln!(
-            w,
-            "  {:<62} D = {:.4}  {verdict}",
-            f.law.describe(),
-            f.ks_distance
-        );
-    }
-    if h.parametric_fits {
-        let _ = writeln!(w, "  => use {}", h.recommended.describe());
-    } else {
-        let _ = writeln!(
-            w,
-            "  => no parametric law fits these holding times: use the empirical law (the measured times themselves)"
-        );
-    }
-
-    match &a.peakedness {
-        Some(p) => {
+        if let Some(b) = &bh.time_consistent {
             let _ = writeln!(
                 w,
-                "\nPeakedness of arrivals (variance/mean of calls per interval): Z = {:.3} ± {:.3}",
-                p.value, p.standard_error
+                "  Time-consistent busy hour {}-{}: offered {} E, carried {} E, {} calls/h (mean of {} days)",
+                b.start,
+                b.end,
+                e(b.offered_traffic),
+                e(b.carried_traffic),
+                trim_float(b.calls_per_hour, 1),
+                b.days
             );
-            let _ = writeln!(w, "  method: {}", p.method.describe());
-            let verdict = if p.poisson_fair() {
-                "within two standard errors of 1: Poisson arrivals are a fair assumption"
-            } else if p.value > 1.0 {
-                "above 1 by more than two standard errors: the arrivals are peakier than Poisson (redials? days unlike each other? choose them with --days)"
-            } else {
-                "below 1 by more than two standard errors: the arrivals are smoother than Poisson"
-            };
-            let _ = writeln!(w, "  {verdict}");
+            let _ = writeln!(w, "    = {TCBH_DEFINITION}");
         }
-        None => {
-            let _ = writeln!(w, "\nPeakedness: too few intervals with calls to measure");
+        let adp = &bh.average_daily_peak;
+        if let (Some(o), Some(c)) = (adp.offered_traffic, adp.carried_traffic) {
+            let _ = writeln!(
+                w,
+                "  Average daily peak hour: offered {} E, carried {} E",
+                e(o),
+                e(c)
+            );
+            let _ = writeln!(w, "    = {ADPH_DEFINITION}");
         }
-    }
-    if let Some(b) = &bh.time_consistent {
+        if c.outcomes_given {
+            let _ = writeln!(w, "  Offered traffic estimate: {OFFERED_ESTIMATOR}");
+        }
+        if !bh.profile.is_empty() {
+            let _ = writeln!(
+                w,
+                "\nBusy-hour profile (mean over the days analysed; one interval either side)"
+            );
+            let _ = writeln!(w, "  interval        calls/h   offered");
+            for p in &bh.profile {
+                let _ = writeln!(
+                    w,
+                    "  {}-{}   {:>8}   {:>7}",
+                    p.start,
+                    p.end,
+                    trim_float(p.calls_per_hour, 1),
+                    e(p.offered_traffic)
+                );
+            }
+        }
+
+        let h = &self.holding;
         let _ = writeln!(
             w,
-            "\nNext: busyhour calc servers --traffic {} --loss 1%   (or --scenario-out FILE.toml, then busyhour run FILE.toml)",
-            trim_float(b.offered_traffic, 2)
+            "\nHolding time of answered calls: {} calls{}, mean {} s, cv {:.2}",
+            h.count,
+            if h.zeros > 0 {
+                format!(" ({} of 0 s)", h.zeros)
+            } else {
+                String::new()
+            },
+            trim_float(h.mean_s, 1),
+            h.cv
         );
+        let pct: Vec<String> = (h.percentiles_s.0.iter())
+            .map(|(p, v)| format!("{}% {} s", trim_float(p * 100.0, 1), trim_float(*v, 1)))
+            .collect();
+        let _ = writeln!(w, "  percentiles: {}", pct.join(", "));
+        let _ = writeln!(
+            w,
+            "  fits ranked by Kolmogorov-Smirnov distance D on {} values; a law fits when D < {:.4} (1% critical value)",
+            h.sample_size, h.ks_critical
+        );
+        for f in &h.fits {
+            let verdict = match (f.law.measured, f.fits) {
+                (true, _) => "the data itself",
+                (_, true) => "fits",
+                (_, false) => "does not fit",
+            };
+            let _ = writeln!(
+                w,
+                "  {:<62} D = {:.4}  {verdict}",
+                f.law.description, f.ks_distance
+            );
+        }
+        if h.parametric_fits {
+            let _ = writeln!(w, "  => use {}", h.recommended.description);
+        } else {
+            let _ = writeln!(
+                w,
+                "  => no parametric law fits these holding times: use the empirical law (the measured times themselves)"
+            );
+        }
+
+        match &self.peakedness {
+            Some(p) => {
+                let _ = writeln!(
+                    w,
+                    "\nPeakedness of arrivals (variance/mean of calls per interval): Z = {:.3} ± {:.3}",
+                    p.value, p.standard_error
+                );
+                let _ = writeln!(w, "  method: {}", p.method);
+                let verdict = if p.poisson_fair {
+                    "within two standard errors of 1: Poisson arrivals are a fair assumption"
+                } else if p.value > 1.0 {
+                    "above 1 by more than two standard errors: the arrivals are peakier than Poisson (redials? days unlike each other? choose them with --days)"
+                } else {
+                    "below 1 by more than two standard errors: the arrivals are smoother than Poisson"
+                };
+                let _ = writeln!(w, "  {verdict}");
+            }
+            None => {
+                let _ = writeln!(w, "\nPeakedness: too few intervals with calls to measure");
+            }
+        }
+        if let Some(b) = &bh.time_consistent {
+            let _ = writeln!(
+                w,
+                "\nNext: busyhour calc servers --traffic {} --loss 1%   (or --scenario-out FILE.toml, then busyhour run FILE.toml)",
+                trim_float(b.offered_traffic, 2)
+            );
+        }
+        let _ = writeln!(w, "\n{CAUTION}");
+        if let Some(sc) = &self.scenario_out {
+            let _ = writeln!(
+                w,
+                "Scenario written: {} ({} servers for {} E; run it with: busyhour run {})",
+                sc.files.join(" and "),
+                sc.servers,
+                trim_float(sc.offered_traffic, 2),
+                sc.files.first().map_or("", String::as_str)
+            );
+        }
+        if let Some(path) = &self.chart {
+            let _ = writeln!(w, "Chart written: {path}");
+        }
+        s
     }
-    let _ = writeln!(w, "\n{}", crate::report::CAUTION);
-    s
+}
+
+/// The analysis alone as a terminal report (nothing written).
+pub fn to_text(a: &Analysis) -> String {
+    RecordsDocument::new(a).table()
 }
 
 /// The traffic chart: carried traffic (and the offered estimate, with
@@ -438,7 +810,7 @@ pub fn chart(a: &Analysis) -> LineChart {
     let mut c = LineChart::new(
         format!(
             "Traffic per {} interval: {}",
-            crate::units::format_duration(interval),
+            format_duration(interval),
             a.file
         ),
         format!("local day and time (from {})", Date(first_day)),

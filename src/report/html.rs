@@ -1,7 +1,8 @@
 //! One self-contained HTML page per report: inline style, inline SVG charts,
 //! no scripts and no network access needed to open it.
 
-use super::{CAUTION, Table};
+use super::CAUTION;
+use super::text::Table;
 
 /// A piece of a page.
 pub enum Block {

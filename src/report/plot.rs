@@ -1,12 +1,15 @@
-//! SVG line charts: one or more named series against a common x axis, each
-//! with an optional shaded band (a confidence interval, a min-max range),
-//! shaded vertical spans marking periods (busy hours, the measured period),
-//! axis labels with units and a title. Used by `records --chart`; made for
-//! reuse by other commands. Owns drawing only: callers pass numbers.
+//! Drawing: SVG line charts from numbers. One or more named series against
+//! a common x axis, each with an optional shaded band (a confidence
+//! interval, a min-max range), shaded vertical spans marking periods (busy
+//! hours, the measured period), axis labels with units and a title, and
+//! several charts stacked into one SVG. The charts of `run`, `sweep` and
+//! `records` are built from their documents in their own modules; this one
+//! owns drawing only.
 //!
 //! Drawn with the `plotters` crate's SVG backend (no fonts needed: text is
 //! written as SVG text elements and laid out by the viewer).
 
+use crate::stats::Estimate;
 use plotters::prelude::*;
 use std::fmt;
 
@@ -118,7 +121,7 @@ fn finite_range(values: impl Iterator<Item = f64>) -> Option<(f64, f64)> {
 ///
 /// # Example
 /// ```
-/// use busyhour::report::chart::{LineChart, Series, render_svg};
+/// use busyhour::report::plot::{LineChart, Series, render_svg};
 /// let mut c = LineChart::new("Load", "time (h)", "traffic (E)");
 /// c.series.push(Series { name: "carried".into(), points: vec![(0.0, 1.0), (1.0, 3.0)], band: None });
 /// let svg = render_svg(&c).unwrap();
@@ -231,6 +234,31 @@ pub fn render_svg(chart: &LineChart) -> Result<String, ChartError> {
         root.present().map_err(|e| draw(&e))?;
     }
     Ok(svg)
+}
+
+/// A series of estimates at x positions, scaled by `scale` (100 for
+/// percentages), with their 95% band; undefined estimates are left out.
+pub fn estimate_series(name: String, points: &[(f64, Estimate)], scale: f64) -> Series {
+    let band: Vec<(f64, f64, f64)> = points
+        .iter()
+        .filter(|(_, e)| e.mean.is_finite() && e.half_width.is_finite())
+        .map(|(x, e)| {
+            (
+                *x,
+                (e.mean - e.half_width) * scale,
+                (e.mean + e.half_width) * scale,
+            )
+        })
+        .collect();
+    Series {
+        name,
+        points: points
+            .iter()
+            .filter(|(_, e)| e.mean.is_finite())
+            .map(|(x, e)| (*x, e.mean * scale))
+            .collect(),
+        band: (!band.is_empty()).then_some(band),
+    }
 }
 
 /// Stack several SVG charts vertically into one SVG document (nested `<svg>`

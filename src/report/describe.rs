@@ -1,0 +1,131 @@
+//! The scenario in plain words: the compiled model as a reader checks it
+//! (groups, streams, laws, routes), for `check` and the HTML pages.
+
+use crate::scenario::{Arrivals, Model, Queue, Replications, Start};
+use crate::units::{format_duration, format_share, trim_float};
+
+/// How the warm-up was chosen and how replications start, for the run line.
+pub(crate) fn warmup_origin(derived: bool, start: Start) -> &'static str {
+    match (derived, start) {
+        (true, Start::Steady) => " (derived from the laws), steady start",
+        (true, Start::Empty) => " (derived from the laws), empty start",
+        (false, Start::Steady) => ", steady start",
+        (false, Start::Empty) => ", empty start",
+    }
+}
+
+/// The compiled model in plain words, for `check`.
+pub fn describe_model(model: &Model, file: &str) -> String {
+    let p = &model.plan;
+    let mut out = format!("{}  ({file})\n", model.title);
+    let reps = match &p.replications {
+        Replications::Fixed(n) => format!("{n} replications"),
+        Replications::Precision { target, max } => {
+            format!(
+                "replications until key figures are within {} (at most {max})",
+                format_share(*target)
+            )
+        }
+    };
+    out.push_str(&format!(
+        "Run: {reps}, each {} measured after {} warm-up{}, seed {}{}\n",
+        format_duration(p.length_s),
+        format_duration(p.warmup_s),
+        warmup_origin(!p.warmup_given, p.start),
+        p.seed,
+        p.interval_s.map_or(String::new(), |i| format!(
+            ", figures per {}",
+            format_duration(i)
+        ))
+    ));
+    out.push_str("\nGroups\n");
+    for g in &model.groups {
+        let queue = match g.queue {
+            Queue::None => "no queue (blocked calls overflow or are cleared)".to_string(),
+            Queue::Limited(q) => format!("queue of {q} places"),
+            Queue::Unlimited => "unlimited queue".to_string(),
+        };
+        out.push_str(&format!("  {}: {} servers, {queue}", g.name, g.servers));
+        if let Some(a) = g.overflow_after_s {
+            out.push_str(&format!(
+                ", waiting calls move on after {}",
+                format_duration(a)
+            ));
+        }
+        if g.reserve > 0 {
+            let names: Vec<&str> = model
+                .streams
+                .iter()
+                .enumerate()
+                .filter(|(s, _)| g.reserved_for[*s])
+                .map(|(_, s)| s.name.as_str())
+                .collect();
+            out.push_str(&format!(
+                ", last {} servers reserved for {}",
+                g.reserve,
+                names.join(", ")
+            ));
+        }
+        out.push('\n');
+    }
+    out.push_str("\nStreams\n");
+    for s in &model.streams {
+        let arrivals = match &s.arrivals {
+            Arrivals::Poisson { rate } => format!("Poisson, {}/h", trim_float(rate * 3600.0, 2)),
+            Arrivals::Profile { interval_s, rates } => format!(
+                "Poisson peak profile of {} intervals of {}, {}/h to {}/h",
+                rates.len(),
+                format_duration(*interval_s),
+                trim_float(
+                    rates.iter().cloned().fold(f64::INFINITY, f64::min) * 3600.0,
+                    1
+                ),
+                trim_float(rates.iter().cloned().fold(0.0, f64::max) * 3600.0, 1)
+            ),
+            Arrivals::Renewal { between } => {
+                format!("renewal, time between calls {}", between.describe())
+            }
+            Arrivals::Sources { count, idle } => {
+                format!("{count} sources, idle time {}", idle.describe())
+            }
+        };
+        let route: Vec<&str> = s
+            .route
+            .iter()
+            .map(|&g| model.groups[g as usize].name.as_str())
+            .collect();
+        out.push_str(&format!("  {}: {arrivals}\n", s.name));
+        match s.offered_traffic(p.length_s) {
+            Some(a) => out.push_str(&format!(
+                "    offered traffic {} erlangs (first attempts)\n",
+                trim_float(a, 3)
+            )),
+            None => out.push_str("    offered traffic depends on how many sources are idle\n"),
+        }
+        out.push_str(&format!("    holding {}\n", s.holding.describe()));
+        out.push_str(&format!("    route {}", route.join(" -> ")));
+        if s.units > 1 {
+            out.push_str(&format!(", {} servers per call", s.units));
+        }
+        out.push('\n');
+        if let Some(rt) = &s.retry {
+            let chances: Vec<String> = rt.chances.iter().map(|c| format_share(*c)).collect();
+            out.push_str(&format!(
+                "    redials: chance {}, delay {}, at most {} attempts\n",
+                chances.join(" then "),
+                rt.delay.describe(),
+                rt.max_attempts
+            ));
+        }
+        if let Some(pt) = &s.patience {
+            out.push_str(&format!("    patience {}\n", pt.describe()));
+        }
+        if let Some(aw) = s.answer_within_s {
+            out.push_str(&format!(
+                "    service level: answered within {}\n",
+                format_duration(aw)
+            ));
+        }
+    }
+    out
+}

@@ -1,0 +1,560 @@
+//! The document of `run`, and of `merge` of run parts: every figure of
+//! every stream, group and reporting interval with its 95% interval and
+//! closed-form value, built once from a finished [`Outcome`]. The JSON, the
+//! table, the CSV, the HTML page and the per-interval chart all render it.
+
+use super::check::FormulaView;
+use super::describe::{describe_model, warmup_origin};
+use super::figures::{FigureSet, FigureValue};
+use super::json::finite;
+use super::plot::{self, ChartError, LineChart, Series};
+use super::text::{self, Table, align, clock};
+use super::{CAUTION, Charted, Document, html};
+use crate::experiment::Outcome;
+use crate::scenario::{Model, Start};
+use crate::stats::{self, Estimate, Figure, Scope, Unit};
+use crate::textbook::formula_column;
+use crate::units::{format_duration, format_share, trim_float};
+use serde::{Serialize, Serializer};
+
+/// The precision goal of a run, when one was set.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct Precision {
+    /// Relative 95% half-width asked for (a share).
+    pub target: f64,
+    /// Largest relative half-width among the key figures; null when none
+    /// was defined.
+    #[serde(serialize_with = "finite")]
+    pub achieved: f64,
+    /// Whether every key figure reached the target.
+    pub met: bool,
+}
+
+/// One reporting interval of a peak profile.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Interval {
+    /// Start, seconds from the end of the warm-up.
+    pub start_s: f64,
+    /// End, seconds from the end of the warm-up.
+    pub end_s: f64,
+    /// Every stream's figures in the interval.
+    pub streams: Vec<FigureSet>,
+    /// Every group's figures in the interval.
+    pub groups: Vec<FigureSet>,
+    /// Offered traffic summed over the streams, its interval from the
+    /// per-replication sums (for the chart).
+    #[serde(skip)]
+    pub offered_all: Estimate,
+    /// Carried traffic summed over the streams, likewise.
+    #[serde(skip)]
+    pub carried_all: Estimate,
+}
+
+fn start_name<S: Serializer>(start: &Start, s: S) -> Result<S::Ok, S::Error> {
+    s.serialize_str(match start {
+        Start::Steady => "steady",
+        Start::Empty => "empty",
+    })
+}
+
+/// What a run found.
+#[derive(Debug, Clone, Serialize)]
+pub struct RunDocument {
+    /// The scenario's title.
+    pub scenario: String,
+    /// The scenario file, as the user named it.
+    pub file: String,
+    /// The busyhour version that made it.
+    pub version: &'static str,
+    /// The master seed.
+    pub seed: u64,
+    /// Replications run.
+    pub replications: u64,
+    /// Warm-up of each replication (s).
+    pub warmup_s: f64,
+    /// Whether the warm-up was derived from the laws (not given in the file).
+    pub warmup_derived: bool,
+    /// How each replication starts: "steady" or "empty".
+    #[serde(serialize_with = "start_name")]
+    pub start: Start,
+    /// Measured length of each replication (s).
+    pub length_s: f64,
+    /// Interrupted: fewer replications than planned.
+    pub partial: bool,
+    /// Every stream's figures over the measured period.
+    pub streams: Vec<FigureSet>,
+    /// Every group's figures over the measured period.
+    pub groups: Vec<FigureSet>,
+    /// The precision goal, when one was set.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub precision: Option<Precision>,
+    /// The reporting intervals, when the scenario sets `interval`.
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub intervals: Vec<Interval>,
+    /// The interval with the highest loss of any stream (ties: the highest
+    /// time congestion of any group), counted from 0.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub worst_interval: Option<usize>,
+    /// Warnings about the start or the load.
+    pub warnings: Vec<String>,
+    /// The safety caution.
+    pub caution: &'static str,
+    /// Length of a reporting interval (s; the last may be shorter).
+    #[serde(skip)]
+    pub interval_s: f64,
+    /// Events processed in all replications.
+    #[serde(skip)]
+    pub events: u64,
+    /// Wall-clock seconds.
+    #[serde(skip)]
+    pub wall_s: f64,
+    /// The scenario in plain words.
+    #[serde(skip)]
+    pub words: String,
+    /// The closed forms of the model, for the page's textbook view.
+    #[serde(skip)]
+    pub textbook: FormulaView,
+}
+
+impl RunDocument {
+    /// The document of `outcome`, a run of `model` read from `file`.
+    pub fn new(model: &Model, outcome: &Outcome, file: &str) -> RunDocument {
+        let formulas = formula_column(model);
+        let stream_sets = || {
+            (model.streams.iter())
+                .map(|st| FigureSet::new(&st.name, None))
+                .collect::<Vec<_>>()
+        };
+        let group_sets = |servers: bool| {
+            (model.groups.iter())
+                .map(|gr| FigureSet::new(&gr.name, servers.then_some(gr.servers)))
+                .collect::<Vec<_>>()
+        };
+        let plan = &model.plan;
+        let width = plan.interval_s.unwrap_or(plan.length_s);
+        let mut streams = stream_sets();
+        let mut groups = group_sets(true);
+        let mut intervals: Vec<Interval> = (0..plan.interval_count())
+            .map(|b| Interval {
+                start_s: b as f64 * width,
+                end_s: b as f64 * width + stats::interval_length(model, b),
+                streams: stream_sets(),
+                groups: group_sets(false),
+                offered_all: summed(outcome, b, Figure::OfferedTraffic),
+                carried_all: summed(outcome, b, Figure::CarriedTraffic),
+            })
+            .collect();
+        for (f, e) in outcome.layout.iter().zip(&outcome.estimates) {
+            let set = match f.scope {
+                Scope::Stream(s) => &mut streams[s],
+                Scope::Group(g) => &mut groups[g],
+                Scope::StreamInterval(b, s) => &mut intervals[b].streams[s],
+                Scope::GroupInterval(b, g) => &mut intervals[b].groups[g],
+            };
+            (set.figures.0).push(FigureValue::new(f.figure, *e, formulas.get(f)));
+        }
+        let worst_interval = worst(&intervals);
+        RunDocument {
+            scenario: model.title.clone(),
+            file: file.to_string(),
+            version: env!("CARGO_PKG_VERSION"),
+            seed: plan.seed,
+            replications: outcome.replications,
+            warmup_s: plan.warmup_s,
+            warmup_derived: !plan.warmup_given,
+            start: plan.start,
+            length_s: plan.length_s,
+            partial: outcome.partial,
+            streams,
+            groups,
+            precision: outcome.precision.map(|p| Precision {
+                target: p.target,
+                achieved: p.achieved,
+                met: p.met,
+            }),
+            intervals,
+            worst_interval,
+            warnings: outcome.warnings.iter().map(|w| w.to_string()).collect(),
+            caution: CAUTION,
+            interval_s: width,
+            events: outcome.events,
+            wall_s: outcome.wall_s,
+            words: describe_model(model, file),
+            textbook: FormulaView::new(model, &formulas),
+        }
+    }
+
+    /// Keep only `figures` in every stream, group and interval (a sweep's
+    /// `--figure`).
+    pub fn keep_figures(&mut self, figures: &[Figure]) {
+        let sets = (self.streams.iter_mut().chain(&mut self.groups)).chain(
+            (self.intervals.iter_mut()).flat_map(|iv| iv.streams.iter_mut().chain(&mut iv.groups)),
+        );
+        for set in sets {
+            set.figures.0.retain(|v| figures.contains(&v.figure));
+        }
+    }
+
+    /// How the run was made, in one line.
+    fn run_line(&self) -> String {
+        let mut s = format!(
+            "{} replications of {} measured after {} warm-up{}, seed {}",
+            self.replications,
+            format_duration(self.length_s),
+            format_duration(self.warmup_s),
+            warmup_origin(self.warmup_derived, self.start),
+            self.seed
+        );
+        if let Some(pr) = self.precision {
+            s.push_str(&format!(
+                "; precision goal {} {} (worst key figure {})",
+                format_share(pr.target),
+                if pr.met {
+                    "met"
+                } else {
+                    "NOT met: replication cap reached"
+                },
+                format_share(pr.achieved)
+            ));
+        }
+        s
+    }
+
+    /// The tables of the run, shared by the terminal and the HTML page.
+    pub fn tables(&self) -> Vec<Table> {
+        let header = |first: &str| {
+            vec![
+                first.to_string(),
+                "figure".into(),
+                "simulated".into(),
+                "95% ±".into(),
+                "formula".into(),
+            ]
+        };
+        let mut rows = vec![header("stream")];
+        for st in &self.streams {
+            rows.extend(figure_rows(st, &st.name));
+        }
+        let mut tables = vec![Table {
+            title: "Streams".into(),
+            rows,
+        }];
+        let mut rows = vec![header("group")];
+        for gr in &self.groups {
+            let first = format!("{} ({})", gr.name, gr.servers.unwrap_or_default());
+            rows.extend(figure_rows(gr, &first));
+        }
+        tables.push(Table {
+            title: "Groups".into(),
+            rows,
+        });
+        if !self.intervals.is_empty() {
+            tables.push(Table {
+                title: "By interval (from the end of the warm-up)".into(),
+                rows: self.interval_rows(),
+            });
+        }
+        tables
+    }
+
+    /// The interval table: each stream's offered traffic and loss (and the
+    /// closed form of the loss where one applies), each group's occupancy.
+    fn interval_rows(&self) -> Vec<Vec<String>> {
+        let loss_formula = |b: usize, s: usize| {
+            (self.intervals[b].streams[s].figures.get(Figure::Loss))
+                .and_then(|v| v.formula.as_ref())
+        };
+        // The method of each stream's interval loss, named in the header.
+        let methods: Vec<Option<&str>> = (0..self.streams.len())
+            .map(|s| (0..self.intervals.len()).find_map(|b| loss_formula(b, s).map(|f| f.name)))
+            .collect();
+        let mut head = vec!["interval".to_string()];
+        for (st, method) in self.streams.iter().zip(&methods) {
+            head.push(format!("{} offered", st.name));
+            head.push(format!("{} loss", st.name));
+            if let Some(name) = method {
+                head.push(format!("[{name}]"));
+            }
+        }
+        for gr in &self.groups {
+            head.push(format!("{} occupancy", gr.name));
+        }
+        let mut rows = vec![head];
+        for (b, iv) in self.intervals.iter().enumerate() {
+            let mut row = vec![format!(
+                "{}-{}{}",
+                clock(iv.start_s),
+                clock(iv.end_s),
+                if self.worst_interval == Some(b) {
+                    " worst"
+                } else {
+                    ""
+                }
+            )];
+            for (s, st) in iv.streams.iter().enumerate() {
+                row.push(text::value(Unit::Erlangs, st.mean(Figure::OfferedTraffic)));
+                row.push(text::value(Unit::Share, st.mean(Figure::Loss)));
+                if methods[s].is_some() {
+                    row.push(
+                        loss_formula(b, s)
+                            .map_or("-".into(), |f| text::value(Unit::Share, f.value)),
+                    );
+                }
+            }
+            for gr in &iv.groups {
+                row.push(text::value(Unit::Share, gr.mean(Figure::Occupancy)));
+            }
+            rows.push(row);
+        }
+        rows
+    }
+}
+
+impl Charted for RunDocument {
+    /// The run as one self-contained HTML page, with the per-interval chart
+    /// when one is given.
+    fn html(&self, chart: Option<&str>) -> String {
+        use html::Block;
+        let mut blocks = vec![
+            Block::Heading("The scenario in plain words".into()),
+            Block::Pre(self.words.clone()),
+            Block::Heading("Results".into()),
+            Block::Paragraph(format!(
+                "{}. Shares, mean waits and attempts per call are pooled over all replications (total over total); \
+other figures are means across replications. Intervals are 95%; an interval shown by its two ends is cut to the \
+figure's range or widened to the exact binomial bound when events are few. The formula column \
+shows the closed-form value where its assumptions hold.",
+                self.run_line()
+            )),
+        ];
+        if self.partial {
+            blocks.push(Block::Paragraph(
+                "PARTIAL RESULT: the run was interrupted; only the finished replications are shown."
+                    .into(),
+            ));
+        }
+        for w in &self.warnings {
+            blocks.push(Block::Paragraph(format!("Warning: {w}.")));
+        }
+        blocks.extend(self.tables().into_iter().map(Block::Table));
+        if let Some(svg) = chart {
+            blocks.push(Block::Heading("Per interval".into()));
+            blocks.push(Block::Svg(svg.to_string()));
+        }
+        blocks.push(Block::Heading("Textbook view".into()));
+        blocks.push(Block::Pre(self.textbook.text()));
+        blocks.push(Block::Heading("Assumptions".into()));
+        blocks.push(Block::List(html::assumptions()));
+        html::page(
+            &self.scenario,
+            &format!("busyhour run of {}", self.file),
+            &blocks,
+        )
+    }
+
+    fn has_chart(&self) -> bool {
+        !self.intervals.is_empty()
+    }
+
+    /// The per-interval chart: offered and carried traffic (all streams)
+    /// with their 95% bands, and each stream's loss with its band and the
+    /// Erlang B of the interval load where it applies. Needs intervals.
+    fn chart(&self) -> Result<String, ChartError> {
+        if self.intervals.is_empty() {
+            return Err(ChartError::NoData);
+        }
+        let width_h = self.interval_s / 3600.0;
+        let mid = |b: usize| (b as f64 + 0.5) * width_h;
+        let x_label = "time from the end of the warm-up (h:mm, interval midpoints)";
+        let mut traffic = LineChart::new(
+            format!("{}: traffic per interval", self.scenario),
+            x_label,
+            "traffic (erlangs)",
+        );
+        traffic.x_ticks = Some(Box::new(hours_clock));
+        for (name, offered) in [("offered traffic", true), ("carried traffic", false)] {
+            let pts: Vec<(f64, Estimate)> = (self.intervals.iter().enumerate())
+                .map(|(b, iv)| {
+                    let total = if offered {
+                        iv.offered_all
+                    } else {
+                        iv.carried_all
+                    };
+                    (mid(b), total)
+                })
+                .collect();
+            traffic.series.push(plot::estimate_series(
+                format!("{name}, all streams (95% band)"),
+                &pts,
+                1.0,
+            ));
+        }
+        let mut loss = LineChart::new(
+            format!("{}: loss per interval", self.scenario),
+            x_label,
+            "loss (% of calls)",
+        );
+        loss.x_ticks = Some(Box::new(hours_clock));
+        for (s, st) in self.streams.iter().enumerate() {
+            let values = || {
+                (self.intervals.iter().enumerate()).filter_map(move |(b, iv)| {
+                    Some((mid(b), iv.streams[s].figures.get(Figure::Loss)?))
+                })
+            };
+            let pts: Vec<(f64, Estimate)> = values().map(|(x, v)| (x, v.estimate)).collect();
+            loss.series.push(plot::estimate_series(
+                format!("{} loss (95% band)", st.name),
+                &pts,
+                100.0,
+            ));
+            let formula: Vec<(f64, f64)> = values()
+                .filter_map(|(x, v)| v.formula.as_ref().map(|f| (x, f.value * 100.0)))
+                .collect();
+            if !formula.is_empty() {
+                loss.series.push(Series {
+                    name: format!("{} loss, Erlang B of the interval load", st.name),
+                    points: formula,
+                    band: None,
+                });
+            }
+        }
+        Ok(plot::stack(&[
+            plot::render_svg(&traffic)?,
+            plot::render_svg(&loss)?,
+        ]))
+    }
+}
+
+impl Document for RunDocument {
+    fn table(&self) -> String {
+        let mut out = format!("{}  ({})\n", self.scenario, self.file);
+        out.push_str(&self.run_line());
+        out.push_str("\nShares, mean waits and attempts per call are pooled over all replications (total over total);\nother figures are means across replications. \"±\" is the 95% half-width; \"[a to b]\" a 95% interval\ncut to the figure's range or widened to the exact binomial bound when events are few.\n");
+        if self.partial {
+            out.push_str(
+                "PARTIAL RESULT: the run was interrupted; only the finished replications are shown.\n",
+            );
+        }
+        for t in self.tables() {
+            out.push_str(&format!("\n{}\n", t.title));
+            out.push_str(&align(&t.rows, "  "));
+        }
+        for w in &self.warnings {
+            out.push_str(&format!("\nWarning: {w}"));
+        }
+        if !self.warnings.is_empty() {
+            out.push('\n');
+        }
+        out.push_str(&format!(
+            "\n{} events in {:.2} s\n",
+            self.events, self.wall_s
+        ));
+        out.push_str(&format!("Caution: {CAUTION}\n"));
+        out
+    }
+
+    /// Long format: one row per figure, streams, groups, then each
+    /// interval's.
+    fn csv(&self) -> Option<String> {
+        let header: Vec<String> = ["kind", "name", "interval_start_s"]
+            .into_iter()
+            .chain(FigureValue::CSV_COLUMNS)
+            .map(String::from)
+            .collect();
+        let whole = (self.streams.iter().map(|s| ("stream", s)))
+            .chain(self.groups.iter().map(|g| ("group", g)))
+            .map(|(kind, set)| (kind, set, String::new()));
+        let by_interval = self.intervals.iter().flat_map(|iv| {
+            let start = trim_float(iv.start_s, 3);
+            (iv.streams.iter().map(|s| ("stream", s)))
+                .chain(iv.groups.iter().map(|g| ("group", g)))
+                .map(move |(kind, set)| (kind, set, start.clone()))
+        });
+        let rows = whole.chain(by_interval).flat_map(|(kind, set, start)| {
+            set.figures.iter().map(move |v| {
+                let lead = [kind.to_string(), set.name.clone(), start.clone()];
+                lead.into_iter().chain(v.csv_cells()).collect()
+            })
+        });
+        Some(text::csv(std::iter::once(header).chain(rows)))
+    }
+}
+
+/// The table rows of one stream or group: label, estimate, interval and
+/// closed form of each figure, the owner named on the first row.
+fn figure_rows(set: &FigureSet, first: &str) -> Vec<Vec<String>> {
+    let mut rows = Vec::new();
+    for v in set.figures.iter() {
+        // The mean square is a building block of the peakedness, kept in
+        // the JSON and CSV for merging and checking, not shown in the table.
+        if v.figure == Figure::OverflowMeanSquare {
+            continue;
+        }
+        let e = &v.estimate;
+        let unit = v.figure.unit();
+        rows.push(vec![
+            if rows.is_empty() {
+                first.to_string()
+            } else {
+                String::new()
+            },
+            v.figure.label().to_string(),
+            text::value(unit, e.mean),
+            if e.mean.is_nan() {
+                String::new()
+            } else {
+                text::interval(unit, e)
+            },
+            v.formula.as_ref().map_or(String::new(), |f| {
+                format!("{} ({})", text::value(unit, f.value), f.name)
+            }),
+        ]);
+    }
+    rows
+}
+
+/// Sum of an interval figure over every stream, as an estimate whose
+/// interval comes from the per-replication sums.
+fn summed(outcome: &Outcome, b: usize, figure: Figure) -> Estimate {
+    let idx: Vec<usize> = (outcome.layout.iter().enumerate())
+        .filter(|(_, f)| {
+            matches!(f.scope, Scope::StreamInterval(bb, _) if bb == b) && f.figure == figure
+        })
+        .map(|(i, _)| i)
+        .collect();
+    stats::estimate(
+        (outcome.per_replication.iter()).map(|v| idx.iter().map(|&i| v[i].own()).sum::<f64>()),
+    )
+}
+
+/// The interval with the highest loss of any stream (ties: the highest time
+/// congestion of any group; then the earliest); None without intervals.
+fn worst(intervals: &[Interval]) -> Option<usize> {
+    let highest = |sets: &[FigureSet], figure: Figure| {
+        sets.iter()
+            .map(|s| s.mean(figure))
+            .filter(|m| !m.is_nan())
+            .fold(0.0f64, f64::max)
+    };
+    let score: Vec<(f64, f64)> = intervals
+        .iter()
+        .map(|iv| {
+            (
+                highest(&iv.streams, Figure::Loss),
+                highest(&iv.groups, Figure::TimeCongestion),
+            )
+        })
+        .collect();
+    (0..score.len()).max_by(|&a, &b| {
+        score[a]
+            .partial_cmp(&score[b])
+            .unwrap_or(std::cmp::Ordering::Equal)
+            .then(b.cmp(&a))
+    })
+}
+
+/// Hours from the end of the warm-up as a clock: "1:45".
+fn hours_clock(hours: f64) -> String {
+    let m = (hours * 60.0).round() as i64;
+    format!("{}:{:02}", m / 60, m % 60)
+}

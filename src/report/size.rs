@@ -1,0 +1,376 @@
+//! The document of `size`: the answer, each goal's verdict and estimate at
+//! the answer and at one server fewer, and every size tried, built once
+//! from a [`SizeResult`]. The JSON, the table and the HTML page render it.
+
+use super::describe::describe_model;
+use super::figures::FigureValue;
+use super::text::{self, Table, align};
+use super::{CAUTION, Document, html};
+use crate::experiment::size::{Evaluation, SizeResult, Verdict};
+use crate::scenario::Model;
+use crate::stats::{Estimate, Figure, Scope, Unit};
+use serde::{Serialize, Serializer};
+
+fn verdict_word<S: Serializer>(v: &Verdict, s: S) -> Result<S::Ok, S::Error> {
+    s.serialize_str(v.word())
+}
+
+fn figure_name<S: Serializer>(f: &Figure, s: S) -> Result<S::Ok, S::Error> {
+    s.serialize_str(f.name())
+}
+
+/// A goal as the user gave it.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct SizeGoal {
+    /// As written: "loss<=1%".
+    pub goal: String,
+    /// The figure's name.
+    #[serde(serialize_with = "figure_name")]
+    pub figure: Figure,
+    /// True for `<=`, false for `>=`.
+    pub at_most: bool,
+    /// The bound, in the figure's unit (a share, seconds, erlangs or a ratio).
+    pub bound: f64,
+    /// Whether the goal covers several streams or groups (the table then
+    /// names the one that decides).
+    #[serde(skip)]
+    pub several: bool,
+}
+
+/// The stream or group whose figure decides a goal.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+#[serde(rename_all = "lowercase")]
+pub enum Owner {
+    /// `{"stream": name}`.
+    Stream(String),
+    /// `{"group": name}`.
+    Group(String),
+}
+
+/// One goal at one size.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct GoalAtSize {
+    /// The goal as written.
+    pub goal: String,
+    /// "holds", "fails" or "undecided".
+    #[serde(serialize_with = "verdict_word")]
+    pub verdict: Verdict,
+    /// The deciding estimate (the worst of the figures the goal covers),
+    /// with its 95% interval.
+    pub estimate: FigureValue,
+    /// Whose figure that is.
+    pub decided_by: Option<Owner>,
+    /// Share of replications (periods) whose own figure met the bound, with
+    /// its exact 95% interval.
+    pub periods_meeting: Estimate,
+}
+
+/// The goals at one size.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct SizeEvaluation {
+    /// Servers on the sized group.
+    pub servers: u32,
+    /// Replications run at that size.
+    pub replications: u64,
+    /// "fails" if any goal fails, else "undecided" if any is, else "holds".
+    #[serde(serialize_with = "verdict_word")]
+    pub verdict: Verdict,
+    /// Each goal, in the order given.
+    pub goals: Vec<GoalAtSize>,
+}
+
+/// One size the search tried.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Tried {
+    /// Servers.
+    pub servers: u32,
+    /// Replications run there.
+    pub replications: u64,
+    /// Its verdict.
+    #[serde(serialize_with = "verdict_word")]
+    pub verdict: Verdict,
+}
+
+/// What `size` found.
+#[derive(Debug, Clone, Serialize)]
+pub struct SizeDocument {
+    /// The scenario's title.
+    pub scenario: String,
+    /// The scenario file, as the user named it.
+    pub file: String,
+    /// The sized group.
+    pub group: String,
+    /// The goals.
+    pub goals: Vec<SizeGoal>,
+    /// The fewest servers meeting every goal; null when none was found.
+    pub servers: Option<u32>,
+    /// The closed-form answer, when the formula column covers every goal.
+    pub formula_servers: Option<u32>,
+    /// One server fewer could not be decided: the answer may be one more
+    /// than needed.
+    pub uncertain: bool,
+    /// Most looks at one size (each verdict's level is 1 - 0.05 / looks).
+    pub looks: u32,
+    /// Interrupted: the search did not finish.
+    pub partial: bool,
+    /// The goals at the answer.
+    pub at_answer: Option<SizeEvaluation>,
+    /// The goals at one server fewer.
+    pub one_fewer: Option<SizeEvaluation>,
+    /// Every size tried, in order.
+    pub tried: Vec<Tried>,
+    /// Wall-clock seconds.
+    pub wall_s: f64,
+    /// The safety caution.
+    pub caution: &'static str,
+    /// The largest size searched.
+    #[serde(skip)]
+    pub limit: u32,
+    /// The scenario in plain words.
+    #[serde(skip)]
+    pub words: String,
+}
+
+impl SizeDocument {
+    /// The document of a sizing of `model` (read from `file`).
+    pub fn new(model: &Model, file: &str, r: &SizeResult) -> SizeDocument {
+        let owner = |scope: Scope| match scope {
+            Scope::Stream(s) => Some(Owner::Stream(model.streams[s].name.clone())),
+            Scope::Group(g) => Some(Owner::Group(model.groups[g].name.clone())),
+            _ => None,
+        };
+        let evaluation = |e: &Evaluation| SizeEvaluation {
+            servers: e.servers,
+            replications: e.outcome.replications,
+            verdict: e.verdict(),
+            goals: (r
+                .goals
+                .iter()
+                .zip(&e.goals)
+                .zip(&e.periods)
+                .zip(&e.deciding))
+            .map(|(((g, (verdict, est)), periods), deciding)| GoalAtSize {
+                goal: g.text.clone(),
+                verdict: *verdict,
+                estimate: FigureValue::new(g.figure, *est, None),
+                decided_by: deciding.and_then(|f| owner(f.scope)),
+                periods_meeting: *periods,
+            })
+            .collect(),
+        };
+        SizeDocument {
+            scenario: model.title.clone(),
+            file: file.to_string(),
+            group: model.groups[r.group].name.clone(),
+            goals: (r.goals.iter())
+                .map(|g| SizeGoal {
+                    goal: g.text.clone(),
+                    figure: g.figure,
+                    at_most: g.at_most,
+                    bound: g.bound,
+                    several: g.targets.len() > 1,
+                })
+                .collect(),
+            servers: r.servers,
+            formula_servers: r.formula_servers,
+            uncertain: r.uncertain,
+            looks: r.looks,
+            partial: r.partial,
+            at_answer: r.at_answer.as_ref().map(evaluation),
+            one_fewer: r.one_fewer.as_ref().map(evaluation),
+            tried: (r.tried.iter())
+                .map(|&(servers, replications, verdict)| Tried {
+                    servers,
+                    replications,
+                    verdict,
+                })
+                .collect(),
+            wall_s: r.wall_s,
+            caution: CAUTION,
+            limit: r.limit,
+            words: describe_model(model, file),
+        }
+    }
+
+    /// Each verdict's confidence in percent (Bonferroni over the looks).
+    fn level(&self) -> f64 {
+        100.0 - 5.0 / f64::from(self.looks)
+    }
+
+    /// The goal table: each goal at the answer and at one server fewer.
+    pub fn goal_rows(&self) -> Vec<Vec<String>> {
+        let cols: Vec<&SizeEvaluation> = [self.at_answer.as_ref(), self.one_fewer.as_ref()]
+            .into_iter()
+            .flatten()
+            .collect();
+        let mut head = vec!["goal".to_string()];
+        for e in &cols {
+            head.push(format!("at {} servers", e.servers));
+            head.push(String::new());
+        }
+        let mut rows = vec![head];
+        for (i, goal) in self.goals.iter().enumerate() {
+            let unit = goal.figure.unit();
+            let mut row = vec![format!(
+                "{} (bound {})",
+                goal.goal,
+                text::value(unit, goal.bound)
+            )];
+            for e in &cols {
+                let at = &e.goals[i];
+                // Name the stream or group whose figure decides, when the
+                // goal covers several.
+                let whose = match (&at.decided_by, goal.several) {
+                    (Some(Owner::Stream(n) | Owner::Group(n)), true) => format!(" ({n})"),
+                    _ => String::new(),
+                };
+                row.push(format!(
+                    "{}{whose}",
+                    text::estimate(unit, &at.estimate.estimate)
+                ));
+                row.push(
+                    match at.verdict {
+                        Verdict::Holds => "holds",
+                        Verdict::Fails => "FAILS",
+                        Verdict::Undecided => "undecided",
+                    }
+                    .into(),
+                );
+            }
+            rows.push(row);
+            let mut row = vec!["  periods meeting it (one per replication)".to_string()];
+            for e in &cols {
+                row.push(text::estimate(Unit::Share, &e.goals[i].periods_meeting));
+                row.push(String::new());
+            }
+            rows.push(row);
+        }
+        rows
+    }
+
+    /// The sizing as one self-contained HTML page.
+    pub fn html(&self) -> String {
+        use html::Block;
+        let answer = match self.servers {
+            Some(n) => format!("Answer: {n} servers on {}.", self.group),
+            None => format!(
+                "No size of {} up to {} servers meets every goal.",
+                self.group, self.limit
+            ),
+        };
+        let formula = match self.formula_servers {
+            Some(f) => format!("The closed form alone says {f}."),
+            None => "No closed form covers these goals.".into(),
+        };
+        let mut blocks = vec![
+            Block::Heading("The scenario in plain words".into()),
+            Block::Pre(self.words.clone()),
+            Block::Heading("Answer".into()),
+            Block::Paragraph(format!("{answer} {formula}")),
+        ];
+        if self.uncertain {
+            blocks.push(Block::Paragraph(
+                "At one server fewer the goals could not be decided within the replication cap: the answer is the \
+smallest size shown to meet them and may be one more than needed."
+                    .into(),
+            ));
+        }
+        blocks.push(Block::Table(Table {
+            title: "Goals at the answer and at one server fewer".into(),
+            rows: self.goal_rows(),
+        }));
+        let mut tried = vec![vec![
+            "servers".to_string(),
+            "replications".into(),
+            "verdict".into(),
+        ]];
+        tried.extend(self.tried.iter().map(|t| {
+            vec![
+                t.servers.to_string(),
+                t.replications.to_string(),
+                t.verdict.word().to_string(),
+            ]
+        }));
+        blocks.push(Block::Table(Table {
+            title: "Sizes tried".into(),
+            rows: tried,
+        }));
+        blocks.push(Block::Paragraph(format!(
+            "A goal holds at a size when its whole interval lies on the right side of the bound; with up to {} looks \
+at one size each verdict uses a {:.2}% interval (Bonferroni), so the chance of any wrong verdict stays at most 5%.",
+            self.looks,
+            self.level()
+        )));
+        blocks.push(Block::Heading("Assumptions".into()));
+        blocks.push(Block::List(html::assumptions()));
+        html::page(
+            &self.scenario,
+            &format!("busyhour size of {} in {}", self.group, self.file),
+            &blocks,
+        )
+    }
+}
+
+impl Document for SizeDocument {
+    fn table(&self) -> String {
+        let mut out = format!(
+            "Sizing group \"{}\" of {}  ({})\n",
+            self.group, self.scenario, self.file
+        );
+        let goals: Vec<&str> = self.goals.iter().map(|g| g.goal.as_str()).collect();
+        out.push_str(&format!("Goals: {}\n", goals.join(", ")));
+        out.push_str(&format!(
+            "A goal holds at a size when its whole interval lies on the right side of the bound; with up to {} looks \
+at one size the intervals are {:.2}% (Bonferroni), 95% overall. The goal is judged on the long-run figure \
+(shares pooled over all calls); \"periods meeting it\" is the share of replications, each one measured period long, \
+whose own figure met the bound (95% exact interval).\n\n",
+            self.looks,
+            self.level()
+        ));
+        let undecided = self
+            .tried
+            .last()
+            .is_some_and(|t| t.verdict == Verdict::Undecided);
+        match self.servers {
+            Some(n) => out.push_str(&format!("Answer: {n} servers")),
+            None if self.partial => out.push_str("No answer: the search was interrupted"),
+            None if undecided => out.push_str(&format!(
+                "No answer: up to {} servers the goals could not be decided within the replication cap \
+(raise --decide-within)",
+                self.limit
+            )),
+            None => out.push_str(&format!(
+                "No answer: no size up to {} servers meets every goal",
+                self.limit
+            )),
+        }
+        match self.formula_servers {
+            Some(f) => out.push_str(&format!("   (closed form alone: {f})\n")),
+            None => out.push_str("   (no closed form covers these goals)\n"),
+        }
+        if self.uncertain {
+            out.push_str(
+                "Note: at one server fewer the goals could not be decided within the replication cap; \
+the answer is the smallest size shown to meet them, and may be one more than needed.\n",
+            );
+        }
+        let rows = self.goal_rows();
+        if rows.len() > 1 {
+            out.push('\n');
+            out.push_str(&align(&rows, "  "));
+        }
+        let tried: Vec<String> = (self.tried.iter())
+            .map(|t| {
+                format!(
+                    "{} ({} reps, {})",
+                    t.servers,
+                    t.replications,
+                    t.verdict.word()
+                )
+            })
+            .collect();
+        out.push_str(&format!("\nSizes tried: {}\n", tried.join(", ")));
+        out.push_str(&format!("Took {:.2} s.\nCaution: {CAUTION}\n", self.wall_s));
+        out
+    }
+}

@@ -1,0 +1,375 @@
+//! The document of `sweep`, and of `merge` of sweep parts: one run document
+//! per step, the columns the table and chart show, and the goal lines of
+//! the chart, built once from the finished steps. The JSON, the table, the
+//! CSV, the HTML page and the chart render it.
+
+use super::describe::describe_model;
+use super::figures::{FigureSet, FigureValue};
+use super::plot::{self, ChartError, LineChart, Series};
+use super::run::RunDocument;
+use super::text::{self, Table, align};
+use super::{CAUTION, Charted, Document, html};
+use crate::experiment::size::Goal;
+use crate::experiment::sweep::Step;
+use crate::scenario::Model;
+use crate::stats::{Estimate, Figure, Unit};
+use crate::units::trim_float;
+use serde::{Serialize, Serializer};
+
+/// One step of a sweep.
+#[derive(Debug, Clone, Serialize)]
+pub struct SweepStep {
+    /// The swept value: a load scale, or servers on the swept group.
+    pub value: f64,
+    /// The run at this step.
+    pub result: RunDocument,
+    /// The offered traffic of the step's model (first attempts, E; finite
+    /// sources left out), for the table.
+    #[serde(skip)]
+    pub offered_traffic: f64,
+}
+
+/// Where a column's figure lives: the whole-period figures of a stream or
+/// a group, by index.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Place {
+    /// A stream.
+    Stream(usize),
+    /// A group.
+    Group(usize),
+}
+
+/// A figure the table and the chart show at every step.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct Column {
+    /// Whose figure.
+    pub place: Place,
+    /// Which figure.
+    pub figure: Figure,
+}
+
+/// A goal line across the chart.
+#[derive(Debug, Clone, PartialEq)]
+pub struct GoalLine {
+    /// As written: "loss<=1%".
+    pub text: String,
+    /// The figure it bounds.
+    pub figure: Figure,
+    /// The bound, in the figure's unit.
+    pub bound: f64,
+}
+
+fn figure_names<S: Serializer>(figures: &[Figure], s: S) -> Result<S::Ok, S::Error> {
+    s.collect_seq(figures.iter().map(|f| f.name()))
+}
+
+/// What a sweep found.
+#[derive(Debug, Clone, Serialize)]
+pub struct SweepDocument {
+    /// The scenario file, as the user named it (or as the parts record it).
+    pub file: String,
+    /// What was swept: "load scale (x forecast)", "servers on trunks".
+    pub swept: String,
+    /// Interrupted: only the finished steps are given.
+    pub partial: bool,
+    /// The figures `--figure` chose, when it was given: each step's result
+    /// then carries only these.
+    #[serde(skip_serializing_if = "Vec::is_empty", serialize_with = "figure_names")]
+    pub figures: Vec<Figure>,
+    /// Every step, in order.
+    pub steps: Vec<SweepStep>,
+    /// The safety caution.
+    pub caution: &'static str,
+    /// The scenario's title.
+    #[serde(skip)]
+    pub scenario: String,
+    /// The figures the table and the chart show.
+    #[serde(skip)]
+    pub columns: Vec<Column>,
+    /// Goal lines for the chart.
+    #[serde(skip)]
+    pub goals: Vec<GoalLine>,
+    /// The scenario in plain words.
+    #[serde(skip)]
+    pub words: String,
+}
+
+impl SweepDocument {
+    /// The document of the finished `steps` of a sweep of `model` (read from
+    /// `file`) over `swept`. `figures` are the chosen figures (empty: every
+    /// figure in the JSON and CSV, and each stream's loss and service level
+    /// and each group's occupancy in the table and chart); `goals` are drawn
+    /// on the chart.
+    pub fn new(
+        model: &Model,
+        file: &str,
+        swept: &str,
+        steps: &[Step],
+        partial: bool,
+        figures: &[Figure],
+        goals: &[Goal],
+    ) -> SweepDocument {
+        let steps: Vec<SweepStep> = steps
+            .iter()
+            .map(|st| {
+                let mut result = RunDocument::new(&st.model, &st.outcome, file);
+                if !figures.is_empty() {
+                    result.keep_figures(figures);
+                }
+                SweepStep {
+                    value: st.value,
+                    result,
+                    offered_traffic: (st.model.streams.iter())
+                        .filter_map(|s| s.offered_traffic(st.model.plan.length_s))
+                        .sum(),
+                }
+            })
+            .collect();
+        let shown = |c: &Column| {
+            !figures.is_empty()
+                || matches!(
+                    (c.place, c.figure),
+                    (Place::Stream(_), Figure::Loss | Figure::ServiceLevel)
+                        | (Place::Group(_), Figure::Occupancy)
+                )
+        };
+        let columns = steps
+            .first()
+            .map(|st| {
+                let places = (st.result.streams.iter().enumerate())
+                    .map(|(s, set)| (Place::Stream(s), set))
+                    .chain(
+                        (st.result.groups.iter().enumerate())
+                            .map(|(g, set)| (Place::Group(g), set)),
+                    );
+                places
+                    .flat_map(|(place, set)| {
+                        set.figures.iter().map(move |v| Column {
+                            place,
+                            figure: v.figure,
+                        })
+                    })
+                    .filter(shown)
+                    .collect()
+            })
+            .unwrap_or_default();
+        SweepDocument {
+            file: file.to_string(),
+            swept: swept.to_string(),
+            partial,
+            figures: figures.to_vec(),
+            steps,
+            caution: CAUTION,
+            scenario: model.title.clone(),
+            columns,
+            goals: (goals.iter())
+                .map(|g| GoalLine {
+                    text: g.text.clone(),
+                    figure: g.figure,
+                    bound: g.bound,
+                })
+                .collect(),
+            words: describe_model(model, file),
+        }
+    }
+
+    /// The stream's or group's name of a place (the same at every step).
+    fn name_of(&self, place: Place) -> &str {
+        self.steps
+            .first()
+            .map_or("", |st| set_at(&st.result, place).name.as_str())
+    }
+
+    /// A column's heading: "office loss".
+    fn column_name(&self, c: &Column) -> String {
+        format!("{} {}", self.name_of(c.place), c.figure.name())
+    }
+
+    /// The sweep table: one row per step.
+    pub fn rows(&self) -> Vec<Vec<String>> {
+        let mut head = vec![self.swept.clone(), "offered traffic".to_string()];
+        head.extend(self.columns.iter().map(|c| self.column_name(c)));
+        let mut rows = vec![head];
+        for st in &self.steps {
+            let mut row = vec![
+                trim_float(st.value, 3),
+                text::value(Unit::Erlangs, st.offered_traffic),
+            ];
+            for c in &self.columns {
+                let unit = c.figure.unit();
+                let cell = match value_at(&st.result, c) {
+                    Some(v) if !v.estimate.mean.is_nan() => {
+                        let mut cell = text::estimate(unit, &v.estimate);
+                        if let Some(f) = &v.formula {
+                            cell.push_str(&format!(" [{}]", text::value(unit, f.value)));
+                        }
+                        cell
+                    }
+                    _ => "-".into(),
+                };
+                row.push(cell);
+            }
+            rows.push(row);
+        }
+        rows
+    }
+}
+
+impl Charted for SweepDocument {
+    /// The sweep as one self-contained HTML page, with its chart when one
+    /// is given.
+    fn html(&self, chart: Option<&str>) -> String {
+        use html::Block;
+        let mut blocks = vec![
+            Block::Heading("The scenario in plain words".into()),
+            Block::Pre(self.words.clone()),
+            Block::Heading("Sweep".into()),
+            Block::Paragraph(format!(
+                "Each step runs the same seeds (common random numbers); values are means ± 95% half-widths, \
+[formula] where a closed form applies.{}",
+                if self.partial {
+                    " PARTIAL RESULT: interrupted; only the finished steps are shown."
+                } else {
+                    ""
+                }
+            )),
+            Block::Table(Table {
+                title: String::new(),
+                rows: self.rows(),
+            }),
+        ];
+        if let Some(svg) = chart {
+            blocks.push(Block::Svg(svg.to_string()));
+        }
+        blocks.push(Block::Heading("Assumptions".into()));
+        blocks.push(Block::List(html::assumptions()));
+        html::page(
+            &self.scenario,
+            &format!("busyhour sweep of {}: {}", self.file, self.swept),
+            &blocks,
+        )
+    }
+
+    /// The chart: the columns' figures against the swept value, with their
+    /// 95% bands, the closed-form curve where one applies, and goal lines;
+    /// one panel per figure.
+    fn chart(&self) -> Result<String, ChartError> {
+        let mut figures: Vec<Figure> = Vec::new();
+        for c in &self.columns {
+            if !figures.contains(&c.figure) {
+                figures.push(c.figure);
+            }
+        }
+        let mut panels = Vec::new();
+        for figure in figures {
+            let (unit, scale) = axis_unit(figure.unit());
+            let mut chart = LineChart::new(
+                format!("{}: {}", self.scenario, figure.label()),
+                self.swept.clone(),
+                format!("{} ({unit})", figure.label()),
+            );
+            for c in self.columns.iter().filter(|c| c.figure == figure) {
+                let values = || {
+                    (self.steps.iter())
+                        .filter_map(move |st| Some((st.value, value_at(&st.result, c)?)))
+                };
+                let pts: Vec<(f64, Estimate)> = values().map(|(x, v)| (x, v.estimate)).collect();
+                chart.series.push(plot::estimate_series(
+                    format!("{} (95% band)", self.column_name(c)),
+                    &pts,
+                    scale,
+                ));
+                let formula: Vec<(f64, f64, &str)> = values()
+                    .filter_map(|(x, v)| v.formula.as_ref().map(|f| (x, f.value * scale, f.name)))
+                    .collect();
+                if formula.len() >= 2 {
+                    chart.series.push(Series {
+                        name: format!("{}, {}", self.column_name(c), formula[0].2),
+                        points: formula.iter().map(|p| (p.0, p.1)).collect(),
+                        band: None,
+                    });
+                }
+            }
+            let (x0, x1) = (
+                self.steps.first().map_or(0.0, |s| s.value),
+                self.steps.last().map_or(1.0, |s| s.value),
+            );
+            for g in self.goals.iter().filter(|g| g.figure == figure) {
+                chart.series.push(Series {
+                    name: format!("goal {}", g.text),
+                    points: vec![(x0, g.bound * scale), (x1, g.bound * scale)],
+                    band: None,
+                });
+            }
+            panels.push(plot::render_svg(&chart)?);
+        }
+        if panels.is_empty() {
+            return Err(ChartError::NoData);
+        }
+        Ok(plot::stack(&panels))
+    }
+}
+
+impl Document for SweepDocument {
+    fn table(&self) -> String {
+        let mut out = format!("Load sweep of {}  ({})\n", self.scenario, self.file);
+        if let Some(first) = self.steps.first() {
+            out.push_str(&format!(
+                "{} replications per step, the same seeds at every step; [formula] where a closed form applies.\n",
+                first.result.replications
+            ));
+        }
+        if self.partial {
+            out.push_str("PARTIAL RESULT: interrupted; only the finished steps are shown.\n");
+        }
+        out.push('\n');
+        out.push_str(&align(&self.rows(), "  "));
+        out.push_str(&format!("\nCaution: {CAUTION}\n"));
+        out
+    }
+
+    /// Long format: one row per step and whole-period figure (only the
+    /// chosen figures when `--figure` was given).
+    fn csv(&self) -> Option<String> {
+        let header: Vec<String> = ["value", "kind", "name"]
+            .into_iter()
+            .chain(FigureValue::CSV_COLUMNS)
+            .map(String::from)
+            .collect();
+        let rows = self.steps.iter().flat_map(|st| {
+            let value = text::csv_number(st.value);
+            (st.result.streams.iter().map(|s| ("stream", s)))
+                .chain(st.result.groups.iter().map(|g| ("group", g)))
+                .flat_map(move |(kind, set)| {
+                    let value = value.clone();
+                    set.figures.iter().map(move |v| {
+                        let lead = [value.clone(), kind.to_string(), set.name.clone()];
+                        lead.into_iter().chain(v.csv_cells()).collect()
+                    })
+                })
+        });
+        Some(text::csv(std::iter::once(header).chain(rows)))
+    }
+}
+
+fn set_at(run: &RunDocument, place: Place) -> &FigureSet {
+    match place {
+        Place::Stream(s) => &run.streams[s],
+        Place::Group(g) => &run.groups[g],
+    }
+}
+
+fn value_at<'a>(run: &'a RunDocument, c: &Column) -> Option<&'a FigureValue> {
+    set_at(run, c.place).figures.get(c.figure)
+}
+
+/// The axis unit of a figure and the scale from its value.
+fn axis_unit(unit: Unit) -> (&'static str, f64) {
+    match unit {
+        Unit::Share => ("%", 100.0),
+        Unit::Erlangs => ("erlangs", 1.0),
+        Unit::Seconds => ("seconds", 1.0),
+        Unit::Count => ("calls", 1.0),
+        Unit::Ratio => ("ratio", 1.0),
+    }
+}
