@@ -278,6 +278,148 @@ fn agents() {
     assert_eq!(json["agents"].as_u64(), Some(u64::from(both)));
 }
 
+/// Sizing with abandonment (Erlang A, M/M/N+M; Palm 1943, as solved by
+/// `erlang_a::solve`, itself checked against the birth-death chain in
+/// `formulas_erlang_a`): the answer is the fewest agents whose figures meet
+/// every goal, so one agent fewer must miss one of them; and callers who give
+/// up never need more agents than the same goal by Erlang C.
+#[test]
+fn agents_with_patience() {
+    let keys = [
+        "agents",
+        "service_level",
+        "mean_wait_s",
+        "wait_probability",
+        "abandonment",
+    ];
+    let json = calc_json(
+        &[
+            "agents",
+            "--traffic",
+            "20",
+            "--holding",
+            "3m",
+            "--answer-within",
+            "20s",
+            "--service-level",
+            "80%",
+            "--patience",
+            "1m",
+        ],
+        &keys,
+    );
+    let n = json["agents"].as_u64().unwrap() as u32;
+    let sl = |n: u32| {
+        erlang_a::solve(n, 20.0, 180.0, 60.0)
+            .unwrap()
+            .service_level(20.0)
+    };
+    assert!(sl(n) >= 0.8, "{n} agents: {}", sl(n));
+    assert!(sl(n - 1) < 0.8, "{} agents already meet it", n - 1);
+    assert_close("SL", number(&json, "service_level"), sl(n), 1e-12);
+    let q = erlang_a::solve(n, 20.0, 180.0, 60.0).unwrap();
+    assert_close(
+        "abandonment",
+        number(&json, "abandonment"),
+        q.abandonment,
+        1e-12,
+    );
+    let by_c = erlang_c::agents_for_service_level(20.0, 180.0, 20.0, 0.8).unwrap();
+    assert!(n <= by_c, "Erlang A {n} > Erlang C {by_c}");
+
+    // An abandonment goal alone.
+    let json = calc_json(
+        &[
+            "agents",
+            "--traffic",
+            "20",
+            "--holding",
+            "3m",
+            "--patience",
+            "1m",
+            "--abandon",
+            "3%",
+        ],
+        &keys,
+    );
+    let n = json["agents"].as_u64().unwrap() as u32;
+    let ab = |n: u32| erlang_a::solve(n, 20.0, 180.0, 60.0).unwrap().abandonment;
+    assert!(
+        ab(n) <= 0.03 && ab(n - 1) > 0.03,
+        "{n}: {} / {}",
+        ab(n),
+        ab(n - 1)
+    );
+    assert!(json["service_level"].is_null());
+}
+
+/// The capacity of an agent group inverts the sizing: at the returned load
+/// the goal holds with equality (a continuous figure), and the same number of
+/// agents sized for that load by Erlang C gives back the same number.
+#[test]
+fn traffic_of_an_agent_group() {
+    let keys = [
+        "agents",
+        "traffic",
+        "service_level",
+        "mean_wait_s",
+        "wait_probability",
+    ];
+    let json = calc_json(
+        &[
+            "traffic",
+            "--agents",
+            "27",
+            "--holding",
+            "3m",
+            "--answer-within",
+            "20s",
+            "--service-level",
+            "80%",
+        ],
+        &keys,
+    );
+    let a = number(&json, "traffic");
+    assert_close(
+        "SL at capacity",
+        erlang_c::service_level(27, a, 180.0, 20.0).unwrap(),
+        0.8,
+        1e-6,
+    );
+    assert_eq!(
+        erlang_c::agents_for_service_level(a * 0.999, 180.0, 20.0, 0.8).unwrap(),
+        27
+    );
+    assert!(erlang_c::service_level(27, a * 1.001, 180.0, 20.0).unwrap() < 0.8);
+
+    // Mean-wait goal with patience (Erlang A): the wait at capacity is the goal.
+    let mut with_patience = keys.to_vec();
+    with_patience.push("abandonment");
+    let json = calc_json(
+        &[
+            "traffic",
+            "--agents",
+            "27",
+            "--holding",
+            "3m",
+            "--mean-wait",
+            "10s",
+            "--patience",
+            "1m",
+        ],
+        &with_patience,
+    );
+    let a = number(&json, "traffic");
+    let q = erlang_a::solve(27, a, 180.0, 60.0).unwrap();
+    assert_close("mean wait at capacity", q.mean_wait_s, 10.0, 1e-6);
+    assert_close(
+        "abandonment",
+        number(&json, "abandonment"),
+        q.abandonment,
+        1e-9,
+    );
+}
+
 #[test]
 fn abandon() {
     let keys = [
@@ -667,6 +809,33 @@ fn usage_errors_exit_2() {
             "3",
         ],
         vec!["calc", "nonsense"],
+        // A delay-system capacity needs a goal; abandonment needs patience;
+        // a loss group and an agent group are not asked at once.
+        vec!["calc", "traffic", "--agents", "5", "--holding", "3m"],
+        vec![
+            "calc",
+            "agents",
+            "--traffic",
+            "5",
+            "--holding",
+            "3m",
+            "--abandon",
+            "3%",
+        ],
+        vec![
+            "calc",
+            "traffic",
+            "--servers",
+            "5",
+            "--loss",
+            "1%",
+            "--agents",
+            "5",
+            "--holding",
+            "3m",
+            "--mean-wait",
+            "5s",
+        ],
         vec![
             "calc",
             "agents",

@@ -10,6 +10,7 @@ use anyhow::{Result, bail};
 use clap::{Args, Subcommand};
 use serde::Serialize;
 
+use busyhour::formulas::delay_goals::{self, DelayFigures, DelayGoals};
 use busyhour::formulas::{
     engset, erlang_a, erlang_b, erlang_c, multirate, overflow, queue_general, redial_fixed_point,
 };
@@ -106,15 +107,38 @@ pub struct ServersArgs {
     pub output: Output,
 }
 
-/// `calc traffic`.
+/// `calc traffic`: a loss group (`--servers` and `--loss`) or an agent group
+/// (`--agents`, `--holding` and at least one goal).
 #[derive(Debug, Args)]
+#[command(group(clap::ArgGroup::new("delay_goal").multiple(true).args(["service_level", "mean_wait", "abandon"])))]
 pub struct TrafficArgs {
-    /// Number of servers.
-    #[arg(long, value_name = "N", value_parser = flags::at_least_one)]
-    pub servers: u32,
+    /// Number of servers of a loss group (blocked calls cleared; Erlang B).
+    #[arg(long, value_name = "N", required_unless_present = "agents", requires = "loss", value_parser = flags::at_least_one)]
+    pub servers: Option<u32>,
     /// Grade of service: the largest acceptable loss, such as "1%" or 0.01.
-    #[arg(long, value_name = "SHARE", value_parser = flags::open_share)]
-    pub loss: f64,
+    #[arg(long, value_name = "SHARE", requires = "servers", value_parser = flags::open_share)]
+    pub loss: Option<f64>,
+    /// Number of agents of a delay system (callers wait; Erlang C, or Erlang A with --patience).
+    #[arg(long, value_name = "N", conflicts_with_all = ["servers", "loss"], requires_all = ["holding", "delay_goal"], value_parser = flags::at_least_one)]
+    pub agents: Option<u32>,
+    /// Mean holding (handling) time of the agent group's calls, such as "3m".
+    #[arg(long, value_name = "DURATION", requires = "agents", value_parser = flags::positive_duration)]
+    pub holding: Option<f64>,
+    /// Answer-time goal for the service level, such as "20s".
+    #[arg(long, value_name = "DURATION", requires = "service_level", value_parser = flags::duration)]
+    pub answer_within: Option<f64>,
+    /// Goal: at least this share answered within --answer-within, such as "80%".
+    #[arg(long, value_name = "SHARE", requires_all = ["answer_within", "agents"], value_parser = flags::open_share)]
+    pub service_level: Option<f64>,
+    /// Goal: mean wait of all calls at most this, such as "15s".
+    #[arg(long, value_name = "DURATION", requires = "agents", value_parser = flags::duration)]
+    pub mean_wait: Option<f64>,
+    /// Mean patience of the callers, such as "1m" (Erlang A).
+    #[arg(long, value_name = "DURATION", requires = "agents", value_parser = flags::positive_duration)]
+    pub patience: Option<f64>,
+    /// Goal: at most this share of callers abandon, such as "3%" (needs --patience).
+    #[arg(long, value_name = "SHARE", requires = "patience", value_parser = flags::open_share)]
+    pub abandon: Option<f64>,
     #[command(flatten)]
     pub output: Output,
 }
@@ -175,7 +199,7 @@ fn cv(text: &str) -> Result<f64, String> {
 
 /// `calc agents`.
 #[derive(Debug, Args)]
-#[command(group(clap::ArgGroup::new("goal").required(true).multiple(true).args(["service_level", "mean_wait"])))]
+#[command(group(clap::ArgGroup::new("goal").required(true).multiple(true).args(["service_level", "mean_wait", "abandon"])))]
 pub struct AgentsArgs {
     #[command(flatten)]
     pub offered: Offered,
@@ -191,6 +215,13 @@ pub struct AgentsArgs {
     /// Goal: mean wait of all calls at most this, such as "15s".
     #[arg(long, value_name = "DURATION", value_parser = flags::duration)]
     pub mean_wait: Option<f64>,
+    /// Mean patience of the callers, such as "1m": sizes by Erlang A
+    /// (callers give up) instead of Erlang C.
+    #[arg(long, value_name = "DURATION", value_parser = flags::positive_duration)]
+    pub patience: Option<f64>,
+    /// Goal: at most this share of callers abandon, such as "3%" (needs --patience).
+    #[arg(long, value_name = "SHARE", requires = "patience", value_parser = flags::open_share)]
+    pub abandon: Option<f64>,
     #[command(flatten)]
     pub output: Output,
 }
@@ -483,8 +514,12 @@ fn servers(a: &ServersArgs) -> Result<Report> {
 }
 
 fn traffic(a: &TrafficArgs) -> Result<Report> {
-    let servers = a.servers;
-    let target = a.loss;
+    if let (Some(agents), Some(holding)) = (a.agents, a.holding) {
+        return delay_traffic(a, agents, holding);
+    }
+    let (Some(servers), Some(target)) = (a.servers, a.loss) else {
+        bail!("give --servers with --loss (a loss group), or --agents with --holding and a goal");
+    };
     let traffic = erlang_b::traffic_for(servers, target)?;
     let text = Block::new("Erlang B capacity: most traffic at the grade of service")
         .row("servers", servers.to_string())
@@ -578,28 +613,32 @@ fn queue(a: &QueueArgs) -> Result<Report> {
     })
 }
 
-fn agents(a: &AgentsArgs) -> Result<Report> {
-    let holding = a.holding;
-    let traffic = offered_traffic(a.offered.traffic, a.offered.calls, Some(holding))?;
-    let (within, level_goal, wait_goal) = (a.answer_within, a.service_level, a.mean_wait);
-    let mut agents = 1;
-    if let (Some(goal), Some(within)) = (level_goal, within) {
-        agents = agents.max(erlang_c::agents_for_service_level(
-            traffic, holding, within, goal,
-        )?);
+fn goals_of(
+    within: Option<f64>,
+    level: Option<f64>,
+    mean_wait: Option<f64>,
+    abandon: Option<f64>,
+) -> DelayGoals {
+    DelayGoals {
+        service_level: within.zip(level),
+        mean_wait_s: mean_wait,
+        abandonment: abandon,
     }
-    if let Some(goal) = wait_goal {
-        agents = agents.max(erlang_c::agents_for_mean_wait(traffic, holding, goal)?);
+}
+
+/// The goal rows and the figures of a delay system, as a block.
+fn delay_block(
+    mut block: Block,
+    holding: f64,
+    patience: Option<f64>,
+    goals: &DelayGoals,
+    f: &DelayFigures,
+) -> Block {
+    block = block.row("mean holding time", seconds(holding));
+    if let Some(p) = patience {
+        block = block.row("mean patience", seconds(p));
     }
-    let wait_probability = erlang_c::wait_probability(agents, traffic)?;
-    let mean_wait_s = erlang_c::mean_wait(agents, traffic, holding)?;
-    let service_level = within
-        .map(|t| erlang_c::service_level(agents, traffic, holding, t))
-        .transpose()?;
-    let mut block = Block::new("Erlang C sizing: fewest agents meeting every goal")
-        .row("offered traffic", erlangs(traffic))
-        .row("mean holding time", seconds(holding));
-    if let (Some(goal), Some(t)) = (level_goal, within) {
+    if let Some((t, goal)) = goals.service_level {
         block = block.row(
             "goal",
             format!(
@@ -609,37 +648,86 @@ fn agents(a: &AgentsArgs) -> Result<Report> {
             ),
         );
     }
-    if let Some(goal) = wait_goal {
+    if let Some(goal) = goals.mean_wait_s {
         block = block.row("goal", format!("mean wait {} or less", seconds(goal)));
     }
+    if let Some(goal) = goals.abandonment {
+        block = block.row("goal", format!("{} abandoned or less", percent(goal)));
+    }
     block = block
-        .row("agents", agents.to_string())
-        .row("probability of waiting", percent(wait_probability))
-        .row("mean wait, all calls", seconds(mean_wait_s));
-    if let (Some(sl), Some(t)) = (service_level, within) {
+        .row("agents", f.agents.to_string())
+        .row("offered traffic", erlangs(f.traffic))
+        .row("probability of waiting", percent(f.wait_probability))
+        .row("mean wait, all calls", seconds(f.mean_wait_s));
+    if patience.is_some() {
+        block = block.row("abandoned", percent(f.abandonment));
+    }
+    if let (Some(sl), Some((t, _))) = (f.service_level, goals.service_level) {
         block = block.row(
             &format!("answered within {}", units::format_duration(t)),
-            percent(sl),
+            format!("{} of all calls", percent(sl)),
         );
     }
-    let text = block
-        .row("occupancy", percent(erlang_c::occupancy(agents, traffic)?))
-        .render();
-    #[derive(Serialize)]
-    struct Json {
-        agents: u32,
-        service_level: Option<f64>,
-        mean_wait_s: f64,
-        wait_probability: f64,
+    block.row("occupancy", percent(f.occupancy))
+}
+
+/// The JSON of `calc agents` and the delay form of `calc traffic`.
+#[derive(Serialize)]
+struct DelayJson {
+    agents: u32,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    traffic: Option<f64>,
+    service_level: Option<f64>,
+    mean_wait_s: f64,
+    wait_probability: f64,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    abandonment: Option<f64>,
+}
+
+impl DelayJson {
+    fn of(f: &DelayFigures, patience: Option<f64>, traffic: bool) -> DelayJson {
+        DelayJson {
+            agents: f.agents,
+            traffic: traffic.then_some(f.traffic),
+            service_level: f.service_level,
+            mean_wait_s: f.mean_wait_s,
+            wait_probability: f.wait_probability,
+            abandonment: patience.map(|_| f.abandonment),
+        }
     }
+}
+
+fn method_title(patience: Option<f64>, what: &str) -> String {
+    match patience {
+        Some(_) => format!("Erlang A {what} (callers give up, M/M/N+M)"),
+        None => format!("Erlang C {what} (callers wait without giving up)"),
+    }
+}
+
+fn agents(a: &AgentsArgs) -> Result<Report> {
+    let holding = a.holding;
+    let traffic = offered_traffic(a.offered.traffic, a.offered.calls, Some(holding))?;
+    let goals = goals_of(a.answer_within, a.service_level, a.mean_wait, a.abandon);
+    let agents = delay_goals::agents_for(traffic, holding, a.patience, &goals)?;
+    let f = delay_goals::figures(agents, traffic, holding, a.patience, a.answer_within)?;
+    let title = method_title(a.patience, "sizing: fewest agents meeting every goal");
+    let text = delay_block(Block::new(&title), holding, a.patience, &goals, &f).render();
     Ok(Report {
         text,
-        json: serde_json::to_value(Json {
-            agents,
-            service_level,
-            mean_wait_s,
-            wait_probability,
-        })?,
+        json: serde_json::to_value(DelayJson::of(&f, a.patience, false))?,
+    })
+}
+
+fn delay_traffic(a: &TrafficArgs, agents: u32, holding: f64) -> Result<Report> {
+    let goals = goals_of(a.answer_within, a.service_level, a.mean_wait, a.abandon);
+    let traffic = delay_goals::traffic_for(agents, holding, a.patience, &goals)?;
+    let f = delay_goals::figures(agents, traffic, holding, a.patience, a.answer_within)?;
+    let title = method_title(a.patience, "capacity: most traffic meeting every goal");
+    let block = delay_block(Block::new(&title), holding, a.patience, &goals, &f)
+        .row("calls per hour", number(traffic / holding * 3600.0, 1));
+    Ok(Report {
+        text: block.render(),
+        json: serde_json::to_value(DelayJson::of(&f, a.patience, true))?,
     })
 }
 
