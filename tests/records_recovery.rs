@@ -265,7 +265,7 @@ fn bimodal_holding_times_fit_no_parametric_law() {
             .all(|f| !f.acceptable)
     );
     assert_eq!(h.recommended.name(), "empirical");
-    let text = records::report::to_text(&a);
+    let text = busyhour::report::records::to_text(&a);
     assert!(text.contains("no parametric law fits"), "{text}");
 }
 

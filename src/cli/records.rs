@@ -1,11 +1,12 @@
 //! `busyhour records`: measured call records -> design load. Maps flags to
 //! `busyhour::records`, writes the files asked for and prints the records
-//! document (`busyhour::records::report`); no analysis here.
+//! document (`busyhour::report::records`); no analysis here.
 
 use anyhow::{Context, Result};
 use busyhour::files::{FilePlan, OutputKind};
-use busyhour::records::report::{RecordsDocument, ScenarioWritten};
-use busyhour::records::{self, Columns, DayFilter, Options, report, scenario_out};
+use busyhour::records::{self, Columns, DayFilter, Options, scenario_out};
+use busyhour::report::records as report;
+use busyhour::report::records::{RecordsDocument, ScenarioWritten};
 use busyhour::report::{Format, plot, write_atomically};
 use busyhour::units;
 use clap::Args;

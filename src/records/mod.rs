@@ -31,7 +31,6 @@ pub mod fit;
 pub mod intervals;
 pub mod peakedness;
 pub mod reader;
-pub mod report;
 pub mod scenario_out;
 pub mod synthetic;
 pub mod time;

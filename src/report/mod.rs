@@ -1,6 +1,6 @@
 //! Output people can use: one typed document per command (`run` and
 //! `merge` of run parts, `check`, `size`, `sweep` and `merge` of sweep
-//! parts; `records` has its own in `crate::records::report`), built once
+//! parts, `records`), built once
 //! from finished results. JSON comes from serde; the table, the CSV and the
 //! HTML page are rendered from the same document, so a figure is named in
 //! one place ([`crate::stats::Figure`]). Also atomic file writing. Reads
@@ -12,6 +12,7 @@ pub mod figures;
 pub mod html;
 pub mod json;
 pub mod plot;
+pub mod records;
 pub mod run;
 pub mod size;
 pub mod sweep;

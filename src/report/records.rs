@@ -4,16 +4,16 @@
 //! and the terminal report render it. Also the traffic chart. Builds values
 //! only; the command prints or writes them.
 
-use super::busy_hour::{ClockHour, DailyPeak};
-use super::intervals::Interval;
-use super::peakedness::Peakedness;
-use super::scenario_out::{ProfileStep, ScenarioOut, busy_hour_profile};
-use super::time::{self, Clock, DAY_S, Date, TimeKind};
-use super::{Analysis, Fit};
+use super::json::{Rounded, round, round_opt};
+use super::plot::{LineChart, Markers, Series};
+use super::{CAUTION, Document};
 use crate::dist::Law;
-use crate::report::json::{Rounded, round, round_opt};
-use crate::report::plot::{LineChart, Markers, Series};
-use crate::report::{CAUTION, Document};
+use crate::records::busy_hour::{ClockHour, DailyPeak};
+use crate::records::intervals::Interval;
+use crate::records::peakedness::Peakedness;
+use crate::records::scenario_out::{ProfileStep, ScenarioOut, busy_hour_profile};
+use crate::records::time::{self, Clock, DAY_S, Date, TimeKind};
+use crate::records::{Analysis, Fit};
 use crate::units::{format_duration, format_share, trim_float};
 use serde::Serialize;
 use serde::ser::{SerializeMap, Serializer};
