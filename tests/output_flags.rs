@@ -100,12 +100,19 @@ fn a_shard_writes_its_part_and_nothing_else() {
 }
 
 #[test]
-fn a_goal_line_needs_a_chart() {
+fn a_sweep_goal_is_judged_in_the_table_and_drawn_on_the_chart() {
     let s = "scenarios/video-link.toml";
     let sweep = ["sweep", s, "--scale", "1:1.2:0.2", "--replications", "3"];
     let mut args = sweep.to_vec();
     args.extend(["--goal", "loss<=1%"]);
-    refused(&args, &["--goal", "--chart", "--report"], &[]);
+    let o = busyhour(&args);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let table = String::from_utf8_lossy(&o.stdout);
+    assert!(table.contains("goals"), "no goals column:\n{table}");
+    assert!(
+        table.contains("Every goal is met") || table.contains("not all met"),
+        "no summary:\n{table}"
+    );
     let svg = scratch("goal.svg");
     args.extend(["--chart", svg.to_str().unwrap(), "-q"]);
     let o = busyhour(&args);

@@ -88,6 +88,61 @@ fn loss_falls_as_servers_are_added() {
     }
 }
 
+/// `--goal` verdicts per step: where Erlang B (statrs' truncated Poisson)
+/// lies well inside the bound the step must hold, well outside it must fail;
+/// and the "met up to" value is the last holding step from the light end
+/// (load) or from the large end (servers).
+#[test]
+fn goal_verdicts_follow_erlang_b() {
+    use busyhour::experiment::size::{Goal, Verdict};
+    use busyhour::report::sweep::SweepDocument;
+    let m = model(TEXT);
+    let goal = Goal::parse("loss<=2%", &m, 0).unwrap();
+    for (spec, load) in [
+        (Sweep::parse_scale("0.6:1.6:0.2", &m).unwrap(), true),
+        (Sweep::parse_servers("trunks=16:26:2", &m).unwrap(), false),
+    ] {
+        let (steps, _) =
+            sweep::run(&m, &spec, &Replications::Fixed(10), &RunOptions::default()).unwrap();
+        let doc = SweepDocument::new(&m, "t.toml", &spec, &steps, false, &[], &[goal.clone()]);
+        let mut expected_through = None;
+        let mut broken = false;
+        for (st, step) in doc.steps.iter().zip(&steps) {
+            let (n, a) = if load {
+                (20, 15.0 * st.value)
+            } else {
+                (st.value as u64, 15.0)
+            };
+            let b = erlang_b_statrs(n, a);
+            let verdict = st.goals[0].verdict;
+            if b < 0.02 / 1.5 {
+                assert_eq!(verdict, Verdict::Holds, "{} (Erlang B {b})", st.value);
+            } else if b > 0.02 * 1.5 {
+                assert_eq!(verdict, Verdict::Fails, "{} (Erlang B {b})", st.value);
+            }
+            assert_eq!(st.value, step.value);
+            if load {
+                if verdict == Verdict::Holds && !broken {
+                    expected_through = Some(st.value);
+                }
+                broken |= verdict != Verdict::Holds;
+            }
+        }
+        if !load {
+            for st in doc.steps.iter().rev() {
+                if st.goals[0].verdict != Verdict::Holds {
+                    break;
+                }
+                expected_through = Some(st.value);
+            }
+        }
+        assert!(expected_through.is_some(), "some step holds");
+        assert_eq!(doc.goals_hold_through, Some(expected_through));
+        let summary = doc.goal_summary().unwrap();
+        assert!(summary.starts_with("Every goal is met"), "{summary}");
+    }
+}
+
 #[test]
 fn bad_sweeps_are_refused() {
     let m = model(TEXT);

@@ -257,7 +257,8 @@ pub struct SweepArgs {
     /// closed-form curve and goal lines, to FILE.svg.
     #[arg(long, value_name = "FILE.svg")]
     pub chart: Option<PathBuf>,
-    /// A goal line to draw across the chart (--chart or --report), like
+    /// A goal judged at every step (the table says which steps meet it and
+    /// up to which load the design holds) and drawn on the chart, like
     /// "loss<=1%" (repeatable).
     #[arg(long, value_name = "GOAL")]
     pub goal: Vec<String>,
@@ -599,11 +600,6 @@ pub fn size(a: &SizeArgs) -> Result<Status> {
 /// `busyhour sweep`.
 pub fn sweep(a: &SweepArgs) -> Result<Status> {
     use busyhour::experiment::sweep::{self, Sweep};
-    // Goal lines are drawn on the chart; without one they would be ignored.
-    // (Checked here, not by clap, so that the message names --goal.)
-    if !a.goal.is_empty() && a.chart.is_none() && a.output.report.is_none() {
-        bail!("--goal draws a line on the chart: add --chart FILE.svg or --report FILE.html");
-    }
     let mut model = scenario::load_confined(&a.scenario, a.reps.data_dir.as_deref())?;
     check_files(
         &a.output,
@@ -673,8 +669,7 @@ pub fn sweep(a: &SweepArgs) -> Result<Status> {
         sweep::run(&model, &spec, &plan, opts)
     })?;
     let file = a.scenario.display().to_string();
-    let label = spec.label(&model);
-    let doc = SweepDocument::new(&model, &file, &label, &steps, partial, &figures, &goals);
+    let doc = SweepDocument::new(&model, &file, &spec, &steps, partial, &figures, &goals);
     emit_charted(&doc, &a.output, a.chart.as_deref())?;
     Ok(if partial {
         Status::Interrupted
@@ -787,8 +782,7 @@ fn merge_sweep(
             outcome,
         })
         .collect();
-    let label = sw.label(model);
-    let doc = SweepDocument::new(model, recorded, &label, &steps, false, &[], &[]);
+    let doc = SweepDocument::new(model, recorded, &sw, &steps, false, &[], &[]);
     emit_charted(&doc, &a.output, None)?;
     Ok(Status::Done)
 }

@@ -9,8 +9,8 @@ use super::plot::{self, ChartError, LineChart, Series};
 use super::run::RunDocument;
 use super::text::{self, Table, align};
 use super::{CAUTION, Charted, Document, html};
-use crate::experiment::size::Goal;
-use crate::experiment::sweep::Step;
+use crate::experiment::size::{Goal, Verdict};
+use crate::experiment::sweep::{Step, Sweep};
 use crate::scenario::Model;
 use crate::stats::{Estimate, Figure, Unit};
 use crate::units::trim_float;
@@ -23,10 +23,30 @@ pub struct SweepStep {
     pub value: f64,
     /// The run at this step.
     pub result: RunDocument,
+    /// Each `--goal`'s verdict at this step (95% interval, one look), in the
+    /// order the goals were given.
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub goals: Vec<StepGoal>,
     /// The offered traffic of the step's model (first attempts, E; finite
     /// sources left out), for the table.
     #[serde(skip)]
     pub offered_traffic: f64,
+}
+
+/// One goal's verdict at one step of a sweep.
+#[derive(Debug, Clone, Serialize)]
+pub struct StepGoal {
+    /// As written: "loss<=1%".
+    pub goal: String,
+    /// "holds", "fails" or "undecided": whether the whole 95% interval of
+    /// every figure the goal bounds lies on the right side, the wrong side,
+    /// or straddles the bound.
+    #[serde(serialize_with = "verdict_word")]
+    pub verdict: Verdict,
+}
+
+fn verdict_word<S: Serializer>(v: &Verdict, s: S) -> Result<S::Ok, S::Error> {
+    s.serialize_str(v.word())
 }
 
 /// Where a column's figure lives: the whole-period figures of a stream or
@@ -72,6 +92,11 @@ pub struct SweepDocument {
     pub swept: String,
     /// Interrupted: only the finished steps are given.
     pub partial: bool,
+    /// With `--goal`: the last swept value, counted from the easy end (the
+    /// lightest load, or the most servers), up to which every step meets
+    /// every goal; null when the easiest step already misses one.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub goals_hold_through: Option<Option<f64>>,
     /// The figures `--figure` chose, when it was given: each step's result
     /// then carries only these.
     #[serde(skip_serializing_if = "Vec::is_empty", serialize_with = "figure_names")]
@@ -92,18 +117,22 @@ pub struct SweepDocument {
     /// The scenario in plain words.
     #[serde(skip)]
     pub words: String,
+    /// Whether the swept value is load (more is harder) or servers (more is
+    /// easier).
+    #[serde(skip)]
+    pub load_swept: bool,
 }
 
 impl SweepDocument {
     /// The document of the finished `steps` of a sweep of `model` (read from
     /// `file`) over `swept`. `figures` are the chosen figures (empty: every
     /// figure in the JSON and CSV, and each stream's loss and service level
-    /// and each group's occupancy in the table and chart); `goals` are drawn
-    /// on the chart.
+    /// and each group's occupancy in the table and chart); `goals` are
+    /// judged at every step and drawn on the chart.
     pub fn new(
         model: &Model,
         file: &str,
-        swept: &str,
+        swept: &Sweep,
         steps: &[Step],
         partial: bool,
         figures: &[Figure],
@@ -119,6 +148,12 @@ impl SweepDocument {
                 SweepStep {
                     value: st.value,
                     result,
+                    goals: (goals.iter())
+                        .map(|g| StepGoal {
+                            goal: g.text.clone(),
+                            verdict: g.judge_outcome(&st.outcome, 1).0,
+                        })
+                        .collect(),
                     offered_traffic: (st.model.streams.iter())
                         .filter_map(|s| s.offered_traffic(st.model.plan.length_s))
                         .sum(),
@@ -153,10 +188,13 @@ impl SweepDocument {
                     .collect()
             })
             .unwrap_or_default();
+        let load_swept = matches!(swept, Sweep::Scale { .. });
+        let goals_hold_through = (!goals.is_empty()).then(|| hold_through(&steps, load_swept));
         SweepDocument {
             file: file.to_string(),
-            swept: swept.to_string(),
+            swept: swept.label(model),
             partial,
+            goals_hold_through,
             figures: figures.to_vec(),
             steps,
             caution: CAUTION,
@@ -170,6 +208,36 @@ impl SweepDocument {
                 })
                 .collect(),
             words: describe_model(model, file),
+            load_swept,
+        }
+    }
+
+    /// One sentence on how far the design meets the goals, for the table.
+    pub fn goal_summary(&self) -> Option<String> {
+        let through = self.goals_hold_through?;
+        let what = |v: f64| {
+            if self.load_swept {
+                format!("{}x forecast", trim_float(v, 3))
+            } else {
+                format!("{} servers", trim_float(v, 0))
+            }
+        };
+        Some(match through {
+            None => format!(
+                "The goals are not all met even at the easiest step ({}).",
+                what(self.easiest().map_or(0.0, |s| s.value))
+            ),
+            Some(v) if self.load_swept => format!("Every goal is met up to {}.", what(v)),
+            Some(v) => format!("Every goal is met from {} up.", what(v)),
+        })
+    }
+
+    /// The step with the lightest load or the most servers.
+    fn easiest(&self) -> Option<&SweepStep> {
+        if self.load_swept {
+            self.steps.iter().min_by(|a, b| a.value.total_cmp(&b.value))
+        } else {
+            self.steps.iter().max_by(|a, b| a.value.total_cmp(&b.value))
         }
     }
 
@@ -180,15 +248,22 @@ impl SweepDocument {
             .map_or("", |st| set_at(&st.result, place).name.as_str())
     }
 
-    /// A column's heading: "office loss".
+    /// A column's heading in plain words: "office loss", "office service
+    /// level".
     fn column_name(&self, c: &Column) -> String {
-        format!("{} {}", self.name_of(c.place), c.figure.name())
+        let label = c.figure.label();
+        let short = label.split(" (").next().unwrap_or(label);
+        format!("{} {short}", self.name_of(c.place))
     }
 
     /// The sweep table: one row per step.
     pub fn rows(&self) -> Vec<Vec<String>> {
         let mut head = vec![self.swept.clone(), "offered traffic".to_string()];
         head.extend(self.columns.iter().map(|c| self.column_name(c)));
+        let judged = self.steps.iter().any(|st| !st.goals.is_empty());
+        if judged {
+            head.push("goals".into());
+        }
         let mut rows = vec![head];
         for st in &self.steps {
             let mut row = vec![
@@ -208,6 +283,9 @@ impl SweepDocument {
                     _ => "-".into(),
                 };
                 row.push(cell);
+            }
+            if judged {
+                row.push(goal_cell(&st.goals));
             }
             rows.push(row);
         }
@@ -324,6 +402,9 @@ impl Document for SweepDocument {
         }
         out.push('\n');
         out.push_str(&align(&self.rows(), "  "));
+        if let Some(summary) = self.goal_summary() {
+            out.push_str(&format!("\n{summary}\n"));
+        }
         out.push_str(&format!("\nCaution: {CAUTION}\n"));
         out
     }
@@ -350,6 +431,46 @@ impl Document for SweepDocument {
         });
         Some(text::csv(std::iter::once(header).chain(rows)))
     }
+}
+
+/// The table cell of a step's verdicts: "met", or which goals fail or are
+/// undecided.
+fn goal_cell(goals: &[StepGoal]) -> String {
+    let of = |v: Verdict| -> Vec<&str> {
+        (goals.iter())
+            .filter(|g| g.verdict == v)
+            .map(|g| g.goal.as_str())
+            .collect()
+    };
+    let (fails, open) = (of(Verdict::Fails), of(Verdict::Undecided));
+    let mut parts = Vec::new();
+    if !fails.is_empty() {
+        parts.push(format!("fails {}", fails.join(", ")));
+    }
+    if !open.is_empty() {
+        parts.push(format!("undecided {}", open.join(", ")));
+    }
+    if parts.is_empty() {
+        "met".into()
+    } else {
+        parts.join("; ")
+    }
+}
+
+/// The last value, walking from the easy end (lightest load or most
+/// servers), of the run of steps at which every goal holds; `None` when the
+/// easiest step already misses one.
+fn hold_through(steps: &[SweepStep], load_swept: bool) -> Option<f64> {
+    let mut order: Vec<&SweepStep> = steps.iter().collect();
+    order.sort_by(|a, b| a.value.total_cmp(&b.value));
+    if !load_swept {
+        order.reverse();
+    }
+    order
+        .iter()
+        .take_while(|st| st.goals.iter().all(|g| g.verdict == Verdict::Holds))
+        .last()
+        .map(|st| st.value)
 }
 
 fn set_at(run: &RunDocument, place: Place) -> &FigureSet {
