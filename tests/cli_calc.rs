@@ -31,7 +31,13 @@ fn calc_json(args: &[&str], keys: &[&str]) -> Value {
     let object = json.as_object().expect("a JSON object");
     let mut found: Vec<&str> = object.keys().map(String::as_str).collect();
     found.sort_unstable();
+    // Every calc answer carries the safety caution.
+    assert!(
+        json["caution"].as_str().is_some_and(|c| c.contains("life-safety")),
+        "no caution in busyhour {all:?}"
+    );
     let mut wanted = keys.to_vec();
+    wanted.push("caution");
     wanted.sort_unstable();
     assert_eq!(found, wanted, "keys of busyhour {all:?}");
     json
@@ -665,6 +671,10 @@ fn text_output_is_a_labelled_block() {
     assert!(
         text.lines().any(|l| l.trim_start().starts_with("blocking")),
         "{text}"
+    );
+    assert!(
+        text.lines().last().is_some_and(|l| l.starts_with("Caution:")),
+        "the caution ends the answer: {text}"
     );
 }
 

@@ -14,6 +14,7 @@ use busyhour::formulas::delay_goals::{self, DelayFigures, DelayGoals};
 use busyhour::formulas::{
     engset, erlang_a, erlang_b, erlang_c, multirate, overflow, queue_general, redial_fixed_point,
 };
+use busyhour::report::CAUTION;
 use busyhour::units;
 
 use super::flags;
@@ -315,14 +316,19 @@ pub struct MultirateArgs {
 /// Errors (bad values, impossible goals, an unstable queue) come back as one
 /// line of text for the caller to print; nothing is printed then.
 pub fn run(args: &CalcArgs) -> Result<()> {
-    let report = evaluate(&args.command)?;
+    let mut report = evaluate(&args.command)?;
     let stdout = std::io::stdout();
     let mut out = stdout.lock();
+    // Every answer carries the caution: the quickest way to size an
+    // emergency line is one calc command.
     if output_of(&args.command).json {
+        if let serde_json::Value::Object(map) = &mut report.json {
+            map.insert("caution".into(), CAUTION.into());
+        }
         let text = serde_json::to_string_pretty(&report.json)?;
         writeln!(out, "{text}")?;
     } else {
-        write!(out, "{}", report.text)?;
+        write!(out, "{}Caution: {CAUTION}\n", report.text)?;
     }
     out.flush()?;
     Ok(())
