@@ -80,6 +80,8 @@ fn every_shipped_scenario_runs_in_every_format() {
         let csv = busyhour(&["run", s, "--replications", "4", "--csv"]);
         assert!(csv.status.success());
         let text = stdout(&csv);
+        let (caution, text) = text.split_once('\n').unwrap();
+        assert!(caution.starts_with("# Caution: ") && caution.contains("life-safety"));
         assert!(text.starts_with(
             "kind,name,interval_start_s,figure,mean,half_width,low,high,estimator,replications,formula,formula_value"
         ));

@@ -128,6 +128,7 @@ fn a_sweep_goal_is_judged_in_the_table_and_drawn_on_the_chart() {
 fn csv_rows(text: &str) -> Vec<Vec<String>> {
     csv::ReaderBuilder::new()
         .has_headers(false)
+        .comment(Some(b'#'))
         .from_reader(text.as_bytes())
         .records()
         .map(|r| r.unwrap().iter().map(str::to_string).collect())

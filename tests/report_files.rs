@@ -68,6 +68,11 @@ fn run_chart_shows_the_interval_figures() {
     ] {
         assert!(text.contains(series), "missing series {series}");
     }
+    // A chart is pasted into documents on its own: it carries the caution.
+    assert!(
+        text.contains("life-safety calls keep margin"),
+        "no caution footnote"
+    );
     // Without intervals the chart is refused before any work.
     let o = busyhour(&[
         "run",

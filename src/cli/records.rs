@@ -171,7 +171,7 @@ pub fn run(a: &RecordsArgs) -> Result<()> {
         ));
     }
     if let Some(path) = &a.chart {
-        let svg = plot::render_svg(&report::chart(&analysis))?;
+        let svg = plot::stack(&[plot::render_svg(&report::chart(&analysis))?]);
         write_atomically(path, svg.as_bytes())
             .with_context(|| format!("cannot write {}", path.display()))?;
         doc.chart = Some(path.display().to_string());

@@ -5,7 +5,7 @@
 
 use super::describe::describe_model;
 use super::text::{self, align};
-use super::{Document, FormulaValue};
+use super::{CAUTION, Document, FormulaValue};
 use crate::scenario::Model;
 use crate::stats::{Figure, FigureId, Scope};
 use crate::textbook::Formula;
@@ -162,6 +162,8 @@ pub struct CheckDocument {
     /// What makes the check fail (exit status 1); absent when it passes.
     #[serde(skip_serializing_if = "Vec::is_empty")]
     pub problems: Vec<String>,
+    /// The safety caution (the formula view is a design figure too).
+    pub caution: &'static str,
     /// The scenario in plain words.
     #[serde(skip)]
     pub words: String,
@@ -202,6 +204,7 @@ impl CheckDocument {
                 })
                 .collect(),
             problems,
+            caution: CAUTION,
             words: describe_model(model, file),
             view: FormulaView::new(model, column),
         }
@@ -225,6 +228,7 @@ impl Document for CheckDocument {
                 s.push_str(&format!("  - {p}\n"));
             }
         }
+        s.push_str(&format!("Caution: {CAUTION}\n"));
         s
     }
 }

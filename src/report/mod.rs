@@ -36,6 +36,11 @@ pub const CAUTION: &str = "Estimates under the stated model assumptions, not gua
 Where the design carries emergency or life-safety calls, keep margin, validate against \
 measured traffic, and defer to local regulation and licensed practice.";
 
+/// The caution in a form short enough for a chart's footnote (a chart is
+/// pasted into documents on its own).
+pub const CAUTION_SHORT: &str = "Estimates under stated model assumptions, not guarantees; \
+for emergency or life-safety calls keep margin and defer to local regulation and licensed practice.";
+
 /// How a command prints its document.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum Format {
@@ -92,8 +97,15 @@ pub fn render(format: Format, doc: &impl Document) -> Result<String, RenderError
     match format {
         Format::Table => Ok(doc.table()),
         Format::Json => Ok(json::to_text(doc)?),
-        Format::Csv => doc.csv().ok_or(RenderError::NoCsv),
+        Format::Csv => doc.csv().map(with_caution).ok_or(RenderError::NoCsv),
     }
+}
+
+/// A CSV file goes around on its own (pasted into a spreadsheet, read by a
+/// script), so it carries the caution as its first line, a comment: read it
+/// with `pandas.read_csv(path, comment="#")` or skip one line.
+fn with_caution(csv: String) -> String {
+    format!("# Caution: {CAUTION}\n{csv}")
 }
 
 /// Write `contents` to `path` through a temporary file in the same folder

@@ -262,8 +262,9 @@ pub fn estimate_series(name: String, points: &[(f64, Estimate)], scale: f64) -> 
 }
 
 /// Stack several SVG charts vertically into one SVG document (nested `<svg>`
-/// elements, each at its own offset).
+/// elements, each at its own offset), with the caution as a footnote.
 pub fn stack(charts: &[String]) -> String {
+    // Every chart file ends with the caution as a footnote.
     let dims = |svg: &str| -> (u32, u32) {
         let attr = |name: &str| -> u32 {
             svg.find(&format!("{name}=\""))
@@ -277,7 +278,8 @@ pub fn stack(charts: &[String]) -> String {
         (attr("width"), attr("height"))
     };
     let width = charts.iter().map(|c| dims(c).0).max().unwrap_or(0);
-    let height: u32 = charts.iter().map(|c| dims(c).1).sum();
+    let panels: u32 = charts.iter().map(|c| dims(c).1).sum();
+    let height = panels + FOOTNOTE_HEIGHT;
     let mut out = format!(
         "<svg width=\"{width}\" height=\"{height}\" viewBox=\"0 0 {width} {height}\" xmlns=\"http://www.w3.org/2000/svg\">\n"
     );
@@ -288,9 +290,17 @@ pub fn stack(charts: &[String]) -> String {
         out.push('\n');
         y += dims(c).1;
     }
+    out.push_str(&format!(
+        "<text x=\"8\" y=\"{}\" font-family=\"sans-serif\" font-size=\"11\" fill=\"#444\">{}</text>\n",
+        panels + FOOTNOTE_HEIGHT - 6,
+        super::html::escape(super::CAUTION_SHORT)
+    ));
     out.push_str("</svg>\n");
     out
 }
+
+/// Height of the caution line under a stacked chart, in pixels.
+const FOOTNOTE_HEIGHT: u32 = 20;
 
 #[cfg(test)]
 mod tests {
