@@ -28,6 +28,12 @@ pub enum UnitError {
         "'{0}' is not a share: expected a percentage like \"1%\" or a fraction from 0 to 1 like \"0.01\""
     )]
     Share(String),
+    /// A plain number above 1 where a share is needed: a percentage without
+    /// its sign, most likely.
+    #[error(
+        "'{0}' is not a share: write \"{0}%\" for a percentage, or a fraction from 0 to 1 like 0.8"
+    )]
+    SharePercent(String),
     /// The text parsed but the value is out of its allowed range.
     #[error("'{text}' is out of range: {expected}")]
     Range {
@@ -51,14 +57,19 @@ fn parse_number(text: &str) -> Option<f64> {
     t.parse::<f64>().ok().filter(|x| x.is_finite())
 }
 
-/// Parse a duration to seconds: a plain number is seconds; otherwise one or
-/// more `<number><unit>` parts with units `h`, `m`, `s`, `ms` (e.g. "1h30m",
-/// "2.5m", "90s", "250ms"). The result is finite and not negative.
+/// Parse a duration to seconds: a plain number is seconds; a clock form
+/// "m:ss" or "h:mm:ss" ("3:00" is three minutes); otherwise one or more
+/// `<number><unit>` parts, largest unit first, with units `h` (`hr`, `hour`,
+/// `hours`), `m` (`min`, `mins`, `minute`, `minutes`), `s` (`sec`, `secs`,
+/// `second`, `seconds`) and `ms` (e.g. "1h30m", "2.5min", "90s", "250ms").
+/// The result is finite and not negative.
 ///
 /// # Example
 /// ```
 /// use busyhour::units::parse_duration;
 /// assert_eq!(parse_duration("1h30m").unwrap(), 5400.0);
+/// assert_eq!(parse_duration("3min").unwrap(), 180.0);
+/// assert_eq!(parse_duration("3:00").unwrap(), 180.0);
 /// assert_eq!(parse_duration("45").unwrap(), 45.0);
 /// ```
 pub fn parse_duration(text: &str) -> Result<f64, UnitError> {
@@ -66,6 +77,9 @@ pub fn parse_duration(text: &str) -> Result<f64, UnitError> {
     let t = text.trim();
     if let Some(x) = parse_number(t) {
         return if x >= 0.0 { Ok(x) } else { Err(err()) };
+    }
+    if t.contains(':') {
+        return parse_clock_duration(t).ok_or_else(err);
     }
     let mut total = 0.0;
     let mut rest = t;
@@ -80,22 +94,15 @@ pub fn parse_duration(text: &str) -> Result<f64, UnitError> {
         }
         let value: f64 = rest[..num_len].parse().map_err(|_| err())?;
         rest = &rest[num_len..];
-        let (factor, rank, len) = if rest.starts_with("ms") {
-            (0.001, 4, 2)
-        } else if rest.starts_with('h') {
-            (3600.0, 1, 1)
-        } else if rest.starts_with('m') {
-            (60.0, 2, 1)
-        } else if rest.starts_with('s') {
-            (1.0, 3, 1)
-        } else {
-            return Err(err());
-        };
+        let word_len = rest
+            .find(|c: char| !c.is_ascii_alphabetic())
+            .unwrap_or(rest.len());
+        let (factor, rank) = time_unit(&rest[..word_len]).ok_or_else(err)?;
         if rank <= last_rank {
             return Err(err());
         }
         last_rank = rank;
-        rest = rest[len..].trim_start();
+        rest = rest[word_len..].trim_start();
         total += value * factor;
         parts += 1;
     }
@@ -105,8 +112,46 @@ pub fn parse_duration(text: &str) -> Result<f64, UnitError> {
     Ok(total)
 }
 
+/// A unit of time by its word: seconds per unit and its rank (1 for the
+/// largest), so that parts come largest first.
+fn time_unit(word: &str) -> Option<(f64, u8)> {
+    Some(match word {
+        "h" | "hr" | "hrs" | "hour" | "hours" => (3600.0, 1),
+        "m" | "min" | "mins" | "minute" | "minutes" => (60.0, 2),
+        "s" | "sec" | "secs" | "second" | "seconds" => (1.0, 3),
+        "ms" => (0.001, 4),
+        _ => return None,
+    })
+}
+
+/// "m:ss" or "h:mm:ss": every field digits (the last may have a fraction),
+/// the fields after the first below 60.
+fn parse_clock_duration(t: &str) -> Option<f64> {
+    let fields: Vec<&str> = t.split(':').collect();
+    if !(2..=3).contains(&fields.len()) {
+        return None;
+    }
+    let mut total = 0.0;
+    for (i, f) in fields.iter().enumerate() {
+        let last = i + 1 == fields.len();
+        let ok = !f.is_empty()
+            && f.bytes().all(|b| b.is_ascii_digit() || (last && b == b'.'))
+            && f.as_bytes()[0].is_ascii_digit();
+        if !ok {
+            return None;
+        }
+        let v: f64 = f.parse().ok()?;
+        if i > 0 && (v >= 60.0 || f.split('.').next()?.len() != 2) {
+            return None;
+        }
+        total = total * 60.0 + v;
+    }
+    total.is_finite().then_some(total)
+}
+
 /// Parse a rate to events per second: `<count>/<unit>` with unit `h`, `m`,
-/// `s` or `d` (also "/hour", "/min", "/sec", "/day"). A plain number is
+/// `s` or `d` (also "/hour", "/min", "/sec", "/day"), or a count over a
+/// duration with its unit ("200/30m": 200 calls per half hour; "90/15min"). A plain number is
 /// refused ([`UnitError::RateUnit`]): "30" read as per second once sized
 /// 5,400 erlangs where 30 calls an hour were meant. The result is finite and
 /// not negative.
@@ -123,11 +168,17 @@ pub fn parse_rate(text: &str) -> Result<f64, UnitError> {
     let t = text.trim();
     let (count, per) = match t.split_once('/') {
         Some((c, u)) => {
-            let per = match u.trim() {
+            let u = u.trim();
+            let per = match u {
                 "s" | "sec" | "second" => 1.0,
                 "m" | "min" | "minute" => 60.0,
                 "h" | "hr" | "hour" => 3600.0,
                 "d" | "day" => 86400.0,
+                // A bare number under the slash ("200/30") says no unit.
+                _ if u.bytes().any(|b| b.is_ascii_alphabetic()) => match parse_duration(u) {
+                    Ok(d) if d > 0.0 => d,
+                    _ => return Err(err()),
+                },
                 _ => return Err(err()),
             };
             (parse_number(c).ok_or_else(err)?, per)
@@ -158,7 +209,10 @@ pub fn parse_share(text: &str) -> Result<f64, UnitError> {
     let t = text.trim();
     let value = match t.strip_suffix('%') {
         Some(p) => parse_number(p).ok_or_else(err)? / 100.0,
-        None => parse_number(t).ok_or_else(err)?,
+        None => match parse_number(t).ok_or_else(err)? {
+            x if x > 1.0 && x <= 100.0 => return Err(UnitError::SharePercent(t.to_string())),
+            x => x,
+        },
     };
     if !(0.0..=1.0).contains(&value) {
         return Err(UnitError::Range {
@@ -228,8 +282,20 @@ mod tests {
         assert_eq!(parse_duration("250ms"), Ok(0.25));
         assert_eq!(parse_duration(" 90 "), Ok(90.0));
         assert_eq!(parse_duration("0"), Ok(0.0));
+        // Words people write, and clock forms.
+        assert_eq!(parse_duration("3min"), Ok(180.0));
+        assert_eq!(
+            parse_duration("2 hours 15 minutes"),
+            Err(UnitError::Duration("2 hours 15 minutes".into()))
+        );
+        assert_eq!(parse_duration("2hours 15minutes"), Ok(8100.0));
+        assert_eq!(parse_duration("45sec"), Ok(45.0));
+        assert_eq!(parse_duration("3:00"), Ok(180.0));
+        assert_eq!(parse_duration("1:30:00"), Ok(5400.0));
+        assert_eq!(parse_duration("0:45.5"), Ok(45.5));
         for bad in [
-            "", "m", "3x", "-5s", "-5", "1m1h", "3mm", "nan", "inf", "1e999", "s3", "3 m",
+            "", "m", "3x", "-5s", "-5", "1m1h", "3mm", "nan", "inf", "1e999", "s3", "3 m", "3minm",
+            "1:60", "1:5", ":30", "1:30:", "1:2:3:4", "1.5:00", "-1:00", "3: 00",
         ] {
             assert!(parse_duration(bad).is_err(), "{bad:?} should fail");
         }
@@ -245,7 +311,12 @@ mod tests {
         // A bare number has no unit: refused, never read per second.
         assert_eq!(parse_rate("0.5"), Err(UnitError::RateUnit("0.5".into())));
         assert_eq!(parse_rate("86400/day"), Ok(1.0));
-        for bad in ["", "/h", "3/x", "-3/h", "NaN/h", "inf", "3/h/h"] {
+        // Per a multiple of a unit: per half hour, per quarter hour.
+        assert_eq!(parse_rate("200/30m"), Ok(200.0 / 1800.0));
+        assert_eq!(parse_rate("90/15min"), Ok(0.1));
+        for bad in [
+            "", "/h", "3/x", "-3/h", "NaN/h", "inf", "3/h/h", "200/30", "5/0m", "5/-3m",
+        ] {
             assert!(parse_rate(bad).is_err(), "{bad:?} should fail");
         }
     }
@@ -255,9 +326,12 @@ mod tests {
         assert_eq!(parse_share("1%"), Ok(0.01));
         assert_eq!(parse_share("0.01"), Ok(0.01));
         assert_eq!(parse_share("100%"), Ok(1.0));
-        for bad in ["", "%", "101%", "1.5", "-1%", "nan", "x%"] {
+        for bad in ["", "%", "101%", "1.5", "-1%", "nan", "x%", "101"] {
             assert!(parse_share(bad).is_err(), "{bad:?} should fail");
         }
+        // A percentage without its sign gets a message that says so.
+        let e = parse_share("80").unwrap_err().to_string();
+        assert!(e.contains("\"80%\"") && e.contains("0.8"), "{e}");
     }
 
     #[test]

@@ -33,7 +33,9 @@ fn calc_json(args: &[&str], keys: &[&str]) -> Value {
     found.sort_unstable();
     // Every calc answer carries the safety caution.
     assert!(
-        json["caution"].as_str().is_some_and(|c| c.contains("life-safety")),
+        json["caution"]
+            .as_str()
+            .is_some_and(|c| c.contains("life-safety")),
         "no caution in busyhour {all:?}"
     );
     let mut wanted = keys.to_vec();
@@ -673,7 +675,9 @@ fn text_output_is_a_labelled_block() {
         "{text}"
     );
     assert!(
-        text.lines().last().is_some_and(|l| l.starts_with("Caution:")),
+        text.lines()
+            .last()
+            .is_some_and(|l| l.starts_with("Caution:")),
         "the caution ends the answer: {text}"
     );
 }
