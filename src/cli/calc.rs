@@ -461,7 +461,9 @@ fn number(x: f64, digits: usize) -> String {
 }
 
 fn erlangs(x: f64) -> String {
-    format!("{} erlangs", number(x, 4))
+    let n = number(x, 4);
+    let unit = if n == "1" { "erlang" } else { "erlangs" };
+    format!("{n} {unit}")
 }
 
 fn seconds(x: f64) -> String {

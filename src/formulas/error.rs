@@ -20,8 +20,9 @@ pub enum FormulaError {
     /// callers never give up, so the queue grows without bound; add agents
     /// (more agents than erlangs) or model abandonment (Erlang A).
     #[error(
-        "offered traffic {traffic} erlangs on {agents} agents is an unstable queue: \
-         the queue grows without bound; need more agents than erlangs"
+        "offered traffic {} erlangs on {agents} agents is an unstable queue: \
+         the queue grows without bound; need more agents than erlangs",
+        crate::units::trim_float(*traffic, 4)
     )]
     Unstable {
         /// Offered traffic in erlangs.
@@ -31,7 +32,7 @@ pub enum FormulaError {
     },
     /// The goal can never be met, whatever the number of servers or the
     /// traffic; relax the goal.
-    #[error("{goal} = {value} cannot be met: {reason}")]
+    #[error("{goal} = {} cannot be met: {reason}", crate::units::trim_float(*value, 6))]
     NoSolution {
         /// The goal that was asked for.
         goal: &'static str,

@@ -445,10 +445,7 @@ impl Document for RunDocument {
         if !self.warnings.is_empty() {
             out.push('\n');
         }
-        out.push_str(&format!(
-            "\n{} events in {:.2} s\n",
-            self.events, self.wall_s
-        ));
+        out.push_str(&format!("\n{}\n", work_line(self.events, self.wall_s)));
         out.push_str(&format!("Caution: {CAUTION}\n"));
         out
     }
@@ -557,4 +554,53 @@ fn worst(intervals: &[Interval]) -> Option<usize> {
 fn hours_clock(hours: f64) -> String {
     let m = (hours * 60.0).round() as i64;
     format!("{}:{:02}", m / 60, m % 60)
+}
+
+/// How much the engine did, and how fast: "63,105 events simulated in
+/// 0.01 s (6.3 million a second)"; a run too short to time says so instead
+/// of printing a rate of nothing in 0.00 s.
+pub fn work_line(events: u64, wall_s: f64) -> String {
+    let count = thousands(events);
+    if wall_s < 0.005 {
+        format!("{count} events simulated in under 0.01 s")
+    } else {
+        format!(
+            "{count} events simulated in {wall_s:.2} s ({:.1} million a second)",
+            events as f64 / wall_s / 1e6
+        )
+    }
+}
+
+/// 63105 as "63,105".
+fn thousands(n: u64) -> String {
+    let digits = n.to_string();
+    let mut out = String::new();
+    for (i, c) in digits.chars().enumerate() {
+        if i > 0 && (digits.len() - i) % 3 == 0 {
+            out.push(',');
+        }
+        out.push(c);
+    }
+    out
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn work_line_reads_as_a_rate_or_says_it_was_too_short_to_time() {
+        assert_eq!(thousands(0), "0");
+        assert_eq!(thousands(999), "999");
+        assert_eq!(thousands(63_105), "63,105");
+        assert_eq!(thousands(1_234_567), "1,234,567");
+        assert_eq!(
+            work_line(63_105, 0.001),
+            "63,105 events simulated in under 0.01 s"
+        );
+        assert_eq!(
+            work_line(5_000_000, 0.5),
+            "5,000,000 events simulated in 0.50 s (10.0 million a second)"
+        );
+    }
 }
