@@ -57,8 +57,15 @@ impl OutputKind {
             OutputKind::Json => head.trim_start().starts_with('{') && head.contains(CAUTION_MARK),
             OutputKind::Part => head.contains("\"busyhour-part\""),
             OutputKind::Csv => {
-                first.starts_with("kind,name,interval_start_s,figure,")
-                    || first.starts_with("value,kind,name,figure,")
+                // The caution comment line comes first (older files: the
+                // header).
+                let header = if first.starts_with("# Caution: ") {
+                    head.lines().nth(1).unwrap_or("")
+                } else {
+                    first
+                };
+                header.starts_with("kind,name,interval_start_s,figure,")
+                    || header.starts_with("value,kind,name,figure,")
             }
             OutputKind::Text => head.contains(CAUTION_MARK),
             OutputKind::Svg => {
@@ -118,6 +125,23 @@ pub enum FileError {
         path: String,
         /// What an output of the flag looks like.
         kind: &'static str,
+    },
+    /// A chart or page named for another format: the file would hold SVG
+    /// or HTML under a name that promises something else.
+    #[error(
+        "{flag} {path}: {what} are written as {expected}; name the file with a .{extension} ending"
+    )]
+    Extension {
+        /// The flag.
+        flag: String,
+        /// The path as given.
+        path: String,
+        /// What the flag writes, plural: "charts".
+        what: &'static str,
+        /// The format: "SVG".
+        expected: &'static str,
+        /// The ending wanted: "svg".
+        extension: &'static str,
     },
     /// The output path is a folder.
     #[error("{flag} {path}: that is a folder; name a file")]
@@ -235,6 +259,26 @@ impl FilePlan {
                         flag: flag.clone(),
                         path: shown(path),
                         kind: kind.words(),
+                    });
+                }
+            }
+        }
+        // Then the names: a chart or a page under a name for another format.
+        for (flag, path, kind) in &self.outputs {
+            let wanted = match kind {
+                OutputKind::Svg => Some(("charts", "SVG", &["svg"][..])),
+                OutputKind::Html => Some(("reports", "HTML", &["html", "htm"][..])),
+                _ => None,
+            };
+            if let Some((what, expected, endings)) = wanted {
+                let ending = path.extension().and_then(|e| e.to_str()).unwrap_or("");
+                if !endings.iter().any(|e| ending.eq_ignore_ascii_case(e)) {
+                    return Err(FileError::Extension {
+                        flag: flag.clone(),
+                        path: shown(path),
+                        what,
+                        expected,
+                        extension: endings[0],
                     });
                 }
             }

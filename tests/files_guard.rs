@@ -302,3 +302,63 @@ fn a_data_file_is_quoted_in_short_excerpts_only() {
     assert!(err.contains("has no column"), "{err}");
     assert!(!err.contains(&"x".repeat(41)), "quotes too much: {err}");
 }
+
+/// A chart is SVG and a report HTML: a name promising another format
+/// (`out.png`, `report.pdf`) is refused before any work, rather than an SVG
+/// written under a `.png` name.
+#[test]
+fn a_chart_or_report_named_for_another_format_is_refused() {
+    let d = folder("endings");
+    refused(
+        &d,
+        &["run", "ferry-booking.toml", "--chart", "out.png"],
+        "--chart out.png: charts are written as SVG; name the file with a .svg ending",
+    );
+    refused(
+        &d,
+        &["run", "ferry-booking.toml", "--report", "report.pdf"],
+        "--report report.pdf: reports are written as HTML",
+    );
+    refused(
+        &d,
+        &["records", "depot-calls.csv", "--chart", "traffic"],
+        "--chart traffic: charts are written as SVG",
+    );
+    // Upper-case endings and .htm are fine.
+    let o = busyhour(
+        &d,
+        &[
+            "run",
+            "ferry-booking.toml",
+            "--replications",
+            "2",
+            "-q",
+            "--report",
+            "R.HTM",
+        ],
+    );
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+}
+
+/// A CSV written by busyhour (caution comment line first) is an earlier
+/// output: writing it again replaces it without --force.
+#[test]
+fn a_csv_output_is_replaced_by_the_next_run() {
+    let d = folder("csv-again");
+    for _ in 0..2 {
+        let o = busyhour(
+            &d,
+            &[
+                "run",
+                "ferry-booking.toml",
+                "--replications",
+                "2",
+                "-q",
+                "--csv",
+                "--out",
+                "r.csv",
+            ],
+        );
+        assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    }
+}
