@@ -409,3 +409,31 @@ fn a_precision_goal_not_met_is_a_failed_goal() {
     assert!(err.contains("stream \"public\" loss"), "{err}");
     assert!(out.exists(), "the results are still written");
 }
+
+/// `size` speaks of agents where calls queue and of servers where they are
+/// lost.
+#[test]
+fn size_answers_in_agents_or_servers() {
+    for (file, group, goal, word) in [
+        (
+            "scenarios/ferry-booking.toml",
+            "booking-agents",
+            "service_level>=80%",
+            "agents",
+        ),
+        (
+            "scenarios/video-link.toml",
+            "site-link",
+            "loss<=2%",
+            "servers",
+        ),
+    ] {
+        let o = busyhour(&["size", file, "--group", group, "--goal", goal, "-q"]);
+        let text = stdout(&o);
+        assert!(
+            text.lines()
+                .any(|l| l.starts_with("Answer: ") && l.contains(&format!(" {word}"))),
+            "{file}: {text}"
+        );
+    }
+}

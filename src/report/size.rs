@@ -129,6 +129,10 @@ pub struct SizeDocument {
     /// The scenario in plain words.
     #[serde(skip)]
     pub words: String,
+    /// What the sized group's servers are, in words: "agents" for a group
+    /// where calls queue, "servers" otherwise.
+    #[serde(skip)]
+    pub what: &'static str,
 }
 
 impl SizeDocument {
@@ -189,7 +193,17 @@ impl SizeDocument {
             caution: CAUTION,
             limit: r.limit,
             words: describe_model(model, file),
+            what: if model.groups[r.group].queue == crate::scenario::Queue::None {
+                "servers"
+            } else {
+                "agents"
+            },
         }
+    }
+
+    /// "one agent fewer", "one server fewer".
+    fn one_fewer_words(&self) -> String {
+        format!("one {} fewer", self.what.trim_end_matches('s'))
     }
 
     /// Each verdict's confidence in percent (Bonferroni over the looks).
@@ -197,7 +211,8 @@ impl SizeDocument {
         100.0 - 5.0 / f64::from(self.looks)
     }
 
-    /// The goal table: each goal at the answer and at one server fewer.
+    /// The goal table: each goal at the answer and at one server (agent)
+    /// fewer.
     pub fn goal_rows(&self) -> Vec<Vec<String>> {
         let cols: Vec<&SizeEvaluation> = [self.at_answer.as_ref(), self.one_fewer.as_ref()]
             .into_iter()
@@ -205,7 +220,7 @@ impl SizeDocument {
             .collect();
         let mut head = vec!["goal".to_string()];
         for e in &cols {
-            head.push(format!("at {} servers", e.servers));
+            head.push(format!("at {} {}", e.servers, self.what));
             head.push(String::new());
         }
         let mut rows = vec![head];
@@ -252,10 +267,10 @@ impl SizeDocument {
     pub fn html(&self) -> String {
         use html::Block;
         let answer = match self.servers {
-            Some(n) => format!("Answer: {n} servers on {}.", self.group),
+            Some(n) => format!("Answer: {n} {} on {}.", self.what, self.group),
             None => format!(
-                "No size of {} up to {} servers meets every goal.",
-                self.group, self.limit
+                "No size of {} up to {} {} meets every goal.",
+                self.group, self.limit, self.what
             ),
         };
         let formula = match self.formula_servers {
@@ -269,18 +284,18 @@ impl SizeDocument {
             Block::Paragraph(format!("{answer} {formula}")),
         ];
         if self.uncertain {
-            blocks.push(Block::Paragraph(
-                "At one server fewer the goals could not be decided within the replication cap: the answer is the \
-smallest size shown to meet them and may be one more than needed."
-                    .into(),
-            ));
+            blocks.push(Block::Paragraph(format!(
+                "At {} the goals could not be decided within the replication cap: the answer is the \
+smallest size shown to meet them and may be one more than needed.",
+                self.one_fewer_words()
+            )));
         }
         blocks.push(Block::Table(Table {
-            title: "Goals at the answer and at one server fewer".into(),
+            title: format!("Goals at the answer and at {}", self.one_fewer_words()),
             rows: self.goal_rows(),
         }));
         let mut tried = vec![vec![
-            "servers".to_string(),
+            self.what.to_string(),
             "replications".into(),
             "verdict".into(),
         ]];
@@ -332,16 +347,16 @@ whose own figure met the bound (95% exact interval).\n\n",
             .last()
             .is_some_and(|t| t.verdict == Verdict::Undecided);
         match self.servers {
-            Some(n) => out.push_str(&format!("Answer: {n} servers")),
+            Some(n) => out.push_str(&format!("Answer: {n} {}", self.what)),
             None if self.partial => out.push_str("No answer: the search was interrupted"),
             None if undecided => out.push_str(&format!(
-                "No answer: up to {} servers the goals could not be decided within the replication cap \
+                "No answer: up to {} {} the goals could not be decided within the replication cap \
 (raise --decide-within)",
-                self.limit
+                self.limit, self.what
             )),
             None => out.push_str(&format!(
-                "No answer: no size up to {} servers meets every goal",
-                self.limit
+                "No answer: no size up to {} {} meets every goal",
+                self.limit, self.what
             )),
         }
         match self.formula_servers {
@@ -349,10 +364,11 @@ whose own figure met the bound (95% exact interval).\n\n",
             None => out.push_str("   (no closed form covers these goals)\n"),
         }
         if self.uncertain {
-            out.push_str(
-                "Note: at one server fewer the goals could not be decided within the replication cap; \
+            out.push_str(&format!(
+                "Note: at {} the goals could not be decided within the replication cap; \
 the answer is the smallest size shown to meet them, and may be one more than needed.\n",
-            );
+                self.one_fewer_words()
+            ));
         }
         let rows = self.goal_rows();
         if rows.len() > 1 {
