@@ -253,8 +253,14 @@ pub fn format_share(share: f64) -> String {
         format!("{pct:.1}%")
     } else if pct.abs() >= 0.1 {
         format!("{pct:.2}%")
+    } else if pct.abs() >= 1e-6 {
+        // Two significant digits, written out: "0.085%", "0.00040%", never
+        // an exponent in a table.
+        let decimals = (1.0 - pct.abs().log10().floor()) as usize;
+        format!("{pct:.decimals$}%")
     } else {
-        format!("{pct:.3}%").replace("0.000%", &format!("{pct:.2e}%"))
+        // Below a millionth of a percent nobody reads the digits.
+        format!("{}0.000001%", if pct < 0.0 { "> -" } else { "< " })
     }
 }
 
@@ -343,6 +349,10 @@ mod tests {
         assert_eq!(format_share(0.0123), "1.23%");
         assert_eq!(format_share(0.25), "25.0%");
         assert_eq!(format_share(0.0), "0%");
+        assert_eq!(format_share(0.00085), "0.085%");
+        assert_eq!(format_share(0.00032), "0.032%");
+        assert_eq!(format_share(4.01e-6), "0.00040%");
+        assert_eq!(format_share(1e-12), "< 0.000001%");
         assert_eq!(trim_float(2.50, 2), "2.5");
     }
 }

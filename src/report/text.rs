@@ -38,10 +38,12 @@ pub(crate) fn interval(unit: Unit, e: &Estimate) -> String {
     if !e.half_width.is_finite() || !e.low.is_finite() || !e.high.is_finite() {
         return "± ?".into();
     }
+    // The unit stands beside every half-width and at the end of an
+    // interval: "± 0.15 E", "[2.1 to 3.4 s]", "[0% to 0.031%]".
     if e.is_symmetric() {
-        format!("± {}", bare(unit, e.half_width))
+        format!("± {}", value(unit, e.half_width))
     } else {
-        format!("[{} to {}]", bare(unit, e.low), bare(unit, e.high))
+        format!("[{} to {}]", bare(unit, e.low), value(unit, e.high))
     }
 }
 
