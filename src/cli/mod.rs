@@ -66,10 +66,13 @@ pub fn install_interrupt_handler() {
 /// Output format flags shared by the commands that print figures.
 #[derive(Args, Clone)]
 pub struct OutputArgs {
-    /// Print JSON with the design's figure names instead of the table.
+    /// Print JSON instead of the table: every figure under its short name
+    /// (loss, service_level, wait_p90), with its 95% interval and the
+    /// closed-form value (keys in docs/json.md).
     #[arg(long, conflicts_with = "csv")]
     pub json: bool,
-    /// Print long-format CSV (one row per figure) instead of the table.
+    /// Print CSV instead of the table: one row per figure, stream or group
+    /// and interval, after a "# Caution:" comment line.
     #[arg(long)]
     pub csv: bool,
     /// Write the output to FILE (atomically: a temporary file, then a rename)
