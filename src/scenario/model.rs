@@ -162,27 +162,43 @@ impl Arrivals {
     }
 
     /// Mean rate of first attempts in calls/s over the measured period of
-    /// length `length_s`, for offered-traffic figures. Finite sources have no
-    /// fixed rate: `None`.
+    /// length `length_s`, for offered-traffic figures: [`Arrivals::rate_over`]
+    /// from 0 to `length_s`. Finite sources have no fixed rate: `None`.
     pub fn mean_rate(&self, length_s: f64) -> Option<f64> {
+        self.rate_over(0.0, length_s)
+    }
+
+    /// Mean rate of first attempts in calls/s over the window from `t0_s` to
+    /// `t1_s` of simulated time (`t1_s > t0_s`; 0 is the start of the
+    /// measured period, a negative time lies in the warm-up): the integral
+    /// of the arrival rate over the window divided by its length. A peak
+    /// profile's first rate holds before 0 (the warm-up runs at it) and its
+    /// last rate after the profile ends; a renewal process runs at
+    /// 1 / mean time between arrivals. Finite sources have no fixed rate:
+    /// `None`.
+    pub fn rate_over(&self, t0_s: f64, t1_s: f64) -> Option<f64> {
         match self {
             Arrivals::Poisson { rate } => Some(*rate),
             Arrivals::Profile { interval_s, rates } => {
                 let mut total = 0.0;
-                let mut t = 0.0;
                 for (i, r) in rates.iter().enumerate() {
-                    if t >= length_s {
-                        break;
-                    }
-                    let end = if i + 1 == rates.len() {
-                        length_s
+                    // Ends from the index, not by repeated addition.
+                    let start = if i == 0 {
+                        f64::NEG_INFINITY
                     } else {
-                        (t + interval_s).min(length_s)
+                        i as f64 * interval_s
                     };
-                    total += r * (end - t);
-                    t = end;
+                    let end = if i + 1 == rates.len() {
+                        f64::INFINITY
+                    } else {
+                        (i + 1) as f64 * interval_s
+                    };
+                    let overlap = end.min(t1_s) - start.max(t0_s);
+                    if overlap > 0.0 {
+                        total += r * overlap;
+                    }
                 }
-                Some(total / length_s)
+                Some(total / (t1_s - t0_s))
             }
             Arrivals::Renewal { between } => Some(1.0 / between.mean()),
             Arrivals::Sources { .. } => None,
