@@ -6,7 +6,8 @@ pub mod model;
 pub mod spec;
 
 pub use model::{
-    Arrivals, Group, Model, Queue, Replications, Retry, RunPlan, Start, Stream, residual_quantile,
+    Arrivals, Group, Model, Queue, Replications, Retry, RunPlan, Start, Stream, TransformError,
+    residual_quantile,
 };
 
 use crate::dist::{self, Law};
@@ -18,7 +19,9 @@ use thiserror::Error;
 
 /// Limits that keep a typo from becoming a run of days or an allocation of
 /// terabytes. Larger designs are real but belong to a different tool.
-pub const MAX_SERVERS: i64 = 1_000_000;
+///
+/// Most servers in one group (also bounds a reserve and a call's units).
+pub const MAX_GROUP_SERVERS: i64 = 1_000_000;
 /// Longest warm-up or measured period accepted (s): ten years.
 pub const MAX_LENGTH_S: f64 = 10.0 * 365.0 * 86400.0;
 /// Most replications accepted.
@@ -444,7 +447,7 @@ impl Compiler {
         let mut groups = Vec::with_capacity(spec.groups.len());
         for g in &spec.groups {
             let k = |field: &str| format!("group \"{}\".{field}", g.name);
-            let servers = self.count(&k("servers"), g.servers, 1, MAX_SERVERS)?;
+            let servers = self.count(&k("servers"), g.servers, 1, MAX_GROUP_SERVERS)?;
             let queue = match &g.queue {
                 None | Some(QueueSpec::Places(0)) => Queue::None,
                 Some(QueueSpec::Places(q)) => {
@@ -469,7 +472,8 @@ impl Compiler {
             let reserve = match &g.reserve {
                 None => 0,
                 Some(r) => {
-                    let reserve = self.count(&k("reserve.servers"), r.servers, 0, MAX_SERVERS)?;
+                    let reserve =
+                        self.count(&k("reserve.servers"), r.servers, 0, MAX_GROUP_SERVERS)?;
                     if reserve >= servers {
                         return Err(self.err(k("reserve.servers"), format!("reserving {reserve} of {servers} servers leaves none for other traffic: reserve fewer than the group has")));
                     }
@@ -526,7 +530,7 @@ impl Compiler {
             }
             let units = match s.units {
                 None => 1,
-                Some(u) => self.count(&k("units"), u, 1, MAX_SERVERS)?,
+                Some(u) => self.count(&k("units"), u, 1, MAX_GROUP_SERVERS)?,
             };
             if route.iter().all(|&g| groups[g as usize].servers < units) {
                 return Err(self.err(
