@@ -10,7 +10,7 @@ pub use model::{
     residual_quantile,
 };
 
-use crate::dist::{self, Law};
+use crate::dist::{self, Law, LawParams};
 use crate::units;
 use spec::{Amount, ArrivalSpec, ChanceSpec, LawSpec, QueueSpec, ScenarioSpec};
 use std::collections::HashMap;
@@ -768,29 +768,21 @@ impl Compiler {
         }
     }
 
+    /// A law's table: the named law, only its own keys, then its
+    /// parameters built with this file's rules (`LawSite`).
     fn law(&self, key: &str, l: &LawSpec) -> R<Law> {
         let name = l.law.as_str();
-        let allowed: &[&str] = match name {
-            "exponential" | "deterministic" => &["mean"],
-            "erlang" => &["mean", "k"],
-            "gamma" | "weibull" => &["mean", "cv", "shape"],
-            "lognormal" | "hyperexponential" | "uniform" => &["mean", "cv"],
-            "empirical" => &["file", "column", "scale"],
-            other => {
-                return Err(self.err(format!("{key}.law"), format!("\"{other}\" is not a law: expected one of exponential, erlang, gamma, lognormal, hyperexponential, deterministic, uniform, weibull, empirical")));
-            }
+        let Some(allowed) = LawParams::keys(name) else {
+            return Err(self.err(
+                format!("{key}.law"),
+                format!(
+                    "\"{name}\" is not a law: expected one of {}",
+                    dist::LAW_NAMES.join(", ")
+                ),
+            ));
         };
-        let present = [
-            ("mean", l.mean.is_some()),
-            ("cv", l.cv.is_some()),
-            ("shape", l.shape.is_some()),
-            ("k", l.k.is_some()),
-            ("file", l.file.is_some()),
-            ("column", l.column.is_some()),
-            ("scale", l.scale.is_some()),
-        ];
-        for (field, is) in present {
-            if is && !allowed.contains(&field) {
+        for field in dist::all_law_keys() {
+            if l.params.contains_key(*field) && !allowed.contains(field) {
                 return Err(self.err(
                     format!("{key}.{field}"),
                     format!(
@@ -800,88 +792,88 @@ impl Compiler {
                 ));
             }
         }
-        let law_err = |e: dist::LawError| self.err(key, e.to_string());
-        if name == "empirical" {
-            let file = l.file.as_ref().ok_or_else(|| {
-                self.err(
-                    format!("{key}.file"),
-                    "an empirical law needs file = \"data.csv\" (relative to the scenario file)",
-                )
-            })?;
-            let scale = l.scale.unwrap_or(1.0);
-            if !(scale > 0.0 && scale.is_finite()) {
-                return Err(self.err(
-                    format!("{key}.scale"),
-                    format!("{scale}: the scale must be a finite number above zero"),
-                ));
-            }
-            let path = self.base.join(file);
-            if is_same_file(&path, Path::new(&self.file)) {
-                return Err(self.err(
-                    format!("{key}.file"),
-                    format!("\"{file}\" is this scenario file itself: name a CSV file of measured values"),
-                ));
-            }
-            if let Some(dir) = &self.data_dir {
-                let inside = match (path.canonicalize(), dir.canonicalize()) {
-                    (Ok(p), Ok(d)) => p.starts_with(d),
-                    _ => false,
-                };
-                if !inside {
-                    return Err(self.err(
-                        format!("{key}.file"),
-                        format!(
-                            "\"{file}\" is not a readable file inside the data folder {} (--data-dir)",
-                            dir.display()
-                        ),
-                    ));
-                }
-            }
-            self.data_files.borrow_mut().push(path.clone());
-            let values = dist::empirical::read_column(&path, l.column.as_deref(), scale)
-                .map_err(|e| self.err(format!("{key}.file"), e.to_string()))?;
-            return Law::empirical(values).map_err(law_err);
+        let params = LawParams::deserialize_named(name, toml::Value::Table(l.params.clone()))
+            .unwrap_or_else(|| unreachable!("the law's name was found above"))
+            .map_err(|e| self.err(key, one_line(e.message())))?;
+        params.build(&LawSite {
+            compiler: self,
+            key,
+        })
+    }
+
+    /// The measured values of an empirical law's data file: resolved against
+    /// the scenario's folder, never the scenario itself, inside `--data-dir`
+    /// when one is given, and remembered as an input.
+    fn data_values(&self, key: &str, file: &str, column: Option<&str>, scale: f64) -> R<Vec<f64>> {
+        let path = self.base.join(file);
+        if is_same_file(&path, Path::new(&self.file)) {
+            return Err(self.err(
+                key,
+                format!(
+                    "\"{file}\" is this scenario file itself: name a CSV file of measured values"
+                ),
+            ));
         }
-        let mean = match &l.mean {
-            Some(m) => self.positive_duration(&format!("{key}.mean"), m)?,
-            None => {
+        if let Some(dir) = &self.data_dir {
+            let inside = match (path.canonicalize(), dir.canonicalize()) {
+                (Ok(p), Ok(d)) => p.starts_with(d),
+                _ => false,
+            };
+            if !inside {
                 return Err(self.err(
-                    format!("{key}.mean"),
-                    format!("the {name} law needs a mean, like mean = \"3m\""),
+                    key,
+                    format!(
+                        "\"{file}\" is not a readable file inside the data folder {} (--data-dir)",
+                        dir.display()
+                    ),
                 ));
             }
-        };
-        let need_cv = |what: &str| self.err(key, format!("the {name} law needs {what}"));
-        match name {
-            "exponential" => Law::exponential(mean),
-            "deterministic" => Law::deterministic(mean),
-            "erlang" => {
-                let k =
-                    l.k.ok_or_else(|| need_cv("its number of phases, like k = 3"))?;
-                let k = self.count(&format!("{key}.k"), k, 1, 1000)?;
-                Law::erlang(mean, k)
-            }
-            "gamma" | "weibull" => match (l.cv, l.shape) {
-                (Some(_), Some(_)) => {
-                    return Err(self.err(key, "give either cv or shape, not both"));
-                }
-                (Some(cv), None) if name == "gamma" => Law::gamma(mean, cv),
-                (Some(cv), None) => Law::weibull(mean, cv),
-                (None, Some(s)) if name == "gamma" => Law::gamma_shape(mean, s),
-                (None, Some(s)) => Law::weibull_shape(mean, s),
-                (None, None) => return Err(need_cv("a cv (or a shape), like cv = 0.8")),
-            },
-            "lognormal" | "hyperexponential" | "uniform" => {
-                let cv = l.cv.ok_or_else(|| need_cv("a cv, like cv = 1.2"))?;
-                match name {
-                    "lognormal" => Law::lognormal(mean, cv),
-                    "hyperexponential" => Law::hyperexponential(mean, cv),
-                    _ => Law::uniform(mean, cv),
-                }
-            }
-            _ => unreachable!("law names are checked above"),
         }
-        .map_err(law_err)
+        self.data_files.borrow_mut().push(path.clone());
+        dist::empirical::read_column(&path, column, scale).map_err(|e| self.err(key, e.to_string()))
+    }
+}
+
+/// One law's table in the file: the [`dist::LawContext`] its parameters
+/// are built in, naming `key` (e.g. `stream "office".holding`) in errors.
+struct LawSite<'a> {
+    compiler: &'a Compiler,
+    key: &'a str,
+}
+
+impl LawSite<'_> {
+    fn at(&self, field: &str) -> String {
+        format!("{}.{field}", self.key)
+    }
+}
+
+impl dist::LawContext for LawSite<'_> {
+    type Error = ScenarioError;
+
+    fn invalid(&self, field: Option<&str>, message: String) -> ScenarioError {
+        match field {
+            None => self.compiler.err(self.key, message),
+            Some(f) => self.compiler.err(self.at(f), message),
+        }
+    }
+
+    fn positive_duration(&self, field: &str, value: &Amount) -> R<f64> {
+        self.compiler.positive_duration(&self.at(field), value)
+    }
+
+    fn count(&self, field: &str, value: i64, min: i64, max: i64) -> R<u32> {
+        self.compiler.count(&self.at(field), value, min, max)
+    }
+
+    fn data_values(
+        &self,
+        field: &str,
+        file: &str,
+        column: Option<&str>,
+        scale: f64,
+    ) -> R<Vec<f64>> {
+        self.compiler
+            .data_values(&self.at(field), file, column, scale)
     }
 }
 

@@ -445,13 +445,13 @@ impl Model {
                 }
                 Arrivals::Renewal { between } => Arrivals::Renewal {
                     between: between
-                        .try_scaled(1.0 / factor)
+                        .scaled(1.0 / factor)
                         .map_err(|_| out_of_range("time between arrivals"))?,
                 },
                 Arrivals::Sources { count, idle } => Arrivals::Sources {
                     count: *count,
                     idle: idle
-                        .try_scaled(1.0 / factor)
+                        .scaled(1.0 / factor)
                         .map_err(|_| out_of_range("idle time"))?,
                 },
             };
