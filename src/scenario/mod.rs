@@ -401,6 +401,8 @@ impl Compiler {
         Ok(v as u32)
     }
 
+    /// The whole file: the run plan, the names, the groups, then the
+    /// streams (which refer to both), then the default warm-up.
     fn compile(&self, spec: ScenarioSpec, default_title: &str) -> R<Model> {
         let plan = self.plan(&spec.simulation)?;
         if spec.groups.is_empty() {
@@ -415,180 +417,18 @@ impl Compiler {
                 "the scenario has no [[stream]]: add at least one traffic stream",
             ));
         }
-        let mut group_index = HashMap::new();
-        for (i, g) in spec.groups.iter().enumerate() {
-            let key = format!("group[{}].name", i + 1);
-            check_name(&g.name).map_err(|m| self.err(&key, m))?;
-            if group_index.insert(g.name.as_str(), i).is_some() {
-                return Err(self.err(
-                    key,
-                    format!(
-                        "the name \"{}\" is used by two groups: names must be unique",
-                        g.name
-                    ),
-                ));
-            }
-        }
-        let mut stream_index = HashMap::new();
-        for (i, s) in spec.streams.iter().enumerate() {
-            let key = format!("stream[{}].name", i + 1);
-            check_name(&s.name).map_err(|m| self.err(&key, m))?;
-            if stream_index.insert(s.name.as_str(), i).is_some() {
-                return Err(self.err(
-                    key,
-                    format!(
-                        "the name \"{}\" is used by two streams: names must be unique",
-                        s.name
-                    ),
-                ));
-            }
-        }
-        let n_streams = spec.streams.len();
-        let mut groups = Vec::with_capacity(spec.groups.len());
-        for g in &spec.groups {
-            let k = |field: &str| format!("group \"{}\".{field}", g.name);
-            let servers = self.count(&k("servers"), g.servers, 1, MAX_GROUP_SERVERS)?;
-            let queue = match &g.queue {
-                None | Some(QueueSpec::Places(0)) => Queue::None,
-                Some(QueueSpec::Places(q)) => {
-                    Queue::Limited(self.count(&k("queue"), *q, 0, MAX_COUNT)?)
-                }
-                Some(QueueSpec::Text(t)) if t == "unlimited" => Queue::Unlimited,
-                Some(QueueSpec::Text(t)) => {
-                    return Err(self.err(k("queue"), format!("\"{t}\" is not a queue size: expected a whole number of waiting places or \"unlimited\"")));
-                }
-            };
-            let overflow_after_s = match &g.overflow_after {
-                None => None,
-                Some(_) if queue == Queue::None => {
-                    return Err(self.err(
-                        k("overflow_after"),
-                        "only a group with waiting places (queue > 0) can pass waiting calls on",
-                    ));
-                }
-                Some(a) => Some(self.positive_duration(&k("overflow_after"), a)?),
-            };
-            let mut reserved_for = vec![false; n_streams];
-            let reserve = match &g.reserve {
-                None => 0,
-                Some(r) => {
-                    let reserve =
-                        self.count(&k("reserve.servers"), r.servers, 0, MAX_GROUP_SERVERS)?;
-                    if reserve >= servers {
-                        return Err(self.err(k("reserve.servers"), format!("reserving {reserve} of {servers} servers leaves none for other traffic: reserve fewer than the group has")));
-                    }
-                    if r.for_streams.is_empty() {
-                        return Err(self.err(
-                            k("reserve.for"),
-                            "name at least one stream that may use the reserved servers",
-                        ));
-                    }
-                    for (j, name) in r.for_streams.iter().enumerate() {
-                        match stream_index.get(name.as_str()) {
-                            Some(&s) => reserved_for[s] = true,
-                            None => {
-                                return Err(self.err(
-                                    format!("{}[{}]", k("reserve.for"), j + 1),
-                                    format!("no stream is named \"{name}\""),
-                                ));
-                            }
-                        }
-                    }
-                    reserve
-                }
-            };
-            groups.push(Group {
-                name: g.name.clone(),
-                servers,
-                queue,
-                overflow_after_s,
-                reserve,
-                reserved_for,
-            });
-        }
-        let mut streams = Vec::with_capacity(n_streams);
-        for s in &spec.streams {
-            let k = |field: &str| format!("stream \"{}\".{field}", s.name);
-            let arrivals = self.arrivals(&k("arrivals"), &s.arrivals)?;
-            let holding = self.law(&k("holding"), &s.holding)?;
-            if s.route.is_empty() {
-                return Err(self.err(k("route"), "the route is empty: name at least one group"));
-            }
-            let mut route = Vec::with_capacity(s.route.len());
-            for (j, name) in s.route.iter().enumerate() {
-                let key = format!("{}[{}]", k("route"), j + 1);
-                let gi = *group_index
-                    .get(name.as_str())
-                    .ok_or_else(|| self.err(&key, format!("no group is named \"{name}\"")))?;
-                if route.contains(&(gi as u32)) {
-                    return Err(self.err(
-                        key,
-                        format!("the group \"{name}\" appears twice in the route"),
-                    ));
-                }
-                route.push(gi as u32);
-            }
-            let units = match s.units {
-                None => 1,
-                Some(u) => self.count(&k("units"), u, 1, MAX_GROUP_SERVERS)?,
-            };
-            if route.iter().all(|&g| groups[g as usize].servers < units) {
-                return Err(self.err(
-                    k("units"),
-                    format!("a call takes {units} servers but no group on the route has that many"),
-                ));
-            }
-            let retry = match &s.retry {
-                None => None,
-                Some(r) => {
-                    let chances = match &r.chance {
-                        ChanceSpec::One(a) => vec![self.share(&k("retry.chance"), a)?],
-                        ChanceSpec::Each(list) => {
-                            if list.is_empty() {
-                                return Err(
-                                    self.err(k("retry.chance"), "the list of chances is empty")
-                                );
-                            }
-                            list.iter()
-                                .enumerate()
-                                .map(|(j, a)| {
-                                    self.share(&format!("{}[{}]", k("retry.chance"), j + 1), a)
-                                })
-                                .collect::<R<Vec<f64>>>()?
-                        }
-                    };
-                    Some(Retry {
-                        chances,
-                        delay: self.law(&k("retry.delay"), &r.delay)?,
-                        max_attempts: self.count(
-                            &k("retry.max_attempts"),
-                            r.max_attempts,
-                            1,
-                            1000,
-                        )?,
-                    })
-                }
-            };
-            let patience = match &s.patience {
-                None => None,
-                Some(p) => Some(self.law(&k("patience"), p)?),
-            };
-            let answer_within_s = match &s.answer_within {
-                None => None,
-                Some(a) => Some(self.duration(&k("answer_within"), a)?),
-            };
-            streams.push(Stream {
-                name: s.name.clone(),
-                arrivals,
-                holding,
-                route,
-                units,
-                retry,
-                patience,
-                answer_within_s,
-                seed_key: name_key(&s.name),
-            });
-        }
+        let group_index = self.name_index("group", spec.groups.iter().map(|g| &g.name))?;
+        let stream_index = self.name_index("stream", spec.streams.iter().map(|s| &s.name))?;
+        let groups = spec
+            .groups
+            .iter()
+            .map(|g| self.group(g, &stream_index))
+            .collect::<R<Vec<Group>>>()?;
+        let streams = spec
+            .streams
+            .iter()
+            .map(|s| self.stream(s, &group_index, &groups))
+            .collect::<R<Vec<Stream>>>()?;
         let mut model = Model {
             title: spec.title.unwrap_or_else(|| default_title.to_string()),
             plan,
@@ -602,6 +442,174 @@ impl Compiler {
             model.plan.warmup_s = model.warmup_needed_s().ceil().min(MAX_LENGTH_S);
         }
         Ok(model)
+    }
+
+    /// Index by name of the groups or streams (`what`), each name usable
+    /// and unique.
+    fn name_index<'a>(
+        &self,
+        what: &str,
+        names: impl Iterator<Item = &'a String>,
+    ) -> R<HashMap<&'a str, usize>> {
+        let mut index = HashMap::new();
+        for (i, name) in names.enumerate() {
+            let key = format!("{what}[{}].name", i + 1);
+            check_name(name).map_err(|m| self.err(&key, m))?;
+            if index.insert(name.as_str(), i).is_some() {
+                return Err(self.err(
+                    key,
+                    format!("the name \"{name}\" is used by two {what}s: names must be unique"),
+                ));
+            }
+        }
+        Ok(index)
+    }
+
+    /// One `[[group]]`: servers, queue, overflow and trunk reservation.
+    fn group(&self, g: &spec::GroupSpec, stream_index: &HashMap<&str, usize>) -> R<Group> {
+        let k = |field: &str| format!("group \"{}\".{field}", g.name);
+        let servers = self.count(&k("servers"), g.servers, 1, MAX_GROUP_SERVERS)?;
+        let queue = match &g.queue {
+            None | Some(QueueSpec::Places(0)) => Queue::None,
+            Some(QueueSpec::Places(q)) => {
+                Queue::Limited(self.count(&k("queue"), *q, 0, MAX_COUNT)?)
+            }
+            Some(QueueSpec::Text(t)) if t == "unlimited" => Queue::Unlimited,
+            Some(QueueSpec::Text(t)) => {
+                return Err(self.err(k("queue"), format!("\"{t}\" is not a queue size: expected a whole number of waiting places or \"unlimited\"")));
+            }
+        };
+        let overflow_after_s = match &g.overflow_after {
+            None => None,
+            Some(_) if queue == Queue::None => {
+                return Err(self.err(
+                    k("overflow_after"),
+                    "only a group with waiting places (queue > 0) can pass waiting calls on",
+                ));
+            }
+            Some(a) => Some(self.positive_duration(&k("overflow_after"), a)?),
+        };
+        let mut reserved_for = vec![false; stream_index.len()];
+        let reserve = match &g.reserve {
+            None => 0,
+            Some(r) => {
+                let reserve = self.count(&k("reserve.servers"), r.servers, 0, MAX_GROUP_SERVERS)?;
+                if reserve >= servers {
+                    return Err(self.err(k("reserve.servers"), format!("reserving {reserve} of {servers} servers leaves none for other traffic: reserve fewer than the group has")));
+                }
+                if r.for_streams.is_empty() {
+                    return Err(self.err(
+                        k("reserve.for"),
+                        "name at least one stream that may use the reserved servers",
+                    ));
+                }
+                for (j, name) in r.for_streams.iter().enumerate() {
+                    match stream_index.get(name.as_str()) {
+                        Some(&s) => reserved_for[s] = true,
+                        None => {
+                            return Err(self.err(
+                                format!("{}[{}]", k("reserve.for"), j + 1),
+                                format!("no stream is named \"{name}\""),
+                            ));
+                        }
+                    }
+                }
+                reserve
+            }
+        };
+        Ok(Group {
+            name: g.name.clone(),
+            servers,
+            queue,
+            overflow_after_s,
+            reserve,
+            reserved_for,
+        })
+    }
+
+    /// One `[[stream]]`: arrivals, holding law, route over the compiled
+    /// groups, units, redials and patience.
+    fn stream(
+        &self,
+        s: &spec::StreamSpec,
+        group_index: &HashMap<&str, usize>,
+        groups: &[Group],
+    ) -> R<Stream> {
+        let k = |field: &str| format!("stream \"{}\".{field}", s.name);
+        let arrivals = self.arrivals(&k("arrivals"), &s.arrivals)?;
+        let holding = self.law(&k("holding"), &s.holding)?;
+        if s.route.is_empty() {
+            return Err(self.err(k("route"), "the route is empty: name at least one group"));
+        }
+        let mut route = Vec::with_capacity(s.route.len());
+        for (j, name) in s.route.iter().enumerate() {
+            let key = format!("{}[{}]", k("route"), j + 1);
+            let gi = *group_index
+                .get(name.as_str())
+                .ok_or_else(|| self.err(&key, format!("no group is named \"{name}\"")))?;
+            if route.contains(&(gi as u32)) {
+                return Err(self.err(
+                    key,
+                    format!("the group \"{name}\" appears twice in the route"),
+                ));
+            }
+            route.push(gi as u32);
+        }
+        let units = match s.units {
+            None => 1,
+            Some(u) => self.count(&k("units"), u, 1, MAX_GROUP_SERVERS)?,
+        };
+        if route.iter().all(|&g| groups[g as usize].servers < units) {
+            return Err(self.err(
+                k("units"),
+                format!("a call takes {units} servers but no group on the route has that many"),
+            ));
+        }
+        let retry = match &s.retry {
+            None => None,
+            Some(r) => Some(self.retry(&k("retry"), r)?),
+        };
+        let patience = match &s.patience {
+            None => None,
+            Some(p) => Some(self.law(&k("patience"), p)?),
+        };
+        let answer_within_s = match &s.answer_within {
+            None => None,
+            Some(a) => Some(self.duration(&k("answer_within"), a)?),
+        };
+        Ok(Stream {
+            name: s.name.clone(),
+            arrivals,
+            holding,
+            route,
+            units,
+            retry,
+            patience,
+            answer_within_s,
+            seed_key: name_key(&s.name),
+        })
+    }
+
+    /// A stream's `retry` table (`key` is its path).
+    fn retry(&self, key: &str, r: &spec::RetrySpec) -> R<Retry> {
+        let k = |field: &str| format!("{key}.{field}");
+        let chances = match &r.chance {
+            ChanceSpec::One(a) => vec![self.share(&k("chance"), a)?],
+            ChanceSpec::Each(list) => {
+                if list.is_empty() {
+                    return Err(self.err(k("chance"), "the list of chances is empty"));
+                }
+                list.iter()
+                    .enumerate()
+                    .map(|(j, a)| self.share(&format!("{}[{}]", k("chance"), j + 1), a))
+                    .collect::<R<Vec<f64>>>()?
+            }
+        };
+        Ok(Retry {
+            chances,
+            delay: self.law(&k("delay"), &r.delay)?,
+            max_attempts: self.count(&k("max_attempts"), r.max_attempts, 1, 1000)?,
+        })
     }
 
     fn plan(&self, s: &spec::SimulationSpec) -> R<RunPlan> {
