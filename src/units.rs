@@ -274,6 +274,64 @@ pub fn trim_float(x: f64, digits: usize) -> String {
     }
 }
 
+/// A number or a text with a unit, as the user wrote it ("3m" or 180) in a
+/// scenario file; serialised back the same way.
+#[derive(Debug, Clone, PartialEq)]
+pub enum Amount {
+    /// A bare number.
+    Number(f64),
+    /// A text such as "3m", "420/h" or "1%".
+    Text(String),
+}
+
+impl std::fmt::Display for Amount {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        match self {
+            // Scientific notation for huge or tiny numbers, so that 1e300
+            // does not print as 301 digits.
+            Amount::Number(x) if *x != 0.0 && !(1e-6..1e15).contains(&x.abs()) => {
+                write!(f, "{x:e}")
+            }
+            Amount::Number(x) => write!(f, "{x}"),
+            Amount::Text(t) => write!(f, "\"{t}\""),
+        }
+    }
+}
+
+impl<'de> serde::Deserialize<'de> for Amount {
+    fn deserialize<D: serde::Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+        struct V;
+        impl serde::de::Visitor<'_> for V {
+            type Value = Amount;
+            fn expecting(&self, f: &mut std::fmt::Formatter) -> std::fmt::Result {
+                f.write_str("a number or a text with a unit such as \"3m\", \"420/h\" or \"1%\"")
+            }
+            fn visit_i64<E: serde::de::Error>(self, v: i64) -> Result<Amount, E> {
+                Ok(Amount::Number(v as f64))
+            }
+            fn visit_u64<E: serde::de::Error>(self, v: u64) -> Result<Amount, E> {
+                Ok(Amount::Number(v as f64))
+            }
+            fn visit_f64<E: serde::de::Error>(self, v: f64) -> Result<Amount, E> {
+                Ok(Amount::Number(v))
+            }
+            fn visit_str<E: serde::de::Error>(self, v: &str) -> Result<Amount, E> {
+                Ok(Amount::Text(v.to_string()))
+            }
+        }
+        d.deserialize_any(V)
+    }
+}
+
+impl serde::Serialize for Amount {
+    fn serialize<S: serde::Serializer>(&self, s: S) -> Result<S::Ok, S::Error> {
+        match self {
+            Amount::Number(x) => s.serialize_f64(*x),
+            Amount::Text(t) => s.serialize_str(t),
+        }
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

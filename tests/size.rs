@@ -141,7 +141,7 @@ fn common_random_numbers_sharpen_the_difference_of_adjacent_sizes() {
     let g = 0;
     let run_at = |n: u32| {
         experiment::run(
-            &m.with_servers(g, n),
+            &m.with_servers(g, n).expect("a size within the limits"),
             Some(Replications::Fixed(30)),
             &RunOptions::default(),
         )

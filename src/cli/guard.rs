@@ -160,13 +160,10 @@ pub fn check_sweep(
     reps: &ReplicationArgs,
     quiet: bool,
 ) -> Result<()> {
-    let total = (0..sweep.values().len()).fold(WorkEstimate::ZERO, |acc, i| {
-        acc.plus(work::estimate_on(
-            &sweep.model_at(model, i),
-            plan,
-            cores(reps),
-        ))
-    });
+    let total = (0..sweep.values().len()).try_fold(WorkEstimate::ZERO, |acc, i| {
+        let step = sweep.model_at(model, i)?;
+        anyhow::Ok(acc.plus(work::estimate_on(&step, plan, cores(reps))))
+    })?;
     confirm(&total, reps.yes, quiet)
 }
 

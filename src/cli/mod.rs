@@ -652,8 +652,8 @@ pub fn sweep(a: &SweepArgs) -> Result<Status> {
         };
         let values = spec.values();
         let models: Vec<(Option<f64>, scenario::Model)> = (0..values.len())
-            .map(|i| (Some(values[i]), spec.model_at(&model, i)))
-            .collect();
+            .map(|i| Ok((Some(values[i]), spec.model_at(&model, i)?)))
+            .collect::<Result<_>>()?;
         let file = a.scenario.display().to_string();
         let part = with_progress(a.output.quiet, a.reps.threads, |opts| {
             shard::run_shard(
@@ -773,8 +773,8 @@ fn merge_sweep(
     let sw = sweep_from_spec(spec, model)?;
     let values = sw.values();
     let models: Vec<(Option<f64>, scenario::Model)> = (0..values.len())
-        .map(|i| (Some(values[i]), sw.model_at(model, i)))
-        .collect();
+        .map(|i| Ok((Some(values[i]), sw.model_at(model, i)?)))
+        .collect::<Result<_>>()?;
     let outcomes = shard::merge(&models, scenario_name, parts)?;
     let steps: Vec<sweep::Step> = models
         .into_iter()

@@ -1,6 +1,9 @@
 //! The deterministic law: every draw is the same time.
 
 use super::error::{LawError, check_mean};
+use super::params::{LawContext, need_mean, refused, seconds_amount};
+use crate::units::Amount;
+use serde::{Deserialize, Serialize};
 
 /// A constant time: every draw equals the mean.
 ///
@@ -53,7 +56,7 @@ impl Deterministic {
 
     /// The constant; no random numbers are used.
     #[inline]
-    pub fn sample(&self) -> f64 {
+    pub fn sample<R: rand::Rng + ?Sized>(&self, _rng: &mut R) -> f64 {
         self.value
     }
 
@@ -69,6 +72,43 @@ impl Deterministic {
     #[inline]
     pub fn sample_residual<R: rand::Rng + ?Sized>(&self, rng: &mut R) -> f64 {
         self.value * super::open_unit(rng)
+    }
+}
+
+/// The parameters of the deterministic law as a scenario file writes them:
+/// `{ law = "deterministic", mean = "90s" }`.
+#[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct DeterministicParams {
+    /// The constant time (a duration).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub mean: Option<Amount>,
+}
+
+impl DeterministicParams {
+    /// The law from its parameters, with the scenario file's messages.
+    pub fn build<C: LawContext>(&self, c: &C) -> Result<Deterministic, C::Error> {
+        let mean = need_mean(c, "deterministic", &self.mean)?;
+        refused(c, Deterministic::new(mean))
+    }
+
+    /// The parameters that build `law` again.
+    pub fn of(law: &Deterministic) -> Self {
+        DeterministicParams {
+            mean: seconds_amount(law.mean()),
+        }
+    }
+}
+
+impl Deterministic {
+    /// The law in plain words.
+    pub fn describe(&self) -> String {
+        format!("deterministic, {} s", super::seconds(self.mean()))
+    }
+
+    /// The same law with its mean multiplied by `factor` and its shape kept.
+    pub(crate) fn scaled(&self, factor: f64) -> Result<Self, LawError> {
+        Deterministic::new(self.mean() * factor)
     }
 }
 
@@ -88,6 +128,7 @@ mod tests {
         let law = Deterministic::new(90.0).unwrap();
         assert_eq!(law.cdf(89.999), 0.0);
         assert_eq!(law.cdf(90.0), 1.0);
-        assert_eq!(law.sample(), 90.0);
+        let mut rng = <rand_xoshiro::Xoshiro256PlusPlus as rand::SeedableRng>::seed_from_u64(1);
+        assert_eq!(law.sample(&mut rng), 90.0);
     }
 }

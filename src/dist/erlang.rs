@@ -5,6 +5,9 @@ use rand_distr::{Distribution, Exp1, Gamma};
 
 use super::error::{LawError, check_mean, is_positive_finite};
 use super::gamma::{gamma_residual_tail, regularized_lower_gamma};
+use super::params::{LawContext, need_mean, refused, seconds_amount};
+use crate::units::Amount;
+use serde::{Deserialize, Serialize};
 
 /// Largest k sampled as a plain sum of k exponential draws.
 ///
@@ -138,6 +141,59 @@ impl Erlang {
     #[inline]
     pub fn sample_residual<R: Rng + ?Sized>(&self, rng: &mut R) -> f64 {
         self.biased.sample(rng) * super::open_unit(rng)
+    }
+}
+
+/// The parameters of the erlang law as a scenario file writes them:
+/// `{ law = "erlang", mean = "3m", k = 3 }`.
+#[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct ErlangParams {
+    /// Mean (a duration).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub mean: Option<Amount>,
+    /// Number of phases.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub k: Option<i64>,
+}
+
+impl ErlangParams {
+    /// The law from its parameters, with the scenario file's messages.
+    pub fn build<C: LawContext>(&self, c: &C) -> Result<Erlang, C::Error> {
+        let mean = need_mean(c, "erlang", &self.mean)?;
+        let k = self.k.ok_or_else(|| {
+            c.invalid(
+                None,
+                "the erlang law needs its number of phases, like k = 3".into(),
+            )
+        })?;
+        let k = c.count("k", k, 1, 1000)?;
+        refused(c, Erlang::new(mean, k))
+    }
+
+    /// The parameters that build `law` again.
+    pub fn of(law: &Erlang) -> Self {
+        ErlangParams {
+            mean: seconds_amount(law.mean()),
+            k: Some(i64::from(law.k())),
+        }
+    }
+}
+
+impl Erlang {
+    /// The law in plain words.
+    pub fn describe(&self) -> String {
+        format!(
+            "erlang with {} phases, mean {} s, cv {:.2}",
+            self.k(),
+            super::seconds(self.mean()),
+            self.cv()
+        )
+    }
+
+    /// The same law with its mean multiplied by `factor` and its shape kept.
+    pub(crate) fn scaled(&self, factor: f64) -> Result<Self, LawError> {
+        Erlang::new(self.mean() * factor, self.k())
     }
 }
 

@@ -4,6 +4,9 @@ use rand::Rng;
 use rand_distr::{Distribution, Exp1};
 
 use super::error::{LawError, check_mean};
+use super::params::{LawContext, need_mean, refused, seconds_amount};
+use crate::units::Amount;
+use serde::{Deserialize, Serialize};
 
 /// Exponential law with the given mean.
 ///
@@ -79,6 +82,43 @@ impl Exponential {
     #[inline]
     pub fn sample_residual<R: Rng + ?Sized>(&self, rng: &mut R) -> f64 {
         self.sample(rng)
+    }
+}
+
+/// The parameters of the exponential law as a scenario file writes them:
+/// `{ law = "exponential", mean = "3m" }`.
+#[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct ExponentialParams {
+    /// Mean (a duration).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub mean: Option<Amount>,
+}
+
+impl ExponentialParams {
+    /// The law from its parameters, with the scenario file's messages.
+    pub fn build<C: LawContext>(&self, c: &C) -> Result<Exponential, C::Error> {
+        let mean = need_mean(c, "exponential", &self.mean)?;
+        refused(c, Exponential::new(mean))
+    }
+
+    /// The parameters that build `law` again.
+    pub fn of(law: &Exponential) -> Self {
+        ExponentialParams {
+            mean: seconds_amount(law.mean()),
+        }
+    }
+}
+
+impl Exponential {
+    /// The law in plain words.
+    pub fn describe(&self) -> String {
+        format!("exponential, mean {} s, cv 1", super::seconds(self.mean()))
+    }
+
+    /// The same law with its mean multiplied by `factor` and its shape kept.
+    pub(crate) fn scaled(&self, factor: f64) -> Result<Self, LawError> {
+        Exponential::new(self.mean() * factor)
     }
 }
 

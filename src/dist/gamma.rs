@@ -4,6 +4,9 @@ use rand::Rng;
 use rand_distr::{Distribution, Gamma as GammaSampler};
 
 use super::error::{LawError, check_cv, check_mean, is_positive_finite};
+use super::params::{CvOrShape, LawContext, cv_or_shape, need_mean, refused, seconds_amount};
+use crate::units::Amount;
+use serde::{Deserialize, Serialize};
 
 /// Gamma law with shape a and scale m / a.
 ///
@@ -153,6 +156,60 @@ pub(crate) fn regularized_lower_gamma(a: f64, y: f64) -> f64 {
         return 1.0;
     }
     statrs::function::gamma::checked_gamma_lr(a, y).unwrap_or(f64::NAN)
+}
+
+/// The parameters of the gamma law as a scenario file writes them:
+/// `{ law = "gamma", mean = "6s", cv = 0.5 }` or with `shape = 4` instead of the cv.
+#[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct GammaParams {
+    /// Mean (a duration).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub mean: Option<Amount>,
+    /// Coefficient of variation (or give the shape).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub cv: Option<f64>,
+    /// Shape a (or give the cv).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub shape: Option<f64>,
+}
+
+impl GammaParams {
+    /// The law from its parameters, with the scenario file's messages.
+    pub fn build<C: LawContext>(&self, c: &C) -> Result<Gamma, C::Error> {
+        let mean = need_mean(c, "gamma", &self.mean)?;
+        let made = match cv_or_shape(c, "gamma", self.cv, self.shape)? {
+            CvOrShape::Cv(cv) => Gamma::from_cv(mean, cv),
+            CvOrShape::Shape(shape) => Gamma::from_shape(mean, shape),
+        };
+        refused(c, made)
+    }
+
+    /// The parameters that build `law` again.
+    pub fn of(law: &Gamma) -> Self {
+        GammaParams {
+            mean: seconds_amount(law.mean()),
+            cv: None,
+            shape: Some(law.shape()),
+        }
+    }
+}
+
+impl Gamma {
+    /// The law in plain words.
+    pub fn describe(&self) -> String {
+        format!(
+            "gamma, mean {} s, cv {:.2} (shape {})",
+            super::seconds(self.mean()),
+            self.cv(),
+            super::significant(self.shape(), 3)
+        )
+    }
+
+    /// The same law with its mean multiplied by `factor` and its shape kept.
+    pub(crate) fn scaled(&self, factor: f64) -> Result<Self, LawError> {
+        Gamma::from_shape(self.mean() * factor, self.shape())
+    }
 }
 
 #[cfg(test)]

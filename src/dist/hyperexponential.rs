@@ -4,6 +4,9 @@ use rand::Rng;
 use rand_distr::{Distribution, Exp1};
 
 use super::error::{LawError, check_mean};
+use super::params::{LawContext, need_cv, need_mean, refused, seconds_amount};
+use crate::units::Amount;
+use serde::{Deserialize, Serialize};
 
 /// Two-phase hyperexponential (H2) law with balanced means.
 ///
@@ -151,6 +154,52 @@ impl Hyperexponential {
         };
         let e: f64 = Exp1.sample(rng);
         e * phase_mean
+    }
+}
+
+/// The parameters of the hyperexponential law as a scenario file writes them:
+/// `{ law = "hyperexponential", mean = "90s", cv = 1.8 }`.
+#[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct HyperexponentialParams {
+    /// Mean (a duration).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub mean: Option<Amount>,
+    /// Coefficient of variation.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub cv: Option<f64>,
+}
+
+impl HyperexponentialParams {
+    /// The law from its parameters, with the scenario file's messages.
+    pub fn build<C: LawContext>(&self, c: &C) -> Result<Hyperexponential, C::Error> {
+        let mean = need_mean(c, "hyperexponential", &self.mean)?;
+        let cv = need_cv(c, "hyperexponential", self.cv)?;
+        refused(c, Hyperexponential::new(mean, cv))
+    }
+
+    /// The parameters that build `law` again.
+    pub fn of(law: &Hyperexponential) -> Self {
+        HyperexponentialParams {
+            mean: seconds_amount(law.mean()),
+            cv: Some(law.cv()),
+        }
+    }
+}
+
+impl Hyperexponential {
+    /// The law in plain words.
+    pub fn describe(&self) -> String {
+        format!(
+            "hyperexponential, mean {} s, cv {:.2}",
+            super::seconds(self.mean()),
+            self.cv()
+        )
+    }
+
+    /// The same law with its mean multiplied by `factor` and its shape kept.
+    pub(crate) fn scaled(&self, factor: f64) -> Result<Self, LawError> {
+        Hyperexponential::new(self.mean() * factor, self.cv())
     }
 }
 

@@ -4,6 +4,9 @@ use rand::Rng;
 use rand_distr::{Distribution, LogNormal as LogNormalSampler};
 
 use super::error::{LawError, check_cv, check_mean};
+use super::params::{LawContext, need_cv, need_mean, refused, seconds_amount};
+use crate::units::Amount;
+use serde::{Deserialize, Serialize};
 
 /// Lognormal law: ln X is normal with mean mu and standard deviation sigma.
 ///
@@ -128,6 +131,52 @@ impl Lognormal {
     #[inline]
     pub fn sample_residual<R: Rng + ?Sized>(&self, rng: &mut R) -> f64 {
         self.biased.sample(rng) * super::open_unit(rng)
+    }
+}
+
+/// The parameters of the lognormal law as a scenario file writes them:
+/// `{ law = "lognormal", mean = "3m", cv = 1.1 }`.
+#[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct LognormalParams {
+    /// Mean (a duration).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub mean: Option<Amount>,
+    /// Coefficient of variation.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub cv: Option<f64>,
+}
+
+impl LognormalParams {
+    /// The law from its parameters, with the scenario file's messages.
+    pub fn build<C: LawContext>(&self, c: &C) -> Result<Lognormal, C::Error> {
+        let mean = need_mean(c, "lognormal", &self.mean)?;
+        let cv = need_cv(c, "lognormal", self.cv)?;
+        refused(c, Lognormal::new(mean, cv))
+    }
+
+    /// The parameters that build `law` again.
+    pub fn of(law: &Lognormal) -> Self {
+        LognormalParams {
+            mean: seconds_amount(law.mean()),
+            cv: Some(law.cv()),
+        }
+    }
+}
+
+impl Lognormal {
+    /// The law in plain words.
+    pub fn describe(&self) -> String {
+        format!(
+            "lognormal, mean {} s, cv {:.2}",
+            super::seconds(self.mean()),
+            self.cv()
+        )
+    }
+
+    /// The same law with its mean multiplied by `factor` and its shape kept.
+    pub(crate) fn scaled(&self, factor: f64) -> Result<Self, LawError> {
+        Lognormal::new(self.mean() * factor, self.cv())
     }
 }
 

@@ -34,51 +34,249 @@ mod exponential;
 mod gamma;
 mod hyperexponential;
 mod lognormal;
+mod params;
 mod uniform;
 mod weibull;
 
 use rand::Rng;
 
-pub use deterministic::Deterministic;
-pub use empirical::{Empirical, EmpiricalError, MAX_LINE_BYTES, read_column};
-pub use erlang::{ERLANG_SUM_MAX_K, Erlang};
+pub use deterministic::{Deterministic, DeterministicParams};
+pub use empirical::{Empirical, EmpiricalError, EmpiricalParams, MAX_LINE_BYTES, read_column};
+pub use erlang::{ERLANG_SUM_MAX_K, Erlang, ErlangParams};
 pub use error::LawError;
-pub use exponential::Exponential;
-pub use gamma::Gamma;
-pub use hyperexponential::Hyperexponential;
-pub use lognormal::Lognormal;
-pub use uniform::{UNIFORM_MAX_CV, Uniform};
+pub use exponential::{Exponential, ExponentialParams};
+pub use gamma::{Gamma, GammaParams};
+pub use hyperexponential::{Hyperexponential, HyperexponentialParams};
+pub use lognormal::{Lognormal, LognormalParams};
+pub use params::{LawContext, field_names};
+pub use uniform::{UNIFORM_MAX_CV, Uniform, UniformParams};
 pub use weibull::{
-    WEIBULL_SHAPE_MAX, WEIBULL_SHAPE_MIN, Weibull, weibull_cv_of_shape, weibull_shape_of_cv,
+    WEIBULL_SHAPE_MAX, WEIBULL_SHAPE_MIN, Weibull, WeibullParams, weibull_cv_of_shape,
+    weibull_shape_of_cv,
 };
 
 use error::is_positive_finite;
 
-/// A probability law for a non-negative time (seconds).
-///
-/// Build one with the constructors below; each validates its parameters
-/// (rejecting NaN, infinities, zero and negative values, and cvs the law
-/// cannot have) and precomputes what sampling needs.
-#[derive(Debug, Clone, PartialEq)]
-pub enum Law {
+/// The list of laws: for each, the `Law` variant, the law's type, its
+/// parameter struct and its name in a scenario file. Generates [`Law`],
+/// [`LawParams`], [`LAW_NAMES`] and the dispatch of every method of both;
+/// a law's type provides `mean`, `cv`, `cdf`, `sample`, `residual_tail`,
+/// `sample_residual`, `describe` and `scaled`, its parameter struct
+/// `build` and `of`, all in the law's own file.
+macro_rules! laws {
+    ($( $(#[$doc:meta])* $variant:ident($law:ident, $params:ident) = $name:tt; )*) => {
+        /// A probability law for a non-negative time (seconds).
+        ///
+        /// Build one with the constructors below or from a scenario file's
+        /// parameters ([`LawParams::build`]); each validates its parameters
+        /// (rejecting NaN, infinities, zero and negative values, and cvs the
+        /// law cannot have) and precomputes what sampling needs.
+        #[derive(Debug, Clone, PartialEq)]
+        pub enum Law {
+            $( $(#[$doc])* $variant($law), )*
+        }
+
+        /// A law's parameters as a scenario file writes them (the keys of
+        /// its table beside `law = "..."`), before they are checked.
+        #[derive(Debug, Clone, PartialEq)]
+        pub enum LawParams {
+            $( #[doc = concat!("`law = \"", $name, "\"`.")] $variant($params), )*
+        }
+
+        /// Every law's name as written in a scenario file (`law = "..."`).
+        pub const LAW_NAMES: &[&str] = &[$($name),*];
+
+        impl Law {
+            /// Mean (seconds).
+            pub fn mean(&self) -> f64 {
+                match self { $( Law::$variant(l) => l.mean(), )* }
+            }
+
+            /// Coefficient of variation (standard deviation / mean).
+            pub fn cv(&self) -> f64 {
+                match self { $( Law::$variant(l) => l.cv(), )* }
+            }
+
+            /// Distribution function F(x) = P(X <= x); 0 for x < 0, NaN for NaN.
+            /// Each law's formula is in its type's doc.
+            pub fn cdf(&self, x: f64) -> f64 {
+                match self { $( Law::$variant(l) => l.cdf(x), )* }
+            }
+
+            /// The law's name as written in a scenario file (`law = "..."`).
+            pub fn name(&self) -> &'static str {
+                match self { $( Law::$variant(_) => $name, )* }
+            }
+
+            /// The law in plain words, e.g. "lognormal, mean 180 s, cv 1.10".
+            pub fn describe(&self) -> String {
+                match self { $( Law::$variant(l) => l.describe(), )* }
+            }
+
+            /// One draw (seconds, >= 0) using the caller's generator.
+            ///
+            /// No allocation; the number of generator words used depends on the law
+            /// (none for deterministic). Method per law: see each type's Numerics.
+            #[inline]
+            pub fn sample<R: Rng + ?Sized>(&self, rng: &mut R) -> f64 {
+                match self { $( Law::$variant(l) => l.sample(rng), )* }
+            }
+
+            /// The stationary-excess (equilibrium residual) law's tail:
+            /// P(R > w) = E\[(S - w)+\] / E\[S\], the integral of 1 - F(x) from w up over
+            /// the mean. 1 for w <= 0, 0 beyond the largest possible holding time,
+            /// non-increasing, NaN for NaN.
+            ///
+            /// R is the remaining time of a call found in progress at a random
+            /// instant of a stationary system (the forward recurrence time of renewal
+            /// theory; Cox, *Renewal Theory*, 1962, ch. 5): its density is
+            /// (1 - F(x)) / E\[S\] and its mean E\[S^2\] / (2 E\[S\]) = m (1 + cv^2) / 2.
+            ///
+            /// # Numerics
+            ///
+            /// Closed forms for every law (each type's "Residual law" section):
+            /// incomplete gamma functions for erlang, gamma and weibull, `erfc` for
+            /// lognormal, exponentials, polynomials, and an exact table for
+            /// empirical. Where a closed form is a difference of two tail terms
+            /// (gamma, erlang, lognormal, weibull), the absolute error stays near
+            /// 1e-16 but the relative error grows once the tail is below about
+            /// 1e-12; results are clamped to [0, 1].
+            ///
+            /// # Example
+            ///
+            /// ```
+            /// use busyhour::dist::Law;
+            ///
+            /// // A constant 120 s: the time left is uniform on (0, 120 s).
+            /// let law = Law::deterministic(120.0).unwrap();
+            /// assert_eq!(law.residual_tail(30.0), 0.75);
+            /// // Exponential: memoryless, the residual is the law itself.
+            /// let law = Law::exponential(180.0).unwrap();
+            /// assert!((law.residual_tail(180.0) - (-1.0f64).exp()).abs() < 1e-15);
+            /// ```
+            pub fn residual_tail(&self, w: f64) -> f64 {
+                match self { $( Law::$variant(l) => l.residual_tail(w), )* }
+            }
+
+            /// One draw (seconds, >= 0) from the stationary-excess (equilibrium
+            /// residual) law, whose tail is [`Law::residual_tail`]: the time still to
+            /// run of a call in progress in a stationary system.
+            ///
+            /// # Numerics
+            ///
+            /// Exact for every law: a draw of the length-biased law (density
+            /// x f(x) / E\[S\]) times an independent uniform on (0, 1) has density
+            /// (1 - F(x)) / E\[S\] (Cox 1962, ch. 5). Exponential and hyperexponential
+            /// phases are drawn directly (an exponential's residual is itself). The
+            /// length-biased samplers are built with the law. The generator words
+            /// used differ from [`Law::sample`]'s, so a residual draw never shifts
+            /// the numbers of ordinary draws from another generator.
+            pub fn sample_residual<R: Rng + ?Sized>(&self, rng: &mut R) -> f64 {
+                match self { $( Law::$variant(l) => l.sample_residual(rng), )* }
+            }
+
+            /// The parameters that build this law again ([`LawParams::build`]):
+            /// means as numbers of seconds, gamma and weibull by their shape.
+            /// An empirical law's are empty: its values live in the law, and
+            /// whoever writes the file names the data file.
+            pub fn params(&self) -> LawParams {
+                match self { $( Law::$variant(l) => LawParams::$variant($params::of(l)), )* }
+            }
+
+            fn scaled_by(&self, factor: f64) -> Result<Law, LawError> {
+                match self { $( Law::$variant(l) => l.scaled(factor).map(Law::$variant), )* }
+            }
+        }
+
+        impl LawParams {
+            /// The law's name as written in a scenario file.
+            pub fn name(&self) -> &'static str {
+                match self { $( LawParams::$variant(_) => $name, )* }
+            }
+
+            /// The keys the law named `name` takes beside `law`, in the
+            /// order of its parameter struct; `None` for no such law.
+            pub fn keys(name: &str) -> Option<&'static [&'static str]> {
+                match name {
+                    $( $name => Some(field_names::<$params>()), )*
+                    _ => None,
+                }
+            }
+
+            /// The parameters of the law named `name` from a deserializer of
+            /// its table without the `law` key (unknown keys refused); `None`
+            /// for no such law.
+            pub fn deserialize_named<'de, D: serde::Deserializer<'de>>(
+                name: &str,
+                d: D,
+            ) -> Option<Result<LawParams, D::Error>> {
+                use serde::Deserialize as _;
+                match name {
+                    $( $name => Some($params::deserialize(d).map(LawParams::$variant)), )*
+                    _ => None,
+                }
+            }
+
+            /// The law, checked, with the messages of a scenario file.
+            pub fn build<C: LawContext>(&self, c: &C) -> Result<Law, C::Error> {
+                match self { $( LawParams::$variant(p) => p.build(c).map(Law::$variant), )* }
+            }
+        }
+
+        /// The parameters alone (the keys beside `law`), in the order of the
+        /// law's parameter struct, absent ones left out.
+        impl serde::Serialize for LawParams {
+            fn serialize<S: serde::Serializer>(&self, s: S) -> Result<S::Ok, S::Error> {
+                match self { $( LawParams::$variant(p) => p.serialize(s), )* }
+            }
+        }
+    };
+}
+
+laws! {
     /// Exponential law (cv 1).
-    Exponential(Exponential),
+    Exponential(Exponential, ExponentialParams) = "exponential";
     /// Erlang-k law (cv 1/sqrt k).
-    Erlang(Erlang),
+    Erlang(Erlang, ErlangParams) = "erlang";
     /// Gamma law.
-    Gamma(Gamma),
+    Gamma(Gamma, GammaParams) = "gamma";
     /// Lognormal law.
-    Lognormal(Lognormal),
+    Lognormal(Lognormal, LognormalParams) = "lognormal";
     /// Two-phase hyperexponential with balanced means (cv >= 1).
-    Hyperexponential(Hyperexponential),
+    Hyperexponential(Hyperexponential, HyperexponentialParams) = "hyperexponential";
     /// A constant time (cv 0).
-    Deterministic(Deterministic),
+    Deterministic(Deterministic, DeterministicParams) = "deterministic";
     /// Uniform law symmetric about its mean (cv <= 1/sqrt 3).
-    Uniform(Uniform),
+    Uniform(Uniform, UniformParams) = "uniform";
     /// Weibull law.
-    Weibull(Weibull),
+    Weibull(Weibull, WeibullParams) = "weibull";
     /// Law interpolated from measured values.
-    Empirical(Empirical),
+    Empirical(Empirical, EmpiricalParams) = "empirical";
+}
+
+/// Every key any law takes beside `law` (and `law` itself first), each
+/// once, in the order of the list: what a law's table may hold at all.
+pub fn all_law_keys() -> &'static [&'static str] {
+    static KEYS: std::sync::OnceLock<Vec<&'static str>> = std::sync::OnceLock::new();
+    KEYS.get_or_init(|| {
+        let mut keys = vec!["law"];
+        for name in LAW_NAMES {
+            for k in LawParams::keys(name).unwrap_or(&[]) {
+                if !keys.contains(k) {
+                    keys.push(k);
+                }
+            }
+        }
+        keys
+    })
+}
+
+/// Draws as [`Law::sample`] does, for code written against `rand_distr`.
+impl rand_distr::Distribution<f64> for Law {
+    #[inline]
+    fn sample<R: Rng + ?Sized>(&self, rng: &mut R) -> f64 {
+        Law::sample(self, rng)
+    }
 }
 
 impl Law {
@@ -87,7 +285,6 @@ impl Law {
     pub fn exponential(mean: f64) -> Result<Law, LawError> {
         Exponential::new(mean).map(Law::Exponential)
     }
-
     /// Erlang law of k phases, each exponential with mean `mean / k`; cv = 1/sqrt(k).
     /// See [`Erlang`].
     pub fn erlang(mean: f64, k: u32) -> Result<Law, LawError> {
@@ -180,220 +377,23 @@ impl Law {
         Empirical::new(values).map(Law::Empirical)
     }
 
-    /// Mean (seconds).
-    pub fn mean(&self) -> f64 {
-        match self {
-            Law::Exponential(l) => l.mean(),
-            Law::Erlang(l) => l.mean(),
-            Law::Gamma(l) => l.mean(),
-            Law::Lognormal(l) => l.mean(),
-            Law::Hyperexponential(l) => l.mean(),
-            Law::Deterministic(l) => l.mean(),
-            Law::Uniform(l) => l.mean(),
-            Law::Weibull(l) => l.mean(),
-            Law::Empirical(l) => l.mean(),
-        }
-    }
-
-    /// Coefficient of variation (standard deviation / mean).
-    pub fn cv(&self) -> f64 {
-        match self {
-            Law::Exponential(l) => l.cv(),
-            Law::Erlang(l) => l.cv(),
-            Law::Gamma(l) => l.cv(),
-            Law::Lognormal(l) => l.cv(),
-            Law::Hyperexponential(l) => l.cv(),
-            Law::Deterministic(l) => l.cv(),
-            Law::Uniform(l) => l.cv(),
-            Law::Weibull(l) => l.cv(),
-            Law::Empirical(l) => l.cv(),
-        }
-    }
-
-    /// Distribution function F(x) = P(X <= x); 0 for x < 0, NaN for NaN.
-    /// Each law's formula is in its type's doc.
-    pub fn cdf(&self, x: f64) -> f64 {
-        match self {
-            Law::Exponential(l) => l.cdf(x),
-            Law::Erlang(l) => l.cdf(x),
-            Law::Gamma(l) => l.cdf(x),
-            Law::Lognormal(l) => l.cdf(x),
-            Law::Hyperexponential(l) => l.cdf(x),
-            Law::Deterministic(l) => l.cdf(x),
-            Law::Uniform(l) => l.cdf(x),
-            Law::Weibull(l) => l.cdf(x),
-            Law::Empirical(l) => l.cdf(x),
-        }
-    }
-
-    /// The law's name as written in a scenario file (`law = "..."`).
-    pub fn name(&self) -> &'static str {
-        match self {
-            Law::Exponential(_) => "exponential",
-            Law::Erlang(_) => "erlang",
-            Law::Gamma(_) => "gamma",
-            Law::Lognormal(_) => "lognormal",
-            Law::Hyperexponential(_) => "hyperexponential",
-            Law::Deterministic(_) => "deterministic",
-            Law::Uniform(_) => "uniform",
-            Law::Weibull(_) => "weibull",
-            Law::Empirical(_) => "empirical",
-        }
-    }
-
-    /// The law in plain words, e.g. "lognormal, mean 180 s, cv 1.10".
-    pub fn describe(&self) -> String {
-        let mean = seconds(self.mean());
-        let cv = self.cv();
-        match self {
-            Law::Exponential(_) => format!("exponential, mean {mean} s, cv 1"),
-            Law::Erlang(l) => format!("erlang with {} phases, mean {mean} s, cv {cv:.2}", l.k()),
-            Law::Gamma(l) => format!(
-                "gamma, mean {mean} s, cv {cv:.2} (shape {})",
-                significant(l.shape(), 3)
-            ),
-            Law::Lognormal(_) => format!("lognormal, mean {mean} s, cv {cv:.2}"),
-            Law::Hyperexponential(_) => format!("hyperexponential, mean {mean} s, cv {cv:.2}"),
-            Law::Deterministic(_) => format!("deterministic, {mean} s"),
-            Law::Uniform(l) => {
-                let (lo, hi) = l.bounds();
-                format!(
-                    "uniform from {} s to {} s, mean {mean} s, cv {cv:.2}",
-                    seconds(lo),
-                    seconds(hi)
-                )
-            }
-            Law::Weibull(l) => format!(
-                "weibull, mean {mean} s, cv {cv:.2} (shape {})",
-                significant(l.shape(), 3)
-            ),
-            Law::Empirical(l) => {
-                let v = l.values();
-                format!(
-                    "empirical from {} values ({} s to {} s), mean {mean} s, cv {cv:.2}",
-                    l.len(),
-                    seconds(v[0]),
-                    seconds(v[v.len() - 1])
-                )
-            }
-        }
-    }
-
-    /// One draw (seconds, >= 0) using the caller's generator.
-    ///
-    /// No allocation; the number of generator words used depends on the law
-    /// (none for deterministic). Method per law: see each type's Numerics.
-    #[inline]
-    pub fn sample<R: Rng + ?Sized>(&self, rng: &mut R) -> f64 {
-        match self {
-            Law::Exponential(l) => l.sample(rng),
-            Law::Erlang(l) => l.sample(rng),
-            Law::Gamma(l) => l.sample(rng),
-            Law::Lognormal(l) => l.sample(rng),
-            Law::Hyperexponential(l) => l.sample(rng),
-            Law::Deterministic(l) => l.sample(),
-            Law::Uniform(l) => l.sample(rng),
-            Law::Weibull(l) => l.sample(rng),
-            Law::Empirical(l) => l.sample(rng),
-        }
-    }
-
-    /// The stationary-excess (equilibrium residual) law's tail:
-    /// P(R > w) = E\[(S - w)+\] / E\[S\], the integral of 1 - F(x) from w up over
-    /// the mean. 1 for w <= 0, 0 beyond the largest possible holding time,
-    /// non-increasing, NaN for NaN.
-    ///
-    /// R is the remaining time of a call found in progress at a random
-    /// instant of a stationary system (the forward recurrence time of renewal
-    /// theory; Cox, *Renewal Theory*, 1962, ch. 5): its density is
-    /// (1 - F(x)) / E\[S\] and its mean E\[S^2\] / (2 E\[S\]) = m (1 + cv^2) / 2.
-    ///
-    /// # Numerics
-    ///
-    /// Closed forms for every law (each type's "Residual law" section):
-    /// incomplete gamma functions for erlang, gamma and weibull, `erfc` for
-    /// lognormal, exponentials, polynomials, and an exact table for
-    /// empirical. Where a closed form is a difference of two tail terms
-    /// (gamma, erlang, lognormal, weibull), the absolute error stays near
-    /// 1e-16 but the relative error grows once the tail is below about
-    /// 1e-12; results are clamped to [0, 1].
-    ///
-    /// # Example
-    ///
-    /// ```
-    /// use busyhour::dist::Law;
-    ///
-    /// // A constant 120 s: the time left is uniform on (0, 120 s).
-    /// let law = Law::deterministic(120.0).unwrap();
-    /// assert_eq!(law.residual_tail(30.0), 0.75);
-    /// // Exponential: memoryless, the residual is the law itself.
-    /// let law = Law::exponential(180.0).unwrap();
-    /// assert!((law.residual_tail(180.0) - (-1.0f64).exp()).abs() < 1e-15);
-    /// ```
-    pub fn residual_tail(&self, w: f64) -> f64 {
-        match self {
-            Law::Exponential(l) => l.residual_tail(w),
-            Law::Erlang(l) => l.residual_tail(w),
-            Law::Gamma(l) => l.residual_tail(w),
-            Law::Lognormal(l) => l.residual_tail(w),
-            Law::Hyperexponential(l) => l.residual_tail(w),
-            Law::Deterministic(l) => l.residual_tail(w),
-            Law::Uniform(l) => l.residual_tail(w),
-            Law::Weibull(l) => l.residual_tail(w),
-            Law::Empirical(l) => l.residual_tail(w),
-        }
-    }
-
-    /// One draw (seconds, >= 0) from the stationary-excess (equilibrium
-    /// residual) law, whose tail is [`Law::residual_tail`]: the time still to
-    /// run of a call in progress in a stationary system.
-    ///
-    /// # Numerics
-    ///
-    /// Exact for every law: a draw of the length-biased law (density
-    /// x f(x) / E\[S\]) times an independent uniform on (0, 1) has density
-    /// (1 - F(x)) / E\[S\] (Cox 1962, ch. 5). Exponential and hyperexponential
-    /// phases are drawn directly (an exponential's residual is itself). The
-    /// length-biased samplers are built with the law. The generator words
-    /// used differ from [`Law::sample`]'s, so a residual draw never shifts
-    /// the numbers of ordinary draws from another generator.
-    pub fn sample_residual<R: Rng + ?Sized>(&self, rng: &mut R) -> f64 {
-        match self {
-            Law::Exponential(l) => l.sample_residual(rng),
-            Law::Erlang(l) => l.sample_residual(rng),
-            Law::Gamma(l) => l.sample_residual(rng),
-            Law::Lognormal(l) => l.sample_residual(rng),
-            Law::Hyperexponential(l) => l.sample_residual(rng),
-            Law::Deterministic(l) => l.sample_residual(rng),
-            Law::Uniform(l) => l.sample_residual(rng),
-            Law::Weibull(l) => l.sample_residual(rng),
-            Law::Empirical(l) => l.sample_residual(rng),
-        }
+    /// Whether this is the exponential law (memoryless: the condition of
+    /// the Markov formulas).
+    pub fn is_exponential(&self) -> bool {
+        matches!(self, Law::Exponential(_))
     }
 
     /// The same law with its mean multiplied by `factor` and its shape (cv,
     /// k, shape) unchanged; an empirical law has every value multiplied. All
     /// these laws are scale families, so X' = factor X in distribution.
     ///
-    /// # Panics
-    ///
-    /// If `factor` is not finite and > 0, or the scaled law leaves
-    /// floating-point range. Use [`Law::try_scaled`] for a factor that comes
-    /// from a user.
-    pub fn scaled(&self, factor: f64) -> Law {
-        match self.try_scaled(factor) {
-            Ok(law) => law,
-            Err(e) => panic!("Law::scaled: {e}"),
-        }
-    }
-
-    /// As [`Law::scaled`], returning an error instead of panicking.
-    pub fn try_scaled(&self, factor: f64) -> Result<Law, LawError> {
+    /// Fails when `factor` is not finite and > 0, or when the scaled law
+    /// leaves floating-point range.
+    pub fn scaled(&self, factor: f64) -> Result<Law, LawError> {
         if !is_positive_finite(factor) {
             return Err(LawError::ScaleFactor { value: factor });
         }
-        let mean = self.mean() * factor;
-        if !mean.is_finite() {
+        if !(self.mean() * factor).is_finite() {
             return Err(LawError::OutOfRange {
                 law: self.name(),
                 mean: self.mean(),
@@ -401,17 +401,7 @@ impl Law {
                 value: factor,
             });
         }
-        match self {
-            Law::Exponential(_) => Law::exponential(mean),
-            Law::Erlang(l) => Law::erlang(mean, l.k()),
-            Law::Gamma(l) => Law::gamma_shape(mean, l.shape()),
-            Law::Lognormal(l) => Law::lognormal(mean, l.cv()),
-            Law::Hyperexponential(l) => Law::hyperexponential(mean, l.cv()),
-            Law::Deterministic(_) => Law::deterministic(mean),
-            Law::Uniform(l) => Law::uniform(mean, l.cv()),
-            Law::Weibull(l) => l.scaled(factor).map(Law::Weibull),
-            Law::Empirical(l) => l.scaled(factor).map(Law::Empirical),
-        }
+        self.scaled_by(factor)
     }
 }
 
@@ -526,18 +516,125 @@ mod tests {
     }
 
     #[test]
-    fn try_scaled_rejects_bad_factors() {
+    fn scaled_rejects_bad_factors() {
         let law = Law::exponential(60.0).unwrap();
         for bad in [f64::NAN, f64::INFINITY, 0.0, -2.0] {
-            assert!(matches!(
-                law.try_scaled(bad),
-                Err(LawError::ScaleFactor { .. })
-            ));
+            assert!(matches!(law.scaled(bad), Err(LawError::ScaleFactor { .. })));
         }
         assert!(matches!(
-            law.try_scaled(1e308),
+            law.scaled(1e308),
             Err(LawError::OutOfRange { .. })
         ));
-        assert_eq!(law.scaled(2.0).mean(), 120.0);
+        assert_eq!(law.scaled(2.0).unwrap().mean(), 120.0);
+    }
+
+    /// A context without a file: durations as numbers or unit text, data
+    /// files answered with three fixed values.
+    struct Plain;
+
+    impl LawContext for Plain {
+        type Error = String;
+        fn invalid(&self, field: Option<&str>, message: String) -> String {
+            format!("{field:?}: {message}")
+        }
+        fn positive_duration(&self, _: &str, value: &crate::units::Amount) -> Result<f64, String> {
+            match value {
+                crate::units::Amount::Number(x) => Ok(*x),
+                crate::units::Amount::Text(t) => {
+                    crate::units::parse_duration(t).map_err(|e| e.to_string())
+                }
+            }
+        }
+        fn count(&self, _: &str, value: i64, min: i64, max: i64) -> Result<u32, String> {
+            u32::try_from(value)
+                .ok()
+                .filter(|_| (min..=max).contains(&value))
+                .ok_or_else(|| format!("{value} out of range"))
+        }
+        fn data_values(
+            &self,
+            _: &str,
+            _: &str,
+            _: Option<&str>,
+            _: f64,
+        ) -> Result<Vec<f64>, String> {
+            Ok(vec![3.0, 1.0, 2.0])
+        }
+    }
+
+    #[test]
+    fn params_build_the_same_law_again() {
+        let laws = [
+            Law::exponential(40.0),
+            Law::erlang(180.0, 3),
+            Law::gamma(6.0, 0.5),
+            Law::gamma_shape(6.0, 2.5),
+            Law::lognormal(180.0, 1.1),
+            Law::hyperexponential(60.0, 2.0),
+            Law::deterministic(90.0),
+            Law::uniform(100.0, 0.2),
+            Law::weibull_shape(100.0, 2.0),
+            Law::empirical(vec![3.0, 1.0, 2.0]),
+        ];
+        for law in laws {
+            let law = law.unwrap();
+            let mut params = law.params();
+            if let LawParams::Empirical(p) = &mut params {
+                // The values live in the law; a file names where they are.
+                p.file = Some("values.csv".into());
+            }
+            assert_eq!(params.name(), law.name());
+            assert_eq!(params.build(&Plain), Ok(law.clone()), "{}", law.describe());
+        }
+    }
+
+    #[test]
+    fn allowed_keys_come_from_the_parameter_structs() {
+        assert_eq!(LawParams::keys("gamma"), Some(&["mean", "cv", "shape"][..]));
+        assert_eq!(LawParams::keys("erlang"), Some(&["mean", "k"][..]));
+        assert_eq!(
+            LawParams::keys("empirical"),
+            Some(&["file", "column", "scale"][..])
+        );
+        assert_eq!(LawParams::keys("pareto"), None);
+        assert_eq!(
+            all_law_keys(),
+            ["law", "mean", "k", "cv", "shape", "file", "column", "scale"]
+        );
+        assert_eq!(LAW_NAMES.len(), 9);
+    }
+
+    #[test]
+    fn missing_parameters_get_the_law_s_message() {
+        let gamma = LawParams::Gamma(GammaParams {
+            mean: Some(crate::units::Amount::Text("6s".into())),
+            cv: Some(0.5),
+            shape: Some(4.0),
+        });
+        assert_eq!(
+            gamma.build(&Plain),
+            Err("None: give either cv or shape, not both".to_string())
+        );
+        let erlang = LawParams::Erlang(ErlangParams::default());
+        assert_eq!(
+            erlang.build(&Plain),
+            Err("Some(\"mean\"): the erlang law needs a mean, like mean = \"3m\"".to_string())
+        );
+    }
+
+    #[test]
+    fn draws_through_rand_distr_are_the_law_s_draws() {
+        use rand::SeedableRng;
+        use rand_xoshiro::Xoshiro256PlusPlus;
+        let law = Law::gamma(6.0, 0.5).unwrap();
+        let mut a = Xoshiro256PlusPlus::seed_from_u64(3);
+        let mut b = Xoshiro256PlusPlus::seed_from_u64(3);
+        let via_trait: Vec<f64> = rand_distr::Distribution::sample_iter(&law, &mut a)
+            .take(5)
+            .collect();
+        let direct: Vec<f64> = (0..5).map(|_| law.sample(&mut b)).collect();
+        assert_eq!(via_trait, direct);
+        assert!(Law::exponential(1.0).unwrap().is_exponential());
+        assert!(!Law::erlang(1.0, 1).unwrap().is_exponential());
     }
 }

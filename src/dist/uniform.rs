@@ -4,6 +4,9 @@ use rand::{Rng, RngExt};
 use rand_distr::{Distribution, Uniform as UniformSampler};
 
 use super::error::{LawError, check_cv, check_mean};
+use super::params::{LawContext, need_cv, need_mean, refused, seconds_amount};
+use crate::units::Amount;
+use serde::{Deserialize, Serialize};
 
 /// Largest cv of a uniform law on [m - h, m + h] that stays at or above 0: 1 / sqrt(3).
 pub const UNIFORM_MAX_CV: f64 = 0.577_350_269_189_625_8;
@@ -124,6 +127,55 @@ impl Uniform {
         let biased = (self.low_sq + u * self.span_sq).sqrt();
         // Rounding must not leave the interval.
         biased.clamp(self.low, self.high) * super::open_unit(rng)
+    }
+}
+
+/// The parameters of the uniform law as a scenario file writes them:
+/// `{ law = "uniform", mean = "1m", cv = 0.3 }`.
+#[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct UniformParams {
+    /// Mean (a duration).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub mean: Option<Amount>,
+    /// Coefficient of variation.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub cv: Option<f64>,
+}
+
+impl UniformParams {
+    /// The law from its parameters, with the scenario file's messages.
+    pub fn build<C: LawContext>(&self, c: &C) -> Result<Uniform, C::Error> {
+        let mean = need_mean(c, "uniform", &self.mean)?;
+        let cv = need_cv(c, "uniform", self.cv)?;
+        refused(c, Uniform::new(mean, cv))
+    }
+
+    /// The parameters that build `law` again.
+    pub fn of(law: &Uniform) -> Self {
+        UniformParams {
+            mean: seconds_amount(law.mean()),
+            cv: Some(law.cv()),
+        }
+    }
+}
+
+impl Uniform {
+    /// The law in plain words.
+    pub fn describe(&self) -> String {
+        let (lo, hi) = self.bounds();
+        format!(
+            "uniform from {} s to {} s, mean {} s, cv {:.2}",
+            super::seconds(lo),
+            super::seconds(hi),
+            super::seconds(self.mean()),
+            self.cv()
+        )
+    }
+
+    /// The same law with its mean multiplied by `factor` and its shape kept.
+    pub(crate) fn scaled(&self, factor: f64) -> Result<Self, LawError> {
+        Uniform::new(self.mean() * factor, self.cv())
     }
 }
 

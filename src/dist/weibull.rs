@@ -5,6 +5,9 @@ use rand_distr::{Distribution, Gamma as GammaSampler, Weibull as WeibullSampler}
 use statrs::function::gamma::ln_gamma;
 
 use super::error::{LawError, check_cv, check_mean, is_positive_finite};
+use super::params::{CvOrShape, LawContext, cv_or_shape, need_mean, refused, seconds_amount};
+use crate::units::Amount;
+use serde::{Deserialize, Serialize};
 
 /// Smallest supported Weibull shape (cv about 3.7e5).
 pub const WEIBULL_SHAPE_MIN: f64 = 0.05;
@@ -220,6 +223,55 @@ impl Weibull {
     pub fn sample_residual<R: Rng + ?Sized>(&self, rng: &mut R) -> f64 {
         let y = self.biased.sample(rng);
         self.scale * y.powf(1.0 / self.shape) * super::open_unit(rng)
+    }
+}
+
+/// The parameters of the weibull law as a scenario file writes them:
+/// `{ law = "weibull", mean = "1m", cv = 0.8 }` or with `shape = 1.5` instead of the cv.
+#[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct WeibullParams {
+    /// Mean (a duration).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub mean: Option<Amount>,
+    /// Coefficient of variation (or give the shape).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub cv: Option<f64>,
+    /// Shape k (or give the cv).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub shape: Option<f64>,
+}
+
+impl WeibullParams {
+    /// The law from its parameters, with the scenario file's messages.
+    pub fn build<C: LawContext>(&self, c: &C) -> Result<Weibull, C::Error> {
+        let mean = need_mean(c, "weibull", &self.mean)?;
+        let made = match cv_or_shape(c, "weibull", self.cv, self.shape)? {
+            CvOrShape::Cv(cv) => Weibull::from_cv(mean, cv),
+            CvOrShape::Shape(shape) => Weibull::from_shape(mean, shape),
+        };
+        refused(c, made)
+    }
+
+    /// The parameters that build `law` again.
+    pub fn of(law: &Weibull) -> Self {
+        WeibullParams {
+            mean: seconds_amount(law.mean()),
+            cv: None,
+            shape: Some(law.shape()),
+        }
+    }
+}
+
+impl Weibull {
+    /// The law in plain words.
+    pub fn describe(&self) -> String {
+        format!(
+            "weibull, mean {} s, cv {:.2} (shape {})",
+            super::seconds(self.mean()),
+            self.cv(),
+            super::significant(self.shape(), 3)
+        )
     }
 }
 

@@ -29,6 +29,9 @@ pub enum ExperimentError {
         /// Why.
         reason: String,
     },
+    /// A sweep step or sizing probe the model cannot take.
+    #[error(transparent)]
+    Transform(#[from] crate::scenario::TransformError),
 }
 
 /// How to run.

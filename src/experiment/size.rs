@@ -458,7 +458,7 @@ pub fn default_cap(model: &Model, goals: &[Goal], start: u32) -> u32 {
 /// every goal's figures have a formula at every size tried.
 pub fn formula_answer(model: &Model, group: usize, goals: &[Goal], limit: u32) -> Option<u32> {
     let meets = |n: u32| -> Option<bool> {
-        let m = model.with_servers(group, n);
+        let m = model.with_servers(group, n).ok()?;
         let col = formula_column(&m);
         let mut all = true;
         for g in goals {
@@ -513,7 +513,15 @@ pub fn size(
     let current = model.groups[group].servers;
     let limit = ((offered * 4.0 + 100.0) as u32)
         .max(current.saturating_mul(4))
-        .min(crate::scenario::MAX_SERVERS as u32);
+        .min(crate::scenario::MAX_GROUP_SERVERS as u32);
+    // The group exists and every size probed lies in 1..=limit, within the
+    // scenario's limit: after this check no probe's model can fail.
+    model.with_servers(group, limit)?;
+    let resized = |n: u32| {
+        model
+            .with_servers(group, n)
+            .expect("sizes probed lie in 1..=limit, checked above")
+    };
     let formula_servers = formula_answer(model, group, &goals, limit);
     let mut runs: BTreeMap<u32, Accumulated> = BTreeMap::new();
     let mut evaluations: BTreeMap<u32, Evaluation> = BTreeMap::new();
@@ -531,7 +539,7 @@ pub fn size(
             .log2()
             .ceil() as u32;
     let mut evaluate = |n: u32, runs: &mut BTreeMap<u32, Accumulated>| -> Option<Evaluation> {
-        let m = model.with_servers(group, n);
+        let m = resized(n);
         let layout = stats::layout(&m);
         let acc = runs.entry(n).or_default();
         let (_, stopped) = runner.run_plan(&m, &how.replications, acc);

@@ -3,7 +3,7 @@
 //! numbers), for peak-hour stress tests.
 
 use super::{Accumulated, ExperimentError, Outcome, RunOptions, Runner, outcome_of};
-use crate::scenario::{Model, Replications};
+use crate::scenario::{Model, Replications, TransformError};
 use std::time::Instant;
 use thiserror::Error;
 
@@ -25,6 +25,14 @@ pub enum SweepError {
         text: String,
         /// What is wrong.
         reason: String,
+    },
+    /// A value the model cannot take (a scale that takes a stream out of range).
+    #[error("'{text}': {reason}")]
+    Transform {
+        /// The text.
+        text: String,
+        /// Why the model refuses it.
+        reason: TransformError,
     },
     /// The named stream or group does not exist.
     #[error("'{text}': no {what} is named \"{name}\"")]
@@ -114,7 +122,7 @@ impl Sweep {
                 reason: "scale factors must be above 0 and at most 1000".into(),
             });
         }
-        Ok(Sweep::Scale { stream, values })
+        Sweep::Scale { stream, values }.checked(text, model)
     }
 
     /// Parse `--servers group=start:end[:step]`.
@@ -132,17 +140,30 @@ impl Sweep {
         let values = parse_range(range, Some(1.0))?;
         if values
             .iter()
-            .any(|v| v.fract() != 0.0 || *v < 1.0 || *v > crate::scenario::MAX_SERVERS as f64)
+            .any(|v| v.fract() != 0.0 || *v < 1.0 || *v > crate::scenario::MAX_GROUP_SERVERS as f64)
         {
             return Err(SweepError::Values {
                 text: text.to_string(),
                 reason: "server counts must be whole numbers from 1 to 1000000".into(),
             });
         }
-        Ok(Sweep::Servers {
+        Sweep::Servers {
             group,
             values: values.into_iter().map(|v| v as u32).collect(),
-        })
+        }
+        .checked(text, model)
+    }
+
+    /// The sweep, once every step's model has been built from `model`.
+    fn checked(self, text: &str, model: &Model) -> Result<Sweep, SweepError> {
+        for i in 0..self.values().len() {
+            self.model_at(model, i)
+                .map_err(|reason| SweepError::Transform {
+                    text: text.to_string(),
+                    reason,
+                })?;
+        }
+        Ok(self)
     }
 
     /// The swept values as numbers.
@@ -153,8 +174,9 @@ impl Sweep {
         }
     }
 
-    /// The model at step `i`.
-    pub fn model_at(&self, model: &Model, i: usize) -> Model {
+    /// The model at step `i`. Fails only for a step the parsers refuse
+    /// (a sweep built by hand may hold one).
+    pub fn model_at(&self, model: &Model, i: usize) -> Result<Model, TransformError> {
         match self {
             Sweep::Scale { stream, values } => model.with_load_scaled(values[i], *stream),
             Sweep::Servers { group, values } => model.with_servers(*group, values[i]),
@@ -195,7 +217,7 @@ pub fn run(
     let mut steps = Vec::new();
     for (i, value) in sweep.values().into_iter().enumerate() {
         let started = Instant::now();
-        let m = sweep.model_at(model, i);
+        let m = sweep.model_at(model, i)?;
         let mut acc = Accumulated::default();
         let (precision, stopped) = runner.run_plan(&m, plan, &mut acc);
         if stopped {

@@ -20,8 +20,9 @@
 //! seconds   = events / (EVENTS_PER_SECOND_PER_CORE x min(cores, replications))
 //! ```
 //!
-//! Rates: Poisson its rate; a peak profile its first rate in the warm-up,
-//! its mean over the length and its last rate in the drain; renewal
+//! Rates (`Arrivals::rate_over` the whole span): Poisson its rate; a peak
+//! profile its first rate in the warm-up, its mean over the length and its
+//! last rate in the drain; renewal
 //! 1 / mean time between arrivals; finite sources count / mean idle time
 //! (each source calls at most once per idle period: an upper bound).
 //! Attempts assume every attempt fails (an upper bound: at most
@@ -96,19 +97,14 @@ pub fn events_per_replication(model: &Model) -> f64 {
         let drain = plan
             .length_s
             .min(DRAIN_HOLDING_TIMES * s.holding.mean().max(0.0));
+        // The warm-up and the drain run at the profile's first and last rates.
+        let span_s = plan.warmup_s + plan.length_s + drain;
         let calls = match &s.arrivals {
-            Arrivals::Poisson { rate } => rate * (plan.warmup_s + plan.length_s + drain),
-            Arrivals::Profile { rates, .. } => {
-                let first = rates.first().copied().unwrap_or(0.0);
-                let last = rates.last().copied().unwrap_or(0.0);
-                let mean = s.arrivals.mean_rate(plan.length_s).unwrap_or(0.0);
-                first * plan.warmup_s + mean * plan.length_s + last * drain
-            }
-            Arrivals::Renewal { between } => {
-                (plan.warmup_s + plan.length_s + drain) / between.mean()
-            }
-            Arrivals::Sources { count, idle } => {
-                f64::from(*count) * (plan.warmup_s + plan.length_s + drain) / idle.mean()
+            Arrivals::Sources { count, idle } => f64::from(*count) * span_s / idle.mean(),
+            a => {
+                a.rate_over(-plan.warmup_s, plan.length_s + drain)
+                    .unwrap_or(0.0)
+                    * span_s
             }
         };
         let attempts = match &s.retry {

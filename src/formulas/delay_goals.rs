@@ -10,7 +10,7 @@
 //! longer waits), so the searches bracket and bisect.
 
 use super::erlang_a;
-use super::erlang_b::MAX_SERVERS;
+use super::erlang_b::MAX_FORMULA_SERVERS;
 use super::erlang_c;
 use super::error::{FormulaError, non_negative, open_share, positive};
 
@@ -163,7 +163,7 @@ fn meets(
 /// # Errors
 ///
 /// No goal, invalid goals or arguments; [`FormulaError::OutOfRange`] when
-/// even [`MAX_SERVERS`] agents do not meet the goals.
+/// even [`MAX_FORMULA_SERVERS`] agents do not meet the goals.
 pub fn agents_for(
     traffic: f64,
     holding_s: f64,
@@ -178,7 +178,7 @@ pub fn agents_for(
         return Ok(1);
     }
     // Bracket: the least stable size (Erlang C) or 1, then doubling steps.
-    let mut lo = (traffic.floor() as u32).clamp(1, MAX_SERVERS);
+    let mut lo = (traffic.floor() as u32).clamp(1, MAX_FORMULA_SERVERS);
     let mut hi;
     if ok(lo)? {
         hi = lo;
@@ -186,14 +186,14 @@ pub fn agents_for(
     } else {
         let mut step = (traffic.sqrt().ceil() as u32).max(1);
         loop {
-            hi = lo.saturating_add(step).min(MAX_SERVERS);
+            hi = lo.saturating_add(step).min(MAX_FORMULA_SERVERS);
             if ok(hi)? {
                 break;
             }
-            if hi == MAX_SERVERS {
+            if hi == MAX_FORMULA_SERVERS {
                 return Err(FormulaError::OutOfRange {
                     what: "agents needed for the goals",
-                    limit: u64::from(MAX_SERVERS),
+                    limit: u64::from(MAX_FORMULA_SERVERS),
                 });
             }
             lo = hi;

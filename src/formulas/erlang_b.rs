@@ -9,7 +9,7 @@ use super::error::{FormulaError, at_least_one, non_negative, open_share, positiv
 use super::scaled::{BIG, SHIFT, SMALL, Scaled, ldexp};
 
 /// The most servers any formula accepts or an inverse will count up to.
-pub const MAX_SERVERS: u32 = 100_000_000;
+pub const MAX_FORMULA_SERVERS: u32 = 100_000_000;
 
 /// The running state of the recursion `J(n) = n/A · (1 + J(n-1))`, `J(0) = 0`,
 /// where `J(n) = Σ_{k<n} π_k / π_n` is the probability mass of the states
@@ -112,13 +112,13 @@ fn check_traffic(traffic: f64) -> Result<f64, FormulaError> {
     non_negative("offered traffic (erlangs)", traffic)
 }
 
-/// Accepts up to [`MAX_SERVERS`] servers (the recursions take one step per
+/// Accepts up to [`MAX_FORMULA_SERVERS`] servers (the recursions take one step per
 /// server).
 pub(crate) fn check_servers(what: &'static str, servers: u32) -> Result<u32, FormulaError> {
-    if servers > MAX_SERVERS {
+    if servers > MAX_FORMULA_SERVERS {
         return Err(FormulaError::OutOfRange {
             what,
-            limit: u64::from(MAX_SERVERS),
+            limit: u64::from(MAX_FORMULA_SERVERS),
         });
     }
     Ok(servers)
@@ -250,10 +250,10 @@ pub(crate) fn continuous_state(
 ) -> Result<Option<LowerMass>, FormulaError> {
     let servers = non_negative("servers", servers)?;
     let traffic = check_traffic(traffic)?;
-    if servers > f64::from(MAX_SERVERS) {
+    if servers > f64::from(MAX_FORMULA_SERVERS) {
         return Err(FormulaError::OutOfRange {
             what: "servers",
-            limit: u64::from(MAX_SERVERS),
+            limit: u64::from(MAX_FORMULA_SERVERS),
         });
     }
     if servers == 0.0 || traffic == 0.0 {
@@ -331,7 +331,7 @@ fn fractional_lower_mass(x0: f64, traffic: f64) -> f64 {
 /// # Errors
 ///
 /// Traffic must be finite and > 0, `target` strictly between 0 and 1;
-/// [`FormulaError::OutOfRange`] beyond [`MAX_SERVERS`].
+/// [`FormulaError::OutOfRange`] beyond [`MAX_FORMULA_SERVERS`].
 ///
 /// # Example
 ///
@@ -344,7 +344,7 @@ pub fn servers_for(traffic: f64, target: f64) -> Result<u32, FormulaError> {
     let traffic = positive("offered traffic (erlangs)", traffic)?;
     let target = open_share("grade of service (blocking target)", target)?;
     let mut state = LowerMass::new(traffic);
-    while state.servers() < MAX_SERVERS {
+    while state.servers() < MAX_FORMULA_SERVERS {
         state.step();
         if state.blocking() <= target {
             return Ok(state.servers());
@@ -352,7 +352,7 @@ pub fn servers_for(traffic: f64, target: f64) -> Result<u32, FormulaError> {
     }
     Err(FormulaError::OutOfRange {
         what: "servers needed",
-        limit: u64::from(MAX_SERVERS),
+        limit: u64::from(MAX_FORMULA_SERVERS),
     })
 }
 

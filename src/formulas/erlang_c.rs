@@ -1,7 +1,7 @@
 //! Erlang C: the delay system M/M/N (callers wait as long as it takes, served
 //! first come, first served), with mean wait, service level and agent sizing.
 
-use super::erlang_b::{LowerMass, MAX_SERVERS, check_servers};
+use super::erlang_b::{LowerMass, MAX_FORMULA_SERVERS, check_servers};
 use super::error::{FormulaError, at_least_one, non_negative, open_share, positive};
 
 /// Erlang C wait probability and its complement from the Erlang B state of
@@ -151,7 +151,7 @@ pub fn occupancy(agents: u32, traffic: f64) -> Result<f64, FormulaError> {
 /// which `meets(N, C, 1 - C)` holds.
 fn fewest_agents(traffic: f64, meets: impl Fn(f64, f64, f64) -> bool) -> Result<u32, FormulaError> {
     let mut state = LowerMass::new(traffic);
-    while state.servers() < MAX_SERVERS {
+    while state.servers() < MAX_FORMULA_SERVERS {
         state.step();
         let n = f64::from(state.servers());
         if n <= traffic {
@@ -165,7 +165,7 @@ fn fewest_agents(traffic: f64, meets: impl Fn(f64, f64, f64) -> bool) -> Result<
     }
     Err(FormulaError::OutOfRange {
         what: "agents needed",
-        limit: u64::from(MAX_SERVERS),
+        limit: u64::from(MAX_FORMULA_SERVERS),
     })
 }
 

@@ -23,7 +23,7 @@
 //!
 //! # Limits
 //!
-//! Up to [`erlang_b::MAX_SERVERS`] servers or agents (the recursions take
+//! Up to [`erlang_b::MAX_FORMULA_SERVERS`] servers or agents (the recursions take
 //! one step per server), [`multirate::MAX_CAPACITY`] channels for
 //! Kaufman-Roberts, and queues up to [`erlang_a::MAX_QUEUE`] callers for
 //! Erlang A; beyond, [`FormulaError::OutOfRange`].

@@ -202,7 +202,7 @@ pub fn equivalent_random(mean: f64, variance: f64) -> Result<EquivalentRandom, F
 /// # Errors
 ///
 /// As [`equivalent_random`]; [`FormulaError::OutOfRange`] if the equivalent
-/// group would need more than [`erlang_b::MAX_SERVERS`] servers.
+/// group would need more than [`erlang_b::MAX_FORMULA_SERVERS`] servers.
 ///
 /// # Example
 ///
@@ -232,10 +232,10 @@ pub fn equivalent_random_exact(mean: f64, variance: f64) -> Result<EquivalentRan
         let mut state = LowerMass::new(traffic);
         let mut previous = traffic; // overflow of 0 servers
         loop {
-            if state.servers() >= erlang_b::MAX_SERVERS {
+            if state.servers() >= erlang_b::MAX_FORMULA_SERVERS {
                 return Err(FormulaError::OutOfRange {
                     what: "servers of the equivalent random group",
-                    limit: u64::from(erlang_b::MAX_SERVERS),
+                    limit: u64::from(erlang_b::MAX_FORMULA_SERVERS),
                 });
             }
             state.step();

@@ -199,7 +199,7 @@ pub fn allen_cunneen(
 ///
 /// # Errors
 ///
-/// `agents >= 1` (up to [`super::erlang_b::MAX_SERVERS`]), finite
+/// `agents >= 1` (up to [`super::erlang_b::MAX_FORMULA_SERVERS`]), finite
 /// `traffic >= 0`, finite `holding_s > 0`, finite `cv >= 0`;
 /// [`FormulaError::Unstable`] when `traffic >= agents`.
 pub fn mean_wait(agents: u32, traffic: f64, holding_s: f64, cv: f64) -> Result<Wait, FormulaError> {

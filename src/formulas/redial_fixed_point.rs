@@ -142,7 +142,7 @@ fn attempts(st: &RedialingStream, b: f64) -> f64 {
 ///
 /// # Errors
 ///
-/// `servers >= 1` (up to [`erlang_b::MAX_SERVERS`]), at least one stream,
+/// `servers >= 1` (up to [`erlang_b::MAX_FORMULA_SERVERS`]), at least one stream,
 /// each with finite `traffic >= 0`, chances from 0 to 1 and a limit of at
 /// least one attempt. [`FormulaError::Unstable`] when the streams that redial
 /// for ever with chance 1 offer at least `servers` erlangs (they would be

@@ -3,10 +3,11 @@
 //! group sized by Erlang B, ready to edit and to run. Owns the text written;
 //! the scenario module validates it like any other file.
 
+use super::busy_hour::ClockHour;
 use super::busy_hour::slot_table;
 use super::time::{Clock, Date};
 use super::{Analysis, RecordsError};
-use crate::dist::Law;
+use crate::dist::{Law, LawParams};
 use crate::formulas::erlang_b;
 use crate::units::trim_float;
 use std::fmt::Write as _;
@@ -118,36 +119,75 @@ fn number(x: f64) -> String {
     trim_float(x, digits)
 }
 
-/// The law as an inline TOML table of the scenario format.
+/// The law as an inline TOML table of the scenario format: its parameters
+/// ([`Law::params`]) serialised by serde into TOML values, written in the
+/// order of the law's parameter struct, a mean to four decimals of a second
+/// with its unit and other numbers to six significant figures, as one would
+/// write them by hand. An empirical law names `holding_file`.
 pub fn law_toml(law: &Law, holding_file: &str) -> String {
-    let mean = secs(law.mean());
-    match law {
-        Law::Exponential(_) => format!("{{ law = \"exponential\", mean = {mean} }}"),
-        Law::Erlang(l) => format!("{{ law = \"erlang\", mean = {mean}, k = {} }}", l.k()),
-        Law::Gamma(l) => format!(
-            "{{ law = \"gamma\", mean = {mean}, shape = {} }}",
-            number(l.shape())
-        ),
-        Law::Weibull(l) => format!(
-            "{{ law = \"weibull\", mean = {mean}, shape = {} }}",
-            number(l.shape())
-        ),
-        Law::Deterministic(_) => format!("{{ law = \"deterministic\", mean = {mean} }}"),
-        Law::Empirical(_) => format!(
-            "{{ law = \"empirical\", file = \"{}\", column = \"{HOLDING_COLUMN}\" }}",
-            holding_file.replace('\\', "\\\\").replace('"', "\\\"")
-        ),
-        Law::Lognormal(_) | Law::Hyperexponential(_) | Law::Uniform(_) => format!(
-            "{{ law = \"{}\", mean = {mean}, cv = {} }}",
-            law.name(),
-            number(law.cv())
-        ),
+    let mut params = law.params();
+    if let LawParams::Empirical(p) = &mut params {
+        p.file = Some(holding_file.to_string());
+        p.column = Some(HOLDING_COLUMN.to_string());
     }
+    let table = toml::Table::try_from(&params)
+        .expect("law parameters are options of numbers and text, which TOML holds");
+    let mut parts = vec![format!(
+        "law = {}",
+        toml::Value::String(params.name().to_string())
+    )];
+    for key in LawParams::keys(params.name()).unwrap_or(&[]) {
+        let Some(value) = table.get(*key) else {
+            continue;
+        };
+        let text = match (*key, value) {
+            ("mean", toml::Value::Float(x)) => secs(*x),
+            (_, toml::Value::Float(x)) => number(*x),
+            (_, v) => v.to_string(),
+        };
+        parts.push(format!("{key} = {text}"));
+    }
+    format!("{{ {} }}", parts.join(", "))
+}
+
+/// What the scenario is written from: the busy hour, its profile, the
+/// servers and the holding law, checked.
+struct Inputs {
+    bh: ClockHour,
+    profile: Vec<ProfileStep>,
+    servers: u32,
+    holding: Law,
 }
 
 /// Write the scenario (see the module doc). Fails when the records show no
 /// busy hour or no traffic to size for.
 pub fn render(a: &Analysis, opts: &ScenarioOptions) -> Result<ScenarioOut, RecordsError> {
+    let inputs = inputs(a, opts)?;
+    let mut text = String::new();
+    write_header(&mut text, a, &inputs);
+    write_simulation(&mut text, a, opts, &inputs);
+    write_group(&mut text, opts, &inputs);
+    write_stream(&mut text, a, opts, &inputs);
+    let Inputs {
+        bh,
+        profile,
+        servers,
+        holding,
+    } = inputs;
+    Ok(ScenarioOut {
+        text,
+        holding_csv: holding_csv(&holding),
+        servers,
+        offered_traffic: bh.offered_traffic,
+        profile,
+        holding,
+    })
+}
+
+/// The busy hour, its profile, the servers (given or sized by Erlang B)
+/// and the holding law (the recommended one, or the empirical one when
+/// asked for and fitted).
+fn inputs(a: &Analysis, opts: &ScenarioOptions) -> Result<Inputs, RecordsError> {
     let err = |reason: String| RecordsError::ScenarioOut {
         file: a.file.clone(),
         reason,
@@ -178,11 +218,25 @@ pub fn render(a: &Analysis, opts: &ScenarioOptions) -> Result<ScenarioOut, Recor
     } else {
         a.holding.recommended.clone()
     };
-    let interval = a.timeline.interval_s;
-    let interval_text = format!("\"{}m\"", trim_float(f64::from(interval) / 60.0, 3));
-    let length_s = profile.len() as f64 * f64::from(interval);
-    // Warm-up: ten mean holding times, at least 15 minutes, whole minutes.
-    let warmup_min = (f64::max(900.0, 10.0 * holding.mean()) / 60.0).ceil();
+    Ok(Inputs {
+        bh,
+        profile,
+        servers,
+        holding,
+    })
+}
+
+/// The profile's interval as a scenario duration, e.g. `"15m"`.
+fn interval_text(a: &Analysis) -> String {
+    format!(
+        "\"{}m\"",
+        trim_float(f64::from(a.timeline.interval_s) / 60.0, 3)
+    )
+}
+
+/// The comment lines that say where the scenario comes from, and the title.
+fn write_header(w: &mut String, a: &Analysis, inputs: &Inputs) {
+    let bh = &inputs.bh;
     let days: Vec<_> = a.timeline.selected_days().collect();
     let (first, last) = (days.first().map(|d| d.day), days.last().map(|d| d.day));
     let day_text = match (first, last) {
@@ -190,9 +244,6 @@ pub fn render(a: &Analysis, opts: &ScenarioOptions) -> Result<ScenarioOut, Recor
         _ => String::new(),
     };
     let bh_end = bh.start_clock_s + 3600;
-
-    let mut t = String::new();
-    let w = &mut t;
     let _ = writeln!(w, "# Measured busy hour of {} (busyhour records).", a.file);
     let _ = writeln!(
         w,
@@ -201,7 +252,7 @@ pub fn render(a: &Analysis, opts: &ScenarioOptions) -> Result<ScenarioOut, Recor
         a.days
             .as_ref()
             .map_or(String::new(), |d| format!(", --days {}", d.text)),
-        crate::units::format_duration(f64::from(interval))
+        crate::units::format_duration(f64::from(a.timeline.interval_s))
     );
     let _ = writeln!(
         w,
@@ -230,6 +281,13 @@ pub fn render(a: &Analysis, opts: &ScenarioOptions) -> Result<ScenarioOut, Recor
         toml_escape(&a.file)
     );
     let _ = writeln!(w);
+}
+
+/// `[simulation]`: a warm-up of ten mean holding times (at least 15
+/// minutes, whole minutes), the profile's length and interval.
+fn write_simulation(w: &mut String, a: &Analysis, opts: &ScenarioOptions, inputs: &Inputs) {
+    let length_s = inputs.profile.len() as f64 * f64::from(a.timeline.interval_s);
+    let warmup_min = (f64::max(900.0, 10.0 * inputs.holding.mean()) / 60.0).ceil();
     let _ = writeln!(w, "[simulation]");
     let _ = writeln!(
         w,
@@ -241,10 +299,14 @@ pub fn render(a: &Analysis, opts: &ScenarioOptions) -> Result<ScenarioOut, Recor
         "length = \"{}m\"          # the profile below",
         trim_float(length_s / 60.0, 3)
     );
-    let _ = writeln!(w, "interval = {interval_text}");
+    let _ = writeln!(w, "interval = {}", interval_text(a));
     let _ = writeln!(w, "replications = {}", opts.replications);
     let _ = writeln!(w, "seed = {}", opts.seed);
     let _ = writeln!(w);
+}
+
+/// `[[group]]`: one loss group, with how its size was chosen.
+fn write_group(w: &mut String, opts: &ScenarioOptions, inputs: &Inputs) {
     let _ = writeln!(w, "[[group]]");
     let _ = writeln!(w, "name = \"circuits\"");
     match opts.servers {
@@ -253,29 +315,37 @@ pub fn render(a: &Analysis, opts: &ScenarioOptions) -> Result<ScenarioOut, Recor
                 w,
                 "# Erlang B: the fewest servers with at most {} blocking at the busy hour's {} E.",
                 crate::units::format_share(opts.grade),
-                trim_float(bh.offered_traffic, 3)
+                trim_float(inputs.bh.offered_traffic, 3)
             );
         }
         Some(_) => {
             let _ = writeln!(w, "# Servers as given (not sized by a formula).");
         }
     }
-    let _ = writeln!(w, "servers = {servers}");
+    let _ = writeln!(w, "servers = {}", inputs.servers);
     let _ = writeln!(w);
+}
+
+/// `[[stream]]`: the profile as Poisson arrivals and the holding law.
+fn write_stream(w: &mut String, a: &Analysis, opts: &ScenarioOptions, inputs: &Inputs) {
+    let holding = &inputs.holding;
     let _ = writeln!(w, "[[stream]]");
     let _ = writeln!(w, "name = \"measured\"");
-    let rates: Vec<String> = profile
+    let rates: Vec<String> = inputs
+        .profile
         .iter()
         .map(|p| format!("\"{}/h\"", trim_float(p.calls_per_hour, 2)))
         .collect();
-    let clocks: Vec<String> = profile
+    let clocks: Vec<String> = inputs
+        .profile
         .iter()
         .map(|p| Clock(i64::from(p.clock_s)).to_string())
         .collect();
     let _ = writeln!(w, "# intervals from {}", clocks.join(", "));
     let _ = writeln!(
         w,
-        "arrivals = {{ law = \"poisson\", interval = {interval_text}, rates = [{}] }}",
+        "arrivals = {{ law = \"poisson\", interval = {}, rates = [{}] }}",
+        interval_text(a),
         rates.join(", ")
     );
     let fit_note = if matches!(holding, Law::Empirical(_)) {
@@ -291,29 +361,23 @@ pub fn render(a: &Analysis, opts: &ScenarioOptions) -> Result<ScenarioOut, Recor
         )
     };
     let _ = writeln!(w, "# holding time: {fit_note}");
-    let _ = writeln!(w, "holding = {}", law_toml(&holding, &opts.holding_file));
+    let _ = writeln!(w, "holding = {}", law_toml(holding, &opts.holding_file));
     let _ = writeln!(w, "route = [\"circuits\"]");
-    let holding_csv = match &holding {
-        Law::Empirical(e) => {
-            let mut csv = String::with_capacity(e.len() * 8 + 16);
-            csv.push_str(HOLDING_COLUMN);
-            csv.push('\n');
-            for v in e.values() {
-                csv.push_str(&trim_float(*v, 3));
-                csv.push('\n');
-            }
-            Some(csv)
-        }
-        _ => None,
+}
+
+/// The data file of an empirical holding law: its values, one a line.
+fn holding_csv(holding: &Law) -> Option<String> {
+    let Law::Empirical(e) = holding else {
+        return None;
     };
-    Ok(ScenarioOut {
-        text: t,
-        holding_csv,
-        servers,
-        offered_traffic: bh.offered_traffic,
-        profile,
-        holding,
-    })
+    let mut csv = String::with_capacity(e.len() * 8 + 16);
+    csv.push_str(HOLDING_COLUMN);
+    csv.push('\n');
+    for v in e.values() {
+        csv.push_str(&trim_float(*v, 3));
+        csv.push('\n');
+    }
+    Some(csv)
 }
 
 fn toml_escape(s: &str) -> String {

@@ -6,10 +6,11 @@ pub mod model;
 pub mod spec;
 
 pub use model::{
-    Arrivals, Group, Model, Queue, Replications, Retry, RunPlan, Start, Stream, residual_quantile,
+    Arrivals, Group, Model, Queue, Replications, Retry, RunPlan, Start, Stream, TransformError,
+    residual_quantile,
 };
 
-use crate::dist::{self, Law};
+use crate::dist::{self, Law, LawParams};
 use crate::units;
 use spec::{Amount, ArrivalSpec, ChanceSpec, LawSpec, QueueSpec, ScenarioSpec};
 use std::collections::HashMap;
@@ -18,7 +19,9 @@ use thiserror::Error;
 
 /// Limits that keep a typo from becoming a run of days or an allocation of
 /// terabytes. Larger designs are real but belong to a different tool.
-pub const MAX_SERVERS: i64 = 1_000_000;
+///
+/// Most servers in one group (also bounds a reserve and a call's units).
+pub const MAX_GROUP_SERVERS: i64 = 1_000_000;
 /// Longest warm-up or measured period accepted (s): ten years.
 pub const MAX_LENGTH_S: f64 = 10.0 * 365.0 * 86400.0;
 /// Most replications accepted.
@@ -398,6 +401,8 @@ impl Compiler {
         Ok(v as u32)
     }
 
+    /// The whole file: the run plan, the names, the groups, then the
+    /// streams (which refer to both), then the default warm-up.
     fn compile(&self, spec: ScenarioSpec, default_title: &str) -> R<Model> {
         let plan = self.plan(&spec.simulation)?;
         if spec.groups.is_empty() {
@@ -412,179 +417,18 @@ impl Compiler {
                 "the scenario has no [[stream]]: add at least one traffic stream",
             ));
         }
-        let mut group_index = HashMap::new();
-        for (i, g) in spec.groups.iter().enumerate() {
-            let key = format!("group[{}].name", i + 1);
-            check_name(&g.name).map_err(|m| self.err(&key, m))?;
-            if group_index.insert(g.name.as_str(), i).is_some() {
-                return Err(self.err(
-                    key,
-                    format!(
-                        "the name \"{}\" is used by two groups: names must be unique",
-                        g.name
-                    ),
-                ));
-            }
-        }
-        let mut stream_index = HashMap::new();
-        for (i, s) in spec.streams.iter().enumerate() {
-            let key = format!("stream[{}].name", i + 1);
-            check_name(&s.name).map_err(|m| self.err(&key, m))?;
-            if stream_index.insert(s.name.as_str(), i).is_some() {
-                return Err(self.err(
-                    key,
-                    format!(
-                        "the name \"{}\" is used by two streams: names must be unique",
-                        s.name
-                    ),
-                ));
-            }
-        }
-        let n_streams = spec.streams.len();
-        let mut groups = Vec::with_capacity(spec.groups.len());
-        for g in &spec.groups {
-            let k = |field: &str| format!("group \"{}\".{field}", g.name);
-            let servers = self.count(&k("servers"), g.servers, 1, MAX_SERVERS)?;
-            let queue = match &g.queue {
-                None | Some(QueueSpec::Places(0)) => Queue::None,
-                Some(QueueSpec::Places(q)) => {
-                    Queue::Limited(self.count(&k("queue"), *q, 0, MAX_COUNT)?)
-                }
-                Some(QueueSpec::Text(t)) if t == "unlimited" => Queue::Unlimited,
-                Some(QueueSpec::Text(t)) => {
-                    return Err(self.err(k("queue"), format!("\"{t}\" is not a queue size: expected a whole number of waiting places or \"unlimited\"")));
-                }
-            };
-            let overflow_after_s = match &g.overflow_after {
-                None => None,
-                Some(_) if queue == Queue::None => {
-                    return Err(self.err(
-                        k("overflow_after"),
-                        "only a group with waiting places (queue > 0) can pass waiting calls on",
-                    ));
-                }
-                Some(a) => Some(self.positive_duration(&k("overflow_after"), a)?),
-            };
-            let mut reserved_for = vec![false; n_streams];
-            let reserve = match &g.reserve {
-                None => 0,
-                Some(r) => {
-                    let reserve = self.count(&k("reserve.servers"), r.servers, 0, MAX_SERVERS)?;
-                    if reserve >= servers {
-                        return Err(self.err(k("reserve.servers"), format!("reserving {reserve} of {servers} servers leaves none for other traffic: reserve fewer than the group has")));
-                    }
-                    if r.for_streams.is_empty() {
-                        return Err(self.err(
-                            k("reserve.for"),
-                            "name at least one stream that may use the reserved servers",
-                        ));
-                    }
-                    for (j, name) in r.for_streams.iter().enumerate() {
-                        match stream_index.get(name.as_str()) {
-                            Some(&s) => reserved_for[s] = true,
-                            None => {
-                                return Err(self.err(
-                                    format!("{}[{}]", k("reserve.for"), j + 1),
-                                    format!("no stream is named \"{name}\""),
-                                ));
-                            }
-                        }
-                    }
-                    reserve
-                }
-            };
-            groups.push(Group {
-                name: g.name.clone(),
-                servers,
-                queue,
-                overflow_after_s,
-                reserve,
-                reserved_for,
-            });
-        }
-        let mut streams = Vec::with_capacity(n_streams);
-        for s in &spec.streams {
-            let k = |field: &str| format!("stream \"{}\".{field}", s.name);
-            let arrivals = self.arrivals(&k("arrivals"), &s.arrivals)?;
-            let holding = self.law(&k("holding"), &s.holding)?;
-            if s.route.is_empty() {
-                return Err(self.err(k("route"), "the route is empty: name at least one group"));
-            }
-            let mut route = Vec::with_capacity(s.route.len());
-            for (j, name) in s.route.iter().enumerate() {
-                let key = format!("{}[{}]", k("route"), j + 1);
-                let gi = *group_index
-                    .get(name.as_str())
-                    .ok_or_else(|| self.err(&key, format!("no group is named \"{name}\"")))?;
-                if route.contains(&(gi as u32)) {
-                    return Err(self.err(
-                        key,
-                        format!("the group \"{name}\" appears twice in the route"),
-                    ));
-                }
-                route.push(gi as u32);
-            }
-            let units = match s.units {
-                None => 1,
-                Some(u) => self.count(&k("units"), u, 1, MAX_SERVERS)?,
-            };
-            if route.iter().all(|&g| groups[g as usize].servers < units) {
-                return Err(self.err(
-                    k("units"),
-                    format!("a call takes {units} servers but no group on the route has that many"),
-                ));
-            }
-            let retry = match &s.retry {
-                None => None,
-                Some(r) => {
-                    let chances = match &r.chance {
-                        ChanceSpec::One(a) => vec![self.share(&k("retry.chance"), a)?],
-                        ChanceSpec::Each(list) => {
-                            if list.is_empty() {
-                                return Err(
-                                    self.err(k("retry.chance"), "the list of chances is empty")
-                                );
-                            }
-                            list.iter()
-                                .enumerate()
-                                .map(|(j, a)| {
-                                    self.share(&format!("{}[{}]", k("retry.chance"), j + 1), a)
-                                })
-                                .collect::<R<Vec<f64>>>()?
-                        }
-                    };
-                    Some(Retry {
-                        chances,
-                        delay: self.law(&k("retry.delay"), &r.delay)?,
-                        max_attempts: self.count(
-                            &k("retry.max_attempts"),
-                            r.max_attempts,
-                            1,
-                            1000,
-                        )?,
-                    })
-                }
-            };
-            let patience = match &s.patience {
-                None => None,
-                Some(p) => Some(self.law(&k("patience"), p)?),
-            };
-            let answer_within_s = match &s.answer_within {
-                None => None,
-                Some(a) => Some(self.duration(&k("answer_within"), a)?),
-            };
-            streams.push(Stream {
-                name: s.name.clone(),
-                arrivals,
-                holding,
-                route,
-                units,
-                retry,
-                patience,
-                answer_within_s,
-                seed_key: name_key(&s.name),
-            });
-        }
+        let group_index = self.name_index("group", spec.groups.iter().map(|g| &g.name))?;
+        let stream_index = self.name_index("stream", spec.streams.iter().map(|s| &s.name))?;
+        let groups = spec
+            .groups
+            .iter()
+            .map(|g| self.group(g, &stream_index))
+            .collect::<R<Vec<Group>>>()?;
+        let streams = spec
+            .streams
+            .iter()
+            .map(|s| self.stream(s, &group_index, &groups))
+            .collect::<R<Vec<Stream>>>()?;
         let mut model = Model {
             title: spec.title.unwrap_or_else(|| default_title.to_string()),
             plan,
@@ -598,6 +442,174 @@ impl Compiler {
             model.plan.warmup_s = model.warmup_needed_s().ceil().min(MAX_LENGTH_S);
         }
         Ok(model)
+    }
+
+    /// Index by name of the groups or streams (`what`), each name usable
+    /// and unique.
+    fn name_index<'a>(
+        &self,
+        what: &str,
+        names: impl Iterator<Item = &'a String>,
+    ) -> R<HashMap<&'a str, usize>> {
+        let mut index = HashMap::new();
+        for (i, name) in names.enumerate() {
+            let key = format!("{what}[{}].name", i + 1);
+            check_name(name).map_err(|m| self.err(&key, m))?;
+            if index.insert(name.as_str(), i).is_some() {
+                return Err(self.err(
+                    key,
+                    format!("the name \"{name}\" is used by two {what}s: names must be unique"),
+                ));
+            }
+        }
+        Ok(index)
+    }
+
+    /// One `[[group]]`: servers, queue, overflow and trunk reservation.
+    fn group(&self, g: &spec::GroupSpec, stream_index: &HashMap<&str, usize>) -> R<Group> {
+        let k = |field: &str| format!("group \"{}\".{field}", g.name);
+        let servers = self.count(&k("servers"), g.servers, 1, MAX_GROUP_SERVERS)?;
+        let queue = match &g.queue {
+            None | Some(QueueSpec::Places(0)) => Queue::None,
+            Some(QueueSpec::Places(q)) => {
+                Queue::Limited(self.count(&k("queue"), *q, 0, MAX_COUNT)?)
+            }
+            Some(QueueSpec::Text(t)) if t == "unlimited" => Queue::Unlimited,
+            Some(QueueSpec::Text(t)) => {
+                return Err(self.err(k("queue"), format!("\"{t}\" is not a queue size: expected a whole number of waiting places or \"unlimited\"")));
+            }
+        };
+        let overflow_after_s = match &g.overflow_after {
+            None => None,
+            Some(_) if queue == Queue::None => {
+                return Err(self.err(
+                    k("overflow_after"),
+                    "only a group with waiting places (queue > 0) can pass waiting calls on",
+                ));
+            }
+            Some(a) => Some(self.positive_duration(&k("overflow_after"), a)?),
+        };
+        let mut reserved_for = vec![false; stream_index.len()];
+        let reserve = match &g.reserve {
+            None => 0,
+            Some(r) => {
+                let reserve = self.count(&k("reserve.servers"), r.servers, 0, MAX_GROUP_SERVERS)?;
+                if reserve >= servers {
+                    return Err(self.err(k("reserve.servers"), format!("reserving {reserve} of {servers} servers leaves none for other traffic: reserve fewer than the group has")));
+                }
+                if r.for_streams.is_empty() {
+                    return Err(self.err(
+                        k("reserve.for"),
+                        "name at least one stream that may use the reserved servers",
+                    ));
+                }
+                for (j, name) in r.for_streams.iter().enumerate() {
+                    match stream_index.get(name.as_str()) {
+                        Some(&s) => reserved_for[s] = true,
+                        None => {
+                            return Err(self.err(
+                                format!("{}[{}]", k("reserve.for"), j + 1),
+                                format!("no stream is named \"{name}\""),
+                            ));
+                        }
+                    }
+                }
+                reserve
+            }
+        };
+        Ok(Group {
+            name: g.name.clone(),
+            servers,
+            queue,
+            overflow_after_s,
+            reserve,
+            reserved_for,
+        })
+    }
+
+    /// One `[[stream]]`: arrivals, holding law, route over the compiled
+    /// groups, units, redials and patience.
+    fn stream(
+        &self,
+        s: &spec::StreamSpec,
+        group_index: &HashMap<&str, usize>,
+        groups: &[Group],
+    ) -> R<Stream> {
+        let k = |field: &str| format!("stream \"{}\".{field}", s.name);
+        let arrivals = self.arrivals(&k("arrivals"), &s.arrivals)?;
+        let holding = self.law(&k("holding"), &s.holding)?;
+        if s.route.is_empty() {
+            return Err(self.err(k("route"), "the route is empty: name at least one group"));
+        }
+        let mut route = Vec::with_capacity(s.route.len());
+        for (j, name) in s.route.iter().enumerate() {
+            let key = format!("{}[{}]", k("route"), j + 1);
+            let gi = *group_index
+                .get(name.as_str())
+                .ok_or_else(|| self.err(&key, format!("no group is named \"{name}\"")))?;
+            if route.contains(&(gi as u32)) {
+                return Err(self.err(
+                    key,
+                    format!("the group \"{name}\" appears twice in the route"),
+                ));
+            }
+            route.push(gi as u32);
+        }
+        let units = match s.units {
+            None => 1,
+            Some(u) => self.count(&k("units"), u, 1, MAX_GROUP_SERVERS)?,
+        };
+        if route.iter().all(|&g| groups[g as usize].servers < units) {
+            return Err(self.err(
+                k("units"),
+                format!("a call takes {units} servers but no group on the route has that many"),
+            ));
+        }
+        let retry = match &s.retry {
+            None => None,
+            Some(r) => Some(self.retry(&k("retry"), r)?),
+        };
+        let patience = match &s.patience {
+            None => None,
+            Some(p) => Some(self.law(&k("patience"), p)?),
+        };
+        let answer_within_s = match &s.answer_within {
+            None => None,
+            Some(a) => Some(self.duration(&k("answer_within"), a)?),
+        };
+        Ok(Stream {
+            name: s.name.clone(),
+            arrivals,
+            holding,
+            route,
+            units,
+            retry,
+            patience,
+            answer_within_s,
+            seed_key: name_key(&s.name),
+        })
+    }
+
+    /// A stream's `retry` table (`key` is its path).
+    fn retry(&self, key: &str, r: &spec::RetrySpec) -> R<Retry> {
+        let k = |field: &str| format!("{key}.{field}");
+        let chances = match &r.chance {
+            ChanceSpec::One(a) => vec![self.share(&k("chance"), a)?],
+            ChanceSpec::Each(list) => {
+                if list.is_empty() {
+                    return Err(self.err(k("chance"), "the list of chances is empty"));
+                }
+                list.iter()
+                    .enumerate()
+                    .map(|(j, a)| self.share(&format!("{}[{}]", k("chance"), j + 1), a))
+                    .collect::<R<Vec<f64>>>()?
+            }
+        };
+        Ok(Retry {
+            chances,
+            delay: self.law(&k("delay"), &r.delay)?,
+            max_attempts: self.count(&k("max_attempts"), r.max_attempts, 1, 1000)?,
+        })
     }
 
     fn plan(&self, s: &spec::SimulationSpec) -> R<RunPlan> {
@@ -764,29 +776,21 @@ impl Compiler {
         }
     }
 
+    /// A law's table: the named law, only its own keys, then its
+    /// parameters built with this file's rules (`LawSite`).
     fn law(&self, key: &str, l: &LawSpec) -> R<Law> {
         let name = l.law.as_str();
-        let allowed: &[&str] = match name {
-            "exponential" | "deterministic" => &["mean"],
-            "erlang" => &["mean", "k"],
-            "gamma" | "weibull" => &["mean", "cv", "shape"],
-            "lognormal" | "hyperexponential" | "uniform" => &["mean", "cv"],
-            "empirical" => &["file", "column", "scale"],
-            other => {
-                return Err(self.err(format!("{key}.law"), format!("\"{other}\" is not a law: expected one of exponential, erlang, gamma, lognormal, hyperexponential, deterministic, uniform, weibull, empirical")));
-            }
+        let Some(allowed) = LawParams::keys(name) else {
+            return Err(self.err(
+                format!("{key}.law"),
+                format!(
+                    "\"{name}\" is not a law: expected one of {}",
+                    dist::LAW_NAMES.join(", ")
+                ),
+            ));
         };
-        let present = [
-            ("mean", l.mean.is_some()),
-            ("cv", l.cv.is_some()),
-            ("shape", l.shape.is_some()),
-            ("k", l.k.is_some()),
-            ("file", l.file.is_some()),
-            ("column", l.column.is_some()),
-            ("scale", l.scale.is_some()),
-        ];
-        for (field, is) in present {
-            if is && !allowed.contains(&field) {
+        for field in dist::all_law_keys() {
+            if l.params.contains_key(*field) && !allowed.contains(field) {
                 return Err(self.err(
                     format!("{key}.{field}"),
                     format!(
@@ -796,88 +800,88 @@ impl Compiler {
                 ));
             }
         }
-        let law_err = |e: dist::LawError| self.err(key, e.to_string());
-        if name == "empirical" {
-            let file = l.file.as_ref().ok_or_else(|| {
-                self.err(
-                    format!("{key}.file"),
-                    "an empirical law needs file = \"data.csv\" (relative to the scenario file)",
-                )
-            })?;
-            let scale = l.scale.unwrap_or(1.0);
-            if !(scale > 0.0 && scale.is_finite()) {
-                return Err(self.err(
-                    format!("{key}.scale"),
-                    format!("{scale}: the scale must be a finite number above zero"),
-                ));
-            }
-            let path = self.base.join(file);
-            if is_same_file(&path, Path::new(&self.file)) {
-                return Err(self.err(
-                    format!("{key}.file"),
-                    format!("\"{file}\" is this scenario file itself: name a CSV file of measured values"),
-                ));
-            }
-            if let Some(dir) = &self.data_dir {
-                let inside = match (path.canonicalize(), dir.canonicalize()) {
-                    (Ok(p), Ok(d)) => p.starts_with(d),
-                    _ => false,
-                };
-                if !inside {
-                    return Err(self.err(
-                        format!("{key}.file"),
-                        format!(
-                            "\"{file}\" is not a readable file inside the data folder {} (--data-dir)",
-                            dir.display()
-                        ),
-                    ));
-                }
-            }
-            self.data_files.borrow_mut().push(path.clone());
-            let values = dist::empirical::read_column(&path, l.column.as_deref(), scale)
-                .map_err(|e| self.err(format!("{key}.file"), e.to_string()))?;
-            return Law::empirical(values).map_err(law_err);
+        let params = LawParams::deserialize_named(name, toml::Value::Table(l.params.clone()))
+            .unwrap_or_else(|| unreachable!("the law's name was found above"))
+            .map_err(|e| self.err(key, one_line(e.message())))?;
+        params.build(&LawSite {
+            compiler: self,
+            key,
+        })
+    }
+
+    /// The measured values of an empirical law's data file: resolved against
+    /// the scenario's folder, never the scenario itself, inside `--data-dir`
+    /// when one is given, and remembered as an input.
+    fn data_values(&self, key: &str, file: &str, column: Option<&str>, scale: f64) -> R<Vec<f64>> {
+        let path = self.base.join(file);
+        if is_same_file(&path, Path::new(&self.file)) {
+            return Err(self.err(
+                key,
+                format!(
+                    "\"{file}\" is this scenario file itself: name a CSV file of measured values"
+                ),
+            ));
         }
-        let mean = match &l.mean {
-            Some(m) => self.positive_duration(&format!("{key}.mean"), m)?,
-            None => {
+        if let Some(dir) = &self.data_dir {
+            let inside = match (path.canonicalize(), dir.canonicalize()) {
+                (Ok(p), Ok(d)) => p.starts_with(d),
+                _ => false,
+            };
+            if !inside {
                 return Err(self.err(
-                    format!("{key}.mean"),
-                    format!("the {name} law needs a mean, like mean = \"3m\""),
+                    key,
+                    format!(
+                        "\"{file}\" is not a readable file inside the data folder {} (--data-dir)",
+                        dir.display()
+                    ),
                 ));
             }
-        };
-        let need_cv = |what: &str| self.err(key, format!("the {name} law needs {what}"));
-        match name {
-            "exponential" => Law::exponential(mean),
-            "deterministic" => Law::deterministic(mean),
-            "erlang" => {
-                let k =
-                    l.k.ok_or_else(|| need_cv("its number of phases, like k = 3"))?;
-                let k = self.count(&format!("{key}.k"), k, 1, 1000)?;
-                Law::erlang(mean, k)
-            }
-            "gamma" | "weibull" => match (l.cv, l.shape) {
-                (Some(_), Some(_)) => {
-                    return Err(self.err(key, "give either cv or shape, not both"));
-                }
-                (Some(cv), None) if name == "gamma" => Law::gamma(mean, cv),
-                (Some(cv), None) => Law::weibull(mean, cv),
-                (None, Some(s)) if name == "gamma" => Law::gamma_shape(mean, s),
-                (None, Some(s)) => Law::weibull_shape(mean, s),
-                (None, None) => return Err(need_cv("a cv (or a shape), like cv = 0.8")),
-            },
-            "lognormal" | "hyperexponential" | "uniform" => {
-                let cv = l.cv.ok_or_else(|| need_cv("a cv, like cv = 1.2"))?;
-                match name {
-                    "lognormal" => Law::lognormal(mean, cv),
-                    "hyperexponential" => Law::hyperexponential(mean, cv),
-                    _ => Law::uniform(mean, cv),
-                }
-            }
-            _ => unreachable!("law names are checked above"),
         }
-        .map_err(law_err)
+        self.data_files.borrow_mut().push(path.clone());
+        dist::empirical::read_column(&path, column, scale).map_err(|e| self.err(key, e.to_string()))
+    }
+}
+
+/// One law's table in the file: the [`dist::LawContext`] its parameters
+/// are built in, naming `key` (e.g. `stream "office".holding`) in errors.
+struct LawSite<'a> {
+    compiler: &'a Compiler,
+    key: &'a str,
+}
+
+impl LawSite<'_> {
+    fn at(&self, field: &str) -> String {
+        format!("{}.{field}", self.key)
+    }
+}
+
+impl dist::LawContext for LawSite<'_> {
+    type Error = ScenarioError;
+
+    fn invalid(&self, field: Option<&str>, message: String) -> ScenarioError {
+        match field {
+            None => self.compiler.err(self.key, message),
+            Some(f) => self.compiler.err(self.at(f), message),
+        }
+    }
+
+    fn positive_duration(&self, field: &str, value: &Amount) -> R<f64> {
+        self.compiler.positive_duration(&self.at(field), value)
+    }
+
+    fn count(&self, field: &str, value: i64, min: i64, max: i64) -> R<u32> {
+        self.compiler.count(&self.at(field), value, min, max)
+    }
+
+    fn data_values(
+        &self,
+        field: &str,
+        file: &str,
+        column: Option<&str>,
+        scale: f64,
+    ) -> R<Vec<f64>> {
+        self.compiler
+            .data_values(&self.at(field), file, column, scale)
     }
 }
 

@@ -2,6 +2,7 @@
 //! path. Built only by `scenario::compile`; the engine reads it, never changes it.
 
 use crate::dist::Law;
+use thiserror::Error;
 
 /// How many replications to run.
 #[derive(Debug, Clone, PartialEq)]
@@ -162,27 +163,43 @@ impl Arrivals {
     }
 
     /// Mean rate of first attempts in calls/s over the measured period of
-    /// length `length_s`, for offered-traffic figures. Finite sources have no
-    /// fixed rate: `None`.
+    /// length `length_s`, for offered-traffic figures: [`Arrivals::rate_over`]
+    /// from 0 to `length_s`. Finite sources have no fixed rate: `None`.
     pub fn mean_rate(&self, length_s: f64) -> Option<f64> {
+        self.rate_over(0.0, length_s)
+    }
+
+    /// Mean rate of first attempts in calls/s over the window from `t0_s` to
+    /// `t1_s` of simulated time (`t1_s > t0_s`; 0 is the start of the
+    /// measured period, a negative time lies in the warm-up): the integral
+    /// of the arrival rate over the window divided by its length. A peak
+    /// profile's first rate holds before 0 (the warm-up runs at it) and its
+    /// last rate after the profile ends; a renewal process runs at
+    /// 1 / mean time between arrivals. Finite sources have no fixed rate:
+    /// `None`.
+    pub fn rate_over(&self, t0_s: f64, t1_s: f64) -> Option<f64> {
         match self {
             Arrivals::Poisson { rate } => Some(*rate),
             Arrivals::Profile { interval_s, rates } => {
                 let mut total = 0.0;
-                let mut t = 0.0;
                 for (i, r) in rates.iter().enumerate() {
-                    if t >= length_s {
-                        break;
-                    }
-                    let end = if i + 1 == rates.len() {
-                        length_s
+                    // Ends from the index, not by repeated addition.
+                    let start = if i == 0 {
+                        f64::NEG_INFINITY
                     } else {
-                        (t + interval_s).min(length_s)
+                        i as f64 * interval_s
                     };
-                    total += r * (end - t);
-                    t = end;
+                    let end = if i + 1 == rates.len() {
+                        f64::INFINITY
+                    } else {
+                        (i + 1) as f64 * interval_s
+                    };
+                    let overlap = end.min(t1_s) - start.max(t0_s);
+                    if overlap > 0.0 {
+                        total += r * overlap;
+                    }
                 }
-                Some(total / length_s)
+                Some(total / (t1_s - t0_s))
             }
             Arrivals::Renewal { between } => Some(1.0 / between.mean()),
             Arrivals::Sources { .. } => None,
@@ -385,40 +402,128 @@ impl Model {
     }
 
     /// The same model with every stream's arrival rate multiplied by `factor`
-    /// (finite sources: idle time divided by it), or only the named stream's.
-    pub fn with_load_scaled(&self, factor: f64, only: Option<usize>) -> Model {
+    /// (renewal arrivals and finite sources: the time between arrivals or
+    /// the idle time divided by it), or only the named stream's.
+    ///
+    /// Fails when `factor` is not finite and above zero, or when the scaled
+    /// model leaves the range a scenario may have: a rate that is no longer
+    /// above zero and finite, a time that no longer fits in a float.
+    pub fn with_load_scaled(
+        &self,
+        factor: f64,
+        only: Option<usize>,
+    ) -> Result<Model, TransformError> {
+        if !(factor > 0.0 && factor.is_finite()) {
+            return Err(TransformError::Scale { factor });
+        }
         let mut m = self.clone();
         for (i, s) in m.streams.iter_mut().enumerate() {
             if only.is_some_and(|o| o != i) {
                 continue;
             }
+            let out_of_range = |what: &'static str| TransformError::OutOfRange {
+                factor,
+                stream: s.name.clone(),
+                what,
+            };
+            // A rate whose mean time between calls is still a float.
+            let usable = |rate: f64| rate.is_finite() && (1.0 / rate).is_finite() && rate > 0.0;
             s.arrivals = match &s.arrivals {
-                Arrivals::Poisson { rate } => Arrivals::Poisson {
+                Arrivals::Poisson { rate } if usable(rate * factor) => Arrivals::Poisson {
                     rate: rate * factor,
                 },
-                Arrivals::Profile { interval_s, rates } => Arrivals::Profile {
-                    interval_s: *interval_s,
-                    rates: rates.iter().map(|r| r * factor).collect(),
-                },
+                Arrivals::Poisson { .. } => return Err(out_of_range("arrival rate")),
+                Arrivals::Profile { interval_s, rates } => {
+                    let rates: Vec<f64> = rates.iter().map(|r| r * factor).collect();
+                    if !rates.iter().all(|r| r.is_finite()) || !rates.iter().any(|&r| usable(r)) {
+                        return Err(out_of_range("profile's rates"));
+                    }
+                    Arrivals::Profile {
+                        interval_s: *interval_s,
+                        rates,
+                    }
+                }
                 Arrivals::Renewal { between } => Arrivals::Renewal {
-                    between: between.scaled(1.0 / factor),
+                    between: between
+                        .scaled(1.0 / factor)
+                        .map_err(|_| out_of_range("time between arrivals"))?,
                 },
                 Arrivals::Sources { count, idle } => Arrivals::Sources {
                     count: *count,
-                    idle: idle.scaled(1.0 / factor),
+                    idle: idle
+                        .scaled(1.0 / factor)
+                        .map_err(|_| out_of_range("idle time"))?,
                 },
             };
         }
-        m
+        Ok(m)
     }
 
-    /// The same model with group `group` resized to `servers`.
-    pub fn with_servers(&self, group: usize, servers: u32) -> Model {
+    /// The same model with group `group` resized to `servers` (its reserve
+    /// cut to leave at least one server for other traffic). Fails for a
+    /// group index the model lacks or a size outside 1 to
+    /// [`MAX_GROUP_SERVERS`](super::MAX_GROUP_SERVERS).
+    pub fn with_servers(&self, group: usize, servers: u32) -> Result<Model, TransformError> {
+        let Some(g) = self.groups.get(group) else {
+            return Err(TransformError::NoGroup {
+                group,
+                groups: self.groups.len(),
+            });
+        };
+        if servers == 0 || i64::from(servers) > super::MAX_GROUP_SERVERS {
+            return Err(TransformError::Servers {
+                servers,
+                group: g.name.clone(),
+            });
+        }
         let mut m = self.clone();
         m.groups[group].servers = servers;
         m.groups[group].reserve = m.groups[group].reserve.min(servers.saturating_sub(1));
-        m
+        Ok(m)
     }
+}
+
+/// A change to a compiled model (a sweep step, a sizing probe) that would
+/// leave the range a scenario may have.
+#[derive(Debug, Clone, PartialEq, Error)]
+pub enum TransformError {
+    /// The load scale is NaN, infinite, zero or negative; give a finite factor above zero.
+    #[error("load scale {factor}: it must be a finite number above zero")]
+    Scale {
+        /// The rejected factor.
+        factor: f64,
+    },
+    /// The scaled stream leaves floating-point range; choose a factor nearer 1.
+    #[error(
+        "load scale {factor:e} takes the {what} of stream \"{stream}\" out of range: choose a scale nearer 1"
+    )]
+    OutOfRange {
+        /// The rejected factor.
+        factor: f64,
+        /// The stream.
+        stream: String,
+        /// What left the range, e.g. "time between arrivals".
+        what: &'static str,
+    },
+    /// The model has no group of that index.
+    #[error("group {group} does not exist: the model has {groups} groups")]
+    NoGroup {
+        /// The index asked for (0-based).
+        group: usize,
+        /// Groups in the model.
+        groups: usize,
+    },
+    /// A group size outside the limits of a scenario file.
+    #[error(
+        "{servers} servers on group \"{group}\": expected a whole number from 1 to {max}",
+        max = super::MAX_GROUP_SERVERS
+    )]
+    Servers {
+        /// The rejected size.
+        servers: u32,
+        /// The group's name.
+        group: String,
+    },
 }
 
 /// The smallest w with `law.residual_tail(w) <= eps` (0 < eps < 1), by

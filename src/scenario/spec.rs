@@ -2,57 +2,10 @@
 //! rejected. Nothing here is checked beyond its type; `compile` turns these into
 //! a validated `Model`.
 
+pub use crate::units::Amount;
 use serde::Deserialize;
 use serde::de::{self, Deserializer, Visitor};
 use std::fmt;
-
-/// A number or a text with a unit, as the user wrote it ("3m" or 180).
-#[derive(Debug, Clone, PartialEq)]
-pub enum Amount {
-    /// A bare number.
-    Number(f64),
-    /// A text such as "3m", "420/h" or "1%".
-    Text(String),
-}
-
-impl fmt::Display for Amount {
-    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        match self {
-            // Scientific notation for huge or tiny numbers, so that 1e300
-            // does not print as 301 digits.
-            Amount::Number(x) if *x != 0.0 && !(1e-6..1e15).contains(&x.abs()) => {
-                write!(f, "{x:e}")
-            }
-            Amount::Number(x) => write!(f, "{x}"),
-            Amount::Text(t) => write!(f, "\"{t}\""),
-        }
-    }
-}
-
-impl<'de> Deserialize<'de> for Amount {
-    fn deserialize<D: Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
-        struct V;
-        impl Visitor<'_> for V {
-            type Value = Amount;
-            fn expecting(&self, f: &mut fmt::Formatter) -> fmt::Result {
-                f.write_str("a number or a text with a unit such as \"3m\", \"420/h\" or \"1%\"")
-            }
-            fn visit_i64<E: de::Error>(self, v: i64) -> Result<Amount, E> {
-                Ok(Amount::Number(v as f64))
-            }
-            fn visit_u64<E: de::Error>(self, v: u64) -> Result<Amount, E> {
-                Ok(Amount::Number(v as f64))
-            }
-            fn visit_f64<E: de::Error>(self, v: f64) -> Result<Amount, E> {
-                Ok(Amount::Number(v))
-            }
-            fn visit_str<E: de::Error>(self, v: &str) -> Result<Amount, E> {
-                Ok(Amount::Text(v.to_string()))
-            }
-        }
-        d.deserialize_any(V)
-    }
-}
 
 /// `queue = 0`, `queue = 12` or `queue = "unlimited"`.
 #[derive(Debug, Clone, PartialEq)]
@@ -202,26 +155,91 @@ pub struct ArrivalSpec {
     pub idle: Option<LawSpec>,
 }
 
-/// A law as written: `{ law = "lognormal", mean = "3m", cv = 1.1 }`.
-#[derive(Debug, Clone, Deserialize)]
-#[serde(deny_unknown_fields)]
+/// A law as written: `{ law = "lognormal", mean = "3m", cv = 1.1 }`: the
+/// law's name and its other keys.
+///
+/// Read here: a key that no law takes is refused at its line, and each
+/// value is checked against the type its key has in the laws' parameter
+/// structs (`dist::LawParams`), so that a wrong type is reported at the
+/// value. Which keys the named law takes, and their values, are checked
+/// when compiling, with messages that name the law.
+#[derive(Debug, Clone)]
 pub struct LawSpec {
     /// The law's name.
     pub law: String,
-    /// Mean (a duration).
-    pub mean: Option<Amount>,
-    /// Coefficient of variation.
-    pub cv: Option<f64>,
-    /// Shape parameter (gamma, weibull).
-    pub shape: Option<f64>,
-    /// Number of phases (erlang).
-    pub k: Option<i64>,
-    /// Empirical: CSV file relative to the scenario file.
-    pub file: Option<String>,
-    /// Empirical: the column to read.
-    pub column: Option<String>,
-    /// Empirical: factor applied to every value (e.g. 60 for minutes).
-    pub scale: Option<f64>,
+    /// The other keys, each of a type some law takes for it.
+    pub params: toml::Table,
+}
+
+impl<'de> Deserialize<'de> for LawSpec {
+    fn deserialize<D: Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+        struct V;
+        impl<'de> Visitor<'de> for V {
+            type Value = LawSpec;
+            fn expecting(&self, f: &mut fmt::Formatter) -> fmt::Result {
+                f.write_str("struct LawSpec")
+            }
+            fn visit_map<A: de::MapAccess<'de>>(self, mut map: A) -> Result<LawSpec, A::Error> {
+                let mut law = None;
+                let mut params = toml::Table::new();
+                while let Some(key) = map.next_key_seed(LawKey)? {
+                    if key == "law" {
+                        law = Some(map.next_value::<String>()?);
+                    } else {
+                        let value = map.next_value_seed(LawValue(&key))?;
+                        params.insert(key, value);
+                    }
+                }
+                let law = law.ok_or_else(|| de::Error::missing_field("law"))?;
+                Ok(LawSpec { law, params })
+            }
+        }
+        d.deserialize_map(V)
+    }
+}
+
+/// A key of a law's table: `law` or a key some law takes.
+struct LawKey;
+
+impl<'de> de::DeserializeSeed<'de> for LawKey {
+    type Value = String;
+    fn deserialize<D: Deserializer<'de>>(self, d: D) -> Result<String, D::Error> {
+        let key = String::deserialize(d)?;
+        let known = crate::dist::all_law_keys();
+        if known.contains(&key.as_str()) {
+            Ok(key)
+        } else {
+            Err(de::Error::unknown_field(&key, known))
+        }
+    }
+}
+
+/// A parameter's value, of the type the first law that takes its key
+/// gives it (the laws agree: `tests` below checks it).
+struct LawValue<'k>(&'k str);
+
+impl<'de> de::DeserializeSeed<'de> for LawValue<'_> {
+    type Value = toml::Value;
+    fn deserialize<D: Deserializer<'de>>(self, d: D) -> Result<toml::Value, D::Error> {
+        let value = toml::Value::deserialize(d)?;
+        match type_check(self.0, &value) {
+            None | Some(Ok(())) => Ok(value),
+            Some(Err(message)) => Err(de::Error::custom(message)),
+        }
+    }
+}
+
+/// Whether `value` has the type `key` has in the first law that takes it
+/// (`None`: no law takes it).
+fn type_check(key: &str, value: &toml::Value) -> Option<Result<(), String>> {
+    use crate::dist::{LAW_NAMES, LawParams};
+    let name = LAW_NAMES
+        .iter()
+        .find(|n| LawParams::keys(n).is_some_and(|k| k.contains(&key)))?;
+    let mut one = toml::Table::new();
+    one.insert(key.to_string(), value.clone());
+    let checked = LawParams::deserialize_named(name, toml::Value::Table(one))?;
+    Some(checked.map(drop).map_err(|e| e.message().to_string()))
 }
 
 /// `retry = { chance, delay, max_attempts }`.
@@ -234,4 +252,39 @@ pub struct RetrySpec {
     pub delay: LawSpec,
     /// Attempts in all, the first included.
     pub max_attempts: i64,
+}
+
+#[cfg(test)]
+mod tests {
+    use crate::dist::{LAW_NAMES, LawParams};
+
+    #[test]
+    fn every_law_gives_a_shared_key_the_same_type() {
+        // Samples of each type a parameter may have: one must be accepted
+        // by exactly the same laws that take the key.
+        let samples = [
+            toml::Value::Float(1.5),
+            toml::Value::Integer(3),
+            toml::Value::String("3m".into()),
+            toml::Value::Boolean(true),
+        ];
+        for key in crate::dist::all_law_keys().iter().skip(1) {
+            for v in &samples {
+                let verdicts: Vec<bool> = LAW_NAMES
+                    .iter()
+                    .filter(|n| LawParams::keys(n).is_some_and(|k| k.contains(key)))
+                    .map(|n| {
+                        let mut one = toml::Table::new();
+                        one.insert(key.to_string(), v.clone());
+                        LawParams::deserialize_named(n, toml::Value::Table(one))
+                            .is_some_and(|r| r.is_ok())
+                    })
+                    .collect();
+                assert!(
+                    verdicts.windows(2).all(|w| w[0] == w[1]),
+                    "laws disagree on the type of {key} for {v}"
+                );
+            }
+        }
+    }
 }
