@@ -104,7 +104,15 @@ fn goal_verdicts_follow_erlang_b() {
     ] {
         let (steps, _) =
             sweep::run(&m, &spec, &Replications::Fixed(10), &RunOptions::default()).unwrap();
-        let doc = SweepDocument::new(&m, "t.toml", &spec, &steps, false, &[], &[goal.clone()]);
+        let doc = SweepDocument::new(
+            &m,
+            "t.toml",
+            &spec,
+            &steps,
+            false,
+            &[],
+            std::slice::from_ref(&goal),
+        );
         let mut expected_through = None;
         let mut broken = false;
         for (st, step) in doc.steps.iter().zip(&steps) {

@@ -328,7 +328,7 @@ pub fn run(args: &CalcArgs) -> Result<()> {
         let text = serde_json::to_string_pretty(&report.json)?;
         writeln!(out, "{text}")?;
     } else {
-        write!(out, "{}Caution: {CAUTION}\n", report.text)?;
+        writeln!(out, "{}Caution: {CAUTION}", report.text)?;
     }
     out.flush()?;
     Ok(())
