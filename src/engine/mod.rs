@@ -163,6 +163,28 @@ struct GroupState {
     peak_busy: u32,
 }
 
+impl GroupState {
+    /// Whether `need` servers are free (waiting calls aside).
+    #[inline(always)]
+    fn has_free(&self, need: u32) -> bool {
+        self.servers - self.busy >= need
+    }
+
+    /// The admission test: a call needing `need` free servers is carried
+    /// here now when enough are free and nobody waits (waiting calls are
+    /// answered in order of arrival, so a newcomer may not pass them).
+    #[inline(always)]
+    fn admits(&self, need: u32) -> bool {
+        self.waiting == 0 && self.has_free(need)
+    }
+
+    /// Whether a waiting place is free.
+    #[inline(always)]
+    fn has_waiting_place(&self) -> bool {
+        self.waiting < self.queue_places
+    }
+}
+
 /// A stream's random generators and the settings read on every call
 /// (copied from the model so that the hot path reads one small struct).
 struct StreamState {
@@ -434,8 +456,8 @@ impl<'m> Sim<'m> {
             };
             for pos in 0..self.routes[si].len() {
                 let step = self.routes[si][pos];
-                let grp = &self.groups[step.group as usize];
-                if grp.servers - grp.busy >= step.need {
+                // Nobody waits yet: this is the admission test.
+                if self.groups[step.group as usize].admits(step.need) {
                     self.seize(step.group as usize, call, 0.0);
                     break;
                 }
@@ -593,11 +615,11 @@ impl<'m> Sim<'m> {
             let step = self.routes[si][pos];
             let g = step.group as usize;
             let grp = &self.groups[g];
-            if grp.waiting == 0 && grp.servers - grp.busy >= step.need {
+            if grp.admits(step.need) {
                 self.seize(g, call, now);
                 return;
             }
-            if grp.waiting < grp.queue_places {
+            if grp.has_waiting_place() {
                 self.enqueue(g, pos as u32, call, now);
                 return;
             }
@@ -607,7 +629,7 @@ impl<'m> Sim<'m> {
     }
 
     #[inline(always)]
-    fn seize(&mut self, g: usize, mut call: Call, now: f64) {
+    fn seize(&mut self, g: usize, call: Call, now: f64) {
         let si = call.stream as usize;
         let (units, answer_within) = {
             let s = &self.streams[si];
@@ -661,40 +683,33 @@ impl<'m> Sim<'m> {
             let ms = ((wait * 1000.0).round() as u64).min(WAIT_MAX_MS);
             h.saturating_record(ms);
         }
-        call.waited |= wait > 0.0;
-        // The call is resolved (as `resolve` does, written out here).
-        if call.waited {
-            st.waited += 1;
-        }
-        self.pending -= 1;
-        if self.bins > 0 {
-            let it = &mut tally.stream_intervals[call.bin as usize][si];
+        let waited = call.waited || wait > 0.0;
+        let interval = (self.bins > 0).then(|| &mut tally.stream_intervals[call.bin as usize][si]);
+        resolved(&mut self.pending, st, interval, waited, |it| {
             it.answered += 1;
             it.wait_sum_s += wait;
             if within {
                 it.answered_within += 1;
             }
-            it.resolved += 1;
-        }
+        });
     }
 
-    /// A measured or unmeasured call's fate is known.
-    fn resolve(&mut self, call: Call, lost: bool) {
+    /// A call finally blocked or abandoned: a measured call is resolved and
+    /// lost; an unmeasured one is left alone.
+    fn resolve_lost(&mut self, call: Call) {
         if !call.measured() {
             return;
         }
-        self.pending -= 1;
         let si = call.stream as usize;
-        if call.waited {
-            self.tally.streams[si].waited += 1;
-        }
-        if self.bins > 0 {
-            let it = &mut self.tally.stream_intervals[call.bin as usize][si];
-            it.resolved += 1;
-            if lost {
-                it.lost += 1;
-            }
-        }
+        let tally = &mut self.tally;
+        let interval = (self.bins > 0).then(|| &mut tally.stream_intervals[call.bin as usize][si]);
+        resolved(
+            &mut self.pending,
+            &mut tally.streams[si],
+            interval,
+            call.waited,
+            |it| it.lost += 1,
+        );
     }
 
     fn enqueue(&mut self, g: usize, position: u32, mut call: Call, now: f64) {
@@ -719,18 +734,26 @@ impl<'m> Sim<'m> {
         w.generation = w.generation.wrapping_add(1);
         w.active = true;
         let generation = w.generation;
+        self.join_queue(g, slot, generation, now);
+        let si = call.stream as usize;
+        if let Some(p) = &self.model.streams[si].patience {
+            let patience = p.sample(&mut self.streams[si].patience);
+            self.calendar
+                .schedule(now + patience, Event::Abandon { slot, generation });
+        }
+    }
+
+    /// The waiting call in `slot` (of `generation`) takes the last place in
+    /// group `g`'s queue, and its `overflow_after` timer starts: a call
+    /// queued on arrival and one moved on from an earlier group alike.
+    #[inline(always)]
+    fn join_queue(&mut self, g: usize, slot: u32, generation: u32, now: f64) {
         let grp = &mut self.groups[g];
         grp.waiting += 1;
         grp.queue.push_back((slot, generation));
         if let Some(after) = grp.overflow_after_s {
             self.calendar
                 .schedule(now + after, Event::OverflowTimer { slot, generation });
-        }
-        let si = call.stream as usize;
-        if let Some(p) = &self.model.streams[si].patience {
-            let patience = p.sample(&mut self.streams[si].patience);
-            self.calendar
-                .schedule(now + patience, Event::Abandon { slot, generation });
         }
     }
 
@@ -751,8 +774,7 @@ impl<'m> Sim<'m> {
                 continue;
             }
             let need = self.routes[w.call.stream as usize][w.position as usize].need;
-            let grp = &self.groups[g];
-            if grp.servers - grp.busy < need {
+            if !self.groups[g].has_free(need) {
                 break; // strict order: the head holds the queue
             }
             self.groups[g].queue.pop_front();
@@ -770,8 +792,8 @@ impl<'m> Sim<'m> {
             let step = self.routes[si][pos];
             let g = step.group as usize;
             let grp = &self.groups[g];
-            let can_seize = grp.waiting == 0 && grp.servers - grp.busy >= step.need;
-            let can_wait = grp.waiting < grp.queue_places;
+            let can_seize = grp.admits(step.need);
+            let can_wait = grp.has_waiting_place();
             if !can_seize && !can_wait {
                 continue;
             }
@@ -788,13 +810,7 @@ impl<'m> Sim<'m> {
                 entry.group = g as u32;
                 entry.position = pos as u32;
                 let generation = entry.generation;
-                let grp = &mut self.groups[g];
-                grp.waiting += 1;
-                grp.queue.push_back((slot, generation));
-                if let Some(after) = grp.overflow_after_s {
-                    self.calendar
-                        .schedule(now + after, Event::OverflowTimer { slot, generation });
-                }
+                self.join_queue(g, slot, generation, now);
             }
             return;
         }
@@ -858,7 +874,7 @@ impl<'m> Sim<'m> {
                 st.blocked_final += 1;
             }
         }
-        self.resolve(call, true);
+        self.resolve_lost(call);
         if self.streams[si].sources {
             self.source_idles(si, now);
         }
@@ -917,6 +933,31 @@ impl<'m> Sim<'m> {
             grp.overflow_s += n * (t1 - t0);
             grp.overflow_sq_s += n * n * (t1 - t0);
         }
+    }
+}
+
+/// The resolution of a measured call, answered (by `seize`) or lost (by
+/// `Sim::resolve_lost`): it is no longer pending, counts as having waited
+/// if it waited on any attempt, and as resolved in the interval of its
+/// first attempt (`interval`, when intervals are on), where `and` adds what
+/// else that interval counts (the answer and its wait, or the loss). On the
+/// counters themselves rather than on `Sim`, so that `seize`, which already
+/// holds the stream's tally, does not look it up again.
+#[inline(always)]
+fn resolved(
+    pending: &mut u64,
+    stream: &mut StreamTally,
+    interval: Option<&mut StreamIntervalTally>,
+    waited: bool,
+    and: impl FnOnce(&mut StreamIntervalTally),
+) {
+    *pending -= 1;
+    if waited {
+        stream.waited += 1;
+    }
+    if let Some(it) = interval {
+        it.resolved += 1;
+        and(it);
     }
 }
 
