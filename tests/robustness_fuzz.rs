@@ -1,10 +1,12 @@
 //! Fuzzing on the stable toolchain, with proptest: scenario parsing and
-//! validation, and the call-record reader, over random and mutated input.
-//! Every input must give `Ok` or an error whose message is one line; none may
-//! panic or hang.
+//! validation, the call-record reader, and shard part files (read and
+//! merged), over random and mutated input. Every input must give `Ok` or an
+//! error whose message is one line; none may panic, hang or allocate
+//! without bound.
 //!
 //! The number of cases per target is `PROPTEST_CASES` (default 256 here, a
-//! few seconds in release). A long run, as described in DEVELOPERS.md:
+//! few seconds in release). A long run, as described in docs/robustness.md,
+//! "Fuzzing and property tests":
 //!
 //! ```text
 //! PROPTEST_CASES=200000 cargo test --release --test robustness_fuzz -- --nocapture
@@ -12,6 +14,8 @@
 //!
 //! Each target prints how many inputs it ran.
 
+use busyhour::experiment::RunOptions;
+use busyhour::experiment::shard::{self, ShardSpec};
 use busyhour::records::{self, DayFilter, Options};
 use busyhour::scenario;
 use proptest::prelude::*;
@@ -641,4 +645,228 @@ fn fuzz_call_records_with_plausible_rows() {
     fuzz("records, plausible rows", record_rows(), |bytes| {
         records_are_clean(&bytes)
     });
+}
+
+/// A small run for the part-file target: a queue with patience, reporting
+/// intervals (interval figures in the parts) and two groups (halves).
+const PART_SCENARIO: &str = r#"[simulation]
+warmup = "5m"
+length = "20m"
+interval = "10m"
+replications = 6
+seed = 11
+[[group]]
+name = "desk"
+servers = 3
+queue = 4
+[[group]]
+name = "spill"
+servers = 2
+[[stream]]
+name = "visitors"
+arrivals = { law = "poisson", rate = "90/h" }
+holding = { law = "exponential", mean = "2m" }
+route = ["desk", "spill"]
+patience = { law = "exponential", mean = "1m" }
+"#;
+
+/// The model of [`PART_SCENARIO`] and its three parts (shards of 6
+/// replications) as JSON values, made once.
+fn part_run() -> &'static (scenario::Model, Vec<serde_json::Value>) {
+    static RUN: std::sync::OnceLock<(scenario::Model, Vec<serde_json::Value>)> =
+        std::sync::OnceLock::new();
+    RUN.get_or_init(|| {
+        let base = Path::new(env!("CARGO_MANIFEST_DIR"));
+        let model = scenario::parse(PART_SCENARIO, "desk.toml", base, "desk").expect("valid");
+        let opts = RunOptions {
+            threads: Some(1),
+            ..RunOptions::default()
+        };
+        let steps = [(None, model.clone())];
+        let parts = (1..=3)
+            .map(|index| {
+                let spec = ShardSpec { index, count: 3 };
+                let part = shard::run_shard(&steps, "desk.toml", None, 6, spec, &opts)
+                    .expect("threads start")
+                    .expect("a valid shard");
+                serde_json::to_value(&part).expect("serialisable")
+            })
+            .collect();
+        (model, parts)
+    })
+}
+
+const PART_FIELDS: &[&str] = &[
+    "format",
+    "format_version",
+    "program_version",
+    "file",
+    "seed",
+    "sweep",
+    "replications_total",
+    "shard_index",
+    "shard_count",
+    "first_replication",
+    "steps",
+    "events",
+    "partial",
+    "extra",
+];
+const PART_STEP_FIELDS: &[&str] = &["value", "fingerprint", "figures", "values", "halves"];
+const PART_VALUES: &[&str] = &[
+    "0",
+    "1",
+    "2",
+    "3",
+    "4",
+    "6",
+    "-1",
+    "4294967295",
+    "4294967296",
+    "8589934590",
+    "18446744073709551615",
+    "1e308",
+    "-0.0",
+    "0.5",
+    "null",
+    "true",
+    "\"x\"",
+    "\"busyhour-part\"",
+    "[]",
+    "{}",
+    "[[]]",
+    "[[1.0, 2.0]]",
+    "[[null, null]]",
+    "[[[1.0, 2.0]]]",
+    "[[[null, 1.0], [0.0, null]]]",
+];
+
+/// One edit of a set of part files.
+#[derive(Debug, Clone)]
+enum PartEdit {
+    /// Set a top-level field of part `k` to a value.
+    Field(usize, usize, usize),
+    /// Set a field of step 0 of part `k`.
+    StepField(usize, usize, usize),
+    /// Set element `i` (of a row of values or halves) in part `k`.
+    Row(usize, bool, usize, usize),
+    /// Leave part `k` out.
+    Drop(usize),
+    /// Give part `k` twice.
+    Twice(usize),
+    /// Edit part `k`'s text (it may stop being JSON).
+    Text(usize, Edit),
+}
+
+fn part_edit() -> impl Strategy<Value = PartEdit> {
+    let k = 0usize..3;
+    let v = 0..PART_VALUES.len();
+    prop_oneof![
+        4 => (k.clone(), 0..PART_FIELDS.len(), v.clone()).prop_map(|(k, f, v)| PartEdit::Field(k, f, v)),
+        2 => (k.clone(), 0..PART_STEP_FIELDS.len(), v.clone())
+            .prop_map(|(k, f, v)| PartEdit::StepField(k, f, v)),
+        2 => (k.clone(), any::<bool>(), any::<usize>(), v).prop_map(|(k, h, i, v)| PartEdit::Row(k, h, i, v)),
+        1 => k.clone().prop_map(PartEdit::Drop),
+        1 => k.clone().prop_map(PartEdit::Twice),
+        1 => (k, edit()).prop_map(|(k, e)| PartEdit::Text(k, e)),
+    ]
+}
+
+fn json(text: &str) -> serde_json::Value {
+    serde_json::from_str(text).expect("the value table is JSON")
+}
+
+/// The part files after `edits`, as (name, text).
+fn edited_parts(edits: &[PartEdit]) -> Vec<(String, String)> {
+    let (_, parts) = part_run();
+    let mut docs: Vec<serde_json::Value> = parts.clone();
+    let mut texts: Vec<Option<String>> = vec![None; docs.len()];
+    let mut given: Vec<usize> = (0..docs.len()).collect();
+    for e in edits {
+        match e {
+            PartEdit::Field(k, f, v) => docs[*k][PART_FIELDS[*f]] = json(PART_VALUES[*v]),
+            PartEdit::StepField(k, f, v) => {
+                // (Only while steps is still a list of objects.)
+                if let Some(step) = docs[*k]
+                    .pointer_mut("/steps/0")
+                    .and_then(|s| s.as_object_mut())
+                {
+                    step.insert(PART_STEP_FIELDS[*f].into(), json(PART_VALUES[*v]));
+                }
+            }
+            PartEdit::Row(k, halves, i, v) => {
+                let key = if *halves { "halves" } else { "values" };
+                let rows = docs[*k].pointer_mut(&format!("/steps/0/{key}"));
+                if let Some(rows) = rows.and_then(|r| r.as_array_mut())
+                    && !rows.is_empty()
+                {
+                    let n = rows.len();
+                    rows[i % n] = json(PART_VALUES[*v]);
+                }
+            }
+            PartEdit::Drop(k) => given.retain(|g| g != k),
+            PartEdit::Twice(k) => given.push(*k),
+            PartEdit::Text(k, edit) => {
+                let text = texts[*k].take().unwrap_or_else(|| docs[*k].to_string());
+                texts[*k] = Some(apply(&text, std::slice::from_ref(edit)));
+            }
+        }
+    }
+    given
+        .into_iter()
+        .map(|k| {
+            let text = texts[k].clone().unwrap_or_else(|| docs[k].to_string());
+            (format!("part-{k}.json"), text)
+        })
+        .collect()
+}
+
+/// Read and merge part files; every error must be one line, and a refused
+/// part must be named. Returns whether the parts merged.
+fn parts_are_clean(files: &[(String, String)]) -> bool {
+    let one_line = |m: &str| {
+        assert!(!m.contains('\n') && !m.contains('\r'), "two lines: {m:?}");
+    };
+    let mut parts = Vec::new();
+    for (name, text) in files {
+        match shard::read_part(text, name) {
+            Ok(p) => parts.push((name.clone(), p)),
+            Err(e) => {
+                let m = e.to_string();
+                one_line(&m);
+                assert!(m.contains(name.as_str()), "file not named: {m}");
+                return false;
+            }
+        }
+    }
+    if parts.is_empty() {
+        return false;
+    }
+    let (model, _) = part_run();
+    let m = shard::model_for(model, &parts);
+    match shard::merge(&[(None, m)], "desk.toml", &parts) {
+        Ok(outcomes) => {
+            assert_eq!(outcomes.len(), 1);
+            assert_eq!(outcomes[0].replications, 6);
+            true
+        }
+        Err(e) => {
+            one_line(&e.to_string());
+            false
+        }
+    }
+}
+
+#[test]
+fn the_unedited_parts_merge() {
+    assert!(parts_are_clean(&edited_parts(&[])));
+}
+
+#[test]
+fn fuzz_part_files_with_edited_fields() {
+    fuzz(
+        "parts, edited fields",
+        proptest::collection::vec(part_edit(), 1..4),
+        |edits| parts_are_clean(&edited_parts(&edits)),
+    );
 }

@@ -2,6 +2,7 @@
 //! process, merges to the unsharded JSON bit for bit, in any order; broken,
 //! foreign, duplicated, missing and other-version parts are refused.
 
+use busyhour::experiment::shard::PART_FORMAT_VERSION;
 use std::path::PathBuf;
 use std::process::{Command, Output};
 
@@ -117,11 +118,9 @@ fn broken_parts_are_refused_by_name() {
     refused(&["merge", &p[0], &q[1], &p[2]], "different run");
     // Another part-format version.
     let old = d.join("old.json");
-    std::fs::write(
-        &old,
-        text.replacen("\"format_version\":2", "\"format_version\":0", 1),
-    )
-    .unwrap();
+    let ours = format!("\"format_version\":{PART_FORMAT_VERSION}");
+    assert!(text.contains(&ours), "{text}");
+    std::fs::write(&old, text.replacen(&ours, "\"format_version\":0", 1)).unwrap();
     refused(
         &["merge", &p[0], old.to_str().unwrap(), &p[2]],
         "part format 0",
@@ -221,4 +220,56 @@ fn a_sharded_sweep_merges_to_the_unsharded_sweep() {
         .success()
     );
     refused(&["merge", &parts[0], &run_part, &parts[2]], "different run");
+}
+
+/// `text` with the JSON number field `key` set to `value`.
+fn with_field(text: &str, key: &str, value: &str) -> String {
+    let mut doc: serde_json::Value = serde_json::from_str(text).unwrap();
+    doc[key] = serde_json::from_str(value).unwrap();
+    doc.to_string()
+}
+
+#[test]
+fn edited_counts_in_a_part_are_refused_on_one_line() {
+    let d = dir("counts");
+    let s = "scenarios/video-link.toml";
+    let whole = shards(s, "2", 1, &d).remove(0);
+    let text = std::fs::read_to_string(&whole).unwrap();
+    // Shard 1 of 2^32 - 1 of a run of twice that: its two replications are
+    // the part's own, so the shard check passes; merge once allocated an
+    // owner per replication (137 GB) and aborted.
+    let huge = d.join("huge.json");
+    let edited = with_field(&text, "shard_count", "4294967295");
+    std::fs::write(
+        &huge,
+        with_field(&edited, "replications_total", "8589934590"),
+    )
+    .unwrap();
+    refused(
+        &["merge", huge.to_str().unwrap()],
+        "huge.json: not a complete busyhour part file: replications_total 8589934590",
+    );
+    for (key, value, needle) in [
+        ("shard_count", "0", "shard_count 0"),
+        ("shard_count", "3", "shard_count 3"),
+        ("shard_index", "2", "shard_index 2"),
+        ("replications_total", "0", "replications_total 0"),
+        ("first_replication", "1", "do not match its shard number"),
+        (
+            "shard_count",
+            "4294967296",
+            "not a complete busyhour part file",
+        ),
+        ("events", "18446744073709551615", ""),
+    ] {
+        let f = d.join(format!("{key}-{value}.json"));
+        std::fs::write(&f, with_field(&text, key, value)).unwrap();
+        if needle.is_empty() {
+            // A count that sizes nothing is taken as it is.
+            let o = busyhour(&["merge", "--json", f.to_str().unwrap()]);
+            assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+        } else {
+            refused(&["merge", f.to_str().unwrap()], needle);
+        }
+    }
 }
