@@ -19,7 +19,7 @@
 
 mod common;
 use busyhour::engine::run_replication;
-use busyhour::experiment::{self, Outcome, RunOptions};
+use busyhour::experiment::{self, RunOptions, RunResult};
 use busyhour::scenario::{Model, Replications};
 use busyhour::stats::Scope;
 use common::model;
@@ -372,7 +372,7 @@ fn check_replication(m: &Model, rep: u64) {
     }
 }
 
-fn run_on(m: &Model, threads: usize) -> Outcome {
+fn run_on(m: &Model, threads: usize) -> RunResult {
     experiment::run(
         m,
         Some(Replications::Fixed(3)),
@@ -387,7 +387,7 @@ fn run_on(m: &Model, threads: usize) -> Outcome {
 fn check_figures(m: &Model) {
     let one = run_on(m, 1);
     let two = run_on(m, 2);
-    let bits = |o: &Outcome| -> Vec<u64> {
+    let bits = |o: &RunResult| -> Vec<u64> {
         o.per_replication
             .iter()
             .flatten()

@@ -147,7 +147,7 @@ fn same_seed_same_bits_whatever_the_thread_count() {
     };
     let one = run_with(1);
     let two = run_with(2);
-    let bits = |o: &experiment::Outcome| -> Vec<u64> {
+    let bits = |o: &experiment::RunResult| -> Vec<u64> {
         o.per_replication
             .iter()
             .flatten()
@@ -155,7 +155,7 @@ fn same_seed_same_bits_whatever_the_thread_count() {
             .collect()
     };
     assert_eq!(bits(&one), bits(&two));
-    let est = |o: &experiment::Outcome| -> Vec<(u64, u64)> {
+    let est = |o: &experiment::RunResult| -> Vec<(u64, u64)> {
         o.estimates
             .iter()
             .map(|e| (e.mean.to_bits(), e.half_width.to_bits()))

@@ -283,7 +283,7 @@ route = ["first", "final"]
         .expect("run")
     };
     let (one, two) = (on(1), on(2));
-    let bits = |o: &experiment::Outcome| -> Vec<u64> {
+    let bits = |o: &experiment::RunResult| -> Vec<u64> {
         o.per_replication
             .iter()
             .flatten()

@@ -3,8 +3,8 @@
 //! and the Erlang B column tracks the simulation at every step.
 
 mod common;
-use busyhour::experiment::RunOptions;
 use busyhour::experiment::sweep::{self, Sweep};
+use busyhour::experiment::{Completion, RunOptions};
 use busyhour::scenario::Replications;
 use busyhour::stats::Scope;
 use common::*;
@@ -43,9 +43,9 @@ fn non_decreasing(what: &str, xs: &[busyhour::stats::Estimate]) {
 fn loss_and_occupancy_rise_with_load() {
     let m = model(TEXT);
     let spec = Sweep::parse_scale("0.6:1.6:0.2", &m).unwrap();
-    let (steps, partial) =
+    let (steps, completion) =
         sweep::run(&m, &spec, &Replications::Fixed(10), &RunOptions::default()).unwrap();
-    assert!(!partial);
+    assert_eq!(completion, Completion::Complete);
     assert_eq!(steps.len(), 6);
     let loss: Vec<_> = steps
         .iter()

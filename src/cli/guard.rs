@@ -4,6 +4,7 @@
 
 use super::ReplicationArgs;
 use anyhow::{Result, bail};
+use busyhour::experiment::size;
 use busyhour::experiment::sweep::Sweep;
 use busyhour::experiment::work::{self, WorkEstimate};
 use busyhour::scenario::{Model, Replications};
@@ -14,9 +15,6 @@ use clap::error::ErrorKind;
 pub const NOTICE_S: f64 = 10.0;
 /// Above this estimate (s) the run needs `--yes`: ten minutes.
 pub const CONFIRM_S: f64 = 600.0;
-/// Sizing runs several sizes, each up to `--decide-within` replications: its
-/// work is taken as this many runs at the starting size.
-pub const SIZE_WORK_FACTOR: f64 = 8.0;
 
 /// Parse the command line; a bad flag prints one line and exits with 2
 /// (help and version print as usual and exit 0).
@@ -141,15 +139,18 @@ pub fn check_run(
     )
 }
 
-/// `size`: [`SIZE_WORK_FACTOR`] runs of the starting plan at the file's size.
+/// `size`: the library's estimate of a search ([`size::work_estimate`]).
 pub fn check_size(
     model: &Model,
     plan: &Replications,
     reps: &ReplicationArgs,
     quiet: bool,
 ) -> Result<()> {
-    let one = work::estimate_on(model, plan, cores(reps));
-    confirm(&one.times(SIZE_WORK_FACTOR), reps.yes, quiet)
+    confirm(
+        &size::work_estimate(model, plan, cores(reps)),
+        reps.yes,
+        quiet,
+    )
 }
 
 /// `sweep`: the sum over the steps.

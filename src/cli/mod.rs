@@ -568,20 +568,11 @@ pub fn size(a: &SizeArgs) -> Result<Status> {
         .collect::<Result<Vec<_>, _>>()?;
     let replications =
         replications_override(&a.reps, &model)?.unwrap_or_else(|| model.plan.replications.clone());
-    let start = match &replications {
-        Replications::Fixed(n) => *n,
-        Replications::Precision { max, .. } => *max,
-    };
-    let max_replications = match a.decide_within {
-        Some(m) if m < 2 => bail!("--decide-within {m}: at least 2 replications are needed"),
-        Some(m) => m,
-        None => size::default_cap(&model, &goals, start),
-    };
+    if let Some(m) = a.decide_within.filter(|&m| m < 2) {
+        bail!("--decide-within {m}: at least 2 replications are needed");
+    }
     guard::check_size(&model, &replications, &a.reps, a.output.quiet)?;
-    let how = SizeOptions {
-        replications,
-        max_replications,
-    };
+    let how = SizeOptions::new(&model, &goals, replications, a.decide_within);
     let result = with_progress(a.output.quiet, a.reps.threads, |opts| {
         size::size(&model, group, goals, &how, opts)
     })?;
@@ -668,9 +659,10 @@ pub fn sweep(a: &SweepArgs) -> Result<Status> {
         return emit_part(&a.output, &part);
     }
     guard::check_sweep(&model, &spec, &plan, &a.reps, a.output.quiet)?;
-    let (steps, partial) = with_progress(a.output.quiet, a.reps.threads, |opts| {
+    let (steps, completion) = with_progress(a.output.quiet, a.reps.threads, |opts| {
         sweep::run(&model, &spec, &plan, opts)
     })?;
+    let partial = completion.stopped();
     let file = a.scenario.display().to_string();
     let doc = SweepDocument::new(&model, &file, &spec, &steps, partial, &figures, &goals);
     emit_charted(&doc, &a.output, a.chart.as_deref())?;

@@ -46,6 +46,25 @@ pub struct RunOptions<'a> {
     pub stop: Option<&'a AtomicBool>,
 }
 
+/// Whether replications ran to the end of their plan or were stopped on
+/// request ([`RunOptions::stop`]): the one meaning every function of this
+/// module gives it.
+#[must_use]
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Completion {
+    /// Every planned replication ran.
+    Complete,
+    /// Stopped early: a prefix of complete replications ran.
+    Stopped,
+}
+
+impl Completion {
+    /// Whether stopped early (a result is then marked partial).
+    pub fn stopped(self) -> bool {
+        self == Completion::Stopped
+    }
+}
+
 /// Whether a precision goal was reached.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct PrecisionStatus {
@@ -57,9 +76,11 @@ pub struct PrecisionStatus {
     pub met: bool,
 }
 
-/// The result of many replications.
+/// The result of many replications of one model: estimates and what each
+/// replication observed. (Not a call's outcome: that is
+/// [`records::Outcome`](crate::records::Outcome).)
 #[derive(Debug, Clone)]
-pub struct Outcome {
+pub struct RunResult {
     /// The figures, in order.
     pub layout: Vec<FigureId>,
     /// Estimates, one per figure of the layout.
@@ -80,7 +101,7 @@ pub struct Outcome {
     pub warnings: Vec<warnings::Warning>,
 }
 
-impl Outcome {
+impl RunResult {
     /// The estimate of the figure named `name` (its design name, as in the
     /// JSON) in `scope`, if reported.
     pub fn get(&self, scope: Scope, name: &str) -> Option<Estimate> {
@@ -157,8 +178,8 @@ impl<'a> Runner<'a> {
     }
 
     /// Run replications `acc.len()..to` of `model` and append their figure
-    /// values. Returns false when stopped early; `acc` then holds a prefix
-    /// of complete replications, so a partial result stays reproducible.
+    /// values. When stopped early, `acc` holds a prefix of complete
+    /// replications, so a partial result stays reproducible.
     pub fn extend(
         &self,
         model: &Model,
@@ -166,14 +187,14 @@ impl<'a> Runner<'a> {
         acc: &mut Accumulated,
         to: u64,
         planned: u64,
-    ) -> bool {
+    ) -> Completion {
         let from = acc.per_replication.len() as u64;
         self.run_range(model, layout, from, to, planned, acc)
     }
 
     /// Run replications `from..to` of `model` and append their figure values
-    /// to `acc` in index order. Returns false when stopped early; `acc` then
-    /// has a prefix of the range.
+    /// to `acc` in index order. When stopped early, `acc` has a prefix of
+    /// the range.
     pub fn run_range(
         &self,
         model: &Model,
@@ -182,9 +203,9 @@ impl<'a> Runner<'a> {
         to: u64,
         planned: u64,
         acc: &mut Accumulated,
-    ) -> bool {
+    ) -> Completion {
         if to <= from {
-            return true;
+            return Completion::Complete;
         }
         let results: Vec<Option<Finished>> = self.pool.install(|| {
             use rayon::prelude::*;
@@ -211,24 +232,25 @@ impl<'a> Runner<'a> {
                     acc.halves.push(halves);
                     acc.events += events;
                 }
-                None => return false,
+                None => return Completion::Stopped,
             }
         }
-        true
+        Completion::Complete
     }
 
-    /// Run `model` to the plan: a fixed count, or a precision goal.
+    /// Run `model` to the plan: a fixed count, or a precision goal (its
+    /// status, unless stopped).
     pub fn run_plan(
         &self,
         model: &Model,
         plan: &Replications,
         acc: &mut Accumulated,
-    ) -> (Option<PrecisionStatus>, bool) {
+    ) -> (Option<PrecisionStatus>, Completion) {
         let layout = stats::layout(model);
         match *plan {
             Replications::Fixed(n) => (
                 None,
-                !self.extend(model, &layout, acc, u64::from(n), u64::from(n)),
+                self.extend(model, &layout, acc, u64::from(n), u64::from(n)),
             ),
             Replications::Precision { target, max } => {
                 let max = u64::from(max);
@@ -236,8 +258,8 @@ impl<'a> Runner<'a> {
                     .min(max)
                     .max(acc.per_replication.len() as u64);
                 loop {
-                    if !self.extend(model, &layout, acc, next, max) {
-                        return (None, true);
+                    if self.extend(model, &layout, acc, next, max).stopped() {
+                        return (None, Completion::Stopped);
                     }
                     let have = acc.per_replication.len() as u64;
                     let estimates = estimates_of(&layout, &acc.per_replication);
@@ -250,7 +272,7 @@ impl<'a> Runner<'a> {
                                 achieved,
                                 met,
                             }),
-                            false,
+                            Completion::Complete,
                         );
                     }
                     // Replications needed grow with the square of the ratio
@@ -274,33 +296,34 @@ pub fn run(
     model: &Model,
     replications: Option<Replications>,
     opts: &RunOptions,
-) -> Result<Outcome, ExperimentError> {
+) -> Result<RunResult, ExperimentError> {
     let started = Instant::now();
     let runner = Runner::new(opts)?;
     let plan = replications.unwrap_or_else(|| model.plan.replications.clone());
     let mut acc = Accumulated::default();
-    let (precision, partial) = runner.run_plan(model, &plan, &mut acc);
+    let (precision, completion) = runner.run_plan(model, &plan, &mut acc);
     Ok(outcome_of(
         model,
         acc,
         started.elapsed().as_secs_f64(),
         precision,
-        partial,
+        completion,
     ))
 }
 
-/// Assemble an outcome from accumulated replications.
+/// Assemble an outcome from accumulated replications (marked partial when
+/// they were stopped early).
 pub fn outcome_of(
     model: &Model,
     acc: Accumulated,
     wall_s: f64,
     precision: Option<PrecisionStatus>,
-    partial: bool,
-) -> Outcome {
+    completion: Completion,
+) -> RunResult {
     let layout = stats::layout(model);
     let estimates = estimates_of(&layout, &acc.per_replication);
     let warnings = warnings::warnings(model, &acc.halves);
-    Outcome {
+    RunResult {
         warnings,
         replications: acc.per_replication.len() as u64,
         layout,
@@ -309,7 +332,7 @@ pub fn outcome_of(
         events: acc.events,
         wall_s,
         precision,
-        partial,
+        partial: completion.stopped(),
     }
 }
 

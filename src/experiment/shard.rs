@@ -4,7 +4,7 @@
 //! model's fingerprint, the program version and the part format's version;
 //! merged in replication order they give the unsharded result bit for bit.
 
-use super::{Accumulated, ExperimentError, Outcome, RunOptions, Runner, outcome_of};
+use super::{Accumulated, Completion, ExperimentError, RunOptions, RunResult, Runner, outcome_of};
 use crate::dist::Law;
 use crate::scenario::{Arrivals, Group, Model, Queue, Retry, RunPlan, Start, Stream};
 use crate::stats::{self, Obs, Scope};
@@ -458,7 +458,10 @@ pub fn run_shard(
     for (value, model) in steps {
         let layout = stats::layout(model);
         let mut acc = Accumulated::default();
-        if !runner.run_range(model, &layout, from, to, planned, &mut acc) {
+        if runner
+            .run_range(model, &layout, from, to, planned, &mut acc)
+            .stopped()
+        {
             partial = true;
         }
         events += acc.events;
@@ -618,7 +621,7 @@ pub fn merge(
     steps: &Steps,
     scenario_file: &str,
     parts: &[(String, Part)],
-) -> Result<Vec<Outcome>, ShardError> {
+) -> Result<Vec<RunResult>, ShardError> {
     let started = Instant::now();
     check_same_run(parts)?;
     check_scenario(steps, scenario_file, parts)?;
@@ -634,7 +637,7 @@ pub fn merge(
             let mut acc = accumulate(&ordered, i);
             // The events of all steps are counted once, with the first.
             acc.events = if i == 0 { events } else { 0 };
-            outcome_of(model, acc, wall_s, None, false)
+            outcome_of(model, acc, wall_s, None, Completion::Complete)
         })
         .collect())
 }

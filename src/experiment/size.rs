@@ -3,7 +3,7 @@
 //! bound. Candidates share common random numbers (the same seeds at every
 //! size), so neighbouring sizes are compared fairly.
 
-use super::{Accumulated, ExperimentError, Outcome, RunOptions, Runner, outcome_of};
+use super::{Accumulated, Completion, ExperimentError, RunOptions, RunResult, Runner, outcome_of};
 use crate::scenario::{Model, Replications};
 use crate::stats::{self, Estimate, Figure, FigureId, Scope};
 use crate::textbook::formula_column;
@@ -242,14 +242,18 @@ impl Goal {
     /// its interval at the Bonferroni level of one of `looks` looks: holds
     /// if all hold, fails if any fails. Also returns the worst target's
     /// estimate (at that level) and its index in the layout.
-    pub fn judge_outcome(&self, o: &Outcome, looks: u32) -> (Verdict, Estimate) {
+    pub fn judge_outcome(&self, o: &RunResult, looks: u32) -> (Verdict, Estimate) {
         let (v, e, _) = self.judge_targets(o, looks);
         (v, e)
     }
 
     /// [`Goal::judge_outcome`], also naming the target whose estimate is the
     /// worst (the one that decides the verdict).
-    pub fn judge_targets(&self, o: &Outcome, looks: u32) -> (Verdict, Estimate, Option<FigureId>) {
+    pub fn judge_targets(
+        &self,
+        o: &RunResult,
+        looks: u32,
+    ) -> (Verdict, Estimate, Option<FigureId>) {
         let mut verdict = Verdict::Holds;
         let mut worst: Option<Estimate> = None;
         let mut deciding: Option<FigureId> = None;
@@ -297,7 +301,7 @@ impl Goal {
     /// period miss the goal", a different question from the long-run figure
     /// the verdict is about. Replications where a target is undefined (no
     /// call resolved) are left out.
-    pub fn period_share(&self, o: &Outcome) -> Estimate {
+    pub fn period_share(&self, o: &RunResult) -> Estimate {
         let idx: Vec<usize> = self
             .targets
             .iter()
@@ -342,7 +346,7 @@ pub struct Evaluation {
     /// Servers on the sized group.
     pub servers: u32,
     /// The run at that size.
-    pub outcome: Outcome,
+    pub outcome: RunResult,
     /// Per goal: the verdict and the deciding estimate.
     pub goals: Vec<(Verdict, Estimate)>,
     /// Per goal, the share of replications (periods) in which it held
@@ -404,11 +408,53 @@ pub struct SizeOptions {
     pub max_replications: u32,
 }
 
+impl SizeOptions {
+    /// Start each size with `replications`; add replications while a goal
+    /// is undecided up to `decide_within` (at least 2), or by default to
+    /// [`default_cap`] of the starting count (a fixed count, or a precision
+    /// goal's most).
+    pub fn new(
+        model: &Model,
+        goals: &[Goal],
+        replications: Replications,
+        decide_within: Option<u32>,
+    ) -> SizeOptions {
+        let max_replications = decide_within.unwrap_or_else(|| {
+            default_cap(
+                model,
+                goals,
+                super::work::planned_replications(&replications),
+            )
+        });
+        SizeOptions {
+            replications,
+            max_replications,
+        }
+    }
+}
+
+/// Sizing probes several sizes, each up to its cap of replications: its
+/// work is taken as this many runs of the starting plan at the file's size
+/// (probes of the galloping search and the bisection, most decided on
+/// their first batch).
+pub const WORK_FACTOR: f64 = 8.0;
+
+/// The expected work of sizing `model` starting from `plan` on `cores`
+/// worker threads: [`WORK_FACTOR`] runs of the plan
+/// ([`work::estimate_on`](super::work::estimate_on)).
+pub fn work_estimate(
+    model: &Model,
+    plan: &Replications,
+    cores: usize,
+) -> super::work::WorkEstimate {
+    super::work::estimate_on(model, plan, cores).times(WORK_FACTOR)
+}
+
 /// Most replications the default decision cap asks for at one size.
 pub const DEFAULT_CAP_MAX: u32 = 20_000;
 /// Engine events the default decision cap may spend at one size (about 15
 /// seconds of one core at the engine's measured 4 million events per
-/// second; DEVELOPERS.md, "The work guard").
+/// second; `docs/robustness.md`, "The work guard").
 pub const DEFAULT_CAP_EVENTS: f64 = 6.0e7;
 
 /// The default `--decide-within`: replications at one size while a goal is
@@ -495,7 +541,234 @@ pub fn formula_answer(model: &Model, group: usize, goals: &[Goal], limit: u32) -
     Some(hi)
 }
 
-/// Find the fewest servers on `group` meeting every goal.
+/// Sizing's question at one size, asked of a simulation by [`size`] and of
+/// a stand-in in tests: the search ([`search`]) knows nothing else of the
+/// model.
+pub trait Oracle {
+    /// At `servers` servers, the verdict on the goals that bound the size
+    /// from below (those met by adding servers): `Holds` when every one
+    /// holds, else `Fails` or `Undecided` (both count as not met, so the
+    /// answer is conservative). `None`: stopped on request.
+    fn judge(&mut self, servers: u32) -> Option<Verdict>;
+}
+
+/// Where a [`search`] ended.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct Bracket {
+    /// The fewest servers found to meet the goals: a size judged `Holds`
+    /// whose size one fewer was judged not to (or is 0). None when no size
+    /// up to the limit holds, or when stopped.
+    pub servers: Option<u32>,
+    /// Stopped before the search finished.
+    pub partial: bool,
+    /// Every size asked, in the order asked, with its verdict (each size
+    /// is asked once).
+    pub asked: Vec<(u32, Verdict)>,
+}
+
+/// The search for the fewest servers in `1..=limit` meeting the goals:
+/// galloping from `start` (clamped to the range) in steps of 1, 2, 4, ...
+/// to bracket the answer, then bisection between the largest size known
+/// not to meet them (`lo`, 0 when none is) and the smallest known to meet
+/// them (`hi`).
+pub fn search(oracle: &mut impl Oracle, start: u32, limit: u32) -> Bracket {
+    let mut asked: Vec<(u32, Verdict)> = Vec::new();
+    let mut meets = |n: u32| -> Option<bool> {
+        let v = match asked.iter().find(|a| a.0 == n) {
+            Some(&(_, v)) => v,
+            None => {
+                let v = oracle.judge(n)?;
+                asked.push((n, v));
+                v
+            }
+        };
+        Some(v == Verdict::Holds)
+    };
+    let found = bisect(&mut meets, start.clamp(1, limit), limit);
+    Bracket {
+        servers: found.flatten(),
+        partial: found.is_none(),
+        asked,
+    }
+}
+
+/// [`gallop`], then bisection down to neighbours. `None`: stopped.
+fn bisect(
+    meets: &mut impl FnMut(u32) -> Option<bool>,
+    start: u32,
+    limit: u32,
+) -> Option<Option<u32>> {
+    let (mut lo, mut hi) = gallop(meets, start, limit)?;
+    while let Some(h) = hi.filter(|&h| h > lo + 1) {
+        let mid = lo + (h - lo) / 2;
+        if meets(mid)? {
+            hi = Some(mid);
+        } else {
+            lo = mid;
+        }
+    }
+    Some(hi)
+}
+
+/// Steps of 1, 2, 4, ... from `start`: down while the goals are met, up
+/// (to `limit`) while they are not. Returns `(lo, hi)`: `lo` 0 or a size
+/// not meeting them, `hi` the smallest size seen meeting them (None when
+/// even `limit` does not). `None`: stopped.
+fn gallop(
+    meets: &mut impl FnMut(u32) -> Option<bool>,
+    start: u32,
+    limit: u32,
+) -> Option<(u32, Option<u32>)> {
+    let mut step = 1u32;
+    if meets(start)? {
+        let mut hi = start;
+        while hi > 1 {
+            let cand = hi.saturating_sub(step).max(1);
+            if !meets(cand)? {
+                return Some((cand, Some(hi)));
+            }
+            hi = cand;
+            step = step.saturating_mul(2);
+        }
+        Some((0, Some(hi)))
+    } else {
+        let mut lo = start;
+        while lo < limit {
+            let cand = lo.saturating_add(step).min(limit);
+            if meets(cand)? {
+                return Some((lo, Some(cand)));
+            }
+            lo = cand;
+            step = step.saturating_mul(2);
+        }
+        Some((lo, None))
+    }
+}
+
+/// The [`Oracle`] of [`size`]: each size simulated (the same seeds at every
+/// size), replications added while a goal is undecided, up to the cap.
+struct Simulated<'a> {
+    model: &'a Model,
+    group: usize,
+    goals: &'a [Goal],
+    how: &'a SizeOptions,
+    runner: Runner<'a>,
+    looks: u32,
+    /// Every evaluation, by size.
+    evaluations: BTreeMap<u32, Evaluation>,
+    /// Every size evaluated: (servers, replications, verdict), in order.
+    tried: Vec<(u32, u64, Verdict)>,
+}
+
+impl Simulated<'_> {
+    /// The goals judged at `n` servers; more replications while a goal is
+    /// undecided (a goal that already fails decides the size on its own).
+    /// `None`: stopped.
+    fn evaluate(&mut self, n: u32) -> Option<Evaluation> {
+        let m = self
+            .model
+            .with_servers(self.group, n)
+            .expect("sizes probed lie in 1..=limit, checked by size");
+        let layout = stats::layout(&m);
+        let mut acc = Accumulated::default();
+        let (_, completion) = self.runner.run_plan(&m, &self.how.replications, &mut acc);
+        if completion.stopped() {
+            return None;
+        }
+        let cap = u64::from(self.how.max_replications);
+        loop {
+            let e = self.judged(&m, n, &acc);
+            let have = acc.per_replication.len() as u64;
+            if e.verdict() != Verdict::Undecided || have >= cap {
+                self.tried.push((n, have, e.verdict()));
+                return Some(e);
+            }
+            let next = (have * 2).min(cap);
+            if self
+                .runner
+                .extend(&m, &layout, &mut acc, next, next)
+                .stopped()
+            {
+                return None;
+            }
+        }
+    }
+
+    /// Every goal judged on the replications so far.
+    fn judged(&self, m: &Model, n: u32, acc: &Accumulated) -> Evaluation {
+        let o = outcome_of(m, acc.clone(), 0.0, None, Completion::Complete);
+        let judged: Vec<(Verdict, Estimate, Option<FigureId>)> = self
+            .goals
+            .iter()
+            .map(|g| g.judge_targets(&o, self.looks))
+            .collect();
+        Evaluation {
+            servers: n,
+            goals: judged.iter().map(|j| (j.0, j.1)).collect(),
+            deciding: judged.iter().map(|j| j.2).collect(),
+            periods: self.goals.iter().map(|g| g.period_share(&o)).collect(),
+            outcome: o,
+        }
+    }
+}
+
+impl Oracle for Simulated<'_> {
+    fn judge(&mut self, servers: u32) -> Option<Verdict> {
+        let e = self.evaluate(servers)?;
+        let lower = e
+            .goals
+            .iter()
+            .zip(self.goals)
+            .filter(|(_, g)| g.wants_more_servers())
+            .map(|((v, _), _)| *v);
+        let verdict = combined(lower);
+        self.evaluations.insert(servers, e);
+        Some(verdict)
+    }
+}
+
+/// Holds if every verdict holds, fails if any fails, else undecided.
+fn combined(verdicts: impl Iterator<Item = Verdict>) -> Verdict {
+    let mut all = Verdict::Holds;
+    for v in verdicts {
+        match v {
+            Verdict::Fails => return Verdict::Fails,
+            Verdict::Undecided => all = Verdict::Undecided,
+            Verdict::Holds => {}
+        }
+    }
+    all
+}
+
+/// The largest size sizing searches: four times the offered traffic plus
+/// 100, or four times the file's size, within the scenario's limit.
+pub fn size_limit(model: &Model, group: usize) -> u32 {
+    let offered: f64 = model
+        .streams
+        .iter()
+        .map(|s| s.offered_traffic(model.plan.length_s).unwrap_or(0.0) * f64::from(s.units))
+        .sum();
+    let current = model.groups[group].servers;
+    ((offered * 4.0 + 100.0) as u32)
+        .max(current.saturating_mul(4))
+        .min(crate::scenario::MAX_GROUP_SERVERS as u32)
+}
+
+/// Looks at one size: the first, then one per doubling up to the cap.
+fn looks_of(how: &SizeOptions) -> u32 {
+    let first_count = match how.replications {
+        Replications::Fixed(n) => n,
+        Replications::Precision { .. } => super::PRECISION_FIRST_BATCH,
+    }
+    .max(2);
+    1 + (f64::from(how.max_replications.max(first_count)) / f64::from(first_count))
+        .log2()
+        .ceil() as u32
+}
+
+/// Find the fewest servers on `group` meeting every goal: [`search`] over
+/// simulated sizes from the formula's answer (or the file's size), then
+/// the check of the goals that bound the size from above.
 pub fn size(
     model: &Model,
     group: usize,
@@ -505,161 +778,35 @@ pub fn size(
 ) -> Result<SizeResult, ExperimentError> {
     let started = Instant::now();
     let runner = Runner::new(opts)?;
-    let offered: f64 = model
-        .streams
-        .iter()
-        .map(|s| s.offered_traffic(model.plan.length_s).unwrap_or(0.0) * f64::from(s.units))
-        .sum();
-    let current = model.groups[group].servers;
-    let limit = ((offered * 4.0 + 100.0) as u32)
-        .max(current.saturating_mul(4))
-        .min(crate::scenario::MAX_GROUP_SERVERS as u32);
+    let limit = size_limit(model, group);
     // The group exists and every size probed lies in 1..=limit, within the
     // scenario's limit: after this check no probe's model can fail.
     model.with_servers(group, limit)?;
-    let resized = |n: u32| {
-        model
-            .with_servers(group, n)
-            .expect("sizes probed lie in 1..=limit, checked above")
-    };
     let formula_servers = formula_answer(model, group, &goals, limit);
-    let mut runs: BTreeMap<u32, Accumulated> = BTreeMap::new();
-    let mut evaluations: BTreeMap<u32, Evaluation> = BTreeMap::new();
-    let mut tried = Vec::new();
-    let mut partial = false;
-
-    let first_count = match how.replications {
-        Replications::Fixed(n) => n,
-        Replications::Precision { .. } => super::PRECISION_FIRST_BATCH,
-    }
-    .max(2);
-    // Looks at one size: the first, then one per doubling up to the cap.
-    let looks = 1
-        + (f64::from(how.max_replications.max(first_count)) / f64::from(first_count))
-            .log2()
-            .ceil() as u32;
-    let mut evaluate = |n: u32, runs: &mut BTreeMap<u32, Accumulated>| -> Option<Evaluation> {
-        let m = resized(n);
-        let layout = stats::layout(&m);
-        let acc = runs.entry(n).or_default();
-        let (_, stopped) = runner.run_plan(&m, &how.replications, acc);
-        if stopped {
-            return None;
-        }
-        loop {
-            let o = outcome_of(&m, acc.clone(), 0.0, None, false);
-            let judged: Vec<(Verdict, Estimate, Option<FigureId>)> =
-                goals.iter().map(|g| g.judge_targets(&o, looks)).collect();
-            let goals_v: Vec<(Verdict, Estimate)> = judged.iter().map(|j| (j.0, j.1)).collect();
-            let deciding = judged.iter().map(|j| j.2).collect();
-            let periods = goals.iter().map(|g| g.period_share(&o)).collect();
-            let e = Evaluation {
-                servers: n,
-                outcome: o,
-                goals: goals_v,
-                periods,
-                deciding,
-            };
-            let have = acc.per_replication.len() as u64;
-            let cap = u64::from(how.max_replications);
-            // Goals that are undecided get more replications, up to the cap;
-            // a goal that already fails decides the size on its own.
-            if e.verdict() != Verdict::Undecided || have >= cap {
-                tried.push((n, have, e.verdict()));
-                return Some(e);
-            }
-            let next = (have * 2).min(cap);
-            if !runner.extend(&m, &layout, acc, next, next) {
-                return None;
-            }
-        }
+    let looks = looks_of(how);
+    let mut oracle = Simulated {
+        model,
+        group,
+        goals: &goals,
+        how,
+        runner,
+        looks,
+        evaluations: BTreeMap::new(),
+        tried: Vec::new(),
     };
-
-    // Galloping search from the formula's answer (or the file's size) to
-    // bracket the answer, then bisection between the largest size that does
-    // not meet the goals (`lo`, 0 when none is known) and the smallest that
-    // does (`hi`). Undecided counts as not met: the answer is conservative.
-    let lower_goals_hold = |e: &Evaluation| {
-        e.goals
-            .iter()
-            .zip(&goals)
-            .all(|((v, _), g)| !g.wants_more_servers() || *v == Verdict::Holds)
-    };
-    let mut lo: u32 = 0;
-    let mut hi: Option<u32> = None;
-    let start = formula_servers.unwrap_or(current).clamp(1, limit);
-    let mut probe = |n: u32, evaluations: &mut BTreeMap<u32, Evaluation>| -> Option<bool> {
-        if let Some(e) = evaluations.get(&n) {
-            return Some(lower_goals_hold(e));
-        }
-        let e = evaluate(n, &mut runs)?;
-        let holds = lower_goals_hold(&e);
-        evaluations.insert(n, e);
-        Some(holds)
-    };
-    'search: {
-        let Some(first) = probe(start, &mut evaluations) else {
-            partial = true;
-            break 'search;
-        };
-        let mut step = 1u32;
-        if first {
-            hi = Some(start);
-            while let Some(h) = hi.filter(|&h| h > 1) {
-                let cand = h.saturating_sub(step).max(1);
-                match probe(cand, &mut evaluations) {
-                    None => {
-                        partial = true;
-                        break 'search;
-                    }
-                    Some(true) => hi = Some(cand),
-                    Some(false) => {
-                        lo = cand;
-                        break;
-                    }
-                }
-                step *= 2;
-            }
-        } else {
-            lo = start;
-            while lo < limit {
-                let cand = lo.saturating_add(step).min(limit);
-                match probe(cand, &mut evaluations) {
-                    None => {
-                        partial = true;
-                        break 'search;
-                    }
-                    Some(true) => {
-                        hi = Some(cand);
-                        break;
-                    }
-                    Some(false) => lo = cand,
-                }
-                step *= 2;
-            }
-        }
-        while let Some(h) = hi.filter(|&h| h > lo + 1) {
-            let mid = lo + (h - lo) / 2;
-            match probe(mid, &mut evaluations) {
-                None => {
-                    partial = true;
-                    break 'search;
-                }
-                Some(true) => hi = Some(mid),
-                Some(false) => lo = mid,
-            }
-        }
-    }
-    let servers = if partial { None } else { hi };
+    let start = formula_servers.unwrap_or(model.groups[group].servers);
+    let bracket = search(&mut oracle, start, limit);
+    let Simulated {
+        evaluations, tried, ..
+    } = oracle;
     // The answer must also meet the goals that bound the size from above.
-    let upper_ok = servers.is_none_or(|s| {
-        evaluations[&s]
+    let servers = bracket.servers.filter(|s| {
+        evaluations[s]
             .goals
             .iter()
             .zip(&goals)
             .all(|((v, _), g)| g.wants_more_servers() || *v == Verdict::Holds)
     });
-    let servers = servers.filter(|_| upper_ok);
     let at_answer = servers.and_then(|s| evaluations.get(&s).cloned());
     let one_fewer = servers.and_then(|s| {
         if s > 1 {
@@ -683,17 +830,221 @@ pub fn size(
         looks,
         limit,
         wall_s: started.elapsed().as_secs_f64(),
-        partial,
+        partial: bracket.partial,
     })
 }
 
 /// The paired (common random numbers) difference b - a of figure `index`
 /// across replications both outcomes share, at 95%
 /// ([`stats::paired_difference`]).
-pub fn paired_difference(a: &Outcome, b: &Outcome, index_a: usize, index_b: usize) -> Estimate {
+pub fn paired_difference(a: &RunResult, b: &RunResult, index_a: usize, index_b: usize) -> Estimate {
     let n = a.per_replication.len().min(b.per_replication.len());
     let (mut ca, mut cb) = (a.column(index_a), b.column(index_b));
     ca.truncate(n);
     cb.truncate(n);
     stats::paired_difference(a.layout[index_a].figure, &ca, &cb, stats::LEVEL)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use std::ops::Range;
+
+    /// A stand-in for simulation: the goals hold from `answer` servers on,
+    /// sizes in `undecided` cannot be decided, and after `stop_after`
+    /// questions it is stopped.
+    struct Fake {
+        answer: u32,
+        undecided: Range<u32>,
+        stop_after: usize,
+        asked: usize,
+    }
+
+    impl Fake {
+        fn holding_from(answer: u32) -> Fake {
+            Fake {
+                answer,
+                undecided: 0..0,
+                stop_after: usize::MAX,
+                asked: 0,
+            }
+        }
+    }
+
+    impl Oracle for Fake {
+        fn judge(&mut self, servers: u32) -> Option<Verdict> {
+            if self.asked == self.stop_after {
+                return None;
+            }
+            self.asked += 1;
+            Some(if self.undecided.contains(&servers) {
+                Verdict::Undecided
+            } else if servers >= self.answer {
+                Verdict::Holds
+            } else {
+                Verdict::Fails
+            })
+        }
+    }
+
+    fn verdict_at(b: &Bracket, n: u32) -> Option<Verdict> {
+        b.asked.iter().find(|a| a.0 == n).map(|a| a.1)
+    }
+
+    /// Questions a search may ask: a gallop and a bisection of at most
+    /// one per bit of the limit each, and the first.
+    fn most_questions(limit: u32) -> usize {
+        2 * (32 - limit.leading_zeros()) as usize + 2
+    }
+
+    #[test]
+    fn the_search_brackets_the_answer_from_above_and_below() {
+        let limit = 400;
+        for answer in [1, 2, 3, 38, 150, 399, 400] {
+            for start in [0, 1, 2, 5, 37, 38, 39, 200, 400, 1000] {
+                let b = search(&mut Fake::holding_from(answer), start, limit);
+                assert_eq!(b.servers, Some(answer), "answer {answer}, start {start}");
+                assert!(!b.partial);
+                assert_eq!(b.asked[0].0, start.clamp(1, limit), "starts at the start");
+                // The size one fewer was asked (it shows the goal failing).
+                if answer > 1 {
+                    assert_eq!(verdict_at(&b, answer - 1), Some(Verdict::Fails));
+                }
+                assert!(b.asked.len() <= most_questions(limit), "{:?}", b.asked);
+            }
+        }
+    }
+
+    #[test]
+    fn no_size_up_to_the_limit_is_no_answer() {
+        let b = search(&mut Fake::holding_from(101), 10, 100);
+        assert_eq!(b.servers, None);
+        assert!(!b.partial);
+        assert_eq!(verdict_at(&b, 100), Some(Verdict::Fails));
+    }
+
+    #[test]
+    fn an_undecided_size_counts_as_not_met() {
+        // Sizes 36 to 39 cannot be decided: the answer is the first size
+        // that holds, and the size one fewer is the undecided 39 (which
+        // `size` reports as an uncertain answer).
+        let mut fake = Fake {
+            undecided: 36..40,
+            ..Fake::holding_from(40)
+        };
+        let b = search(&mut fake, 10, 400);
+        assert_eq!(b.servers, Some(40));
+        assert_eq!(verdict_at(&b, 39), Some(Verdict::Undecided));
+        // Undecided where the goals would hold: the answer moves up past
+        // them, conservatively.
+        let mut fake = Fake {
+            undecided: 40..45,
+            ..Fake::holding_from(40)
+        };
+        assert_eq!(search(&mut fake, 60, 400).servers, Some(45));
+        // Undecided up to the limit: no answer.
+        let mut fake = Fake {
+            undecided: 30..401,
+            ..Fake::holding_from(40)
+        };
+        assert_eq!(search(&mut fake, 60, 400).servers, None);
+    }
+
+    #[test]
+    fn a_stopped_search_has_no_answer() {
+        for stop_after in 0..6 {
+            let mut fake = Fake {
+                stop_after,
+                ..Fake::holding_from(77)
+            };
+            let b = search(&mut fake, 10, 400);
+            assert!(b.partial);
+            assert_eq!(b.servers, None);
+            assert_eq!(b.asked.len(), stop_after);
+        }
+    }
+
+    #[test]
+    fn verdicts_combine_with_the_worst() {
+        use Verdict::*;
+        assert_eq!(combined([Holds, Holds].into_iter()), Holds);
+        assert_eq!(combined([Holds, Undecided].into_iter()), Undecided);
+        assert_eq!(combined([Undecided, Fails, Holds].into_iter()), Fails);
+        assert_eq!(combined(std::iter::empty()), Holds);
+    }
+
+    /// Any verdicts at all, drawn per size from a seed (an oracle whose
+    /// verdicts need not be monotone in the servers, as a noisy one).
+    struct Arbitrary(u64);
+
+    impl Arbitrary {
+        fn verdict(&self, n: u32) -> Verdict {
+            let h = (self.0 ^ u64::from(n)).wrapping_mul(0x9e37_79b9_7f4a_7c15);
+            match (h >> 61) % 3 {
+                0 => Verdict::Holds,
+                1 => Verdict::Fails,
+                _ => Verdict::Undecided,
+            }
+        }
+    }
+
+    impl Oracle for Arbitrary {
+        fn judge(&mut self, servers: u32) -> Option<Verdict> {
+            Some(self.verdict(servers))
+        }
+    }
+
+    proptest::proptest! {
+        /// With any verdicts, the answer is a boundary: it holds, and one
+        /// server fewer was asked and does not hold (or is 0); with none,
+        /// the limit was asked and does not hold. Every size asked lies in
+        /// 1..=limit and is asked once.
+        #[test]
+        fn the_answer_is_a_boundary_whatever_the_verdicts(
+            seed in proptest::prelude::any::<u64>(),
+            limit in 1u32..2000,
+            start in 0u32..3000,
+        ) {
+            let oracle = &mut Arbitrary(seed);
+            let b = search(oracle, start, limit);
+            proptest::prop_assert!(!b.partial);
+            for (i, &(n, v)) in b.asked.iter().enumerate() {
+                proptest::prop_assert!((1..=limit).contains(&n));
+                proptest::prop_assert_eq!(v, oracle.verdict(n));
+                proptest::prop_assert!(b.asked[..i].iter().all(|a| a.0 != n), "asked twice");
+            }
+            match b.servers {
+                Some(s) => {
+                    proptest::prop_assert_eq!(verdict_at(&b, s), Some(Verdict::Holds));
+                    if s > 1 {
+                        let fewer = verdict_at(&b, s - 1);
+                        proptest::prop_assert!(fewer.is_some() && fewer != Some(Verdict::Holds));
+                    }
+                }
+                None => {
+                    let at_limit = verdict_at(&b, limit);
+                    proptest::prop_assert!(at_limit.is_some() && at_limit != Some(Verdict::Holds));
+                }
+            }
+        }
+
+        /// Goals that hold from some size on (with an undecided band below
+        /// it) are answered exactly, in few questions.
+        #[test]
+        fn a_monotone_answer_is_found_exactly(
+            answer in 1u32..2100,
+            band in 0u32..50,
+            limit in 1u32..2000,
+            start in 0u32..3000,
+        ) {
+            let mut fake = Fake {
+                undecided: answer.saturating_sub(band)..answer,
+                ..Fake::holding_from(answer)
+            };
+            let b = search(&mut fake, start, limit);
+            let want = (answer <= limit).then_some(answer);
+            proptest::prop_assert_eq!(b.servers, want);
+            proptest::prop_assert!(b.asked.len() <= most_questions(limit));
+        }
+    }
 }

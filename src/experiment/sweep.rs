@@ -2,7 +2,7 @@
 //! one) or group sizes, every step with the same seeds (common random
 //! numbers), for peak-hour stress tests.
 
-use super::{Accumulated, ExperimentError, Outcome, RunOptions, Runner, outcome_of};
+use super::{Accumulated, Completion, ExperimentError, RunOptions, RunResult, Runner, outcome_of};
 use crate::scenario::{Model, Replications, TransformError};
 use std::time::Instant;
 use thiserror::Error;
@@ -203,34 +203,41 @@ pub struct Step {
     /// The model run at this step.
     pub model: Model,
     /// Its results.
-    pub outcome: Outcome,
+    pub outcome: RunResult,
 }
 
-/// Run every step; stops early (returning the finished steps) on request.
+/// Run every step; stops early on request, returning the finished steps
+/// (and `Completion::Stopped`).
 pub fn run(
     model: &Model,
     sweep: &Sweep,
     plan: &Replications,
     opts: &RunOptions,
-) -> Result<(Vec<Step>, bool), ExperimentError> {
+) -> Result<(Vec<Step>, Completion), ExperimentError> {
     let runner = Runner::new(opts)?;
     let mut steps = Vec::new();
     for (i, value) in sweep.values().into_iter().enumerate() {
         let started = Instant::now();
         let m = sweep.model_at(model, i)?;
         let mut acc = Accumulated::default();
-        let (precision, stopped) = runner.run_plan(&m, plan, &mut acc);
-        if stopped {
-            return Ok((steps, true));
+        let (precision, completion) = runner.run_plan(&m, plan, &mut acc);
+        if completion.stopped() {
+            return Ok((steps, completion));
         }
-        let outcome = outcome_of(&m, acc, started.elapsed().as_secs_f64(), precision, false);
+        let outcome = outcome_of(
+            &m,
+            acc,
+            started.elapsed().as_secs_f64(),
+            precision,
+            completion,
+        );
         steps.push(Step {
             value,
             model: m,
             outcome,
         });
     }
-    Ok((steps, false))
+    Ok((steps, Completion::Complete))
 }
 
 #[cfg(test)]

@@ -40,7 +40,8 @@ use crate::scenario::{Arrivals, Model, Queue, Replications};
 /// conservative round figure: `busyhour run --threads 1` measured 5.5 to 5.9
 /// million events per second (a 520-circuit lognormal loss group and an
 /// overflow-to-queue design with redials, 24 h x 4 replications each) on a
-/// shared 2-core development machine; see DEVELOPERS.md, "Robustness".
+/// shared 2-core development machine; see `docs/robustness.md`, "The work
+/// guard".
 pub const EVENTS_PER_SECOND_PER_CORE: f64 = 4.0e6;
 
 /// The drain allowance in mean holding times (at most one length).

@@ -1,6 +1,6 @@
 //! The document of `run`, and of `merge` of run parts: every figure of
 //! every stream, group and reporting interval with its 95% interval and
-//! closed-form value, built once from a finished [`Outcome`]. The JSON, the
+//! closed-form value, built once from a finished [`RunResult`]. The JSON, the
 //! table, the CSV, the HTML page and the per-interval chart all render it.
 
 use super::check::FormulaView;
@@ -10,7 +10,7 @@ use super::json::finite;
 use super::plot::{self, ChartError, LineChart, Series};
 use super::text::{self, Table, align, clock};
 use super::{CAUTION, Charted, Document, html};
-use crate::experiment::Outcome;
+use crate::experiment::RunResult;
 use crate::scenario::{Model, Start};
 use crate::stats::{self, Estimate, Figure, Scope, Unit};
 use crate::textbook::formula_column;
@@ -118,7 +118,7 @@ pub struct RunDocument {
 
 impl RunDocument {
     /// The document of `outcome`, a run of `model` read from `file`.
-    pub fn new(model: &Model, outcome: &Outcome, file: &str) -> RunDocument {
+    pub fn new(model: &Model, outcome: &RunResult, file: &str) -> RunDocument {
         let formulas = formula_column(model);
         let stream_sets = || {
             (model.streams.iter())
@@ -512,7 +512,7 @@ fn figure_rows(set: &FigureSet, first: &str) -> Vec<Vec<String>> {
 
 /// Sum of an interval figure over every stream, as an estimate whose
 /// interval comes from the per-replication sums.
-fn summed(outcome: &Outcome, b: usize, figure: Figure) -> Estimate {
+fn summed(outcome: &RunResult, b: usize, figure: Figure) -> Estimate {
     let idx: Vec<usize> = (outcome.layout.iter().enumerate())
         .filter(|(_, f)| {
             matches!(f.scope, Scope::StreamInterval(bb, _) if bb == b) && f.figure == figure

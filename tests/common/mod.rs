@@ -1,7 +1,7 @@
 //! Helpers shared by the simulation tests.
 #![allow(dead_code)]
 
-use busyhour::experiment::{self, Outcome, RunOptions};
+use busyhour::experiment::{self, RunOptions, RunResult};
 use busyhour::scenario::{self, Model, Replications};
 use busyhour::stats::Estimate;
 use std::path::Path;
@@ -18,12 +18,12 @@ pub fn model(text: &str) -> Model {
 }
 
 /// Run a model with its own plan.
-pub fn run(model: &Model) -> Outcome {
+pub fn run(model: &Model) -> RunResult {
     experiment::run(model, None, &RunOptions::default()).expect("run")
 }
 
 /// Run with a fixed number of replications.
-pub fn run_n(model: &Model, n: u32) -> Outcome {
+pub fn run_n(model: &Model, n: u32) -> RunResult {
     experiment::run(model, Some(Replications::Fixed(n)), &RunOptions::default()).expect("run")
 }
 
