@@ -136,7 +136,7 @@ fn bad_flags_of_run_check_size_and_sweep() {
                 "--decide-within",
                 "1",
             ],
-            "--decide-within 1",
+            "at least 2 replications",
         ),
         (vec!["sweep", s], "--scale"),
         (vec!["sweep", s, "--scale", "2:1:0.1"], "--scale"),

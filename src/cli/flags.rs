@@ -74,6 +74,37 @@ pub fn at_least_one(text: &str) -> Result<u32, String> {
     }
 }
 
+/// A number of replications: at least two, for a confidence interval.
+pub fn replications(text: &str) -> Result<u32, String> {
+    let n: u32 = text
+        .trim()
+        .parse()
+        .map_err(|_| format!("'{text}' is not a whole number of replications"))?;
+    if n >= 2 {
+        Ok(n)
+    } else {
+        Err(format!(
+            "'{text}': at least 2 replications are needed for a confidence interval"
+        ))
+    }
+}
+
+/// A precision goal: a relative 95% half-width above 0% and below 100%.
+pub fn precision(text: &str) -> Result<f64, String> {
+    match share(text) {
+        Ok(p) if p > 0.0 && p < 1.0 => Ok(p),
+        Ok(_) => Err(format!(
+            "'{text}': expected a relative half-width above 0% and below 100%, like \"2%\""
+        )),
+        Err(e) => Err(e),
+    }
+}
+
+/// A shard "I/N": the I-th of N slices of the replications.
+pub fn shard(text: &str) -> Result<busyhour::experiment::shard::ShardSpec, String> {
+    busyhour::experiment::shard::ShardSpec::parse(text).map_err(|e| e.to_string())
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

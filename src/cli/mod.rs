@@ -7,6 +7,7 @@ pub mod guard;
 pub mod records;
 
 use anyhow::{Context, Result, bail};
+use busyhour::experiment::shard::ShardSpec;
 use busyhour::experiment::{self, RunOptions};
 use busyhour::files::{FilePlan, OutputKind};
 use busyhour::report::{self, Charted, Document, Format, RunDocument, SweepDocument};
@@ -180,9 +181,10 @@ pub struct RunArgs {
         long,
         value_name = "I/N",
         requires = "out",
-        conflicts_with_all = ["json", "csv", "report", "chart"]
+        conflicts_with_all = ["json", "csv", "report", "chart"],
+        value_parser = flags::shard
     )]
-    pub shard: Option<String>,
+    pub shard: Option<ShardSpec>,
     #[command(flatten)]
     pub output: OutputArgs,
 }
@@ -209,14 +211,14 @@ pub struct MergeArgs {
 #[derive(Args, Clone)]
 pub struct ReplicationArgs {
     /// Run exactly N replications (overrides the file).
-    #[arg(long, value_name = "N", conflicts_with = "precision")]
+    #[arg(long, value_name = "N", conflicts_with = "precision", value_parser = flags::replications)]
     pub replications: Option<u32>,
     /// Add replications until every stream's loss and every group's carried
     /// traffic has a relative 95% half-width at most this (e.g. "2%").
-    #[arg(long, value_name = "SHARE")]
-    pub precision: Option<String>,
+    #[arg(long, value_name = "SHARE", value_parser = flags::precision)]
+    pub precision: Option<f64>,
     /// Cap on replications with --precision.
-    #[arg(long, value_name = "N", requires = "precision")]
+    #[arg(long, value_name = "N", requires = "precision", value_parser = flags::replications)]
     pub max_replications: Option<u32>,
     /// Master seed (overrides the file).
     #[arg(long, value_name = "S")]
@@ -274,9 +276,10 @@ pub struct SweepArgs {
         long,
         value_name = "I/N",
         requires = "out",
-        conflicts_with_all = ["json", "csv", "report", "chart", "figure", "goal"]
+        conflicts_with_all = ["json", "csv", "report", "chart", "figure", "goal"],
+        value_parser = flags::shard
     )]
-    pub shard: Option<String>,
+    pub shard: Option<ShardSpec>,
     #[command(flatten)]
     pub output: OutputArgs,
 }
@@ -300,7 +303,7 @@ pub struct SizeArgs {
     /// bound (default: 10 times the starting count, at most 2000, raised
     /// for strict goals on shares of calls to what showing the goal with no
     /// event seen takes, within about 15 s of engine work per size).
-    #[arg(long = "decide-within", value_name = "N")]
+    #[arg(long = "decide-within", value_name = "N", value_parser = flags::replications)]
     pub decide_within: Option<u32>,
     #[command(flatten)]
     pub output: OutputArgs,
@@ -321,32 +324,36 @@ pub struct CheckArgs {
     pub data_dir: Option<PathBuf>,
 }
 
-fn replications_override(
-    a: &ReplicationArgs,
-    model: &scenario::Model,
-) -> Result<Option<Replications>> {
-    if let Some(n) = a.replications {
-        if n < 2 {
-            bail!("--replications {n}: at least 2 are needed for a confidence interval");
+impl ReplicationArgs {
+    /// The scenario, confined to --data-dir, with the --seed override
+    /// applied: the one place a command loads its model.
+    fn load(&self, scenario: &Path) -> Result<Model> {
+        let mut model = scenario::load_confined(scenario, self.data_dir.as_deref())?;
+        if let Some(seed) = self.seed {
+            model.plan.seed = seed;
         }
-        return Ok(Some(Replications::Fixed(n)));
+        Ok(model)
     }
-    if let Some(p) = &a.precision {
-        let target = units::parse_share(p).with_context(|| "--precision")?;
-        if !(target > 0.0 && target < 1.0) {
-            bail!(
-                "--precision '{p}': expected a relative half-width above 0% and below 100%, like \"2%\""
-            );
+
+    /// The replication plan the flags ask for, if they override the file's.
+    fn plan_override(&self, model: &Model) -> Option<Replications> {
+        if let Some(n) = self.replications {
+            return Some(Replications::Fixed(n));
         }
-        let max = match (a.max_replications, &model.plan.replications) {
-            (Some(m), _) if m < 2 => bail!("--max-replications {m}: at least 2 are needed"),
+        let target = self.precision?;
+        let max = match (self.max_replications, &model.plan.replications) {
             (Some(m), _) => m,
             (None, Replications::Precision { max, .. }) => *max,
             (None, _) => scenario::DEFAULT_MAX_REPLICATIONS,
         };
-        return Ok(Some(Replications::Precision { target, max }));
+        Some(Replications::Precision { target, max })
     }
-    Ok(None)
+
+    /// The replication plan: the flags' override, or the file's.
+    fn plan(&self, model: &Model) -> Replications {
+        self.plan_override(model)
+            .unwrap_or_else(|| model.plan.replications.clone())
+    }
 }
 
 /// A progress bar on stderr when it is a terminal.
@@ -428,7 +435,7 @@ fn write_file(path: &std::path::Path, text: &str) -> Result<()> {
 
 /// `busyhour run`.
 pub fn run(a: &RunArgs) -> Result<Status> {
-    let mut model = scenario::load_confined(&a.scenario, a.reps.data_dir.as_deref())?;
+    let model = a.reps.load(&a.scenario)?;
     check_files(
         &a.output,
         &a.scenario,
@@ -436,10 +443,7 @@ pub fn run(a: &RunArgs) -> Result<Status> {
         a.shard.is_some(),
         a.chart.as_deref(),
     )?;
-    if let Some(seed) = a.reps.seed {
-        model.plan.seed = seed;
-    }
-    let reps = replications_override(&a.reps, &model)?;
+    let reps = a.reps.plan_override(&model);
     if a.chart.is_some() && model.plan.interval_count() == 0 {
         bail!(
             "--chart draws figures per interval: add interval = \"15m\" (for example) to [simulation] in {}",
@@ -447,7 +451,7 @@ pub fn run(a: &RunArgs) -> Result<Status> {
         );
     }
     if let Some(spec) = &a.shard {
-        return run_shard(a, &model, reps, spec);
+        return run_shard(a, &model, reps, *spec);
     }
     guard::check_run(&model, reps.as_ref(), &a.reps, a.output.quiet)?;
     let outcome = with_progress(a.output.quiet, a.reps.threads, |opts| {
@@ -549,11 +553,8 @@ pub fn size(a: &SizeArgs) -> Result<Status> {
     if a.output.csv {
         bail!("size prints a table or --json; --csv is for run and sweep");
     }
-    let mut model = scenario::load_confined(&a.scenario, a.reps.data_dir.as_deref())?;
+    let model = a.reps.load(&a.scenario)?;
     a.output.plan(&a.scenario, &model, false).check()?;
-    if let Some(seed) = a.reps.seed {
-        model.plan.seed = seed;
-    }
     let group = model.group_index(&a.group).with_context(|| {
         format!(
             "--group {}: no group of {} has that name",
@@ -566,11 +567,7 @@ pub fn size(a: &SizeArgs) -> Result<Status> {
         .iter()
         .map(|g| Goal::parse(g, &model, group))
         .collect::<Result<Vec<_>, _>>()?;
-    let replications =
-        replications_override(&a.reps, &model)?.unwrap_or_else(|| model.plan.replications.clone());
-    if let Some(m) = a.decide_within.filter(|&m| m < 2) {
-        bail!("--decide-within {m}: at least 2 replications are needed");
-    }
+    let replications = a.reps.plan(&model);
     guard::check_size(&model, &replications, &a.reps, a.output.quiet)?;
     let how = SizeOptions::new(&model, &goals, replications, a.decide_within);
     let result = with_progress(a.output.quiet, a.reps.threads, |opts| {
@@ -594,7 +591,7 @@ pub fn size(a: &SizeArgs) -> Result<Status> {
 /// `busyhour sweep`.
 pub fn sweep(a: &SweepArgs) -> Result<Status> {
     use busyhour::experiment::sweep::{self, Sweep};
-    let mut model = scenario::load_confined(&a.scenario, a.reps.data_dir.as_deref())?;
+    let model = a.reps.load(&a.scenario)?;
     check_files(
         &a.output,
         &a.scenario,
@@ -602,9 +599,6 @@ pub fn sweep(a: &SweepArgs) -> Result<Status> {
         a.shard.is_some(),
         a.chart.as_deref(),
     )?;
-    if let Some(seed) = a.reps.seed {
-        model.plan.seed = seed;
-    }
     let spec = match (&a.scale, &a.servers) {
         (Some(s), _) => Sweep::parse_scale(s, &model).context("--scale")?,
         (None, Some(s)) => Sweep::parse_servers(s, &model).context("--servers")?,
@@ -628,11 +622,9 @@ pub fn sweep(a: &SweepArgs) -> Result<Status> {
             None => bail!("--figure {name}: this scenario reports no figure of that name"),
         }
     }
-    let plan =
-        replications_override(&a.reps, &model)?.unwrap_or_else(|| model.plan.replications.clone());
-    if let Some(shard_spec) = &a.shard {
-        use busyhour::experiment::shard::{self, ShardSpec};
-        let shard = ShardSpec::parse(shard_spec)?;
+    let plan = a.reps.plan(&model);
+    if let Some(shard) = a.shard {
+        use busyhour::experiment::shard;
         let Replications::Fixed(total) = plan else {
             bail!("--shard needs a fixed number of replications: use --replications N");
         };
@@ -678,10 +670,9 @@ fn run_shard(
     a: &RunArgs,
     model: &scenario::Model,
     reps: Option<Replications>,
-    spec: &str,
+    shard: busyhour::experiment::shard::ShardSpec,
 ) -> Result<Status> {
-    use busyhour::experiment::shard::{self, ShardSpec};
-    let shard = ShardSpec::parse(spec)?;
+    use busyhour::experiment::shard;
     let total = match reps.as_ref().unwrap_or(&model.plan.replications) {
         Replications::Fixed(n) => u64::from(*n),
         Replications::Precision { .. } => bail!(
