@@ -22,13 +22,19 @@
 //!   Where a redialing group also passes calls on, only "Erlang B, no
 //!   redials" is shown (time congestion; first attempts and loss of the
 //!   streams ending there), named for what it ignores.
-//! - Equivalent random (Wilkinson, Rapp): loss of a stream routed over a first
-//!   group that meets the Erlang B conditions and then a final group that is
-//!   offered only such overflow and direct Poisson traffic; exponential holding.
-//!   Each parcel (and the direct stream, peakedness 1) gets the final
-//!   group's blocking split by peakedness, B_i = B Z_i / Z (approx.; against
-//!   the exact network chain it still understates peaky parcels by 20-40%,
-//!   `tests/formulas_overflow.rs`).
+//! - Overflow parcels as interrupted Poisson processes (Kuczura 1973,
+//!   approx.): loss of a stream routed over a first group that meets the
+//!   Erlang B conditions and then a final group that is offered only such
+//!   overflow and direct Poisson traffic; exponential holding. Each
+//!   parcel's overflow is replaced by the IPP with its first three moments
+//!   and the final group solved as a chain over the parcels' phases, so a
+//!   peaky parcel loses more than a smooth one; the direct stream's loss is
+//!   the final group's time congestion (shown for the group too). Within
+//!   4% of the exact network chain on the reference cases
+//!   (`tests/formulas_overflow.rs`; the peakedness split B_i = B Z_i / Z of
+//!   the equivalent random method understated peaky parcels by 20-40%).
+//!   Up to [`overflow::MAX_PARCEL_PHASES`] phase combinations; beyond, no
+//!   value.
 //! - Kaufman-Roberts: a loss group whose direct Poisson streams take different
 //!   numbers of servers per call.
 //! - Erlang C: an unlimited queue on a single group, Poisson arrivals,
@@ -554,9 +560,11 @@ fn engset_group(col: &mut Column, g: usize) {
     col.stream(s, Figure::CarriedTraffic, "Engset", e.carried_traffic);
 }
 
-/// Loss of streams routed first group -> final group, by the equivalent
-/// random method, where the final group is offered only overflow from
-/// Erlang B first groups (exponential holding) and direct Poisson traffic.
+/// Loss of streams routed first group -> final group, each parcel by its
+/// own interrupted Poisson process (Kuczura 1973) on the final group solved
+/// as a chain, where the final group is offered only overflow from Erlang B
+/// first groups (exponential holding) and direct Poisson traffic; the
+/// final group's time congestion is the direct traffic's loss.
 fn equivalent_random(col: &mut Column) {
     let model = col.model;
     for f in 0..model.groups.len() {
@@ -616,31 +624,30 @@ fn equivalent_random(col: &mut Column) {
             continue;
         }
         let list: Vec<(f64, u32)> = primaries.iter().map(|&(_, a, n)| (a, n)).collect();
-        let Ok(fin) = overflow::final_group(&list, direct, fg.servers) else {
+        let Ok(parcels) = overflow::parcel_losses(&list, direct, fg.servers) else {
             continue;
         };
-        // Each parcel meets the final group's blocking in proportion to its
-        // peakedness (B_i = B Z_i / Z; direct Poisson traffic Z = 1).
-        const METHOD: &str = "equivalent random, peakedness split (approx.)";
         for (s, p) in two_step {
-            let n = model.groups[p].servers;
-            let a = primaries.iter().find(|x| x.0 == p).map_or(0.0, |x| x.1);
-            if let (Ok(b), Ok(m)) = (erlang_b::blocking(n, a), overflow::riordan(n, a)) {
-                col.stream(
-                    s,
-                    Figure::Loss,
-                    METHOD,
-                    b * fin.parcel_blocking(m.peakedness()),
-                );
+            if let Some(i) = primaries.iter().position(|x| x.0 == p) {
+                col.stream(s, Figure::Loss, PARCEL_METHOD, parcels.loss[i]);
             }
         }
         for (s, pos) in users(model, f) {
             if pos == 0 && model.streams[s].route.len() == 1 {
-                col.stream(s, Figure::Loss, METHOD, fin.parcel_blocking(1.0));
+                col.stream(s, Figure::Loss, PARCEL_METHOD, parcels.direct_loss);
             }
         }
+        col.group(
+            f,
+            Figure::TimeCongestion,
+            PARCEL_METHOD,
+            parcels.direct_loss,
+        );
     }
 }
+
+/// Label of the per-parcel overflow method.
+const PARCEL_METHOD: &str = "IPP overflow parcels, Kuczura (approx.)";
 
 /// Mean Poisson rate (calls/s) over `[t0, t1)` after the warm-up, for
 /// constant and peak-profile Poisson arrivals.

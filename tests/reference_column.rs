@@ -123,3 +123,93 @@ retry = { chance = "50%", delay = { law = "exponential", mean = "1h" }, max_atte
         );
     }
 }
+
+#[test]
+fn an_overflow_network_shows_each_parcels_own_loss() {
+    // Two first-choice groups (8 E on 10 circuits, 5 E on 7) overflowing to
+    // a final group of 8 that also takes 2 E direct; exponential holding.
+    // Reference: the exact chain of the network (formulas::chains, itself
+    // checked against a chain solved in tests/formulas_overflow.rs): 1.007%,
+    // 0.788% and 3.04%. Kuczura's IPP parcels (1973) must be within 15%
+    // of every stream (measured within 3.3%), and the final group's time
+    // congestion is the direct stream's loss.
+    use busyhour::formulas::chains::{FirstChoice, overflow_network};
+    let text = r#"
+[simulation]
+warmup = "1h"
+length = "10h"
+replications = 2
+seed = 3
+[[group]]
+name = "east"
+servers = 10
+[[group]]
+name = "west"
+servers = 7
+[[group]]
+name = "final"
+servers = 8
+[[stream]]
+name = "east-calls"
+arrivals = { law = "poisson", rate = "160/h" }
+holding = { law = "exponential", mean = "180s" }
+route = ["east", "final"]
+[[stream]]
+name = "west-calls"
+arrivals = { law = "poisson", rate = "100/h" }
+holding = { law = "exponential", mean = "180s" }
+route = ["west", "final"]
+[[stream]]
+name = "direct-calls"
+arrivals = { law = "poisson", rate = "40/h" }
+holding = { law = "exponential", mean = "180s" }
+route = ["final"]
+"#;
+    let m = model(text);
+    let col = formula_column(&m);
+    let exact = overflow_network(
+        &[
+            FirstChoice {
+                servers: 10,
+                traffic: 8.0,
+            },
+            FirstChoice {
+                servers: 7,
+                traffic: 5.0,
+            },
+        ],
+        8,
+        2.0,
+    )
+    .unwrap();
+    let want = [
+        (Scope::Stream(0), exact.first_choice_loss[0]),
+        (Scope::Stream(1), exact.first_choice_loss[1]),
+        (Scope::Stream(2), exact.direct_loss),
+    ];
+    for (scope, value) in want {
+        let f = col
+            .get(&FigureId {
+                scope,
+                figure: Figure::Loss,
+            })
+            .unwrap_or_else(|| panic!("{scope:?} has no loss reference"));
+        assert!(
+            f.name.contains("Kuczura") && f.name.contains("approx."),
+            "{}",
+            f.name
+        );
+        assert!(
+            (f.value / value - 1.0).abs() < 0.15,
+            "{scope:?}: exact {value}, reference {}",
+            f.value
+        );
+    }
+    let t = col
+        .get(&FigureId {
+            scope: Scope::Group(2),
+            figure: Figure::TimeCongestion,
+        })
+        .expect("final group's time congestion");
+    assert!((t.value / exact.final_time_congestion - 1.0).abs() < 0.15);
+}

@@ -2,7 +2,8 @@
 //! the crate.
 //!
 //! Owns Erlang B, Erlang C, Erlang A, Engset, overflow moments with the
-//! equivalent random method, Kaufman-Roberts multi-rate blocking, and M/G/N
+//! equivalent random method and per-parcel losses by Kuczura's interrupted
+//! Poisson process, Kaufman-Roberts multi-rate blocking, and M/G/N
 //! mean waits (Pollaczek-Khinchine, Allen-Cunneen, Cosmetatos) and the redial
 //! fixed point of a loss group. Must not touch simulation, files or
 //! printing.
