@@ -49,11 +49,18 @@
 //!   and carried traffic = offered are exact for any law and labelled
 //!   "unlimited queue, no loss". No service level: no two-moment form of the
 //!   wait distribution is shown.
+//! - M/M/N/K and M/M/N/K+M (exact): a limited queue on a single group, the
+//!   Erlang C or Erlang A conditions otherwise (Poisson, exponential holding
+//!   of one mean, no patience or exponential patience of one mean): blocking
+//!   (waiting room full) as first-attempt blocking, loss (blocked and
+//!   abandoned), P(wait), answered mean wait, abandonment, service level,
+//!   carried traffic and the time every agent is busy.
 //! - Engset: one finite-source stream alone on a loss group (insensitive to
 //!   the holding and idle laws).
 
 use crate::formulas::{
-    engset, erlang_a, erlang_b, erlang_c, multirate, overflow, queue_general, redial_fixed_point,
+    engset, erlang_a, erlang_b, erlang_c, finite_queue, multirate, overflow, queue_general,
+    redial_fixed_point,
 };
 use crate::scenario::{Arrivals, Model, Queue, Stream};
 use crate::stats::{Figure, FigureId, Scope, group_figures, stream_figures};
@@ -385,7 +392,12 @@ fn multirate_group(col: &mut Column, g: usize) {
 fn queue_group(col: &mut Column, g: usize) {
     let model = col.model;
     let grp = &model.groups[g];
-    if grp.queue != Queue::Unlimited || grp.reserve > 0 || grp.overflow_after_s.is_some() {
+    let places = match grp.queue {
+        Queue::Unlimited => None,
+        Queue::Limited(q) => Some(q),
+        Queue::None => return,
+    };
+    if grp.reserve > 0 || grp.overflow_after_s.is_some() {
         return;
     }
     let users = users(model, g);
@@ -426,6 +438,12 @@ fn queue_group(col: &mut Column, g: usize) {
         return;
     };
     let n = grp.servers;
+    if let Some(places) = places {
+        if exponential {
+            finite_queue_group(col, g, &users, places, traffic, h, patience);
+        }
+        return;
+    }
     if !exponential {
         if patience.is_none()
             && let Some(cv) = cv
@@ -485,6 +503,61 @@ fn queue_group(col: &mut Column, g: usize) {
         }
     }
 }
+
+/// A limited queue (M/M/N/K, or M/M/N/K+M with exponential patience):
+/// blocking (waiting room full), waiting, answered mean wait, abandonment,
+/// loss and service level, exact from the birth-death chain.
+fn finite_queue_group(
+    col: &mut Column,
+    g: usize,
+    users: &[(usize, usize)],
+    places: u32,
+    traffic: f64,
+    h: f64,
+    patience: Option<f64>,
+) {
+    let model = col.model;
+    let n = model.groups[g].servers;
+    let Ok(f) = finite_queue::solve(n, places, traffic, h, patience) else {
+        return;
+    };
+    let method = if patience.is_some() {
+        FINITE_QUEUE_PATIENCE
+    } else {
+        FINITE_QUEUE
+    };
+    col.group(g, Figure::CarriedTraffic, method, f.carried_traffic);
+    col.group(
+        g,
+        Figure::Occupancy,
+        method,
+        f.carried_traffic / f64::from(n),
+    );
+    col.group(g, Figure::TimeCongestion, method, f.all_busy);
+    for &(s, _) in users {
+        let st = &model.streams[s];
+        col.stream(s, Figure::FirstAttemptBlocking, method, f.blocking);
+        col.stream(s, Figure::Loss, method, f.loss());
+        col.stream(s, Figure::WaitProbability, method, f.wait_probability);
+        col.stream(s, Figure::WaitMean, method, f.mean_wait_answered_s);
+        col.stream(s, Figure::Abandonment, method, f.abandonment);
+        if let Some(rate) = poisson_rate(st) {
+            col.stream(
+                s,
+                Figure::CarriedTraffic,
+                method,
+                rate * st.holding.mean() * f.answered,
+            );
+        }
+        if let Some(aw) = st.answer_within_s {
+            col.stream(s, Figure::ServiceLevel, method, f.service_level(aw));
+        }
+    }
+}
+
+/// Labels of the finite queue (exact).
+const FINITE_QUEUE: &str = "M/M/N/K, limited queue";
+const FINITE_QUEUE_PATIENCE: &str = "M/M/N/K+M, limited queue with patience";
 
 /// M/G/N without patience: Pollaczek-Khinchine (one agent, exact),
 /// Cosmetatos (constant holding) or Allen-Cunneen for the mean wait and the

@@ -213,3 +213,82 @@ route = ["final"]
         .expect("final group's time congestion");
     assert!((t.value / exact.final_time_congestion - 1.0).abs() < 0.15);
 }
+
+#[test]
+fn a_limited_queue_shows_the_finite_queue_and_the_simulator_agrees() {
+    // M/M/N/K+M: 8 agents, 4 waiting places, 7.5 E, exponential patience of
+    // 2 minutes. The formula column must hold formulas::finite_queue's
+    // values (checked against the birth-death chain in
+    // tests/formulas_finite_queue.rs; Kleinrock 1975, Palm 1943), and the
+    // simulator must agree with them within its 95% interval (3 half-widths,
+    // fixed seed): this checks that the closed form measures what the
+    // simulator's figures measure.
+    use busyhour::formulas::finite_queue;
+    for patience in ["", r#"patience = { law = "exponential", mean = "2m" }"#] {
+        let text = format!(
+            r#"
+[simulation]
+warmup = "5h"
+length = "100h"
+replications = 10
+seed = 21
+[[group]]
+name = "desk"
+servers = 8
+queue = 4
+[[stream]]
+name = "callers"
+arrivals = {{ law = "poisson", rate = "150/h" }}
+holding = {{ law = "exponential", mean = "3m" }}
+route = ["desk"]
+answer_within = "20s"
+{patience}
+"#
+        );
+        let m = model(&text);
+        let col = formula_column(&m);
+        let theta = (!patience.is_empty()).then_some(120.0);
+        let f = finite_queue::solve(8, 4, 7.5, 180.0, theta).unwrap();
+        let o = run(&m);
+        let mut want = vec![
+            ("first_attempt_blocking", f.blocking),
+            ("loss", f.loss()),
+            ("wait_probability", f.wait_probability),
+            ("wait_mean", f.mean_wait_answered_s),
+            ("service_level", f.service_level(20.0)),
+            ("carried_traffic", 7.5 * f.answered),
+        ];
+        if theta.is_some() {
+            want.push(("abandonment", f.abandonment));
+        }
+        for (name, value) in want {
+            let figure = Figure::from_name(name).expect("figure");
+            let r = col
+                .get(&FigureId {
+                    scope: Scope::Stream(0),
+                    figure,
+                })
+                .unwrap_or_else(|| panic!("{name} has no reference ({patience})"));
+            assert!(r.name.starts_with("M/M/N/K"), "{}", r.name);
+            assert!(
+                (r.value - value).abs() <= 1e-12 * value.abs().max(1e-300),
+                "{name}"
+            );
+            let e = o.get(Scope::Stream(0), name).expect("estimate");
+            assert_precise(name, e, 0.1);
+            assert_covers(&format!("{name} ({patience})"), e, value, 3.0);
+        }
+        let t = col
+            .get(&FigureId {
+                scope: Scope::Group(0),
+                figure: Figure::TimeCongestion,
+            })
+            .expect("time congestion");
+        assert_covers(
+            "time congestion",
+            o.get(Scope::Group(0), "time_congestion").expect("estimate"),
+            t.value,
+            3.0,
+        );
+    }
+}
