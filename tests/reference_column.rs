@@ -292,3 +292,94 @@ answer_within = "20s"
         );
     }
 }
+
+/// Scenario text: one loss group of `servers`, one Poisson stream of
+/// 20-minute exponential calls following `rates` (per hour) in 15-minute
+/// intervals, reported per 15 minutes.
+fn profile_scenario(servers: u32, rates: &[f64], replications: u32) -> String {
+    let list: Vec<String> = rates.iter().map(|r| format!("\"{r}/h\"")).collect();
+    format!(
+        r#"
+[simulation]
+warmup = "2h"
+length = "{hours}h"
+interval = "15m"
+replications = {replications}
+seed = 5
+[[group]]
+name = "lines"
+servers = {servers}
+[[stream]]
+name = "callers"
+arrivals = {{ law = "poisson", interval = "15m", rates = [{list}] }}
+holding = {{ law = "exponential", mean = "20m" }}
+route = ["lines"]
+"#,
+        hours = rates.len() as f64 / 4.0,
+        list = list.join(", ")
+    )
+}
+
+#[test]
+fn the_modified_offered_load_follows_the_simulated_peak() {
+    // 20-minute calls against 15-minute intervals: the stationary Erlang B
+    // of each interval's load ignores the calls still in progress from
+    // earlier intervals, and misleads on a ramp (too high going up, too
+    // low coming down). The modified offered load (Jagerman 1975; Massey
+    // and Whitt 1994), Erlang B of the infinite-server mean m(t) with
+    // m' = λ(t) - m/h, follows the simulator: in each interval it must be
+    // within the simulated interval (3 half-widths) or at most half as far
+    // from the simulated loss as the stationary value; and in at least 3
+    // intervals the MOL must be inside the simulated interval where the
+    // stationary value is outside it. Measured here (1000 replications):
+    // going up, simulated 0.86% against MOL 0.63% and stationary 4.0%;
+    // coming down 2.4% against 2.3% and 0.85%; the MOL inside every
+    // interval. Not asserted, a limit of the method: with a peak of 30 E on
+    // the 30 lines (blocking above 10%) the MOL understates the ramp's top
+    // (7.6% against 10.1% simulated) and overstates after it (4.0%
+    // against 2.1%): the unlimited-server mean keeps the blocked calls.
+    let rates = [
+        36.0, 36.0, 48.0, 60.0, 72.0, 72.0, 72.0, 60.0, 48.0, 36.0, 36.0, 36.0,
+    ];
+    let m = model(&profile_scenario(30, &rates, 1000));
+    let col = formula_column(&m);
+    let o = run(&m);
+    let mut compared = 0;
+    for b in 0..rates.len() {
+        let mol = col
+            .get(&FigureId {
+                scope: Scope::StreamInterval(b, 0),
+                figure: Figure::Loss,
+            })
+            .expect("MOL reference");
+        assert_eq!(mol.name, "Erlang B, modified offered load (approx.)");
+        let stationary = col
+            .get(&FigureId {
+                scope: Scope::GroupInterval(b, 0),
+                figure: Figure::TimeCongestion,
+            })
+            .expect("stationary reference");
+        assert_eq!(stationary.name, "Erlang B, interval load");
+        let e = o
+            .get(Scope::StreamInterval(b, 0), "loss")
+            .expect("estimate");
+        let within = (e.mean - mol.value).abs() <= 3.0 * e.half_width;
+        let closer = (e.mean - mol.value).abs() <= 0.5 * (e.mean - stationary.value).abs();
+        eprintln!(
+            "interval {b}: simulated {:.4} ± {:.4}, MOL {:.4}, stationary {:.4}",
+            e.mean, e.half_width, mol.value, stationary.value
+        );
+        assert!(
+            within || closer,
+            "interval {b}: simulated {:.5} ± {:.5}, MOL {:.5}, stationary {:.5}",
+            e.mean,
+            e.half_width,
+            mol.value,
+            stationary.value
+        );
+        if within && (e.mean - stationary.value).abs() > 3.0 * e.half_width {
+            compared += 1;
+        }
+    }
+    assert!(compared >= 3, "the ramp should separate the references");
+}
