@@ -57,9 +57,9 @@
 //!   carried traffic and the time every agent is busy.
 //! - Peak profiles on a loss group (direct Poisson streams ending there):
 //!   Erlang B of the average load (whole period), and per interval Erlang B
-//!   of the interval's own load (stationary). With exponential holding on
-//!   every stream, the per-interval stream loss gets the modified offered
-//!   load instead (Jagerman 1975, Massey and Whitt 1994; approx.), and the
+//!   of the interval's own load (stationary). The per-interval stream loss
+//!   gets the modified offered load instead (Jagerman 1975, Massey and
+//!   Whitt 1994; approx.; the M_t/G/inf mean for any holding law), and the
 //!   stationary value moves to the group's per-interval time congestion.
 //! - Engset: one finite-source stream alone on a loss group (insensitive to
 //!   the holding and idle laws).
@@ -777,8 +777,7 @@ fn window_rate(a: &Arrivals, t0: f64, t1: f64) -> Option<f64> {
 /// A loss group offered direct Poisson traffic of which some follows a peak
 /// profile: Erlang B of the average load for the whole period, and of each
 /// interval's own load (a stationary approximation that ignores the lag of
-/// calls in progress), and with exponential holding the modified offered
-/// load per interval, so the report shows how far the peak moves from them.
+/// calls in progress), and the modified offered load per interval, so the report shows how far the peak moves from them.
 /// Interval rates come from [`window_rate`] alone.
 fn profile_group(col: &mut Column, g: usize) {
     let model = col.model;
@@ -820,11 +819,7 @@ fn profile_group(col: &mut Column, g: usize) {
         col.group(g, Figure::TimeCongestion, "Erlang B, average load", b);
     }
     let width = model.plan.interval_s.unwrap_or(length);
-    let mol = users
-        .iter()
-        .all(|&(s, _)| is_exponential(&model.streams[s].holding))
-        .then(|| modified_offered_load(model, g, &users))
-        .flatten();
+    let mol = modified_offered_load(model, g, &users);
     for bin in 0..model.plan.interval_count() {
         let t0 = bin as f64 * width;
         let t1 = (t0 + width).min(length);
@@ -865,18 +860,29 @@ struct MolInterval {
 }
 
 /// The modified-offered-load (MOL) reference of a loss group offered
-/// Poisson streams (some with peak profiles), all with exponential
-/// holding: the mean `m(t)` of the same traffic on unlimited servers
-/// (`m_s' = λ_s(t) - m_s / h_s` per stream, solved exactly on each piece
-/// where the rates are constant), and at each instant the blocking
-/// `E_N(m(t))`; per interval and stream, the loss is the call-weighted mean
-/// of that blocking (Simpson's rule, 16 panels per piece). The warm-up runs
-/// at each stream's first rate from `m = λ h` (steady start) or 0 (empty
-/// start), as the simulator does. Source: D. L. Jagerman, "Nonstationary
-/// blocking in telephone traffic", Bell System Technical Journal 54 (1975);
-/// W. A. Massey and W. Whitt, "An analysis of the modified offered-load
-/// approximation for the nonstationary Erlang loss model", Annals of
-/// Applied Probability 4 (1994). An approximation, named so.
+/// Poisson streams (some with peak profiles), any holding law: the mean
+/// `m(t)` of the same traffic on unlimited servers, and at each instant the
+/// blocking `E_N(m(t))`; per interval and stream, the loss is the
+/// call-weighted mean of that blocking (Simpson's rule, 16 panels per
+/// piece of constant rates).
+///
+/// # Formula
+///
+/// `m_s(t) = E[∫_{t-S}^{t} λ_s(u) du]` (the M_t/G/∞ mean; for exponential
+/// holding the solution of `m' = λ(t) - m/h`). With the rate a step
+/// function, `λ_s(u) = λ_0 + Σ_k Δ_k 1{u >= c_k}`, this is
+/// `m_s(t) = λ_0 h + Σ_{c_k <= t} Δ_k h (1 - P(S_e > t - c_k))`, `S_e` the
+/// stationary-excess law ([`crate::dist::Law::residual_tail`]): exact for
+/// every law. Before the measured period the warm-up runs at the first
+/// rate, from all history at a steady start (`m = λ_0 h`) or from an
+/// empty system (a step of `λ_0` at the warm-up's start), as the simulator
+/// does. Source: D. L. Jagerman, "Nonstationary blocking in telephone
+/// traffic", Bell System Technical Journal 54 (1975); W. A. Massey and
+/// W. Whitt, "An analysis of the modified offered-load approximation for
+/// the nonstationary Erlang loss model", Annals of Applied Probability 4
+/// (1994); the M_t/G/∞ mean as in S. G. Eick, W. A. Massey and W. Whitt,
+/// "The physics of the M_t/G/∞ queue", Operations Research 41 (1993). An
+/// approximation, named so.
 fn modified_offered_load(
     model: &Model,
     g: usize,
@@ -886,9 +892,9 @@ fn modified_offered_load(
     let plan = &model.plan;
     let length = plan.length_s;
     let width = plan.interval_s.unwrap_or(length);
-    let holding: Vec<f64> = users
+    let laws: Vec<&crate::dist::Law> = users
         .iter()
-        .map(|&(s, _)| model.streams[s].holding.mean())
+        .map(|&(s, _)| &model.streams[s].holding)
         .collect();
     // The rate changes inside the measured period, and the bin edges.
     let mut cuts: Vec<f64> = (0..=plan.interval_count())
@@ -905,20 +911,31 @@ fn modified_offered_load(
     }
     cuts.sort_by(f64::total_cmp);
     cuts.dedup();
-    // m_s at the start of the measured period, after the warm-up at the
-    // first rate.
+    // Per stream: the base load and the rate steps (time, change) so far.
     let first_rate = |s: usize| model.streams[s].arrivals.initial_rate().unwrap_or(0.0);
-    let mut m: Vec<f64> = users
-        .iter()
-        .zip(&holding)
-        .map(|(&(s, _), &h)| {
-            let stationary = first_rate(s) * h;
-            match plan.start {
-                crate::scenario::Start::Steady => stationary,
-                crate::scenario::Start::Empty => stationary * -(-plan.warmup_s / h).exp_m1(),
-            }
-        })
-        .collect();
+    let mut base = vec![0.0; users.len()];
+    let mut steps: Vec<Vec<(f64, f64)>> = vec![Vec::new(); users.len()];
+    let mut rate_now = vec![0.0; users.len()];
+    for (i, &(s, _)) in users.iter().enumerate() {
+        rate_now[i] = first_rate(s);
+        match plan.start {
+            crate::scenario::Start::Steady => base[i] = rate_now[i] * laws[i].mean(),
+            crate::scenario::Start::Empty => steps[i].push((-plan.warmup_s, rate_now[i])),
+        }
+    }
+    let m_at = |t: f64, base: &[f64], steps: &[Vec<(f64, f64)>]| -> f64 {
+        (0..users.len())
+            .map(|i| {
+                let h = laws[i].mean();
+                base[i]
+                    + steps[i]
+                        .iter()
+                        .map(|&(c, delta)| delta * h * (1.0 - laws[i].residual_tail(t - c)))
+                        .sum::<f64>()
+            })
+            .sum::<f64>()
+            .max(0.0)
+    };
     let bins = plan.interval_count();
     let mut offered = vec![vec![0.0; users.len()]; bins];
     let mut lost = vec![vec![0.0; users.len()]; bins];
@@ -929,18 +946,13 @@ fn modified_offered_load(
             continue;
         }
         let bin = (((t0 / width) + 1e-9).floor() as usize).min(bins - 1);
-        let rates: Vec<f64> = users
-            .iter()
-            .map(|&(s, _)| window_rate(&model.streams[s].arrivals, t0, t1).unwrap_or(0.0))
-            .collect();
-        let m_at = |dt: f64| -> f64 {
-            (0..users.len())
-                .map(|i| {
-                    let target = rates[i] * holding[i];
-                    target + (m[i] - target) * (-dt / holding[i]).exp()
-                })
-                .sum()
-        };
+        for (i, &(s, _)) in users.iter().enumerate() {
+            let rate = window_rate(&model.streams[s].arrivals, t0, t1).unwrap_or(0.0);
+            if rate != rate_now[i] {
+                steps[i].push((t0, rate - rate_now[i]));
+                rate_now[i] = rate;
+            }
+        }
         let step = (t1 - t0) / PANELS as f64;
         let mut integral = 0.0;
         for k in 0..=PANELS {
@@ -951,14 +963,13 @@ fn modified_offered_load(
             } else {
                 2.0
             };
-            integral += weight * erlang_b::blocking(n, m_at(k as f64 * step)).ok()?;
+            let m = m_at(t0 + k as f64 * step, &base, &steps);
+            integral += weight * erlang_b::blocking(n, m).ok()?;
         }
         let mean_blocking = (integral * step / 3.0 / (t1 - t0)).clamp(0.0, 1.0);
         for i in 0..users.len() {
-            offered[bin][i] += rates[i] * (t1 - t0);
-            lost[bin][i] += rates[i] * (t1 - t0) * mean_blocking;
-            let target = rates[i] * holding[i];
-            m[i] = target + (m[i] - target) * (-(t1 - t0) / holding[i]).exp();
+            offered[bin][i] += rate_now[i] * (t1 - t0);
+            lost[bin][i] += rate_now[i] * (t1 - t0) * mean_blocking;
         }
     }
     Some(

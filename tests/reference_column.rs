@@ -294,9 +294,9 @@ answer_within = "20s"
 }
 
 /// Scenario text: one loss group of `servers`, one Poisson stream of
-/// 20-minute exponential calls following `rates` (per hour) in 15-minute
-/// intervals, reported per 15 minutes.
-fn profile_scenario(servers: u32, rates: &[f64], replications: u32) -> String {
+/// 20-minute calls (`law`: "exponential" or "deterministic") following
+/// `rates` (per hour) in 15-minute intervals, reported per 15 minutes.
+fn profile_scenario(servers: u32, rates: &[f64], replications: u32, law: &str) -> String {
     let list: Vec<String> = rates.iter().map(|r| format!("\"{r}/h\"")).collect();
     format!(
         r#"
@@ -312,7 +312,7 @@ servers = {servers}
 [[stream]]
 name = "callers"
 arrivals = {{ law = "poisson", interval = "15m", rates = [{list}] }}
-holding = {{ law = "exponential", mean = "20m" }}
+holding = {{ law = "{law}", mean = "20m" }}
 route = ["lines"]
 "#,
         hours = rates.len() as f64 / 4.0,
@@ -338,48 +338,59 @@ fn the_modified_offered_load_follows_the_simulated_peak() {
     // the 30 lines (blocking above 10%) the MOL understates the ramp's top
     // (7.6% against 10.1% simulated) and overstates after it (4.0%
     // against 2.1%): the unlimited-server mean keeps the blocked calls.
+    // The same ramp with constant 20-minute calls (the general M_t/G/inf
+    // mean, Eick, Massey and Whitt 1993): the MOL inside every simulated
+    // interval too (1.7% against 2.6% simulated on the way up, 0.48%
+    // against 0.22% after the peak).
     let rates = [
         36.0, 36.0, 48.0, 60.0, 72.0, 72.0, 72.0, 60.0, 48.0, 36.0, 36.0, 36.0,
     ];
-    let m = model(&profile_scenario(30, &rates, 1000));
-    let col = formula_column(&m);
-    let o = run(&m);
-    let mut compared = 0;
-    for b in 0..rates.len() {
-        let mol = col
-            .get(&FigureId {
-                scope: Scope::StreamInterval(b, 0),
-                figure: Figure::Loss,
-            })
-            .expect("MOL reference");
-        assert_eq!(mol.name, "Erlang B, modified offered load (approx.)");
-        let stationary = col
-            .get(&FigureId {
-                scope: Scope::GroupInterval(b, 0),
-                figure: Figure::TimeCongestion,
-            })
-            .expect("stationary reference");
-        assert_eq!(stationary.name, "Erlang B, interval load");
-        let e = o
-            .get(Scope::StreamInterval(b, 0), "loss")
-            .expect("estimate");
-        let within = (e.mean - mol.value).abs() <= 3.0 * e.half_width;
-        let closer = (e.mean - mol.value).abs() <= 0.5 * (e.mean - stationary.value).abs();
-        eprintln!(
-            "interval {b}: simulated {:.4} ± {:.4}, MOL {:.4}, stationary {:.4}",
-            e.mean, e.half_width, mol.value, stationary.value
-        );
-        assert!(
-            within || closer,
-            "interval {b}: simulated {:.5} ± {:.5}, MOL {:.5}, stationary {:.5}",
-            e.mean,
-            e.half_width,
-            mol.value,
-            stationary.value
-        );
-        if within && (e.mean - stationary.value).abs() > 3.0 * e.half_width {
-            compared += 1;
+    for law in ["exponential", "deterministic"] {
+        let m = model(&profile_scenario(30, &rates, 1000, law));
+        let col = formula_column(&m);
+        let mut compared = 0;
+        let o = run(&m);
+        for b in 0..rates.len() {
+            let mol = col
+                .get(&FigureId {
+                    scope: Scope::StreamInterval(b, 0),
+                    figure: Figure::Loss,
+                })
+                .expect("MOL reference");
+            assert_eq!(mol.name, "Erlang B, modified offered load (approx.)");
+            let stationary = col
+                .get(&FigureId {
+                    scope: Scope::GroupInterval(b, 0),
+                    figure: Figure::TimeCongestion,
+                })
+                .expect("stationary reference");
+            assert_eq!(stationary.name, "Erlang B, interval load");
+            let e = o
+                .get(Scope::StreamInterval(b, 0), "loss")
+                .expect("estimate");
+            let within = (e.mean - mol.value).abs() <= 3.0 * e.half_width;
+            let closer = (e.mean - mol.value).abs() <= 0.5 * (e.mean - stationary.value).abs();
+            eprintln!(
+                "{law}, interval {b}: simulated {:.4} ± {:.4}, MOL {:.4}, stationary {:.4}",
+                e.mean, e.half_width, mol.value, stationary.value
+            );
+            assert!(
+                within || closer,
+                "{law}, interval {b}: simulated {:.5} ± {:.5}, MOL {:.5}, stationary {:.5}",
+                e.mean,
+                e.half_width,
+                mol.value,
+                stationary.value
+            );
+            if within && (e.mean - stationary.value).abs() > 3.0 * e.half_width {
+                compared += 1;
+            }
+        }
+        // With constant holding the stationary value errs less on this ramp
+        // (outside the simulated interval once); the count is asked of the
+        // exponential case.
+        if law == "exponential" {
+            assert!(compared >= 3, "the ramp should separate the references");
         }
     }
-    assert!(compared >= 3, "the ramp should separate the references");
 }

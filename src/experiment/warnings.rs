@@ -83,7 +83,7 @@ impl std::fmt::Display for Warning {
                 interval_s,
             } => write!(
                 f,
-                "stream \"{stream}\" holds calls {} on average, more than a quarter of its profile's {} interval: calls in progress carry the load across intervals, so the per-interval Erlang B of the interval's own load misleads; compare with the modified-offered-load reference (exponential holding) or the simulation",
+                "stream \"{stream}\" holds calls {} on average, more than a quarter of its profile's {} interval: calls in progress carry the load across intervals, so the per-interval Erlang B of the interval's own load misleads; compare with the modified-offered-load reference or the simulation",
                 units::format_duration(*holding_s),
                 units::format_duration(*interval_s)
             ),
