@@ -22,13 +22,19 @@
 //!   Where a redialing group also passes calls on, only "Erlang B, no
 //!   redials" is shown (time congestion; first attempts and loss of the
 //!   streams ending there), named for what it ignores.
-//! - Equivalent random (Wilkinson, Rapp): loss of a stream routed over a first
-//!   group that meets the Erlang B conditions and then a final group that is
-//!   offered only such overflow and direct Poisson traffic; exponential holding.
-//!   Each parcel (and the direct stream, peakedness 1) gets the final
-//!   group's blocking split by peakedness, B_i = B Z_i / Z (approx.; against
-//!   the exact network chain it still understates peaky parcels by 20-40%,
-//!   `tests/formulas_overflow.rs`).
+//! - Overflow parcels as interrupted Poisson processes (Kuczura 1973,
+//!   approx.): loss of a stream routed over a first group that meets the
+//!   Erlang B conditions and then a final group that is offered only such
+//!   overflow and direct Poisson traffic; exponential holding. Each
+//!   parcel's overflow is replaced by the IPP with its first three moments
+//!   and the final group solved as a chain over the parcels' phases, so a
+//!   peaky parcel loses more than a smooth one; the direct stream's loss is
+//!   the final group's time congestion (shown for the group too). Within
+//!   4% of the exact network chain on the reference cases
+//!   (`tests/formulas_overflow.rs`; the peakedness split B_i = B Z_i / Z of
+//!   the equivalent random method understated peaky parcels by 20-40%).
+//!   Up to [`overflow::MAX_PARCEL_PHASES`] phase combinations; beyond, no
+//!   value.
 //! - Kaufman-Roberts: a loss group whose direct Poisson streams take different
 //!   numbers of servers per call.
 //! - Erlang C: an unlimited queue on a single group, Poisson arrivals,
@@ -43,11 +49,24 @@
 //!   and carried traffic = offered are exact for any law and labelled
 //!   "unlimited queue, no loss". No service level: no two-moment form of the
 //!   wait distribution is shown.
+//! - M/M/N/K and M/M/N/K+M (exact): a limited queue on a single group, the
+//!   Erlang C or Erlang A conditions otherwise (Poisson, exponential holding
+//!   of one mean, no patience or exponential patience of one mean): blocking
+//!   (waiting room full) as first-attempt blocking, loss (blocked and
+//!   abandoned), P(wait), answered mean wait, abandonment, service level,
+//!   carried traffic and the time every agent is busy.
+//! - Peak profiles on a loss group (direct Poisson streams ending there):
+//!   Erlang B of the average load (whole period), and per interval Erlang B
+//!   of the interval's own load (stationary). The per-interval stream loss
+//!   gets the modified offered load instead (Jagerman 1975, Massey and
+//!   Whitt 1994; approx.; the M_t/G/inf mean for any holding law), and the
+//!   stationary value moves to the group's per-interval time congestion.
 //! - Engset: one finite-source stream alone on a loss group (insensitive to
 //!   the holding and idle laws).
 
 use crate::formulas::{
-    engset, erlang_a, erlang_b, erlang_c, multirate, overflow, queue_general, redial_fixed_point,
+    engset, erlang_a, erlang_b, erlang_c, finite_queue, multirate, overflow, queue_general,
+    redial_fixed_point,
 };
 use crate::scenario::{Arrivals, Model, Queue, Stream};
 use crate::stats::{Figure, FigureId, Scope, group_figures, stream_figures};
@@ -95,6 +114,27 @@ impl Column<'_> {
             self.map.insert(
                 FigureId {
                     scope: Scope::StreamInterval(b, s),
+                    figure,
+                },
+                Formula {
+                    name: method,
+                    value,
+                },
+            );
+        }
+    }
+    fn group_interval(
+        &mut self,
+        b: usize,
+        g: usize,
+        figure: Figure,
+        method: &'static str,
+        value: f64,
+    ) {
+        if value.is_finite() {
+            self.map.insert(
+                FigureId {
+                    scope: Scope::GroupInterval(b, g),
                     figure,
                 },
                 Formula {
@@ -379,7 +419,12 @@ fn multirate_group(col: &mut Column, g: usize) {
 fn queue_group(col: &mut Column, g: usize) {
     let model = col.model;
     let grp = &model.groups[g];
-    if grp.queue != Queue::Unlimited || grp.reserve > 0 || grp.overflow_after_s.is_some() {
+    let places = match grp.queue {
+        Queue::Unlimited => None,
+        Queue::Limited(q) => Some(q),
+        Queue::None => return,
+    };
+    if grp.reserve > 0 || grp.overflow_after_s.is_some() {
         return;
     }
     let users = users(model, g);
@@ -420,6 +465,12 @@ fn queue_group(col: &mut Column, g: usize) {
         return;
     };
     let n = grp.servers;
+    if let Some(places) = places {
+        if exponential {
+            finite_queue_group(col, g, &users, places, traffic, h, patience);
+        }
+        return;
+    }
     if !exponential {
         if patience.is_none()
             && let Some(cv) = cv
@@ -479,6 +530,61 @@ fn queue_group(col: &mut Column, g: usize) {
         }
     }
 }
+
+/// A limited queue (M/M/N/K, or M/M/N/K+M with exponential patience):
+/// blocking (waiting room full), waiting, answered mean wait, abandonment,
+/// loss and service level, exact from the birth-death chain.
+fn finite_queue_group(
+    col: &mut Column,
+    g: usize,
+    users: &[(usize, usize)],
+    places: u32,
+    traffic: f64,
+    h: f64,
+    patience: Option<f64>,
+) {
+    let model = col.model;
+    let n = model.groups[g].servers;
+    let Ok(f) = finite_queue::solve(n, places, traffic, h, patience) else {
+        return;
+    };
+    let method = if patience.is_some() {
+        FINITE_QUEUE_PATIENCE
+    } else {
+        FINITE_QUEUE
+    };
+    col.group(g, Figure::CarriedTraffic, method, f.carried_traffic);
+    col.group(
+        g,
+        Figure::Occupancy,
+        method,
+        f.carried_traffic / f64::from(n),
+    );
+    col.group(g, Figure::TimeCongestion, method, f.all_busy);
+    for &(s, _) in users {
+        let st = &model.streams[s];
+        col.stream(s, Figure::FirstAttemptBlocking, method, f.blocking);
+        col.stream(s, Figure::Loss, method, f.loss());
+        col.stream(s, Figure::WaitProbability, method, f.wait_probability);
+        col.stream(s, Figure::WaitMean, method, f.mean_wait_answered_s);
+        col.stream(s, Figure::Abandonment, method, f.abandonment);
+        if let Some(rate) = poisson_rate(st) {
+            col.stream(
+                s,
+                Figure::CarriedTraffic,
+                method,
+                rate * st.holding.mean() * f.answered,
+            );
+        }
+        if let Some(aw) = st.answer_within_s {
+            col.stream(s, Figure::ServiceLevel, method, f.service_level(aw));
+        }
+    }
+}
+
+/// Labels of the finite queue (exact).
+const FINITE_QUEUE: &str = "M/M/N/K, limited queue";
+const FINITE_QUEUE_PATIENCE: &str = "M/M/N/K+M, limited queue with patience";
 
 /// M/G/N without patience: Pollaczek-Khinchine (one agent, exact),
 /// Cosmetatos (constant holding) or Allen-Cunneen for the mean wait and the
@@ -554,9 +660,11 @@ fn engset_group(col: &mut Column, g: usize) {
     col.stream(s, Figure::CarriedTraffic, "Engset", e.carried_traffic);
 }
 
-/// Loss of streams routed first group -> final group, by the equivalent
-/// random method, where the final group is offered only overflow from
-/// Erlang B first groups (exponential holding) and direct Poisson traffic.
+/// Loss of streams routed first group -> final group, each parcel by its
+/// own interrupted Poisson process (Kuczura 1973) on the final group solved
+/// as a chain, where the final group is offered only overflow from Erlang B
+/// first groups (exponential holding) and direct Poisson traffic; the
+/// final group's time congestion is the direct traffic's loss.
 fn equivalent_random(col: &mut Column) {
     let model = col.model;
     for f in 0..model.groups.len() {
@@ -616,31 +724,30 @@ fn equivalent_random(col: &mut Column) {
             continue;
         }
         let list: Vec<(f64, u32)> = primaries.iter().map(|&(_, a, n)| (a, n)).collect();
-        let Ok(fin) = overflow::final_group(&list, direct, fg.servers) else {
+        let Ok(parcels) = overflow::parcel_losses(&list, direct, fg.servers) else {
             continue;
         };
-        // Each parcel meets the final group's blocking in proportion to its
-        // peakedness (B_i = B Z_i / Z; direct Poisson traffic Z = 1).
-        const METHOD: &str = "equivalent random, peakedness split (approx.)";
         for (s, p) in two_step {
-            let n = model.groups[p].servers;
-            let a = primaries.iter().find(|x| x.0 == p).map_or(0.0, |x| x.1);
-            if let (Ok(b), Ok(m)) = (erlang_b::blocking(n, a), overflow::riordan(n, a)) {
-                col.stream(
-                    s,
-                    Figure::Loss,
-                    METHOD,
-                    b * fin.parcel_blocking(m.peakedness()),
-                );
+            if let Some(i) = primaries.iter().position(|x| x.0 == p) {
+                col.stream(s, Figure::Loss, PARCEL_METHOD, parcels.loss[i]);
             }
         }
         for (s, pos) in users(model, f) {
             if pos == 0 && model.streams[s].route.len() == 1 {
-                col.stream(s, Figure::Loss, METHOD, fin.parcel_blocking(1.0));
+                col.stream(s, Figure::Loss, PARCEL_METHOD, parcels.direct_loss);
             }
         }
+        col.group(
+            f,
+            Figure::TimeCongestion,
+            PARCEL_METHOD,
+            parcels.direct_loss,
+        );
     }
 }
+
+/// Label of the per-parcel overflow method.
+const PARCEL_METHOD: &str = "IPP overflow parcels, Kuczura (approx.)";
 
 /// Mean Poisson rate (calls/s) over `[t0, t1)` after the warm-up, for
 /// constant and peak-profile Poisson arrivals.
@@ -670,7 +777,8 @@ fn window_rate(a: &Arrivals, t0: f64, t1: f64) -> Option<f64> {
 /// A loss group offered direct Poisson traffic of which some follows a peak
 /// profile: Erlang B of the average load for the whole period, and of each
 /// interval's own load (a stationary approximation that ignores the lag of
-/// calls in progress), so the report shows how far the peak moves from both.
+/// calls in progress), and the modified offered load per interval, so the report shows how far the peak moves from them.
+/// Interval rates come from [`window_rate`] alone.
 fn profile_group(col: &mut Column, g: usize) {
     let model = col.model;
     let grp = &model.groups[g];
@@ -711,15 +819,174 @@ fn profile_group(col: &mut Column, g: usize) {
         col.group(g, Figure::TimeCongestion, "Erlang B, average load", b);
     }
     let width = model.plan.interval_s.unwrap_or(length);
+    let mol = modified_offered_load(model, g, &users);
     for bin in 0..model.plan.interval_count() {
         let t0 = bin as f64 * width;
         let t1 = (t0 + width).min(length);
-        if let Ok(b) = erlang_b::blocking(n, load(t0, t1)) {
-            for &(s, _) in &users {
-                col.stream_interval(bin, s, Figure::Loss, "Erlang B, interval load", b);
+        let Ok(b) = erlang_b::blocking(n, load(t0, t1)) else {
+            continue;
+        };
+        match &mol {
+            // The stream's loss gets the reference that follows the lag of
+            // calls in progress; the stationary value of the interval's
+            // load moves to the group's time congestion (the same share
+            // for Poisson arrivals), so both stay in view.
+            Some(mol) => {
+                for (i, &(s, _)) in users.iter().enumerate() {
+                    col.stream_interval(bin, s, Figure::Loss, MOL, mol[bin].loss[i]);
+                }
+                col.group_interval(bin, g, Figure::TimeCongestion, INTERVAL_LOAD, b);
+            }
+            None => {
+                for &(s, _) in &users {
+                    col.stream_interval(bin, s, Figure::Loss, INTERVAL_LOAD, b);
+                }
             }
         }
     }
+}
+
+/// Label of the stationary per-interval reference.
+const INTERVAL_LOAD: &str = "Erlang B, interval load";
+
+/// Label of the modified-offered-load reference.
+const MOL: &str = "Erlang B, modified offered load (approx.)";
+
+/// The modified-offered-load reference of one reporting interval.
+struct MolInterval {
+    /// Per user of the group (in `users` order): calls lost over calls
+    /// offered in the interval, `∫ λ_s E_N(m) dt / ∫ λ_s dt`.
+    loss: Vec<f64>,
+}
+
+/// The modified-offered-load (MOL) reference of a loss group offered
+/// Poisson streams (some with peak profiles), any holding law: the mean
+/// `m(t)` of the same traffic on unlimited servers, and at each instant the
+/// blocking `E_N(m(t))`; per interval and stream, the loss is the
+/// call-weighted mean of that blocking (Simpson's rule, 16 panels per
+/// piece of constant rates).
+///
+/// # Formula
+///
+/// `m_s(t) = E[∫_{t-S}^{t} λ_s(u) du]` (the M_t/G/∞ mean; for exponential
+/// holding the solution of `m' = λ(t) - m/h`). With the rate a step
+/// function, `λ_s(u) = λ_0 + Σ_k Δ_k 1{u >= c_k}`, this is
+/// `m_s(t) = λ_0 h + Σ_{c_k <= t} Δ_k h (1 - P(S_e > t - c_k))`, `S_e` the
+/// stationary-excess law ([`crate::dist::Law::residual_tail`]): exact for
+/// every law. Before the measured period the warm-up runs at the first
+/// rate, from all history at a steady start (`m = λ_0 h`) or from an
+/// empty system (a step of `λ_0` at the warm-up's start), as the simulator
+/// does. Source: D. L. Jagerman, "Nonstationary blocking in telephone
+/// traffic", Bell System Technical Journal 54 (1975); W. A. Massey and
+/// W. Whitt, "An analysis of the modified offered-load approximation for
+/// the nonstationary Erlang loss model", Annals of Applied Probability 4
+/// (1994); the M_t/G/∞ mean as in S. G. Eick, W. A. Massey and W. Whitt,
+/// "The physics of the M_t/G/∞ queue", Operations Research 41 (1993). An
+/// approximation, named so.
+fn modified_offered_load(
+    model: &Model,
+    g: usize,
+    users: &[(usize, usize)],
+) -> Option<Vec<MolInterval>> {
+    let n = model.groups[g].servers;
+    let plan = &model.plan;
+    let length = plan.length_s;
+    let width = plan.interval_s.unwrap_or(length);
+    let laws: Vec<&crate::dist::Law> = users
+        .iter()
+        .map(|&(s, _)| &model.streams[s].holding)
+        .collect();
+    // The rate changes inside the measured period, and the bin edges.
+    let mut cuts: Vec<f64> = (0..=plan.interval_count())
+        .map(|b| (b as f64 * width).min(length))
+        .collect();
+    for &(s, _) in users {
+        if let Arrivals::Profile { interval_s, rates } = &model.streams[s].arrivals {
+            cuts.extend(
+                (1..rates.len())
+                    .map(|i| i as f64 * interval_s)
+                    .filter(|&t| t < length),
+            );
+        }
+    }
+    cuts.sort_by(f64::total_cmp);
+    cuts.dedup();
+    // Per stream: the base load and the rate steps (time, change) so far.
+    let first_rate = |s: usize| model.streams[s].arrivals.initial_rate().unwrap_or(0.0);
+    let mut base = vec![0.0; users.len()];
+    let mut steps: Vec<Vec<(f64, f64)>> = vec![Vec::new(); users.len()];
+    let mut rate_now = vec![0.0; users.len()];
+    for (i, &(s, _)) in users.iter().enumerate() {
+        rate_now[i] = first_rate(s);
+        match plan.start {
+            crate::scenario::Start::Steady => base[i] = rate_now[i] * laws[i].mean(),
+            crate::scenario::Start::Empty => steps[i].push((-plan.warmup_s, rate_now[i])),
+        }
+    }
+    let m_at = |t: f64, base: &[f64], steps: &[Vec<(f64, f64)>]| -> f64 {
+        (0..users.len())
+            .map(|i| {
+                let h = laws[i].mean();
+                base[i]
+                    + steps[i]
+                        .iter()
+                        .map(|&(c, delta)| delta * h * (1.0 - laws[i].residual_tail(t - c)))
+                        .sum::<f64>()
+            })
+            .sum::<f64>()
+            .max(0.0)
+    };
+    let bins = plan.interval_count();
+    let mut offered = vec![vec![0.0; users.len()]; bins];
+    let mut lost = vec![vec![0.0; users.len()]; bins];
+    const PANELS: usize = 16;
+    for piece in cuts.windows(2) {
+        let (t0, t1) = (piece[0], piece[1]);
+        if !(t1 > t0) {
+            continue;
+        }
+        let bin = (((t0 / width) + 1e-9).floor() as usize).min(bins - 1);
+        for (i, &(s, _)) in users.iter().enumerate() {
+            let rate = window_rate(&model.streams[s].arrivals, t0, t1).unwrap_or(0.0);
+            if rate != rate_now[i] {
+                steps[i].push((t0, rate - rate_now[i]));
+                rate_now[i] = rate;
+            }
+        }
+        let step = (t1 - t0) / PANELS as f64;
+        let mut integral = 0.0;
+        for k in 0..=PANELS {
+            let weight = if k == 0 || k == PANELS {
+                1.0
+            } else if k % 2 == 1 {
+                4.0
+            } else {
+                2.0
+            };
+            let m = m_at(t0 + k as f64 * step, &base, &steps);
+            integral += weight * erlang_b::blocking(n, m).ok()?;
+        }
+        let mean_blocking = (integral * step / 3.0 / (t1 - t0)).clamp(0.0, 1.0);
+        for i in 0..users.len() {
+            offered[bin][i] += rate_now[i] * (t1 - t0);
+            lost[bin][i] += rate_now[i] * (t1 - t0) * mean_blocking;
+        }
+    }
+    Some(
+        (0..bins)
+            .map(|b| MolInterval {
+                loss: (0..users.len())
+                    .map(|i| {
+                        if offered[b][i] > 0.0 {
+                            lost[b][i] / offered[b][i]
+                        } else {
+                            f64::NAN
+                        }
+                    })
+                    .collect(),
+            })
+            .collect(),
+    )
 }
 
 /// The formula view of `check`: the same values as the run's formula column.

@@ -547,6 +547,9 @@ fn overflow_single_and_shared_final_group() {
         "overflow_variance",
         "peakedness",
         "final_blocking",
+        "parcel_method",
+        "parcels",
+        "direct_loss",
     ];
     let json = calc_json(&["overflow", "--traffic", "10", "--servers", "12"], &keys);
     let m = overflow::riordan(12, 10.0).unwrap();
@@ -564,6 +567,8 @@ fn overflow_single_and_shared_final_group() {
         1e-15,
     );
     assert!(json["final_blocking"].is_null());
+    assert!(json["parcel_method"].is_null() && json["direct_loss"].is_null());
+    assert_eq!(json["parcels"].as_array().map(Vec::len), Some(0));
 
     // One first-choice group hunting into a final group: the lost traffic is
     // exactly A B(N1 + N2, A) (one group of 17 servers).
@@ -602,6 +607,41 @@ fn overflow_single_and_shared_final_group() {
         &keys,
     );
     let f = overflow::final_group(&[(10.0, 12), (8.0, 10)], 2.0, 8).unwrap();
+    // Each stream's own loss: Kuczura's IPP parcels (approx.), within 15% of
+    // the network's exact chain (formulas::chains, Wilkinson's setting).
+    assert_eq!(
+        json["parcel_method"].as_str(),
+        Some("IPP overflow parcels, Kuczura (approx.)")
+    );
+    let exact = busyhour::formulas::chains::overflow_network(
+        &[
+            busyhour::formulas::chains::FirstChoice {
+                servers: 12,
+                traffic: 10.0,
+            },
+            busyhour::formulas::chains::FirstChoice {
+                servers: 10,
+                traffic: 8.0,
+            },
+        ],
+        8,
+        2.0,
+    )
+    .unwrap();
+    for i in 0..2 {
+        assert_close(
+            "parcel loss",
+            number(&json["parcels"][i], "loss"),
+            exact.first_choice_loss[i],
+            0.15,
+        );
+    }
+    assert_close(
+        "direct loss",
+        number(&json, "direct_loss"),
+        exact.direct_loss,
+        0.15,
+    );
     assert_close(
         "mean",
         number(&json, "overflow_mean"),

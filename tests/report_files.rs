@@ -64,7 +64,9 @@ fn run_chart_shows_the_interval_figures() {
         "offered traffic, all streams",
         "carried traffic, all streams",
         "public loss (95% band)",
-        "Erlang B of the interval load",
+        // harbour-peak: per-interval loss against the modified offered
+        // load (any holding law).
+        "public loss, Erlang B, modified offered load (approx.)",
     ] {
         assert!(text.contains(series), "missing series {series}");
     }

@@ -128,3 +128,60 @@ fn an_overloaded_queue_and_a_short_warm_up_fail_the_check() {
     assert_eq!(out.status.code(), Some(0));
     std::fs::remove_dir_all(&dir).ok();
 }
+
+/// A loss group offered a rising and falling peak profile in 15-minute
+/// intervals, with `holding` mean holding time.
+fn profile_text(holding: &str) -> String {
+    format!(
+        r#"
+[simulation]
+warmup = "2h"
+length = "1h"
+interval = "15m"
+replications = 2
+seed = 1
+[[group]]
+name = "lines"
+servers = 30
+[[stream]]
+name = "callers"
+arrivals = {{ law = "poisson", interval = "15m", rates = ["36/h", "60/h", "72/h", "48/h"] }}
+holding = {{ law = "exponential", mean = "{holding}" }}
+route = ["lines"]
+"#
+    )
+}
+
+#[test]
+fn long_calls_against_the_profile_interval_warn_without_failing_the_check() {
+    use busyhour::experiment::warnings::model_warnings;
+    // Mean holding above a quarter of the interval (20 min against 15 min;
+    // the rule of the lagged-reference literature, Green, Kolesar and Whitt
+    // 2007): the stationary per-interval Erlang B misleads.
+    let w = model_warnings(&model(&profile_text("20m")));
+    assert!(
+        matches!(&w[..], [Warning::LongHolding { holding_s, interval_s, .. }]
+            if *holding_s == 1200.0 && *interval_s == 900.0),
+        "{w:?}"
+    );
+    assert!(!w[0].fails_check());
+    // Just below the quarter (3 min against 3 min 45 s): nothing.
+    assert!(model_warnings(&model(&profile_text("3m"))).is_empty());
+    assert_eq!(model_warnings(&model(&profile_text("4m"))).len(), 1);
+
+    // The binary shows it and passes.
+    let dir = std::env::temp_dir().join(format!("busyhour-long-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let file = dir.join("ramp.toml");
+    std::fs::write(&file, profile_text("20m")).unwrap();
+    let out = std::process::Command::new(env!("CARGO_BIN_EXE_busyhour"))
+        .arg("check")
+        .arg(&file)
+        .output()
+        .unwrap();
+    let stdout = String::from_utf8_lossy(&out.stdout);
+    assert_eq!(out.status.code(), Some(0), "{stdout}");
+    assert!(stdout.contains("more than a quarter"), "{stdout}");
+    assert!(stdout.contains("The scenario is valid."), "{stdout}");
+    std::fs::remove_dir_all(&dir).ok();
+}

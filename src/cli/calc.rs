@@ -866,6 +866,9 @@ fn finite(a: &FiniteArgs) -> Result<Report> {
     })
 }
 
+/// The per-stream method of `calc overflow`.
+const PARCEL_METHOD: &str = "IPP overflow parcels, Kuczura (approx.)";
+
 fn overflow_groups(a: &OverflowArgs) -> Result<Report> {
     let mut groups = Vec::new();
     if a.primary.is_empty() {
@@ -925,12 +928,53 @@ fn overflow_groups(a: &OverflowArgs) -> Result<Report> {
             .row("lost traffic", erlangs(f.lost_traffic))
             .row("share of all traffic lost", percent(f.total_loss));
     }
+    // Each stream's own loss: Kuczura's IPP per parcel (None beyond its
+    // phase limit, where only the totals above are shown).
+    let parcels = final_servers.and_then(|n| overflow::parcel_losses(&groups, direct, n).ok());
+    #[derive(Serialize)]
+    struct Parcel {
+        traffic: f64,
+        servers: u32,
+        final_blocking: f64,
+        loss: f64,
+    }
+    let mut parcel_json = Vec::new();
+    if let Some(p) = &parcels {
+        block = block.row("per-stream loss", PARCEL_METHOD.to_string());
+        for (i, &(traffic, servers)) in groups.iter().enumerate() {
+            let label = if groups.len() == 1 {
+                "  first-choice stream".to_string()
+            } else {
+                format!("  first-choice stream {}", i + 1)
+            };
+            block = block.row(
+                &label,
+                format!(
+                    "{} (final group loses {} of its overflow)",
+                    percent(p.loss[i]),
+                    percent(p.final_blocking[i])
+                ),
+            );
+            parcel_json.push(Parcel {
+                traffic,
+                servers,
+                final_blocking: p.final_blocking[i],
+                loss: p.loss[i],
+            });
+        }
+        if direct > 0.0 {
+            block = block.row("  direct traffic", percent(p.direct_loss));
+        }
+    }
     #[derive(Serialize)]
     struct Json {
         overflow_mean: f64,
         overflow_variance: f64,
         peakedness: f64,
         final_blocking: Option<f64>,
+        parcel_method: Option<&'static str>,
+        parcels: Vec<Parcel>,
+        direct_loss: Option<f64>,
     }
     Ok(Report {
         text: block.render(),
@@ -939,6 +983,12 @@ fn overflow_groups(a: &OverflowArgs) -> Result<Report> {
             overflow_variance: variance,
             peakedness,
             final_blocking: final_group.map(|f| f.final_blocking),
+            parcel_method: parcels.as_ref().map(|_| PARCEL_METHOD),
+            parcels: parcel_json,
+            direct_loss: parcels
+                .as_ref()
+                .filter(|_| direct > 0.0)
+                .map(|p| p.direct_loss),
         })?,
     })
 }

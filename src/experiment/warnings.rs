@@ -34,6 +34,20 @@ pub enum Warning {
         /// Its servers.
         servers: u32,
     },
+    /// A stream's peak profile changes its rate every `interval_s`, and its
+    /// mean holding time is longer than a quarter of that: calls in
+    /// progress carry the load from one interval into the next, so the
+    /// stationary Erlang B of an interval's own load misleads (too high on
+    /// a rising load, too low on a falling one). Advisory: `check` shows it
+    /// and still passes.
+    LongHolding {
+        /// Stream name.
+        stream: String,
+        /// Mean holding time (s).
+        holding_s: f64,
+        /// The profile's interval (s).
+        interval_s: f64,
+    },
     /// Carried traffic of a group differs between the two halves of the
     /// measured period beyond the interval of the paired difference.
     Transient {
@@ -63,6 +77,16 @@ impl std::fmt::Display for Warning {
                 f,
                 "group \"{group}\" is offered {offered:.3} E on {servers} servers with an unlimited queue and callers who never give up: the queue grows without bound and its waiting figures depend on the run's length; add servers, limit the queue or give the callers a patience"
             ),
+            Warning::LongHolding {
+                stream,
+                holding_s,
+                interval_s,
+            } => write!(
+                f,
+                "stream \"{stream}\" holds calls {} on average, more than a quarter of its profile's {} interval: calls in progress carry the load across intervals, so the per-interval Erlang B of the interval's own load misleads; compare with the modified-offered-load reference or the simulation",
+                units::format_duration(*holding_s),
+                units::format_duration(*interval_s)
+            ),
             Warning::Transient {
                 group,
                 first,
@@ -87,7 +111,42 @@ pub fn model_warnings(model: &Model) -> Vec<Warning> {
         });
     }
     out.extend(overloaded_queues(model));
+    out.extend(long_holding(model));
     out
+}
+
+impl Warning {
+    /// Whether `busyhour check` fails on this warning (exit 1); an advisory
+    /// one is shown and the check passes.
+    pub fn fails_check(&self) -> bool {
+        !matches!(self, Warning::LongHolding { .. })
+    }
+}
+
+/// Streams whose peak profile varies and whose mean holding time exceeds a
+/// quarter of the profile's interval (the rule of thumb where the
+/// stationary per-interval reference stops following the load: with mean
+/// holding `h` the calls in progress need about `h` to follow a step;
+/// Green, Kolesar and Whitt 2007 on lagged and modified-offered-load
+/// references).
+fn long_holding(model: &Model) -> Vec<Warning> {
+    model
+        .streams
+        .iter()
+        .filter_map(|s| match &s.arrivals {
+            Arrivals::Profile { interval_s, rates }
+                if rates.windows(2).any(|w| w[0] != w[1])
+                    && s.holding.mean() > 0.25 * interval_s =>
+            {
+                Some(Warning::LongHolding {
+                    stream: s.name.clone(),
+                    holding_s: s.holding.mean(),
+                    interval_s: *interval_s,
+                })
+            }
+            _ => None,
+        })
+        .collect()
 }
 
 /// Groups with an unlimited queue, callers without patience, and at least

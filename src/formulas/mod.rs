@@ -2,9 +2,10 @@
 //! the crate.
 //!
 //! Owns Erlang B, Erlang C, Erlang A, Engset, overflow moments with the
-//! equivalent random method, Kaufman-Roberts multi-rate blocking, and M/G/N
-//! mean waits (Pollaczek-Khinchine, Allen-Cunneen, Cosmetatos) and the redial
-//! fixed point of a loss group. Must not touch simulation, files or
+//! equivalent random method and per-parcel losses by Kuczura's interrupted
+//! Poisson process, Kaufman-Roberts multi-rate blocking, and M/G/N
+//! mean waits (Pollaczek-Khinchine, Allen-Cunneen, Cosmetatos), the finite
+//! queue M/M/N/K(+M) and the redial fixed point of a loss group. Must not touch simulation, files or
 //! printing.
 //!
 //! Units: traffic in erlangs, times in seconds, shares between 0 and 1,
@@ -46,6 +47,7 @@ pub mod erlang_a;
 pub mod erlang_b;
 pub mod erlang_c;
 mod error;
+pub mod finite_queue;
 pub mod multirate;
 pub mod overflow;
 pub mod queue_general;

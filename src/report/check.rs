@@ -164,6 +164,10 @@ pub struct CheckDocument {
     pub problems: Vec<String>,
     /// The safety caution (the formula view is a design figure too).
     pub caution: &'static str,
+    /// Advisory warnings, shown without failing the check; absent when
+    /// there are none.
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub notes: Vec<String>,
     /// The scenario in plain words.
     #[serde(skip)]
     pub words: String,
@@ -205,6 +209,7 @@ impl CheckDocument {
                 .collect(),
             problems,
             caution: CAUTION,
+            notes: Vec::new(),
             words: describe_model(model, file),
             view: FormulaView::new(model, column),
         }
@@ -220,6 +225,12 @@ impl Document for CheckDocument {
     fn table(&self) -> String {
         let mut s = self.words.clone();
         s.push_str(&self.view.text());
+        if !self.notes.is_empty() {
+            s.push_str("\nWarnings (the check still passes):\n");
+            for n in &self.notes {
+                s.push_str(&format!("  - {n}\n"));
+            }
+        }
         if self.problems.is_empty() {
             s.push_str("\nThe scenario is valid.\n");
         } else {

@@ -410,9 +410,15 @@ shows the closed-form value where its assumptions hold.",
             let formula: Vec<(f64, f64)> = values()
                 .filter_map(|(x, v)| v.formula.as_ref().map(|f| (x, f.value * 100.0)))
                 .collect();
-            if !formula.is_empty() {
+            // The series is named for the method that gave it.
+            let method = values().find_map(|(_, v)| v.formula.as_ref().map(|f| f.name));
+            if let Some(method) = method {
+                let method = match method {
+                    "Erlang B, interval load" => "Erlang B of the interval load",
+                    other => other,
+                };
                 loss.series.push(Series {
-                    name: format!("{} loss, Erlang B of the interval load", st.name),
+                    name: format!("{} loss, {method}", st.name),
                     points: formula,
                     band: None,
                 });
