@@ -167,10 +167,6 @@ fn poisson_rate(s: &Stream) -> Option<f64> {
     }
 }
 
-fn is_exponential(law: &crate::dist::Law) -> bool {
-    law.name() == "exponential"
-}
-
 /// Streams whose route includes group `g`, with the position of `g`.
 fn users(model: &Model, g: usize) -> Vec<(usize, usize)> {
     model
@@ -206,7 +202,7 @@ fn direct_poisson_load(model: &Model, g: usize, allow_units: bool) -> Option<(f6
             return None;
         }
         traffic += poisson_rate(st)? * st.holding.mean();
-        exponential &= is_exponential(&st.holding);
+        exponential &= st.holding.is_exponential();
     }
     Some((traffic, exponential))
 }
@@ -444,7 +440,7 @@ fn queue_group(col: &mut Column, g: usize) {
             return; // M/M/N and M/G/N need one holding-time mean
         }
         holding = Some(h);
-        exponential &= is_exponential(&st.holding);
+        exponential &= st.holding.is_exponential();
         let c = st.holding.cv();
         if !c.is_finite() || cv.is_some_and(|x| (x - c).abs() > 1e-12 * x.max(1.0)) {
             return; // the two-moment methods need one cv
@@ -452,7 +448,7 @@ fn queue_group(col: &mut Column, g: usize) {
         cv = Some(c);
         let p = match &st.patience {
             None => None,
-            Some(l) if is_exponential(l) => Some(l.mean()),
+            Some(l) if l.is_exponential() => Some(l.mean()),
             Some(_) => return,
         };
         if patience.is_some_and(|x| x != p) {
@@ -682,7 +678,7 @@ fn equivalent_random(col: &mut Column) {
                 ok = false;
                 break;
             };
-            if st.units != 1 || st.retry.is_some() || !is_exponential(&st.holding) {
+            if st.units != 1 || st.retry.is_some() || !st.holding.is_exponential() {
                 ok = false;
                 break;
             }
@@ -750,26 +746,11 @@ fn equivalent_random(col: &mut Column) {
 const PARCEL_METHOD: &str = "IPP overflow parcels, Kuczura (approx.)";
 
 /// Mean Poisson rate (calls/s) over `[t0, t1)` after the warm-up, for
-/// constant and peak-profile Poisson arrivals.
+/// constant and peak-profile Poisson arrivals ([`Arrivals::rate_over`]);
+/// `None` for other arrivals, which these references do not cover.
 fn window_rate(a: &Arrivals, t0: f64, t1: f64) -> Option<f64> {
     match a {
-        Arrivals::Poisson { rate } => Some(*rate),
-        Arrivals::Profile { interval_s, rates } => {
-            let mut total = 0.0;
-            for (i, r) in rates.iter().enumerate() {
-                let s = i as f64 * interval_s;
-                let e = if i + 1 == rates.len() {
-                    f64::INFINITY
-                } else {
-                    s + interval_s
-                };
-                let overlap = e.min(t1) - s.max(t0);
-                if overlap > 0.0 {
-                    total += r * overlap;
-                }
-            }
-            Some(total / (t1 - t0))
-        }
+        Arrivals::Poisson { .. } | Arrivals::Profile { .. } => a.rate_over(t0, t1),
         _ => None,
     }
 }
