@@ -763,25 +763,9 @@ fn window_rate(a: &Arrivals, t0: f64, t1: f64) -> Option<f64> {
 fn profile_group(col: &mut Column, g: usize) {
     let model = col.model;
     let grp = &model.groups[g];
-    let users = users(model, g);
-    if grp.queue != Queue::None || grp.reserve > 0 || users.is_empty() {
+    let Some(users) = profiled_loss_users(model, g) else {
         return;
-    }
-    let mut profiled = false;
-    for &(s, _) in &users {
-        let st = &model.streams[s];
-        if st.route.len() != 1 || st.units != 1 || st.retry.is_some() {
-            return;
-        }
-        match st.arrivals {
-            Arrivals::Poisson { .. } => {}
-            Arrivals::Profile { .. } => profiled = true,
-            _ => return,
-        }
-    }
-    if !profiled {
-        return;
-    }
+    };
     let n = grp.servers;
     let length = model.plan.length_s;
     let load = |t0: f64, t1: f64| -> f64 {
@@ -968,6 +952,107 @@ fn modified_offered_load(
             })
             .collect(),
     )
+}
+
+/// The streams of group `g` when it is a loss group offered only direct
+/// single-unit Poisson streams without redials, at least one of them on a
+/// peak profile: where Erlang B of a window's load is the book's figure.
+fn profiled_loss_users(model: &Model, g: usize) -> Option<Vec<(usize, usize)>> {
+    let grp = &model.groups[g];
+    let users = users(model, g);
+    if grp.queue != Queue::None || grp.reserve > 0 || users.is_empty() {
+        return None;
+    }
+    let mut profiled = false;
+    for &(s, _) in &users {
+        let st = &model.streams[s];
+        if st.route.len() != 1 || st.units != 1 || st.retry.is_some() {
+            return None;
+        }
+        match st.arrivals {
+            Arrivals::Poisson { .. } => {}
+            Arrivals::Profile { .. } => profiled = true,
+            _ => return None,
+        }
+    }
+    profiled.then_some(users)
+}
+
+/// The busy hour of a scenario with a peak profile: the run of whole
+/// reporting intervals, about one hour long, with the most offered traffic
+/// by the forecast (the profile's rates times the mean holding times), as
+/// a practitioner sizes on it; and Erlang B of that load for each stream
+/// ending on a loss group where Erlang B is the book's figure.
+#[derive(Debug, Clone, PartialEq)]
+pub struct BusyHour {
+    /// First interval of the window, counted from 0.
+    pub first: usize,
+    /// Number of intervals in the window.
+    pub count: usize,
+    /// Start and end of the window, seconds from the end of the warm-up.
+    pub start_s: f64,
+    /// End of the window.
+    pub end_s: f64,
+    /// Offered traffic in the window by the forecast, every stream with a
+    /// rate (E).
+    pub offered: f64,
+    /// Per stream: Erlang B of its group's busy-hour load, where it applies.
+    pub erlang_b: Vec<Option<f64>>,
+}
+
+/// Name of the busy-hour reference.
+pub const BUSY_HOUR_METHOD: &str = "Erlang B, busy-hour load";
+
+/// The busy hour of `model`, when it reports intervals and some stream
+/// follows a peak profile.
+pub fn busy_hour(model: &Model) -> Option<BusyHour> {
+    let width = model.plan.interval_s?;
+    let bins = model.plan.interval_count();
+    if bins == 0 || !(model.streams.iter()).any(|s| matches!(s.arrivals, Arrivals::Profile { .. }))
+    {
+        return None;
+    }
+    let count = ((3600.0 / width).round() as usize).clamp(1, bins);
+    let load = |streams: &mut dyn Iterator<Item = &Stream>, t0: f64, t1: f64| -> f64 {
+        streams
+            .filter_map(|st| Some(window_rate(&st.arrivals, t0, t1)? * st.holding.mean()))
+            .sum()
+    };
+    let window = |first: usize| {
+        let t0 = first as f64 * width;
+        let t1 = ((first + count) as f64 * width).min(model.plan.length_s);
+        (t0, t1)
+    };
+    let mut best: Option<(usize, f64)> = None;
+    for first in 0..=bins - count {
+        let (t0, t1) = window(first);
+        let a = load(&mut model.streams.iter(), t0, t1);
+        if best.is_none_or(|(_, b)| a > b) {
+            best = Some((first, a));
+        }
+    }
+    let (first, offered) = best?;
+    let (t0, t1) = window(first);
+    let mut erlang_b_of = vec![None; model.streams.len()];
+    for g in 0..model.groups.len() {
+        let Some(users) = profiled_loss_users(model, g) else {
+            continue;
+        };
+        let a = load(&mut users.iter().map(|&(s, _)| &model.streams[s]), t0, t1);
+        if let Ok(b) = erlang_b::blocking(model.groups[g].servers, a) {
+            for &(s, _) in &users {
+                erlang_b_of[s] = Some(b);
+            }
+        }
+    }
+    Some(BusyHour {
+        first,
+        count,
+        start_s: t0,
+        end_s: t1,
+        offered,
+        erlang_b: erlang_b_of,
+    })
 }
 
 /// The formula view of `check`: the same values as the run's formula column.

@@ -95,6 +95,10 @@ pub struct RunDocument {
     /// time congestion of any group), counted from 0.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub worst_interval: Option<usize>,
+    /// The busy hour of a peak profile: the hour of most forecast load, with
+    /// each stream's simulated loss over it beside Erlang B of its load.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub busy_hour: Option<BusyHourFigures>,
     /// Warnings about the start or the load.
     pub warnings: Vec<String>,
     /// The safety caution.
@@ -114,6 +118,66 @@ pub struct RunDocument {
     /// The closed forms of the model, for the page's textbook view.
     #[serde(skip)]
     pub textbook: FormulaView,
+}
+
+/// The busy hour of a run: the window, its forecast load, and each stream's
+/// loss over it (lost over offered calls in the window's intervals, pooled
+/// over replications) beside Erlang B of the busy-hour load.
+#[derive(Debug, Clone, Serialize)]
+pub struct BusyHourFigures {
+    /// Start of the window, seconds from the end of the warm-up.
+    pub start_s: f64,
+    /// End of the window.
+    pub end_s: f64,
+    /// Offered traffic in the window by the forecast (E).
+    pub offered_traffic: f64,
+    /// Per stream: name and loss over the window.
+    pub streams: Vec<BusyHourStream>,
+}
+
+/// One stream's loss over the busy hour.
+#[derive(Debug, Clone, Serialize)]
+pub struct BusyHourStream {
+    /// The stream.
+    pub name: String,
+    /// Its loss over the window, with the formula where one applies.
+    pub loss: FigureValue,
+}
+
+impl BusyHourFigures {
+    /// The busy hour of `model` and each stream's loss over it in `outcome`.
+    fn new(model: &Model, outcome: &RunResult) -> Option<BusyHourFigures> {
+        let bh = crate::textbook::busy_hour(model)?;
+        let streams = (model.streams.iter().enumerate())
+            .filter_map(|(s, st)| {
+                let indices: Vec<usize> = (bh.first..bh.first + bh.count)
+                    .map(|b| outcome.index_of(Scope::StreamInterval(b, s), Figure::Loss))
+                    .collect::<Option<_>>()?;
+                let pooled: Vec<stats::Obs> = (outcome.per_replication.iter())
+                    .map(|rep| {
+                        let (num, den) = (indices.iter())
+                            .fold((0.0, 0.0), |(n, d), &i| (n + rep[i].num, d + rep[i].den));
+                        stats::Obs::ratio(num, den)
+                    })
+                    .collect();
+                let estimate = stats::estimate_figure(Figure::Loss, &pooled, stats::LEVEL);
+                let formula = bh.erlang_b[s].map(|value| crate::textbook::Formula {
+                    name: crate::textbook::BUSY_HOUR_METHOD,
+                    value,
+                });
+                Some(BusyHourStream {
+                    name: st.name.clone(),
+                    loss: FigureValue::new(Figure::Loss, estimate, formula.as_ref()),
+                })
+            })
+            .collect();
+        Some(BusyHourFigures {
+            start_s: bh.start_s,
+            end_s: bh.end_s,
+            offered_traffic: bh.offered,
+            streams,
+        })
+    }
 }
 
 impl RunDocument {
@@ -174,6 +238,7 @@ impl RunDocument {
             }),
             intervals,
             worst_interval,
+            busy_hour: BusyHourFigures::new(model, outcome),
             warnings: outcome.warnings.iter().map(|w| w.to_string()).collect(),
             caution: CAUTION,
             interval_s: width,
@@ -252,6 +317,30 @@ impl RunDocument {
             tables.push(Table {
                 title: "By interval (from the end of the warm-up)".into(),
                 rows: self.interval_rows(),
+            });
+        }
+        if let Some(bh) = &self.busy_hour {
+            let mut rows = vec![header("stream")];
+            for st in &bh.streams {
+                let e = &st.loss.estimate;
+                rows.push(vec![
+                    st.name.clone(),
+                    Figure::Loss.label().to_string(),
+                    text::value(Unit::Share, e.mean),
+                    text::interval(Unit::Share, e),
+                    st.loss.formula.as_ref().map_or(String::new(), |f| {
+                        format!("{} ({})", text::value(Unit::Share, f.value), f.name)
+                    }),
+                ]);
+            }
+            tables.push(Table {
+                title: format!(
+                    "Busy hour {}-{} (the hour of most forecast load: {} offered)",
+                    clock(bh.start_s),
+                    clock(bh.end_s),
+                    text::value(Unit::Erlangs, bh.offered_traffic)
+                ),
+                rows,
             });
         }
         tables
