@@ -118,6 +118,13 @@ pub struct RunDocument {
     /// The closed forms of the model, for the page's textbook view.
     #[serde(skip)]
     pub textbook: FormulaView,
+    /// Servers each stream's call holds (multi-unit calls: channels).
+    #[serde(skip)]
+    pub units: Vec<u32>,
+    /// Per group: whether some call holds several of its servers, so that
+    /// its traffic counts busy channels, not calls.
+    #[serde(skip)]
+    pub channel_groups: Vec<bool>,
 }
 
 /// The busy hour of a run: the window, its forecast load, and each stream's
@@ -246,6 +253,13 @@ impl RunDocument {
             wall_s: outcome.wall_s,
             words: describe_model(model, file),
             textbook: FormulaView::new(model, &formulas),
+            units: model.streams.iter().map(|st| st.units).collect(),
+            channel_groups: (0..model.groups.len())
+                .map(|g| {
+                    (model.streams.iter())
+                        .any(|st| st.units > 1 && st.route.iter().any(|&r| r as usize == g))
+                })
+                .collect(),
         }
     }
 
@@ -297,16 +311,27 @@ impl RunDocument {
             ]
         };
         let mut rows = vec![header("stream")];
-        for st in &self.streams {
-            rows.extend(figure_rows(st, &st.name));
+        for (s, st) in self.streams.iter().enumerate() {
+            // A call holding several servers: its traffic is in calls, the
+            // group's in channels; say which.
+            let first = match self.units.get(s) {
+                Some(&u) if u > 1 => format!("{} ({u} channels a call; traffic in calls)", st.name),
+                _ => st.name.clone(),
+            };
+            rows.extend(figure_rows(st, &first));
         }
         let mut tables = vec![Table {
             title: "Streams".into(),
             rows,
         }];
         let mut rows = vec![header("group")];
-        for gr in &self.groups {
-            let first = format!("{} ({})", gr.name, gr.servers.unwrap_or_default());
+        for (g, gr) in self.groups.iter().enumerate() {
+            let servers = gr.servers.unwrap_or_default();
+            let first = if self.channel_groups.get(g) == Some(&true) {
+                format!("{} ({servers}; traffic in channels)", gr.name)
+            } else {
+                format!("{} ({servers})", gr.name)
+            };
             rows.extend(figure_rows(gr, &first));
         }
         tables.push(Table {

@@ -27,8 +27,9 @@ pub struct SweepStep {
     /// order the goals were given.
     #[serde(skip_serializing_if = "Vec::is_empty")]
     pub goals: Vec<StepGoal>,
-    /// The offered traffic of the step's model (first attempts, E; finite
-    /// sources left out), for the table.
+    /// The offered traffic of the step's model (first attempts, E; a call
+    /// holding several servers counts each; finite sources left out), for
+    /// the table.
     #[serde(skip)]
     pub offered_traffic: f64,
 }
@@ -154,8 +155,12 @@ impl SweepDocument {
                             verdict: g.judge_outcome(&st.outcome, 1).0,
                         })
                         .collect(),
+                    // Busy servers offered: a call holding several
+                    // servers counts each (channel-erlangs).
                     offered_traffic: (st.model.streams.iter())
-                        .filter_map(|s| s.offered_traffic(st.model.plan.length_s))
+                        .filter_map(|s| {
+                            Some(s.offered_traffic(st.model.plan.length_s)? * f64::from(s.units))
+                        })
                         .sum(),
                 }
             })
@@ -258,7 +263,13 @@ impl SweepDocument {
 
     /// The sweep table: one row per step.
     pub fn rows(&self) -> Vec<Vec<String>> {
-        let mut head = vec![self.swept.clone(), "offered traffic".to_string()];
+        let channels = self.steps.first().is_some_and(|st| st.result.units.iter().any(|&u| u > 1));
+        let offered = if channels {
+            "offered traffic (channels)"
+        } else {
+            "offered traffic"
+        };
+        let mut head = vec![self.swept.clone(), offered.to_string()];
         head.extend(self.columns.iter().map(|c| self.column_name(c)));
         let judged = self.steps.iter().any(|st| !st.goals.is_empty());
         if judged {
