@@ -197,3 +197,26 @@ fn the_deciding_target_is_the_worst_stream() {
     );
     assert_eq!(worst.mean, top);
 }
+
+/// The default decision cap is chosen by the work it costs: a cheap model
+/// gets what about 1e7 engine events buy (far above 10 times the starting
+/// count); a costly one, where 15 s of engine work does not buy more, only
+/// the starting count.
+#[test]
+fn the_default_cap_follows_the_work() {
+    let goals = |m: &busyhour::scenario::Model| vec![Goal::parse("loss<=5%", m, 0).unwrap()];
+    let cheap = model(&loss_group(5, 2.0, 30, 1));
+    let per_rep = busyhour::experiment::work::events_per_replication(&cheap);
+    let cap = size::default_cap(&cheap, &goals(&cheap), 30);
+    let affordable = (size::DEFAULT_CAP_BASE_EVENTS / per_rep).floor() as u32;
+    assert!(cap > 300, "a cheap model gets more than 10 x 30: {cap}");
+    assert_eq!(cap, affordable.clamp(300, size::DEFAULT_CAP_MAX));
+    // Thousands of calls a minute for 50 hours: millions of events a
+    // replication, so the work bound leaves the starting count.
+    let costly = model(&loss_group(3000, 3000.0, 30, 50));
+    assert!(
+        busyhour::experiment::work::events_per_replication(&costly) * 31.0
+            > size::DEFAULT_CAP_EVENTS
+    );
+    assert_eq!(size::default_cap(&costly, &goals(&costly), 30), 30);
+}

@@ -300,9 +300,10 @@ pub struct SizeArgs {
     #[command(flatten)]
     pub reps: ReplicationArgs,
     /// Most replications at one size while a goal's interval straddles its
-    /// bound (default: 10 times the starting count, at most 2000, raised
-    /// for strict goals on shares of calls to what showing the goal with no
-    /// event seen takes, within about 15 s of engine work per size).
+    /// bound (default: what about 2 s of engine work buys, at least 10
+    /// times the starting count, at most 20,000; raised for strict goals on
+    /// shares of calls to what showing the goal with no event seen takes,
+    /// within about 15 s of engine work per size).
     #[arg(long = "decide-within", value_name = "N", value_parser = flags::replications)]
     pub decide_within: Option<u32>,
     #[command(flatten)]

@@ -457,9 +457,14 @@ pub const DEFAULT_CAP_MAX: u32 = 20_000;
 /// second; `docs/robustness.md`, "The work guard").
 pub const DEFAULT_CAP_EVENTS: f64 = 6.0e7;
 
+/// Engine events the default decision cap spends at one size on ordinary
+/// goals (about 2 seconds of one core): cheap enough to decide most cases
+/// instead of hedging, a bound on the work where a goal sits on its bound.
+pub const DEFAULT_CAP_BASE_EVENTS: f64 = 1.0e7;
+
 /// The default `--decide-within`: replications at one size while a goal is
-/// undecided. At least 10 times the starting count (at most 2000, as
-/// before), raised for strict goals on shares of calls to what it takes to
+/// undecided. As many as [`DEFAULT_CAP_BASE_EVENTS`] of engine work buy (at
+/// least 10 times the starting count), raised for strict goals on shares of calls to what it takes to
 /// show the goal with no event observed: a share bounded by b with zero
 /// events in m calls needs m > ln(2K / 0.05) / b at the Bonferroni level
 /// of K looks (the Clopper-Pearson bound for zero events is
@@ -467,7 +472,11 @@ pub const DEFAULT_CAP_EVENTS: f64 = 6.0e7;
 /// that. Bounded by [`DEFAULT_CAP_MAX`] and by [`DEFAULT_CAP_EVENTS`] of
 /// engine work (the starting count is always allowed).
 pub fn default_cap(model: &Model, goals: &[Goal], start: u32) -> u32 {
-    let base = start.saturating_mul(10).min(2000).max(start);
+    let per_rep = super::work::events_per_replication(model).max(1.0);
+    let affordable = (DEFAULT_CAP_BASE_EVENTS / per_rep)
+        .floor()
+        .min(f64::from(DEFAULT_CAP_MAX)) as u32;
+    let base = start.saturating_mul(10).max(affordable).max(start);
     let length = model.plan.length_s;
     let mut wanted = f64::from(base);
     let looks = 1.0
@@ -493,7 +502,6 @@ pub fn default_cap(model: &Model, goals: &[Goal], start: u32) -> u32 {
             }
         }
     }
-    let per_rep = super::work::events_per_replication(model).max(1.0);
     let by_work = (DEFAULT_CAP_EVENTS / per_rep).floor();
     (wanted.min(by_work).min(f64::from(DEFAULT_CAP_MAX)).ceil() as u32)
         .max(base.min(by_work as u32))

@@ -263,7 +263,10 @@ impl SweepDocument {
 
     /// The sweep table: one row per step.
     pub fn rows(&self) -> Vec<Vec<String>> {
-        let channels = self.steps.first().is_some_and(|st| st.result.units.iter().any(|&u| u > 1));
+        let channels = self
+            .steps
+            .first()
+            .is_some_and(|st| st.result.units.iter().any(|&u| u > 1));
         let offered = if channels {
             "offered traffic (channels)"
         } else {
