@@ -585,11 +585,9 @@ fn e(x: f64) -> String {
     format!("{:.2}", x)
 }
 
-impl Document for RecordsDocument {
-    /// The terminal report, with a line for each file written.
-    fn table(&self) -> String {
-        let mut s = String::new();
-        let w = &mut s;
+impl RecordsDocument {
+    /// The file, its rows, days and call counts.
+    fn write_rows_and_calls(&self, w: &mut String) {
         let _ = writeln!(w, "Call records: {}", self.file);
         let _ = writeln!(
             w,
@@ -640,7 +638,10 @@ impl Document for RecordsDocument {
                 c.attempts
             );
         }
+    }
 
+    /// Each day's peak hour, the time-consistent busy hour, the average daily peak and the busy-hour profile.
+    fn write_busy_hours(&self, w: &mut String) {
         let bh = &self.busy_hour;
         let _ = writeln!(w, "\nBusy hour, traffic in erlangs: {BASIS}");
         let _ = writeln!(
@@ -683,7 +684,7 @@ impl Document for RecordsDocument {
             );
             let _ = writeln!(w, "    = {ADPH_DEFINITION}");
         }
-        if c.outcomes_given {
+        if self.calls.outcomes_given {
             let _ = writeln!(w, "  Offered traffic estimate: {OFFERED_ESTIMATOR}");
         }
         if !bh.profile.is_empty() {
@@ -703,7 +704,10 @@ impl Document for RecordsDocument {
                 );
             }
         }
+    }
 
+    /// The holding-time summary and the fitted laws, ranked.
+    fn write_holding(&self, w: &mut String) {
         let h = &self.holding;
         let _ = writeln!(
             w,
@@ -746,7 +750,10 @@ impl Document for RecordsDocument {
                 "  => no parametric law fits these holding times: use the empirical law (the measured times themselves)"
             );
         }
+    }
 
+    /// The peakedness of the arrivals and what it means.
+    fn write_peakedness(&self, w: &mut String) {
         match &self.peakedness {
             Some(p) => {
                 let _ = writeln!(
@@ -768,7 +775,11 @@ impl Document for RecordsDocument {
                 let _ = writeln!(w, "\nPeakedness: too few intervals with calls to measure");
             }
         }
-        if let Some(b) = &bh.time_consistent {
+    }
+
+    /// The next step, the caution and the files written.
+    fn write_next_and_files(&self, w: &mut String) {
+        if let Some(b) = &self.busy_hour.time_consistent {
             let _ = writeln!(
                 w,
                 "\nNext: busyhour calc servers --traffic {} --loss 1%   (or --scenario-out FILE.toml, then busyhour run FILE.toml)",
@@ -789,6 +800,18 @@ impl Document for RecordsDocument {
         if let Some(path) = &self.chart {
             let _ = writeln!(w, "Chart written: {path}");
         }
+    }
+}
+
+impl Document for RecordsDocument {
+    /// The terminal report, with a line for each file written.
+    fn table(&self) -> String {
+        let mut s = String::new();
+        self.write_rows_and_calls(&mut s);
+        self.write_busy_hours(&mut s);
+        self.write_holding(&mut s);
+        self.write_peakedness(&mut s);
+        self.write_next_and_files(&mut s);
         s
     }
 }
