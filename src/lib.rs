@@ -73,3 +73,10 @@ pub mod scenario;
 pub mod stats;
 pub mod textbook;
 pub mod units;
+
+/// The safety caution every output carries (reports, JSON, CSV, charts,
+/// `calc` answers and the scenarios `records` writes): here, beside no
+/// module, so that analysis and presentation can both name it.
+pub const CAUTION: &str = "Estimates under the stated model assumptions, not guarantees. \
+Where the design carries emergency or life-safety calls, keep margin, validate against \
+measured traffic, and defer to local regulation and licensed practice.";

@@ -113,6 +113,14 @@ fn the_demo_turns_into_a_scenario_with_one_command() {
 
     let model = scenario::load(&toml).unwrap_or_else(|e| panic!("{e}"));
     assert_eq!(u64::from(model.groups[0].servers), servers);
+    // The scenario goes around on its own: it carries the caution.
+    let written = std::fs::read_to_string(&toml).unwrap();
+    assert!(
+        written
+            .lines()
+            .any(|l| l.starts_with("# Caution:") && l.contains("life-safety")),
+        "no caution in the scenario written"
+    );
     let run = busyhour(&[
         "run",
         &text(&toml),

@@ -245,6 +245,7 @@ fn write_header(w: &mut String, a: &Analysis, inputs: &Inputs) {
     };
     let bh_end = bh.start_clock_s + 3600;
     let _ = writeln!(w, "# Measured busy hour of {} (busyhour records).", a.file);
+    let _ = writeln!(w, "# Caution: {}", crate::CAUTION);
     let _ = writeln!(
         w,
         "# {} days analysed ({day_text}{}), {} intervals.",

@@ -31,10 +31,7 @@ use serde::Serialize;
 use std::io::Write;
 use std::path::Path;
 
-/// The caution printed under every report.
-pub const CAUTION: &str = "Estimates under the stated model assumptions, not guarantees. \
-Where the design carries emergency or life-safety calls, keep margin, validate against \
-measured traffic, and defer to local regulation and licensed practice.";
+pub use crate::CAUTION;
 
 /// The caution in a form short enough for a chart's footnote (a chart is
 /// pasted into documents on its own).
