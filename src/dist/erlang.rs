@@ -183,9 +183,10 @@ impl ErlangParams {
 impl Erlang {
     /// The law in plain words.
     pub fn describe(&self) -> String {
+        let k = self.k();
         format!(
-            "erlang with {} phases, mean {} s, cv {:.2}",
-            self.k(),
+            "erlang with {k} phase{}, mean {} s, cv {:.2}",
+            if k == 1 { "" } else { "s" },
             super::seconds(self.mean()),
             self.cv()
         )

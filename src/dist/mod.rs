@@ -458,6 +458,10 @@ mod tests {
                 Law::erlang(180.0, 3),
                 "erlang with 3 phases, mean 180 s, cv 0.58",
             ),
+            (
+                Law::erlang(60.0, 1),
+                "erlang with 1 phase, mean 60 s, cv 1.00",
+            ),
             (Law::gamma(6.0, 0.5), "gamma, mean 6 s, cv 0.50 (shape 4)"),
             (Law::lognormal(180.0, 1.1), "lognormal, mean 180 s, cv 1.10"),
             (
