@@ -67,7 +67,13 @@ fn assert_close(what: &str, actual: f64, expected: f64, tolerance: f64) {
 fn loss() {
     let json = calc_json(
         &["loss", "--traffic", "10", "--servers", "18"],
-        &["blocking"],
+        &[
+            "traffic",
+            "servers",
+            "blocking",
+            "carried_traffic",
+            "lost_traffic",
+        ],
     );
     assert_close(
         "blocking",
@@ -86,7 +92,13 @@ fn loss() {
             "--servers",
             "25",
         ],
-        &["blocking"],
+        &[
+            "traffic",
+            "servers",
+            "blocking",
+            "carried_traffic",
+            "lost_traffic",
+        ],
     );
     assert_close(
         "blocking",
@@ -97,7 +109,13 @@ fn loss() {
     // One server: B = A / (1 + A), in closed form.
     let json = calc_json(
         &["loss", "--traffic", "0.25", "--servers", "1"],
-        &["blocking"],
+        &[
+            "traffic",
+            "servers",
+            "blocking",
+            "carried_traffic",
+            "lost_traffic",
+        ],
     );
     assert_close("B(1, 0.25)", number(&json, "blocking"), 0.2, 1e-15);
 }
@@ -106,7 +124,7 @@ fn loss() {
 fn servers() {
     let json = calc_json(
         &["servers", "--traffic", "10", "--loss", "1%"],
-        &["servers", "blocking"],
+        &["traffic", "loss_goal", "servers", "blocking", "occupancy"],
     );
     // Recalled from handbook tables: 10 erlangs at 1% need 18 circuits.
     assert_eq!(json["servers"].as_u64(), Some(18));
@@ -126,7 +144,7 @@ fn servers() {
             "--loss",
             "0.001",
         ],
-        &["servers", "blocking"],
+        &["traffic", "loss_goal", "servers", "blocking", "occupancy"],
     );
     assert_eq!(
         json["servers"].as_u64(),
@@ -138,7 +156,13 @@ fn servers() {
 fn traffic() {
     let json = calc_json(
         &["traffic", "--servers", "10", "--loss", "1%"],
-        &["traffic"],
+        &[
+            "servers",
+            "loss_goal",
+            "traffic",
+            "carried_traffic",
+            "occupancy",
+        ],
     );
     // Recalled from handbook tables: 10 circuits carry 4.46 erlangs at 1%.
     assert!((number(&json, "traffic") - 4.46).abs() < 0.005);
@@ -153,6 +177,10 @@ fn traffic() {
 #[test]
 fn queue() {
     let keys = [
+        "traffic",
+        "holding_s",
+        "agents",
+        "answer_within_s",
         "wait_probability",
         "mean_wait_s",
         "service_level",
@@ -213,7 +241,17 @@ fn queue() {
 
 #[test]
 fn agents() {
-    let keys = ["agents", "service_level", "mean_wait_s", "wait_probability"];
+    let keys = [
+        "agents",
+        "traffic",
+        "holding_s",
+        "patience_s",
+        "answer_within_s",
+        "service_level",
+        "mean_wait_s",
+        "wait_probability",
+        "occupancy",
+    ];
     let json = calc_json(
         &[
             "agents",
@@ -295,10 +333,15 @@ fn agents() {
 fn agents_with_patience() {
     let keys = [
         "agents",
+        "traffic",
+        "holding_s",
+        "patience_s",
+        "answer_within_s",
         "service_level",
         "mean_wait_s",
         "wait_probability",
         "abandonment",
+        "occupancy",
     ];
     let json = calc_json(
         &[
@@ -369,9 +412,13 @@ fn traffic_of_an_agent_group() {
     let keys = [
         "agents",
         "traffic",
+        "holding_s",
+        "patience_s",
+        "answer_within_s",
         "service_level",
         "mean_wait_s",
         "wait_probability",
+        "occupancy",
     ];
     let json = calc_json(
         &[
@@ -431,10 +478,18 @@ fn traffic_of_an_agent_group() {
 #[test]
 fn abandon() {
     let keys = [
+        "traffic",
+        "holding_s",
+        "patience_s",
+        "agents",
+        "answer_within_s",
         "wait_probability",
         "abandonment",
         "mean_wait_s",
+        "mean_wait_answered_s",
         "service_level",
+        "carried_traffic",
+        "occupancy",
     ];
     let json = calc_json(
         &[
@@ -491,7 +546,15 @@ fn abandon() {
 
 #[test]
 fn finite() {
-    let keys = ["time_congestion", "call_congestion", "carried_traffic"];
+    let keys = [
+        "sources",
+        "servers",
+        "idle_traffic",
+        "offered_traffic",
+        "time_congestion",
+        "call_congestion",
+        "carried_traffic",
+    ];
     let json = calc_json(
         &[
             "finite",

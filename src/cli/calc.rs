@@ -487,11 +487,21 @@ fn loss(a: &LossArgs) -> Result<Report> {
         .render();
     #[derive(Serialize)]
     struct Json {
+        traffic: f64,
+        servers: u32,
         blocking: f64,
+        carried_traffic: f64,
+        lost_traffic: f64,
     }
     Ok(Report {
         text,
-        json: serde_json::to_value(Json { blocking })?,
+        json: serde_json::to_value(Json {
+            traffic,
+            servers,
+            blocking,
+            carried_traffic: traffic * (1.0 - blocking),
+            lost_traffic: traffic * blocking,
+        })?,
     })
 }
 
@@ -512,12 +522,21 @@ fn servers(a: &ServersArgs) -> Result<Report> {
         .render();
     #[derive(Serialize)]
     struct Json {
+        traffic: f64,
+        loss_goal: f64,
         servers: u32,
         blocking: f64,
+        occupancy: f64,
     }
     Ok(Report {
         text,
-        json: serde_json::to_value(Json { servers, blocking })?,
+        json: serde_json::to_value(Json {
+            traffic,
+            loss_goal: target,
+            servers,
+            blocking,
+            occupancy: traffic * (1.0 - blocking) / f64::from(servers),
+        })?,
     })
 }
 
@@ -541,11 +560,21 @@ fn traffic(a: &TrafficArgs) -> Result<Report> {
         .render();
     #[derive(Serialize)]
     struct Json {
+        servers: u32,
+        loss_goal: f64,
         traffic: f64,
+        carried_traffic: f64,
+        occupancy: f64,
     }
     Ok(Report {
         text,
-        json: serde_json::to_value(Json { traffic })?,
+        json: serde_json::to_value(Json {
+            servers,
+            loss_goal: target,
+            traffic,
+            carried_traffic: traffic * (1.0 - target),
+            occupancy: traffic * (1.0 - target) / f64::from(servers),
+        })?,
     })
 }
 
@@ -596,6 +625,10 @@ fn queue(a: &QueueArgs) -> Result<Report> {
     }
     #[derive(Serialize)]
     struct Json {
+        traffic: f64,
+        holding_s: f64,
+        agents: u32,
+        answer_within_s: f64,
         wait_probability: f64,
         mean_wait_s: f64,
         service_level: f64,
@@ -606,6 +639,10 @@ fn queue(a: &QueueArgs) -> Result<Report> {
     Ok(Report {
         text: block.render(),
         json: serde_json::to_value(Json {
+            traffic,
+            holding_s: holding,
+            agents,
+            answer_within_s: within,
             wait_probability,
             mean_wait_s,
             service_level,
@@ -683,24 +720,31 @@ fn delay_block(
 #[derive(Serialize)]
 struct DelayJson {
     agents: u32,
-    #[serde(skip_serializing_if = "Option::is_none")]
-    traffic: Option<f64>,
+    traffic: f64,
+    holding_s: f64,
+    patience_s: Option<f64>,
+    answer_within_s: Option<f64>,
     service_level: Option<f64>,
     mean_wait_s: f64,
     wait_probability: f64,
     #[serde(skip_serializing_if = "Option::is_none")]
     abandonment: Option<f64>,
+    occupancy: f64,
 }
 
 impl DelayJson {
-    fn of(f: &DelayFigures, patience: Option<f64>, traffic: bool) -> DelayJson {
+    fn of(f: &DelayFigures, holding: f64, patience: Option<f64>, goals: &DelayGoals) -> DelayJson {
         DelayJson {
             agents: f.agents,
-            traffic: traffic.then_some(f.traffic),
+            traffic: f.traffic,
+            holding_s: holding,
+            patience_s: patience,
+            answer_within_s: goals.service_level.map(|(t, _)| t),
             service_level: f.service_level,
             mean_wait_s: f.mean_wait_s,
             wait_probability: f.wait_probability,
             abandonment: patience.map(|_| f.abandonment),
+            occupancy: f.occupancy,
         }
     }
 }
@@ -722,7 +766,7 @@ fn agents(a: &AgentsArgs) -> Result<Report> {
     let text = delay_block(Block::new(&title), holding, a.patience, &goals, &f).render();
     Ok(Report {
         text,
-        json: serde_json::to_value(DelayJson::of(&f, a.patience, false))?,
+        json: serde_json::to_value(DelayJson::of(&f, holding, a.patience, &goals))?,
     })
 }
 
@@ -735,7 +779,7 @@ fn delay_traffic(a: &TrafficArgs, agents: u32, holding: f64) -> Result<Report> {
         .row("calls per hour", number(traffic / holding * 3600.0, 1));
     Ok(Report {
         text: block.render(),
-        json: serde_json::to_value(DelayJson::of(&f, a.patience, true))?,
+        json: serde_json::to_value(DelayJson::of(&f, holding, a.patience, &goals))?,
     })
 }
 
@@ -820,18 +864,34 @@ fn abandon(a: &AbandonArgs) -> Result<Report> {
         .render();
     #[derive(Serialize)]
     struct Json {
+        traffic: f64,
+        holding_s: f64,
+        patience_s: f64,
+        agents: u32,
+        answer_within_s: Option<f64>,
         wait_probability: f64,
         abandonment: f64,
         mean_wait_s: f64,
+        mean_wait_answered_s: f64,
         service_level: Option<f64>,
+        carried_traffic: f64,
+        occupancy: f64,
     }
     Ok(Report {
         text,
         json: serde_json::to_value(Json {
+            traffic,
+            holding_s: holding,
+            patience_s: patience,
+            agents: q.agents,
+            answer_within_s: within,
             wait_probability: q.wait_probability,
             abandonment: q.abandonment,
             mean_wait_s: q.mean_wait_s,
+            mean_wait_answered_s: q.mean_wait_answered_s,
             service_level,
+            carried_traffic: q.carried_traffic,
+            occupancy: q.occupancy,
         })?,
     })
 }
@@ -852,6 +912,10 @@ fn finite(a: &FiniteArgs) -> Result<Report> {
     }
     #[derive(Serialize)]
     struct Json {
+        sources: u32,
+        servers: u32,
+        idle_traffic: f64,
+        offered_traffic: f64,
         time_congestion: f64,
         call_congestion: f64,
         carried_traffic: f64,
@@ -859,6 +923,10 @@ fn finite(a: &FiniteArgs) -> Result<Report> {
     Ok(Report {
         text: block.render(),
         json: serde_json::to_value(Json {
+            sources: a.sources,
+            servers: a.servers,
+            idle_traffic: a.idle_traffic,
+            offered_traffic: g.offered_traffic,
             time_congestion: g.time_congestion,
             call_congestion: g.call_congestion,
             carried_traffic: g.carried_traffic,
