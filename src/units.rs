@@ -149,6 +149,45 @@ fn parse_clock_duration(t: &str) -> Option<f64> {
     total.is_finite().then_some(total)
 }
 
+/// Parse a time of day "HH:MM" or "HH:MM:SS" (24-hour clock, 00:00 to
+/// 23:59:59) to seconds after midnight.
+///
+/// # Example
+/// ```
+/// use busyhour::units::parse_time_of_day;
+/// assert_eq!(parse_time_of_day("08:00"), Some(28800.0));
+/// assert_eq!(parse_time_of_day("24:00"), None);
+/// ```
+pub fn parse_time_of_day(text: &str) -> Option<f64> {
+    let fields: Vec<&str> = text.trim().split(':').collect();
+    if !(2..=3).contains(&fields.len())
+        || fields
+            .iter()
+            .any(|f| f.is_empty() || f.len() > 2 || !f.bytes().all(|b| b.is_ascii_digit()))
+        || fields[1..].iter().any(|f| f.len() != 2)
+    {
+        return None;
+    }
+    let v: Vec<u32> = fields
+        .iter()
+        .map(|f| f.parse().ok())
+        .collect::<Option<_>>()?;
+    let (h, m, s) = (v[0], v[1], v.get(2).copied().unwrap_or(0));
+    (h < 24 && m < 60 && s < 60).then(|| f64::from(h * 3600 + m * 60 + s))
+}
+
+/// Print seconds after midnight as a clock time: "08:15" (wrapping past
+/// midnight; seconds shown only when not whole minutes).
+pub fn format_time_of_day(seconds: f64) -> String {
+    let t = (seconds.round() as i64).rem_euclid(86_400);
+    let (h, m, s) = (t / 3600, t / 60 % 60, t % 60);
+    if s == 0 {
+        format!("{h:02}:{m:02}")
+    } else {
+        format!("{h:02}:{m:02}:{s:02}")
+    }
+}
+
 /// Parse a rate to events per second: `<count>/<unit>` with unit `h`, `m`,
 /// `s` or `d` (also "/hour", "/min", "/sec", "/day"), or a count over a
 /// duration with its unit ("200/30m": 200 calls per half hour; "90/15min"). A plain number is
@@ -396,6 +435,29 @@ mod tests {
         // A percentage without its sign gets a message that says so.
         let e = parse_share("80").unwrap_err().to_string();
         assert!(e.contains("\"80%\"") && e.contains("0.8"), "{e}");
+    }
+
+    #[test]
+    fn times_of_day() {
+        assert_eq!(parse_time_of_day("08:00"), Some(28_800.0));
+        assert_eq!(parse_time_of_day("8:30"), Some(30_600.0));
+        assert_eq!(parse_time_of_day("23:59:59"), Some(86_399.0));
+        for bad in [
+            "",
+            "8",
+            "24:00",
+            "12:60",
+            "12:5",
+            "x:00",
+            "12:00:00:00",
+            "-1:00",
+            "123:00",
+        ] {
+            assert_eq!(parse_time_of_day(bad), None, "{bad:?}");
+        }
+        assert_eq!(format_time_of_day(28_800.0), "08:00");
+        assert_eq!(format_time_of_day(86_400.0 + 900.0), "00:15");
+        assert_eq!(format_time_of_day(30.0), "00:00:30");
     }
 
     #[test]

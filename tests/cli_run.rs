@@ -380,9 +380,9 @@ fn check_lists_interval_formulas_labelled_and_in_time_order() {
     let a = stdout(&busyhour(&["check", "scenarios/harbour-peak.toml"]));
     let b = stdout(&busyhour(&["check", "scenarios/harbour-peak.toml"]));
     assert_eq!(a, b, "the formula view changes between runs");
-    let first = a.find("(0:00-0:15)").expect("first interval labelled");
-    let second = a.find("(0:15-0:30)").expect("second interval labelled");
-    let last = a.find("(2:45-3:00)").expect("last interval labelled");
+    let first = a.find("(06:00-06:15)").expect("first interval labelled");
+    let second = a.find("(06:15-06:30)").expect("second interval labelled");
+    let last = a.find("(08:45-09:00)").expect("last interval labelled");
     assert!(first < second && second < last);
 }
 
@@ -436,4 +436,29 @@ fn size_answers_in_agents_or_servers() {
             "{file}: {text}"
         );
     }
+}
+
+/// A scenario with `clock_start` labels its intervals, busy hour and check
+/// lines with clock times, and says so in the JSON.
+#[test]
+fn clock_start_labels_intervals_with_clock_times() {
+    let s = "scenarios/harbour-peak.toml";
+    let text = stdout(&busyhour(&["run", s, "--replications", "4"]));
+    assert!(text.contains("By interval (clock time)"), "{text}");
+    assert!(
+        text.contains("06:00-06:15") && text.contains("08:45-09:00"),
+        "{text}"
+    );
+    assert!(text.contains("Busy hour 07:15-08:15"), "{text}");
+    let json: serde_json::Value = serde_json::from_str(&stdout(&busyhour(&[
+        "run",
+        s,
+        "--replications",
+        "4",
+        "--json",
+    ])))
+    .unwrap();
+    assert_eq!(json["clock_start"], "06:00");
+    let check = stdout(&busyhour(&["check", s]));
+    assert!(check.contains("06:00-06:15"), "{check}");
 }

@@ -113,6 +113,9 @@ fn the_demo_turns_into_a_scenario_with_one_command() {
 
     let model = scenario::load(&toml).unwrap_or_else(|e| panic!("{e}"));
     assert_eq!(u64::from(model.groups[0].servers), servers);
+    // The profile keeps the busy hour's clock times: one interval before
+    // the 10:00 busy hour of the demo.
+    assert_eq!(model.plan.clock_start_s, Some(9.75 * 3600.0));
     // The scenario goes around on its own: it carries the caution.
     let written = std::fs::read_to_string(&toml).unwrap();
     assert!(

@@ -245,6 +245,7 @@ fn hash_plan(h: &mut Fnv, plan: &RunPlan) {
         replications: _,
         seed,
         interval_s,
+        clock_start_s,
     } = plan;
     h.f64(*warmup_s);
     h.tag(u8::from(*warmup_given));
@@ -255,6 +256,12 @@ fn hash_plan(h: &mut Fnv, plan: &RunPlan) {
     h.f64(*length_s);
     h.u64(*seed);
     h.option_f64(*interval_s);
+    // Hashed only when given, so that parts of scenarios without it keep
+    // the fingerprint of part format 3 (it changes labels, not figures).
+    if let Some(c) = clock_start_s {
+        h.tag(7);
+        h.f64(*c);
+    }
 }
 
 fn hash_group(h: &mut Fnv, group: &Group) {

@@ -301,6 +301,13 @@ fn write_simulation(w: &mut String, a: &Analysis, opts: &ScenarioOptions, inputs
         trim_float(length_s / 60.0, 3)
     );
     let _ = writeln!(w, "interval = {}", interval_text(a));
+    if let Some(first) = inputs.profile.first() {
+        let _ = writeln!(
+            w,
+            "clock_start = \"{}\"     # the measured clock time the profile starts at",
+            crate::units::format_time_of_day(f64::from(first.clock_s))
+        );
+    }
     let _ = writeln!(w, "replications = {}", opts.replications);
     let _ = writeln!(w, "seed = {}", opts.seed);
     let _ = writeln!(w);

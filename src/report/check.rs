@@ -52,7 +52,8 @@ impl FormulaView {
         let clock = |b: usize| {
             let start = b as f64 * width;
             let end = (start + width).min(model.plan.length_s);
-            format!("{}-{}", text::clock(start), text::clock(end))
+            let c = model.plan.clock_start_s;
+            format!("{}-{}", text::clock_at(c, start), text::clock_at(c, end))
         };
         let entries = keyed
             .into_iter()

@@ -8,7 +8,7 @@ use super::describe::{describe_model, warmup_origin};
 use super::figures::{FigureSet, FigureValue};
 use super::json::finite;
 use super::plot::{self, ChartError, LineChart, Series};
-use super::text::{self, Table, align, clock};
+use super::text::{self, Table, align, clock_at};
 use super::{CAUTION, Charted, Document, html};
 use crate::experiment::RunResult;
 use crate::scenario::{Model, Start};
@@ -103,6 +103,13 @@ pub struct RunDocument {
     pub warnings: Vec<String>,
     /// The safety caution.
     pub caution: &'static str,
+    /// The clock time the measured period begins at ("08:00"), when the
+    /// scenario gives one: interval labels are then clock times.
+    #[serde(
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "time_of_day"
+    )]
+    pub clock_start: Option<f64>,
     /// Length of a reporting interval (s; the last may be shorter).
     #[serde(skip)]
     pub interval_s: f64,
@@ -248,6 +255,7 @@ impl RunDocument {
             busy_hour: BusyHourFigures::new(model, outcome),
             warnings: outcome.warnings.iter().map(|w| w.to_string()).collect(),
             caution: CAUTION,
+            clock_start: plan.clock_start_s,
             interval_s: width,
             events: outcome.events,
             wall_s: outcome.wall_s,
@@ -340,7 +348,11 @@ impl RunDocument {
         });
         if !self.intervals.is_empty() {
             tables.push(Table {
-                title: "By interval (from the end of the warm-up)".into(),
+                title: if self.clock_start.is_some() {
+                    "By interval (clock time)".into()
+                } else {
+                    "By interval (from the end of the warm-up)".into()
+                },
                 rows: self.interval_rows(),
             });
         }
@@ -361,8 +373,8 @@ impl RunDocument {
             tables.push(Table {
                 title: format!(
                     "Busy hour {}-{} (the hour of most forecast load: {} offered)",
-                    clock(bh.start_s),
-                    clock(bh.end_s),
+                    clock_at(self.clock_start, bh.start_s),
+                    clock_at(self.clock_start, bh.end_s),
                     text::value(Unit::Erlangs, bh.offered_traffic)
                 ),
                 rows,
@@ -397,8 +409,8 @@ impl RunDocument {
         for (b, iv) in self.intervals.iter().enumerate() {
             let mut row = vec![format!(
                 "{}-{}{}",
-                clock(iv.start_s),
-                clock(iv.end_s),
+                clock_at(self.clock_start, iv.start_s),
+                clock_at(self.clock_start, iv.end_s),
                 if self.worst_interval == Some(b) {
                     " worst"
                 } else {
@@ -479,13 +491,22 @@ shows the closed-form value where its assumptions hold.",
         }
         let width_h = self.interval_s / 3600.0;
         let mid = |b: usize| (b as f64 + 0.5) * width_h;
-        let x_label = "time from the end of the warm-up (h:mm, interval midpoints)";
+        let x_label = if self.clock_start.is_some() {
+            "clock time (interval midpoints)"
+        } else {
+            "time from the end of the warm-up (h:mm, interval midpoints)"
+        };
+        let start = self.clock_start;
+        let ticks = move |hours: f64| match start {
+            Some(c) => crate::units::format_time_of_day(c + hours * 3600.0),
+            None => hours_clock(hours),
+        };
         let mut traffic = LineChart::new(
             format!("{}: traffic per interval", self.scenario),
             x_label,
             "traffic (erlangs)",
         );
-        traffic.x_ticks = Some(Box::new(hours_clock));
+        traffic.x_ticks = Some(Box::new(ticks));
         for (name, offered) in [("offered traffic", true), ("carried traffic", false)] {
             let pts: Vec<(f64, Estimate)> = (self.intervals.iter().enumerate())
                 .map(|(b, iv)| {
@@ -508,7 +529,7 @@ shows the closed-form value where its assumptions hold.",
             x_label,
             "loss (% of calls)",
         );
-        loss.x_ticks = Some(Box::new(hours_clock));
+        loss.x_ticks = Some(Box::new(ticks));
         for (s, st) in self.streams.iter().enumerate() {
             let values = || {
                 (self.intervals.iter().enumerate()).filter_map(move |(b, iv)| {
@@ -674,6 +695,13 @@ fn worst(intervals: &[Interval]) -> Option<usize> {
 fn hours_clock(hours: f64) -> String {
     let m = (hours * 60.0).round() as i64;
     format!("{}:{:02}", m / 60, m % 60)
+}
+
+fn time_of_day<S: Serializer>(t: &Option<f64>, s: S) -> Result<S::Ok, S::Error> {
+    match t {
+        Some(c) => s.serialize_str(&crate::units::format_time_of_day(*c)),
+        None => s.serialize_none(),
+    }
 }
 
 /// How much the engine did, and how fast: "63,105 events simulated in

@@ -61,6 +61,16 @@ pub(crate) fn csv_number(x: f64) -> String {
     }
 }
 
+/// Seconds into the measured period as a label: the clock time of day when
+/// the scenario gives `clock_start` ("09:45"), otherwise the time from the
+/// end of the warm-up ("1:45").
+pub(crate) fn clock_at(clock_start_s: Option<f64>, seconds: f64) -> String {
+    match clock_start_s {
+        Some(c) => crate::units::format_time_of_day(c + seconds),
+        None => clock(seconds),
+    }
+}
+
 /// Seconds as a clock from the end of the warm-up: "1:45".
 pub(crate) fn clock(seconds: f64) -> String {
     let m = (seconds / 60.0).round() as u64;

@@ -687,6 +687,15 @@ impl Compiler {
                 Some(i)
             }
         };
+        let clock_start_s = match &s.clock_start {
+            None => None,
+            Some(t) => Some(crate::units::parse_time_of_day(t).ok_or_else(|| {
+                self.err(
+                    "simulation.clock_start",
+                    format!("\"{t}\" is not a time of day: expected hours and minutes like \"08:00\" or \"13:30\""),
+                )
+            })?),
+        };
         Ok(RunPlan {
             warmup_s,
             warmup_given: s.warmup.is_some(),
@@ -695,6 +704,7 @@ impl Compiler {
             replications,
             seed,
             interval_s,
+            clock_start_s,
         })
     }
 

@@ -65,6 +65,10 @@ pub struct RunPlan {
     pub seed: u64,
     /// Optional reporting interval (s).
     pub interval_s: Option<f64>,
+    /// The clock time of day at which the measured period begins (seconds
+    /// after midnight), when the file gives one: intervals and charts are
+    /// then labelled with clock times. Labels only: no figure depends on it.
+    pub clock_start_s: Option<f64>,
 }
 
 impl RunPlan {

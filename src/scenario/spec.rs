@@ -84,6 +84,9 @@ pub struct SimulationSpec {
     pub interval: Option<Amount>,
     /// `"steady"` (calls in progress seated at time 0, the default) or `"empty"`.
     pub start: Option<String>,
+    /// The clock time at which the measured period begins ("08:00"), for
+    /// labels only.
+    pub clock_start: Option<String>,
 }
 
 /// `[[group]]`.
