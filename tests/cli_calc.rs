@@ -743,7 +743,7 @@ fn multirate() {
             "--class",
             "2:6",
         ],
-        &["classes"],
+        &["capacity", "classes"],
     );
     let expected = multirate::kaufman_roberts(30, &[(10.0, 1), (2.0, 6)]).unwrap();
     let classes = json["classes"].as_array().expect("classes is an array");
@@ -1066,10 +1066,15 @@ fn redial_fixed_point_against_the_exact_chain() {
     // the fixed point; a delay of one holding time is a common case.
     let keys = [
         "method",
+        "traffic",
+        "servers",
+        "redial_chances",
+        "max_attempts",
         "blocking",
         "attempt_traffic",
         "attempts_per_call",
         "loss",
+        "carried_traffic",
         "erlang_b_without_redials",
     ];
     let json = calc_json(

@@ -818,16 +818,26 @@ fn redial(a: &RedialArgs) -> Result<Report> {
     #[derive(Serialize)]
     struct Json {
         method: &'static str,
+        traffic: f64,
+        servers: u32,
+        redial_chances: Vec<f64>,
+        max_attempts: Option<u32>,
         blocking: f64,
         attempt_traffic: f64,
         attempts_per_call: f64,
         loss: f64,
+        carried_traffic: f64,
         erlang_b_without_redials: f64,
     }
     Ok(Report {
         text,
         json: serde_json::to_value(Json {
             method: "redial fixed point (approx.)",
+            traffic,
+            servers,
+            redial_chances: a.chances.clone(),
+            max_attempts: a.max_attempts,
+            carried_traffic: fp.carried_traffic(),
             blocking: fp.blocking,
             attempt_traffic: fp.attempt_traffic,
             attempts_per_call: shares.attempts_per_call,
@@ -1079,9 +1089,11 @@ fn multirate_classes(a: &MultirateArgs) -> Result<Report> {
     }
     #[derive(Serialize)]
     struct Json {
+        capacity: u32,
         classes: Vec<Class>,
     }
     let mut json = Json {
+        capacity,
         classes: Vec::new(),
     };
     for (i, (&(traffic, units), &b)) in classes.iter().zip(&blocking).enumerate() {
