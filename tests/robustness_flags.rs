@@ -154,8 +154,10 @@ fn bad_flags_of_run_check_size_and_sweep() {
                 "1:2:0.5",
                 "--servers",
                 "site-link=1:5",
+                "--chart",
+                "/nonexistent/grid.svg",
             ],
-            "cannot be used with",
+            "--chart draws one axis",
         ),
         (
             vec!["sweep", s, "--scale", "1:2:0.5", "--figure", "happiness"],

@@ -246,11 +246,11 @@ pub struct SweepArgs {
     #[arg(
         long,
         value_name = "[STREAM=]RANGE",
-        conflicts_with = "servers",
         required_unless_present = "servers"
     )]
     pub scale: Option<String>,
-    /// Set one group's servers to each size of start:end[:step] ("trunks=40:60").
+    /// Set one group's servers to each size of start:end[:step] ("trunks=40:60");
+    /// with --scale, every load scale at every size (a grid).
     #[arg(long, value_name = "GROUP=RANGE")]
     pub servers: Option<String>,
     /// A figure to show (repeatable): the table and chart show these
@@ -604,14 +604,26 @@ pub fn sweep(a: &SweepArgs) -> Result<Status> {
         a.chart.as_deref(),
     )?;
     let spec = match (&a.scale, &a.servers) {
-        (Some(s), _) => Sweep::parse_scale(s, &model).context("--scale")?,
+        (Some(s), Some(n)) => {
+            if a.shard.is_some() {
+                bail!("--shard runs one axis: shard a grid one --servers value at a time");
+            }
+            if a.chart.is_some() {
+                bail!(
+                    "--chart draws one axis: chart a grid one --servers value at a time (the table and --report show the grid)"
+                );
+            }
+            Sweep::grid(
+                Sweep::parse_scale(s, &model).context("--scale")?,
+                Sweep::parse_servers(n, &model).context("--servers")?,
+                &model,
+            )?
+        }
+        (Some(s), None) => Sweep::parse_scale(s, &model).context("--scale")?,
         (None, Some(s)) => Sweep::parse_servers(s, &model).context("--servers")?,
         (None, None) => bail!("give --scale or --servers"),
     };
-    let goal_group = match &spec {
-        Sweep::Servers { group, .. } => *group,
-        Sweep::Scale { .. } => 0,
-    };
+    let goal_group = spec.group().unwrap_or(0);
     let goals = a
         .goal
         .iter()

@@ -63,6 +63,14 @@ pub enum Sweep {
         /// The sizes.
         values: Vec<u32>,
     },
+    /// A grid: every load scale at every size of one group, sizes outer
+    /// (all scales at the first size, then at the next).
+    Grid {
+        /// The load scales (all streams, or one).
+        scale: Box<Sweep>,
+        /// The group and its sizes.
+        servers: Box<Sweep>,
+    },
 }
 
 fn parse_range(text: &str, default_step: Option<f64>) -> Result<Vec<f64>, SweepError> {
@@ -154,6 +162,23 @@ impl Sweep {
         .checked(text, model)
     }
 
+    /// A grid of `scale` (from [`Sweep::parse_scale`]) against `servers`
+    /// (from [`Sweep::parse_servers`]).
+    pub fn grid(scale: Sweep, servers: Sweep, model: &Model) -> Result<Sweep, SweepError> {
+        let steps = scale.values().len() * servers.values().len();
+        if steps > MAX_STEPS {
+            return Err(SweepError::Values {
+                text: "--scale with --servers".into(),
+                reason: format!("{steps} steps is more than the limit of {MAX_STEPS}"),
+            });
+        }
+        Sweep::Grid {
+            scale: Box::new(scale),
+            servers: Box::new(servers),
+        }
+        .checked("--scale with --servers", model)
+    }
+
     /// The sweep, once every step's model has been built from `model`.
     fn checked(self, text: &str, model: &Model) -> Result<Sweep, SweepError> {
         for i in 0..self.values().len() {
@@ -166,11 +191,42 @@ impl Sweep {
         Ok(self)
     }
 
-    /// The swept values as numbers.
+    /// The swept values as numbers (of a grid: the load scale of each step).
     pub fn values(&self) -> Vec<f64> {
         match self {
             Sweep::Scale { values, .. } => values.clone(),
             Sweep::Servers { values, .. } => values.iter().map(|&v| f64::from(v)).collect(),
+            Sweep::Grid { scale, servers } => {
+                let scales = scale.values();
+                (0..servers.values().len())
+                    .flat_map(|_| scales.iter().copied())
+                    .collect()
+            }
+        }
+    }
+
+    /// The servers on the grid's group at step `i` (None unless a grid).
+    pub fn servers_at(&self, i: usize) -> Option<u32> {
+        match self {
+            Sweep::Grid { scale, servers } => match servers.as_ref() {
+                Sweep::Servers { values, .. } => Some(values[i / scale.values().len()]),
+                _ => None,
+            },
+            _ => None,
+        }
+    }
+
+    /// Whether the swept value is a load scale (more is harder).
+    pub fn scales_load(&self) -> bool {
+        matches!(self, Sweep::Scale { .. } | Sweep::Grid { .. })
+    }
+
+    /// The group whose servers are swept, if any.
+    pub fn group(&self) -> Option<usize> {
+        match self {
+            Sweep::Servers { group, .. } => Some(*group),
+            Sweep::Grid { servers, .. } => servers.group(),
+            Sweep::Scale { .. } => None,
         }
     }
 
@@ -180,6 +236,16 @@ impl Sweep {
         match self {
             Sweep::Scale { stream, values } => model.with_load_scaled(values[i], *stream),
             Sweep::Servers { group, values } => model.with_servers(*group, values[i]),
+            Sweep::Grid { scale, servers } => {
+                let n = scale.values().len();
+                servers.model_at(model, i / n)?.with_load_scaled(
+                    scale.values()[i % n],
+                    match scale.as_ref() {
+                        Sweep::Scale { stream, .. } => *stream,
+                        _ => None,
+                    },
+                )
+            }
         }
     }
 
@@ -191,6 +257,7 @@ impl Sweep {
                 stream: Some(s), ..
             } => format!("load scale of {} (x forecast)", model.streams[*s].name),
             Sweep::Servers { group, .. } => format!("servers on {}", model.groups[*group].name),
+            Sweep::Grid { scale, .. } => scale.label(model),
         }
     }
 }

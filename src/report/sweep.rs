@@ -21,6 +21,10 @@ use serde::{Serialize, Serializer};
 pub struct SweepStep {
     /// The swept value: a load scale, or servers on the swept group.
     pub value: f64,
+    /// The servers on the swept group at this step, in a grid of load
+    /// scale against servers.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub servers: Option<u32>,
     /// The run at this step.
     pub result: RunDocument,
     /// Each `--goal`'s verdict at this step (95% interval, one look), in the
@@ -32,6 +36,16 @@ pub struct SweepStep {
     /// the table.
     #[serde(skip)]
     pub offered_traffic: f64,
+}
+
+/// How far the goals hold at one size of a grid.
+#[derive(Debug, Clone, Serialize)]
+pub struct GridGoals {
+    /// Servers on the swept group.
+    pub servers: u32,
+    /// The last load scale, from the lightest, up to which every goal
+    /// holds at this size; null when the lightest already misses one.
+    pub goals_hold_through: Option<f64>,
 }
 
 /// One goal's verdict at one step of a sweep.
@@ -98,6 +112,13 @@ pub struct SweepDocument {
     /// every goal; null when the easiest step already misses one.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub goals_hold_through: Option<Option<f64>>,
+    /// In a grid with `--goal`: per size of the swept group, the load scale
+    /// up to which every goal holds.
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub goals_by_servers: Vec<GridGoals>,
+    /// In a grid: the group whose servers are swept.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub grid_group: Option<String>,
     /// The figures `--figure` chose, when it was given: each step's result
     /// then carries only these.
     #[serde(skip_serializing_if = "Vec::is_empty", serialize_with = "figure_names")]
@@ -139,15 +160,15 @@ impl SweepDocument {
         figures: &[Figure],
         goals: &[Goal],
     ) -> SweepDocument {
-        let steps: Vec<SweepStep> = steps
-            .iter()
-            .map(|st| {
+        let steps: Vec<SweepStep> = (steps.iter().enumerate())
+            .map(|(i, st)| {
                 let mut result = RunDocument::new(&st.model, &st.outcome, file);
                 if !figures.is_empty() {
                     result.keep_figures(figures);
                 }
                 SweepStep {
                     value: st.value,
+                    servers: swept.servers_at(i),
                     result,
                     goals: (goals.iter())
                         .map(|g| StepGoal {
@@ -193,13 +214,36 @@ impl SweepDocument {
                     .collect()
             })
             .unwrap_or_default();
-        let load_swept = matches!(swept, Sweep::Scale { .. });
-        let goals_hold_through = (!goals.is_empty()).then(|| hold_through(&steps, load_swept));
+        let load_swept = swept.scales_load();
+        let grid = matches!(swept, Sweep::Grid { .. });
+        let goals_hold_through =
+            (!goals.is_empty() && !grid).then(|| hold_through(&steps, load_swept));
+        let mut goals_by_servers = Vec::new();
+        if !goals.is_empty() && grid {
+            let mut sizes: Vec<u32> = steps.iter().filter_map(|s| s.servers).collect();
+            sizes.dedup();
+            for n in sizes {
+                let block: Vec<SweepStep> = (steps.iter())
+                    .filter(|s| s.servers == Some(n))
+                    .cloned()
+                    .collect();
+                goals_by_servers.push(GridGoals {
+                    servers: n,
+                    goals_hold_through: hold_through(&block, true),
+                });
+            }
+        }
+        let grid_group = swept
+            .group()
+            .filter(|_| grid)
+            .map(|g| model.groups[g].name.clone());
         SweepDocument {
             file: file.to_string(),
             swept: swept.label(model),
             partial,
             goals_hold_through,
+            goals_by_servers,
+            grid_group,
             figures: figures.to_vec(),
             steps,
             caution: CAUTION,
@@ -219,6 +263,19 @@ impl SweepDocument {
 
     /// One sentence on how far the design meets the goals, for the table.
     pub fn goal_summary(&self) -> Option<String> {
+        if !self.goals_by_servers.is_empty() {
+            let parts: Vec<String> = (self.goals_by_servers.iter())
+                .map(|g| match g.goals_hold_through {
+                    Some(v) => format!(
+                        "with {} servers up to {}x forecast",
+                        g.servers,
+                        trim_float(v, 3)
+                    ),
+                    None => format!("with {} servers not even at the lightest load", g.servers),
+                })
+                .collect();
+            return Some(format!("Every goal is met {}.", parts.join("; ")));
+        }
         let through = self.goals_hold_through?;
         let what = |v: f64| {
             if self.load_swept {
@@ -273,6 +330,9 @@ impl SweepDocument {
             "offered traffic"
         };
         let mut head = vec![self.swept.clone(), offered.to_string()];
+        if let Some(g) = &self.grid_group {
+            head.insert(0, format!("servers on {g}"));
+        }
         head.extend(self.columns.iter().map(|c| self.column_name(c)));
         let judged = self.steps.iter().any(|st| !st.goals.is_empty());
         if judged {
@@ -284,6 +344,9 @@ impl SweepDocument {
                 trim_float(st.value, 3),
                 text::value(Unit::Erlangs, st.offered_traffic),
             ];
+            if self.grid_group.is_some() {
+                row.insert(0, st.servers.map_or(String::new(), |n| n.to_string()));
+            }
             for c in &self.columns {
                 let unit = c.figure.unit();
                 let cell = match value_at(&st.result, c) {
@@ -308,6 +371,11 @@ impl SweepDocument {
 }
 
 impl Charted for SweepDocument {
+    /// A grid has no one axis to draw against: its page shows the table.
+    fn has_chart(&self) -> bool {
+        self.grid_group.is_none()
+    }
+
     /// The sweep as one self-contained HTML page, with its chart when one
     /// is given.
     fn html(&self, chart: Option<&str>) -> String {
