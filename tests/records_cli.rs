@@ -211,3 +211,47 @@ fn bad_input_exits_2_with_one_line() {
     }
     let _ = std::fs::remove_dir_all(&dir);
 }
+
+/// A system's own outcome words: "NO ANSWER" is refused with a message
+/// naming --outcome-word, and mapped with it the calls count as abandoned
+/// (and "BUSY SIGNAL" as blocked), so no unanswered demand is dropped.
+#[test]
+fn outcome_words_of_the_system_are_mapped() {
+    let dir = temp_dir("outcome-words");
+    let file = dir.join("calls.csv");
+    std::fs::write(
+        &file,
+        "start,duration,outcome\n\
+         2025-03-03T10:00:00Z,100,ANSWERED\n\
+         2025-03-03T10:01:00Z,0,NO ANSWER\n\
+         2025-03-03T10:02:00Z,0,busy signal\n\
+         2025-03-03T10:03:00Z,200,answered\n",
+    )
+    .unwrap();
+    let o = busyhour(&["records", &text(&file), "--json"]);
+    assert_eq!(o.status.code(), Some(2));
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert!(
+        err.contains("NO ANSWER") && err.contains("--outcome-word"),
+        "{err}"
+    );
+    assert_eq!(err.trim_end().lines().count(), 1, "{err}");
+    let o = busyhour(&[
+        "records",
+        &text(&file),
+        "--json",
+        "--outcome-word",
+        "no answer=abandoned",
+        "--outcome-word",
+        "BUSY SIGNAL=blocked",
+    ]);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let j: Value = serde_json::from_slice(&o.stdout).unwrap();
+    assert_eq!(j["calls"]["answered"], 2);
+    assert_eq!(j["calls"]["abandoned"], 1);
+    assert_eq!(j["calls"]["blocked"], 1);
+    // A bad mapping is a flag error.
+    let o = busyhour(&["records", &text(&file), "--outcome-word", "NO ANSWER=gone"]);
+    assert_eq!(o.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&o.stderr).contains("answered, blocked or abandoned"));
+}

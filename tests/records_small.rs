@@ -181,6 +181,7 @@ fn columns_by_name_and_outcomes() {
             start: Some("start_time".into()),
             duration: Some("duration_s".into()),
             outcome: Some("outcome".into()),
+            ..Columns::default()
         },
         ..Options::default()
     };

@@ -36,6 +36,11 @@ pub struct RecordsArgs {
     /// [default: the first of outcome, result, status, disposition, if any].
     #[arg(long, value_name = "COLUMN")]
     pub outcome: Option<String>,
+    /// Map one of the system's outcome words to how the call ended, as
+    /// WORD=answered, WORD=blocked or WORD=abandoned ("NO ANSWER=abandoned");
+    /// repeatable; tried before the usual words.
+    #[arg(long = "outcome-word", value_name = "WORD=KIND", value_parser = outcome_word)]
+    pub outcome_words: Vec<(String, busyhour::records::reader::Outcome)>,
     /// Analyse only these local days: weekdays ("mon-fri", "sat,sun",
     /// "weekdays"), dates ("2025-03-04") or date ranges
     /// ("2025-03-03..2025-03-07"), comma-separated.
@@ -106,6 +111,7 @@ pub fn run(a: &RecordsArgs) -> Result<()> {
             start: a.start.clone(),
             duration: a.duration.clone(),
             outcome: a.outcome.clone(),
+            outcome_words: a.outcome_words.clone(),
         },
         skip_bad: a.skip_bad,
         days,
@@ -178,4 +184,19 @@ pub fn run(a: &RecordsArgs) -> Result<()> {
     }
     let format = if a.json { Format::Json } else { Format::Table };
     super::emit(format, &doc, a.out.as_deref())
+}
+
+/// `--outcome-word WORD=KIND`.
+fn outcome_word(text: &str) -> Result<(String, busyhour::records::reader::Outcome), String> {
+    use busyhour::records::reader::Outcome;
+    let (word, kind) = text
+        .rsplit_once('=')
+        .ok_or_else(|| format!("'{text}': expected WORD=KIND, like \"NO ANSWER=abandoned\""))?;
+    if word.trim().is_empty() {
+        return Err(format!("'{text}': the word before '=' is empty"));
+    }
+    let outcome = Outcome::from_kind(kind).ok_or_else(|| {
+        format!("'{text}': the kind after '=' must be answered, blocked or abandoned")
+    })?;
+    Ok((word.trim().to_string(), outcome))
 }

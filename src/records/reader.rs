@@ -67,6 +67,17 @@ impl Outcome {
         }
     }
 
+    /// Read a kind of ending by its name: "answered", "blocked" or
+    /// "abandoned" (for a mapping of the system's own words).
+    pub fn from_kind(text: &str) -> Option<Outcome> {
+        match text.trim().to_ascii_lowercase().as_str() {
+            "answered" => Some(Outcome::Answered),
+            "blocked" => Some(Outcome::Blocked),
+            "abandoned" => Some(Outcome::Abandoned),
+            _ => None,
+        }
+    }
+
     /// The word written by [`super::synthetic`] and in reports.
     pub fn word(self) -> &'static str {
         match self {
@@ -87,6 +98,10 @@ pub struct Columns {
     pub duration: Option<String>,
     /// Outcome column; when named it must exist.
     pub outcome: Option<String>,
+    /// The system's own outcome words, each mapped to how the call ended
+    /// ("NO ANSWER" to abandoned); tried before the usual words, case and
+    /// surrounding spaces ignored.
+    pub outcome_words: Vec<(String, Outcome)>,
 }
 
 /// One call from the file.
@@ -110,6 +125,7 @@ pub struct RecordReader<R: Read> {
     start: usize,
     duration: usize,
     outcome: Option<usize>,
+    outcome_words: Vec<(String, Outcome)>,
     names: [String; 3],
     done: bool,
 }
@@ -268,6 +284,7 @@ impl<R: Read> RecordReader<R> {
             start,
             duration,
             outcome,
+            outcome_words: columns.outcome_words.clone(),
             names: column_names,
             done: false,
         })
@@ -382,9 +399,14 @@ impl<R: Read> RecordReader<R> {
             None => None,
             Some(i) => {
                 let f = field(i, outcome_name)?;
-                Some(Outcome::parse(f).ok_or_else(|| {
+                let word = f.trim_ascii();
+                let mapped = (self.outcome_words.iter())
+                    .find(|(w, _)| word.eq_ignore_ascii_case(w.trim().as_bytes()))
+                    .map(|&(_, o)| o);
+                Some(mapped.or_else(|| Outcome::parse(f)).ok_or_else(|| {
                     bad(format!(
-                        "outcome '{}' is not known: expected answered (or completed, connected), blocked (or busy, congestion, lost, rejected) or abandoned",
+                        "outcome '{}' is not known: expected answered (or completed, connected), blocked (or busy, congestion, lost, rejected) or abandoned, or map the word with --outcome-word \"{}=abandoned\"",
+                        shown(f),
                         shown(f)
                     ))
                 })?)
