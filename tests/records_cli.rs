@@ -255,3 +255,38 @@ fn outcome_words_of_the_system_are_mapped() {
     assert_eq!(o.status.code(), Some(2));
     assert!(String::from_utf8_lossy(&o.stderr).contains("answered, blocked or abandoned"));
 }
+
+/// Unix seconds are UTC unless --unix-offset says at which fixed offset the
+/// local clock runs: the busy hour moves with it, and the report says so.
+#[test]
+fn unix_times_are_read_at_the_offset_given() {
+    let dir = temp_dir("unix-offset");
+    let file = dir.join("calls.csv");
+    // 09:00 UTC on 2025-03-03 (1740992400), one call a minute for an hour.
+    let mut text = String::from("start,duration\n");
+    for i in 0..60 {
+        text.push_str(&format!("{},120\n", 1_740_992_400 + 60 * i));
+    }
+    std::fs::write(&file, text).unwrap();
+    let busy = |extra: &[&str]| -> (String, Value) {
+        let mut args = vec!["records", file.to_str().unwrap(), "--json"];
+        args.extend_from_slice(extra);
+        let o = busyhour(&args);
+        assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+        let j: Value = serde_json::from_slice(&o.stdout).unwrap();
+        (
+            j["busy_hour"]["daily"][0]["start"]
+                .as_str()
+                .unwrap()
+                .to_string(),
+            j,
+        )
+    };
+    assert_eq!(busy(&[]).0, "09:00");
+    let (start, j) = busy(&["--unix-offset", "+01:00"]);
+    assert_eq!(start, "10:00");
+    assert_eq!(j["unix_offset"], "+01:00");
+    assert_eq!(busy(&["--unix-offset", "-05:30"]).0, "03:30");
+    let o = busyhour(&["records", file.to_str().unwrap(), "--unix-offset", "+15:00"]);
+    assert_eq!(o.status.code(), Some(2));
+}

@@ -41,6 +41,11 @@ pub struct RecordsArgs {
     /// repeatable; tried before the usual words.
     #[arg(long = "outcome-word", value_name = "WORD=KIND", value_parser = outcome_word)]
     pub outcome_words: Vec<(String, busyhour::records::reader::Outcome)>,
+    /// Read Unix-second start times at this fixed offset from UTC, like
+    /// "+01:00" or "-05:00" [default: UTC]. A fixed offset: a file that
+    /// spans a daylight-saving change needs times written with their offset.
+    #[arg(long = "unix-offset", value_name = "+HH:MM", value_parser = utc_offset, allow_hyphen_values = true)]
+    pub unix_offset: Option<i32>,
     /// Analyse only these local days: weekdays ("mon-fri", "sat,sun",
     /// "weekdays"), dates ("2025-03-04") or date ranges
     /// ("2025-03-03..2025-03-07"), comma-separated.
@@ -112,6 +117,7 @@ pub fn run(a: &RecordsArgs) -> Result<()> {
             duration: a.duration.clone(),
             outcome: a.outcome.clone(),
             outcome_words: a.outcome_words.clone(),
+            unix_offset_s: a.unix_offset,
         },
         skip_bad: a.skip_bad,
         days,
@@ -199,4 +205,24 @@ fn outcome_word(text: &str) -> Result<(String, busyhour::records::reader::Outcom
         format!("'{text}': the kind after '=' must be answered, blocked or abandoned")
     })?;
     Ok((word.trim().to_string(), outcome))
+}
+
+/// `--unix-offset +HH:MM` to seconds east of UTC (at most 14 hours).
+fn utc_offset(text: &str) -> Result<i32, String> {
+    let bad = || format!("'{text}': expected an offset from UTC like \"+01:00\" or \"-05:00\"");
+    let t = text.trim();
+    let (sign, rest) = match t.as_bytes().first() {
+        Some(b'+') => (1, &t[1..]),
+        Some(b'-') => (-1, &t[1..]),
+        _ => return Err(bad()),
+    };
+    let (h, m) = rest.split_once(':').ok_or_else(bad)?;
+    if h.len() != 2 || m.len() != 2 {
+        return Err(bad());
+    }
+    let (h, m): (i32, i32) = (h.parse().map_err(|_| bad())?, m.parse().map_err(|_| bad())?);
+    if h > 14 || m > 59 || h * 60 + m > 14 * 60 {
+        return Err(bad());
+    }
+    Ok(sign * (h * 3600 + m * 60))
 }

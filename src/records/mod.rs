@@ -254,6 +254,8 @@ pub struct Analysis {
     pub interval_s: u32,
     /// How the start times were written.
     pub time_kind: TimeKind,
+    /// The offset from UTC (s) Unix-second times were read at, when given.
+    pub unix_offset_s: Option<i32>,
     /// Whether the file has an outcome column.
     pub has_outcomes: bool,
     /// The day filter, if any.
@@ -365,6 +367,10 @@ pub fn analyse_reader<R: Read>(
         file: file.to_string(),
         interval_s: opts.interval_s,
         time_kind,
+        unix_offset_s: opts
+            .columns
+            .unix_offset_s
+            .filter(|_| time_kind == TimeKind::Unix),
         has_outcomes,
         days: opts.days.clone(),
         rows,

@@ -102,6 +102,10 @@ pub struct Columns {
     /// ("NO ANSWER" to abandoned); tried before the usual words, case and
     /// surrounding spaces ignored.
     pub outcome_words: Vec<(String, Outcome)>,
+    /// The fixed offset from UTC (s) of the local clock that Unix-second
+    /// start times are read at (None: UTC). Times written with their own
+    /// offset or as naive local times are not changed.
+    pub unix_offset_s: Option<i32>,
 }
 
 /// One call from the file.
@@ -126,6 +130,7 @@ pub struct RecordReader<R: Read> {
     duration: usize,
     outcome: Option<usize>,
     outcome_words: Vec<(String, Outcome)>,
+    unix_offset_s: Option<i32>,
     names: [String; 3],
     done: bool,
 }
@@ -285,6 +290,7 @@ impl<R: Read> RecordReader<R> {
             duration,
             outcome,
             outcome_words: columns.outcome_words.clone(),
+            unix_offset_s: columns.unix_offset_s,
             names: column_names,
             done: false,
         })
@@ -382,8 +388,11 @@ impl<R: Read> RecordReader<R> {
         let start_field = field(self.start, start_name)?;
         let start_text = std::str::from_utf8(start_field)
             .map_err(|_| bad(format!("column \"{start_name}\" is not UTF-8 text")))?;
-        let start =
+        let mut start =
             time::parse_timestamp(start_text).map_err(|e| bad(format!("start time: {e}")))?;
+        if let (time::TimeKind::Unix, Some(offset)) = (start.kind, self.unix_offset_s) {
+            start.offset_s = offset;
+        }
         let duration_field = field(self.duration, duration_name)?;
         let duration_text = std::str::from_utf8(duration_field)
             .map_err(|_| bad(format!("column \"{duration_name}\" is not UTF-8 text")))?;

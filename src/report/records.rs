@@ -39,6 +39,13 @@ fn kind_name<S: Serializer>(k: &TimeKind, s: S) -> Result<S::Ok, S::Error> {
     })
 }
 
+/// An offset from UTC as "+01:00" or "-05:30".
+fn offset_text(offset_s: i32) -> String {
+    let sign = if offset_s < 0 { '-' } else { '+' };
+    let m = offset_s.unsigned_abs() / 60;
+    format!("{sign}{:02}:{:02}", m / 60, m % 60)
+}
+
 fn clock(s: u32) -> String {
     Clock(i64::from(s)).to_string()
 }
@@ -461,6 +468,9 @@ pub struct RecordsDocument {
     /// How start times were written: "zoned", "naive" or "unix".
     #[serde(serialize_with = "kind_name")]
     pub time_kind: TimeKind,
+    /// Unix times read at this offset from UTC ("+01:00"), when given.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub unix_offset: Option<String>,
     /// `--days` as given; null without it.
     pub days_filter: Option<String>,
     /// Rows read and skipped.
@@ -502,6 +512,7 @@ impl RecordsDocument {
             file: a.file.clone(),
             interval_s: a.interval_s,
             time_kind: a.time_kind,
+            unix_offset: a.unix_offset_s.map(offset_text),
             days_filter: a.days.as_ref().map(|d| d.text.clone()),
             rows: Rows {
                 read: a.rows.read,
@@ -598,7 +609,10 @@ impl RecordsDocument {
             } else {
                 String::new()
             },
-            self.time_kind.describe(),
+            match &self.unix_offset {
+                Some(o) => format!("{} read at UTC{o}", self.time_kind.describe()),
+                None => self.time_kind.describe().to_string(),
+            },
             format_duration(f64::from(self.interval_s))
         );
         for m in &self.rows.skipped_examples {
