@@ -250,6 +250,19 @@ fn outcome_words_of_the_system_are_mapped() {
     assert_eq!(j["calls"]["answered"], 2);
     assert_eq!(j["calls"]["abandoned"], 1);
     assert_eq!(j["calls"]["blocked"], 1);
+    // Skipped instead, the rows are counted by kind and the report says
+    // that their demand is missing.
+    let o = busyhour(&["records", &text(&file), "--json", "--skip-bad"]);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let j: Value = serde_json::from_slice(&o.stdout).unwrap();
+    assert_eq!(j["rows"]["skipped_by_kind"]["outcome"], 2);
+    let o = busyhour(&["records", &text(&file), "--skip-bad"]);
+    let report = String::from_utf8_lossy(&o.stdout);
+    assert!(
+        report.contains("2 bad rows skipped (2 outcome)")
+            && report.contains("missing from the offered traffic"),
+        "{report}"
+    );
     // A bad mapping is a flag error.
     let o = busyhour(&["records", &text(&file), "--outcome-word", "NO ANSWER=gone"]);
     assert_eq!(o.status.code(), Some(2));

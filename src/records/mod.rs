@@ -228,8 +228,24 @@ pub struct RowCounts {
     pub skipped: u64,
     /// The first few skipped rows' messages (`file:line: reason`).
     pub skipped_examples: Vec<String>,
+    /// Skipped rows by what was wrong: "start time", "holding time",
+    /// "outcome" or "other".
+    pub skipped_by_kind: std::collections::BTreeMap<&'static str, u64>,
     /// Rows whose start falls on a day the filter leaves out.
     pub outside_days: u64,
+}
+
+/// What was wrong with a bad row, from its reason.
+fn bad_row_kind(reason: &str) -> &'static str {
+    if reason.starts_with("start time") {
+        "start time"
+    } else if reason.starts_with("duration") {
+        "holding time"
+    } else if reason.starts_with("outcome") {
+        "outcome"
+    } else {
+        "other"
+    }
 }
 
 /// Calls by outcome on the analysed days.
@@ -306,6 +322,12 @@ pub fn analyse_reader<R: Read>(
             Ok(r) => r,
             Err(e @ RecordsError::BadRow { .. }) if opts.skip_bad => {
                 rows.skipped += 1;
+                if let RecordsError::BadRow { reason, .. } = &e {
+                    *rows
+                        .skipped_by_kind
+                        .entry(bad_row_kind(reason))
+                        .or_default() += 1;
+                }
                 if rows.skipped_examples.len() < SKIPPED_EXAMPLES {
                     rows.skipped_examples.push(e.to_string().replace(
                         " (fix the row, or pass --skip-bad to skip and count bad rows)",

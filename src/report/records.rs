@@ -59,6 +59,9 @@ pub struct Rows {
     pub skipped: u64,
     /// The first few skipped rows' messages (`file:line: reason`).
     pub skipped_examples: Vec<String>,
+    /// Skipped rows by what was wrong ("start time", "holding time",
+    /// "outcome", "other").
+    pub skipped_by_kind: std::collections::BTreeMap<&'static str, u64>,
     /// Rows on days `--days` leaves out.
     pub outside_days: u64,
 }
@@ -518,6 +521,7 @@ impl RecordsDocument {
                 read: a.rows.read,
                 skipped: a.rows.skipped,
                 skipped_examples: a.rows.skipped_examples.clone(),
+                skipped_by_kind: a.rows.skipped_by_kind.clone(),
                 outside_days: a.rows.outside_days,
             },
             calls: Calls {
@@ -605,7 +609,14 @@ impl RecordsDocument {
             "  {} rows read{}; start times as {}; intervals of {}",
             self.rows.read,
             if self.rows.skipped > 0 {
-                format!(", {} bad rows skipped", self.rows.skipped)
+                let kinds: Vec<String> = (self.rows.skipped_by_kind.iter())
+                    .map(|(k, n)| format!("{n} {k}"))
+                    .collect();
+                format!(
+                    ", {} bad rows skipped ({})",
+                    self.rows.skipped,
+                    kinds.join(", ")
+                )
             } else {
                 String::new()
             },
@@ -615,6 +626,12 @@ impl RecordsDocument {
             },
             format_duration(f64::from(self.interval_s))
         );
+        if let Some(n) = self.rows.skipped_by_kind.get("outcome") {
+            let _ = writeln!(
+                w,
+                "  {n} rows with an unknown outcome word were skipped: their calls are missing from the offered traffic; map the words with --outcome-word WORD=KIND"
+            );
+        }
         for m in &self.rows.skipped_examples {
             let _ = writeln!(w, "    skipped: {m}");
         }
