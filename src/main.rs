@@ -19,7 +19,7 @@ struct Cli {
 enum Command {
     /// Simulate a scenario file and report every figure with its 95% interval.
     Run(cli::RunArgs),
-    /// Find the fewest servers on one group for which every goal holds.
+    /// Find the fewest servers (circuits, ports or agents) on one group for which every goal holds.
     Size(cli::SizeArgs),
     /// Run the scenario at a series of load scales or group sizes.
     Sweep(cli::SweepArgs),
