@@ -179,12 +179,17 @@ pub fn parse_time_of_day(text: &str) -> Option<f64> {
 /// Print seconds after midnight as a clock time: "08:15" (wrapping past
 /// midnight; seconds shown only when not whole minutes).
 pub fn format_time_of_day(seconds: f64) -> String {
-    let t = (seconds.round() as i64).rem_euclid(86_400);
-    let (h, m, s) = (t / 3600, t / 60 % 60, t % 60);
-    if s == 0 {
+    format_clock((seconds.round() as i64).rem_euclid(86_400))
+}
+
+/// Whole seconds as "HH:MM", or "HH:MM:SS" when not on a whole minute,
+/// without wrapping (86400 is "24:00", the end of a day).
+pub fn format_clock(s: i64) -> String {
+    let (h, m, sec) = (s / 3600, (s / 60) % 60, s % 60);
+    if sec == 0 {
         format!("{h:02}:{m:02}")
     } else {
-        format!("{h:02}:{m:02}:{s:02}")
+        format!("{h:02}:{m:02}:{sec:02}")
     }
 }
 

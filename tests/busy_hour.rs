@@ -7,6 +7,7 @@
 
 mod common;
 use busyhour::report::RunDocument;
+use busyhour::stats::Figure;
 use busyhour::textbook::busy_hour;
 use common::*;
 
@@ -55,10 +56,10 @@ fn the_busy_hour_is_the_window_of_most_forecast_load() {
     let o = run(&m);
     let doc = RunDocument::new(&m, &o, "t.toml");
     let figures = doc.busy_hour.expect("the run reports its busy hour");
-    let loss = figures.streams[0].loss.estimate;
-    assert_covers("busy-hour loss", loss, b, 4.0);
+    let loss = figures.streams[0].figures.get(Figure::Loss).unwrap();
+    assert_covers("busy-hour loss", loss.estimate, b, 4.0);
     assert_eq!(
-        figures.streams[0].loss.formula.as_ref().map(|f| f.name),
+        loss.formula.as_ref().map(|f| f.name),
         Some("Erlang B, busy-hour load")
     );
 }

@@ -160,13 +160,7 @@ pub struct Clock(pub i64);
 
 impl fmt::Display for Clock {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        let s = self.0;
-        let (h, m, sec) = (s / 3600, (s / 60) % 60, s % 60);
-        if sec == 0 {
-            write!(f, "{h:02}:{m:02}")
-        } else {
-            write!(f, "{h:02}:{m:02}:{sec:02}")
-        }
+        f.write_str(&crate::units::format_clock(self.0))
     }
 }
 

@@ -39,6 +39,14 @@ pub(crate) fn round_opt<const DIGITS: i32, S: Serializer>(
 
 /// An undefined number (NaN, or an infinite half-width) as null. serde_json
 /// writes non-finite floats as null already; this says so where it matters.
+/// A sizing or sweep verdict as its word: "holds", "fails", "undecided".
+pub(crate) fn verdict_word<S: Serializer>(
+    v: &crate::experiment::size::Verdict,
+    s: S,
+) -> Result<S::Ok, S::Error> {
+    s.serialize_str(v.word())
+}
+
 pub(crate) fn finite<S: Serializer>(x: &f64, s: S) -> Result<S::Ok, S::Error> {
     if x.is_finite() {
         s.serialize_f64(*x)

@@ -39,13 +39,6 @@ fn kind_name<S: Serializer>(k: &TimeKind, s: S) -> Result<S::Ok, S::Error> {
     })
 }
 
-/// An offset from UTC as "+01:00" or "-05:30".
-fn offset_text(offset_s: i32) -> String {
-    let sign = if offset_s < 0 { '-' } else { '+' };
-    let m = offset_s.unsigned_abs() / 60;
-    format!("{sign}{:02}:{:02}", m / 60, m % 60)
-}
-
 fn clock(s: u32) -> String {
     Clock(i64::from(s)).to_string()
 }
@@ -515,7 +508,7 @@ impl RecordsDocument {
             file: a.file.clone(),
             interval_s: a.interval_s,
             time_kind: a.time_kind,
-            unix_offset: a.unix_offset_s.map(offset_text),
+            unix_offset: a.unix_offset_s.map(|o| time::Offset(o).to_string()),
             days_filter: a.days.as_ref().map(|d| d.text.clone()),
             rows: Rows {
                 read: a.rows.read,

@@ -145,17 +145,9 @@ pub struct BusyHourFigures {
     pub end_s: f64,
     /// Offered traffic in the window by the forecast (E).
     pub offered_traffic: f64,
-    /// Per stream: name and loss over the window.
-    pub streams: Vec<BusyHourStream>,
-}
-
-/// One stream's loss over the busy hour.
-#[derive(Debug, Clone, Serialize)]
-pub struct BusyHourStream {
-    /// The stream.
-    pub name: String,
-    /// Its loss over the window, with the formula where one applies.
-    pub loss: FigureValue,
+    /// Per stream: its name and its loss over the window, with the formula
+    /// where one applies.
+    pub streams: Vec<FigureSet>,
 }
 
 impl BusyHourFigures {
@@ -179,10 +171,9 @@ impl BusyHourFigures {
                     name: crate::textbook::BUSY_HOUR_METHOD,
                     value,
                 });
-                Some(BusyHourStream {
-                    name: st.name.clone(),
-                    loss: FigureValue::new(Figure::Loss, estimate, formula.as_ref()),
-                })
+                let mut set = FigureSet::new(&st.name, None);
+                (set.figures.0).push(FigureValue::new(Figure::Loss, estimate, formula.as_ref()));
+                Some(set)
             })
             .collect();
         Some(BusyHourFigures {
@@ -359,16 +350,7 @@ impl RunDocument {
         if let Some(bh) = &self.busy_hour {
             let mut rows = vec![header("stream")];
             for st in &bh.streams {
-                let e = &st.loss.estimate;
-                rows.push(vec![
-                    st.name.clone(),
-                    Figure::Loss.label().to_string(),
-                    text::value(Unit::Share, e.mean),
-                    text::interval(Unit::Share, e),
-                    st.loss.formula.as_ref().map_or(String::new(), |f| {
-                        format!("{} ({})", text::value(Unit::Share, f.value), f.name)
-                    }),
-                ]);
+                rows.extend(figure_rows(st, &st.name));
             }
             tables.push(Table {
                 title: format!(
@@ -497,10 +479,7 @@ shows the closed-form value where its assumptions hold.",
             "time from the end of the warm-up (h:mm, interval midpoints)"
         };
         let start = self.clock_start;
-        let ticks = move |hours: f64| match start {
-            Some(c) => crate::units::format_time_of_day(c + hours * 3600.0),
-            None => hours_clock(hours),
-        };
+        let ticks = move |hours: f64| clock_at(start, hours * 3600.0);
         let mut traffic = LineChart::new(
             format!("{}: traffic per interval", self.scenario),
             x_label,
@@ -689,12 +668,6 @@ fn worst(intervals: &[Interval]) -> Option<usize> {
             .unwrap_or(std::cmp::Ordering::Equal)
             .then(b.cmp(&a))
     })
-}
-
-/// Hours from the end of the warm-up as a clock: "1:45".
-fn hours_clock(hours: f64) -> String {
-    let m = (hours * 60.0).round() as i64;
-    format!("{}:{:02}", m / 60, m % 60)
 }
 
 fn time_of_day<S: Serializer>(t: &Option<f64>, s: S) -> Result<S::Ok, S::Error> {

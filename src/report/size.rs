@@ -4,16 +4,13 @@
 
 use super::describe::describe_model;
 use super::figures::FigureValue;
+use super::json::verdict_word;
 use super::text::{self, Table, align};
 use super::{CAUTION, Document, html};
 use crate::experiment::size::{Evaluation, SizeResult, Verdict};
 use crate::scenario::Model;
 use crate::stats::{Estimate, Figure, Scope, Unit};
 use serde::{Serialize, Serializer};
-
-fn verdict_word<S: Serializer>(v: &Verdict, s: S) -> Result<S::Ok, S::Error> {
-    s.serialize_str(v.word())
-}
 
 fn figure_name<S: Serializer>(f: &Figure, s: S) -> Result<S::Ok, S::Error> {
     s.serialize_str(f.name())

@@ -5,6 +5,7 @@
 
 use super::describe::describe_model;
 use super::figures::{FigureSet, FigureValue};
+use super::json::verdict_word;
 use super::plot::{self, ChartError, LineChart, Series};
 use super::run::RunDocument;
 use super::text::{self, Table, align};
@@ -58,10 +59,6 @@ pub struct StepGoal {
     /// or straddles the bound.
     #[serde(serialize_with = "verdict_word")]
     pub verdict: Verdict,
-}
-
-fn verdict_word<S: Serializer>(v: &Verdict, s: S) -> Result<S::Ok, S::Error> {
-    s.serialize_str(v.word())
 }
 
 /// Where a column's figure lives: the whole-period figures of a stream or
@@ -223,13 +220,10 @@ impl SweepDocument {
             let mut sizes: Vec<u32> = steps.iter().filter_map(|s| s.servers).collect();
             sizes.dedup();
             for n in sizes {
-                let block: Vec<SweepStep> = (steps.iter())
-                    .filter(|s| s.servers == Some(n))
-                    .cloned()
-                    .collect();
+                let block = steps.iter().filter(|s| s.servers == Some(n));
                 goals_by_servers.push(GridGoals {
                     servers: n,
-                    goals_hold_through: hold_through(&block, true),
+                    goals_hold_through: hold_through(block, true),
                 });
             }
         }
@@ -542,8 +536,11 @@ fn goal_cell(goals: &[StepGoal]) -> String {
 /// The last value, walking from the easy end (lightest load or most
 /// servers), of the run of steps at which every goal holds; `None` when the
 /// easiest step already misses one.
-fn hold_through(steps: &[SweepStep], load_swept: bool) -> Option<f64> {
-    let mut order: Vec<&SweepStep> = steps.iter().collect();
+fn hold_through<'a>(
+    steps: impl IntoIterator<Item = &'a SweepStep>,
+    load_swept: bool,
+) -> Option<f64> {
+    let mut order: Vec<&SweepStep> = steps.into_iter().collect();
     order.sort_by(|a, b| a.value.total_cmp(&b.value));
     if !load_swept {
         order.reverse();
