@@ -88,18 +88,19 @@ struct Column<'m> {
 }
 
 impl Column<'_> {
+    /// Record `method`'s `value` for `figure` in `scope` (finite values only).
+    fn set(&mut self, scope: Scope, figure: Figure, method: &'static str, value: f64) {
+        if value.is_finite() {
+            let formula = Formula {
+                name: method,
+                value,
+            };
+            self.map.insert(FigureId { scope, figure }, formula);
+        }
+    }
     fn stream(&mut self, s: usize, figure: Figure, method: &'static str, value: f64) {
-        if value.is_finite() && stream_figures(self.model, s).contains(&figure) {
-            self.map.insert(
-                FigureId {
-                    scope: Scope::Stream(s),
-                    figure,
-                },
-                Formula {
-                    name: method,
-                    value,
-                },
-            );
+        if stream_figures(self.model, s).contains(&figure) {
+            self.set(Scope::Stream(s), figure, method, value);
         }
     }
     fn stream_interval(
@@ -110,18 +111,7 @@ impl Column<'_> {
         method: &'static str,
         value: f64,
     ) {
-        if value.is_finite() {
-            self.map.insert(
-                FigureId {
-                    scope: Scope::StreamInterval(b, s),
-                    figure,
-                },
-                Formula {
-                    name: method,
-                    value,
-                },
-            );
-        }
+        self.set(Scope::StreamInterval(b, s), figure, method, value);
     }
     fn group_interval(
         &mut self,
@@ -131,31 +121,11 @@ impl Column<'_> {
         method: &'static str,
         value: f64,
     ) {
-        if value.is_finite() {
-            self.map.insert(
-                FigureId {
-                    scope: Scope::GroupInterval(b, g),
-                    figure,
-                },
-                Formula {
-                    name: method,
-                    value,
-                },
-            );
-        }
+        self.set(Scope::GroupInterval(b, g), figure, method, value);
     }
     fn group(&mut self, g: usize, figure: Figure, method: &'static str, value: f64) {
-        if value.is_finite() && group_figures(self.model, g).contains(&figure) {
-            self.map.insert(
-                FigureId {
-                    scope: Scope::Group(g),
-                    figure,
-                },
-                Formula {
-                    name: method,
-                    value,
-                },
-            );
+        if group_figures(self.model, g).contains(&figure) {
+            self.set(Scope::Group(g), figure, method, value);
         }
     }
 }
