@@ -725,6 +725,15 @@ fn window_rate(a: &Arrivals, t0: f64, t1: f64) -> Option<f64> {
     }
 }
 
+/// Offered traffic (E) of `streams` over `[t0, t1)` by the forecast: each
+/// Poisson or peak-profile stream's mean rate times its mean holding time
+/// (other arrivals add nothing).
+fn window_load<'a>(streams: impl Iterator<Item = &'a Stream>, t0: f64, t1: f64) -> f64 {
+    streams
+        .filter_map(|st| Some(window_rate(&st.arrivals, t0, t1)? * st.holding.mean()))
+        .sum()
+}
+
 /// A loss group offered direct Poisson traffic of which some follows a peak
 /// profile: Erlang B of the average load for the whole period, and of each
 /// interval's own load (a stationary approximation that ignores the lag of
@@ -738,15 +747,8 @@ fn profile_group(col: &mut Column, g: usize) {
     };
     let n = grp.servers;
     let length = model.plan.length_s;
-    let load = |t0: f64, t1: f64| -> f64 {
-        users
-            .iter()
-            .map(|&(s, _)| {
-                let st = &model.streams[s];
-                window_rate(&st.arrivals, t0, t1).unwrap_or(0.0) * st.holding.mean()
-            })
-            .sum()
-    };
+    let load =
+        |t0: f64, t1: f64| window_load(users.iter().map(|&(s, _)| &model.streams[s]), t0, t1);
     if let Ok(b) = erlang_b::blocking(n, load(0.0, length)) {
         for &(s, _) in &users {
             col.stream(s, Figure::Loss, "Erlang B, average load", b);
@@ -983,11 +985,6 @@ pub fn busy_hour(model: &Model) -> Option<BusyHour> {
         return None;
     }
     let count = ((3600.0 / width).round() as usize).clamp(1, bins);
-    let load = |streams: &mut dyn Iterator<Item = &Stream>, t0: f64, t1: f64| -> f64 {
-        streams
-            .filter_map(|st| Some(window_rate(&st.arrivals, t0, t1)? * st.holding.mean()))
-            .sum()
-    };
     let window = |first: usize| {
         let t0 = first as f64 * width;
         let t1 = ((first + count) as f64 * width).min(model.plan.length_s);
@@ -996,7 +993,7 @@ pub fn busy_hour(model: &Model) -> Option<BusyHour> {
     let mut best: Option<(usize, f64)> = None;
     for first in 0..=bins - count {
         let (t0, t1) = window(first);
-        let a = load(&mut model.streams.iter(), t0, t1);
+        let a = window_load(model.streams.iter(), t0, t1);
         if best.is_none_or(|(_, b)| a > b) {
             best = Some((first, a));
         }
@@ -1008,7 +1005,7 @@ pub fn busy_hour(model: &Model) -> Option<BusyHour> {
         let Some(users) = profiled_loss_users(model, g) else {
             continue;
         };
-        let a = load(&mut users.iter().map(|&(s, _)| &model.streams[s]), t0, t1);
+        let a = window_load(users.iter().map(|&(s, _)| &model.streams[s]), t0, t1);
         if let Ok(b) = erlang_b::blocking(model.groups[g].servers, a) {
             for &(s, _) in &users {
                 erlang_b_of[s] = Some(b);
