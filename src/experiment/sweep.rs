@@ -66,10 +66,14 @@ pub enum Sweep {
     /// A grid: every load scale at every size of one group, sizes outer
     /// (all scales at the first size, then at the next).
     Grid {
-        /// The load scales (all streams, or one).
-        scale: Box<Sweep>,
-        /// The group and its sizes.
-        servers: Box<Sweep>,
+        /// Stream index of the scaled load, or all.
+        stream: Option<usize>,
+        /// The load scales.
+        scales: Vec<f64>,
+        /// The group whose servers are set.
+        group: usize,
+        /// Its sizes.
+        sizes: Vec<u32>,
     },
 }
 
@@ -165,7 +169,23 @@ impl Sweep {
     /// A grid of `scale` (from [`Sweep::parse_scale`]) against `servers`
     /// (from [`Sweep::parse_servers`]).
     pub fn grid(scale: Sweep, servers: Sweep, model: &Model) -> Result<Sweep, SweepError> {
-        let steps = scale.values().len() * servers.values().len();
+        let (
+            Sweep::Scale {
+                stream,
+                values: scales,
+            },
+            Sweep::Servers {
+                group,
+                values: sizes,
+            },
+        ) = (scale, servers)
+        else {
+            return Err(SweepError::Values {
+                text: "--scale with --servers".into(),
+                reason: "a grid is a load scale against a server range".into(),
+            });
+        };
+        let steps = scales.len() * sizes.len();
         if steps > MAX_STEPS {
             return Err(SweepError::Values {
                 text: "--scale with --servers".into(),
@@ -173,8 +193,10 @@ impl Sweep {
             });
         }
         Sweep::Grid {
-            scale: Box::new(scale),
-            servers: Box::new(servers),
+            stream,
+            scales,
+            group,
+            sizes,
         }
         .checked("--scale with --servers", model)
     }
@@ -196,22 +218,16 @@ impl Sweep {
         match self {
             Sweep::Scale { values, .. } => values.clone(),
             Sweep::Servers { values, .. } => values.iter().map(|&v| f64::from(v)).collect(),
-            Sweep::Grid { scale, servers } => {
-                let scales = scale.values();
-                (0..servers.values().len())
-                    .flat_map(|_| scales.iter().copied())
-                    .collect()
-            }
+            Sweep::Grid { scales, sizes, .. } => (0..sizes.len())
+                .flat_map(|_| scales.iter().copied())
+                .collect(),
         }
     }
 
     /// The servers on the grid's group at step `i` (None unless a grid).
     pub fn servers_at(&self, i: usize) -> Option<u32> {
         match self {
-            Sweep::Grid { scale, servers } => match servers.as_ref() {
-                Sweep::Servers { values, .. } => Some(values[i / scale.values().len()]),
-                _ => None,
-            },
+            Sweep::Grid { scales, sizes, .. } => Some(sizes[i / scales.len()]),
             _ => None,
         }
     }
@@ -225,7 +241,7 @@ impl Sweep {
     pub fn group(&self) -> Option<usize> {
         match self {
             Sweep::Servers { group, .. } => Some(*group),
-            Sweep::Grid { servers, .. } => servers.group(),
+            Sweep::Grid { group, .. } => Some(*group),
             Sweep::Scale { .. } => None,
         }
     }
@@ -236,15 +252,16 @@ impl Sweep {
         match self {
             Sweep::Scale { stream, values } => model.with_load_scaled(values[i], *stream),
             Sweep::Servers { group, values } => model.with_servers(*group, values[i]),
-            Sweep::Grid { scale, servers } => {
-                let n = scale.values().len();
-                servers.model_at(model, i / n)?.with_load_scaled(
-                    scale.values()[i % n],
-                    match scale.as_ref() {
-                        Sweep::Scale { stream, .. } => *stream,
-                        _ => None,
-                    },
-                )
+            Sweep::Grid {
+                stream,
+                scales,
+                group,
+                sizes,
+            } => {
+                let n = scales.len();
+                model
+                    .with_servers(*group, sizes[i / n])?
+                    .with_load_scaled(scales[i % n], *stream)
             }
         }
     }
@@ -252,12 +269,11 @@ impl Sweep {
     /// Axis label of the swept value.
     pub fn label(&self, model: &Model) -> String {
         match self {
-            Sweep::Scale { stream: None, .. } => "load scale (x forecast)".into(),
-            Sweep::Scale {
-                stream: Some(s), ..
-            } => format!("load scale of {} (x forecast)", model.streams[*s].name),
+            Sweep::Scale { stream, .. } | Sweep::Grid { stream, .. } => match stream {
+                None => "load scale (x forecast)".into(),
+                Some(s) => format!("load scale of {} (x forecast)", model.streams[*s].name),
+            },
             Sweep::Servers { group, .. } => format!("servers on {}", model.groups[*group].name),
-            Sweep::Grid { scale, .. } => scale.label(model),
         }
     }
 }
