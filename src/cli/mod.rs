@@ -452,7 +452,7 @@ pub fn run(a: &RunArgs) -> Result<Status> {
         );
     }
     if let Some(spec) = &a.shard {
-        return run_shard(a, &model, reps, *spec);
+        return run_shard(a, &model, *spec);
     }
     guard::check_run(&model, reps.as_ref(), &a.reps, a.output.quiet)?;
     let outcome = with_progress(a.output.quiet, a.reps.threads, |opts| {
@@ -682,15 +682,10 @@ pub fn sweep(a: &SweepArgs) -> Result<Status> {
 }
 
 /// `busyhour run --shard I/N --out PART`.
-fn run_shard(
-    a: &RunArgs,
-    model: &scenario::Model,
-    reps: Option<Replications>,
-    shard: busyhour::experiment::shard::ShardSpec,
-) -> Result<Status> {
+fn run_shard(a: &RunArgs, model: &scenario::Model, shard: ShardSpec) -> Result<Status> {
     use busyhour::experiment::shard;
-    let total = match reps.as_ref().unwrap_or(&model.plan.replications) {
-        Replications::Fixed(n) => u64::from(*n),
+    let total = match a.reps.plan(model) {
+        Replications::Fixed(n) => u64::from(n),
         Replications::Precision { .. } => bail!(
             "--shard needs a fixed number of replications: run a pilot with --precision first, \
 then shard with --replications N (see the README, \"Beyond one machine\")"
