@@ -39,7 +39,9 @@ fn calc_json(args: &[&str], keys: &[&str]) -> Value {
         "no caution in busyhour {all:?}"
     );
     let mut wanted = keys.to_vec();
+    // ... and the title line of its text block.
     wanted.push("caution");
+    wanted.push("title");
     wanted.sort_unstable();
     assert_eq!(found, wanted, "keys of busyhour {all:?}");
     json
@@ -239,19 +241,26 @@ fn queue() {
     assert_close("M/M/1 SL(0)", number(&json, "service_level"), 0.5, 1e-15);
 }
 
-#[test]
-fn agents() {
-    let keys = [
+/// The keys of a delay system's answer: its figures and the goals asked.
+fn delay_keys(extra: &[&'static str]) -> Vec<&'static str> {
+    let mut keys = vec![
         "agents",
         "traffic",
         "holding_s",
-        "patience_s",
-        "answer_within_s",
-        "service_level",
         "mean_wait_s",
         "wait_probability",
         "occupancy",
     ];
+    keys.extend_from_slice(extra);
+    keys
+}
+
+/// The keys a service-level goal adds: its time, its share and the figure.
+const SERVICE_LEVEL_KEYS: [&str; 3] = ["answer_within_s", "service_level_goal", "service_level"];
+
+#[test]
+fn agents() {
+    let keys = delay_keys(&SERVICE_LEVEL_KEYS);
     let json = calc_json(
         &[
             "agents",
@@ -268,6 +277,9 @@ fn agents() {
     );
     let n = erlang_c::agents_for_service_level(10.0, 180.0, 20.0, 0.8).unwrap();
     assert_eq!(json["agents"].as_u64(), Some(u64::from(n)));
+    // The goals asked are in the answer beside the figures.
+    assert_eq!(number(&json, "service_level_goal"), 0.8);
+    assert_eq!(number(&json, "answer_within_s"), 20.0);
     let sl = number(&json, "service_level");
     assert!(sl >= 0.8);
     assert_close(
@@ -294,7 +306,7 @@ fn agents() {
             "--mean-wait",
             "15s",
         ],
-        &keys,
+        &delay_keys(&["mean_wait_goal_s"]),
     );
     let n = erlang_c::agents_for_mean_wait(10.0, 180.0, 15.0).unwrap();
     assert_eq!(json["agents"].as_u64(), Some(u64::from(n)));
@@ -316,7 +328,7 @@ fn agents() {
             "--mean-wait",
             "2s",
         ],
-        &keys,
+        &[keys.as_slice(), &["mean_wait_goal_s"]].concat(),
     );
     let both = erlang_c::agents_for_service_level(10.0, 180.0, 20.0, 0.5)
         .unwrap()
@@ -331,18 +343,7 @@ fn agents() {
 /// up never need more agents than the same goal by Erlang C.
 #[test]
 fn agents_with_patience() {
-    let keys = [
-        "agents",
-        "traffic",
-        "holding_s",
-        "patience_s",
-        "answer_within_s",
-        "service_level",
-        "mean_wait_s",
-        "wait_probability",
-        "abandonment",
-        "occupancy",
-    ];
+    let keys = delay_keys(&[&SERVICE_LEVEL_KEYS[..], &["patience_s", "abandonment"]].concat());
     let json = calc_json(
         &[
             "agents",
@@ -391,7 +392,7 @@ fn agents_with_patience() {
             "--abandon",
             "3%",
         ],
-        &keys,
+        &delay_keys(&["patience_s", "abandonment", "abandonment_goal"]),
     );
     let n = json["agents"].as_u64().unwrap() as u32;
     let ab = |n: u32| erlang_a::solve(n, 20.0, 180.0, 60.0).unwrap().abandonment;
@@ -409,17 +410,7 @@ fn agents_with_patience() {
 /// agents sized for that load by Erlang C gives back the same number.
 #[test]
 fn traffic_of_an_agent_group() {
-    let keys = [
-        "agents",
-        "traffic",
-        "holding_s",
-        "patience_s",
-        "answer_within_s",
-        "service_level",
-        "mean_wait_s",
-        "wait_probability",
-        "occupancy",
-    ];
+    let keys = delay_keys(&[&SERVICE_LEVEL_KEYS[..], &["calls_per_hour"]].concat());
     let json = calc_json(
         &[
             "traffic",
@@ -448,8 +439,12 @@ fn traffic_of_an_agent_group() {
     assert!(erlang_c::service_level(27, a * 1.001, 180.0, 20.0).unwrap() < 0.8);
 
     // Mean-wait goal with patience (Erlang A): the wait at capacity is the goal.
-    let mut with_patience = keys.to_vec();
-    with_patience.push("abandonment");
+    let with_patience = delay_keys(&[
+        "calls_per_hour",
+        "mean_wait_goal_s",
+        "patience_s",
+        "abandonment",
+    ]);
     let json = calc_json(
         &[
             "traffic",
@@ -539,7 +534,11 @@ fn abandon() {
             "--patience",
             "1m",
         ],
-        &keys,
+        &keys[..]
+            .iter()
+            .copied()
+            .filter(|k| !["answer_within_s", "service_level"].contains(k))
+            .collect::<Vec<_>>(),
     );
     assert!(json["service_level"].is_null());
 }
@@ -597,7 +596,7 @@ fn finite() {
             "--idle-traffic",
             "1",
         ],
-        &keys,
+        &[&keys[..], &["notes"]].concat(),
     );
     assert_eq!(number(&json, "time_congestion"), 0.0);
     assert_close("carried", number(&json, "carried_traffic"), 2.0, 1e-15);
@@ -605,15 +604,27 @@ fn finite() {
 
 #[test]
 fn overflow_single_and_shared_final_group() {
+    // The first-choice groups and their overflow; a final group adds its
+    // equivalent random group, blocking, loss and each stream's own loss.
     let keys = [
+        "first_choice_groups",
         "overflow_mean",
         "overflow_variance",
         "peakedness",
-        "final_blocking",
-        "parcel_method",
-        "parcels",
-        "direct_loss",
     ];
+    let final_keys = [
+        &keys[..],
+        &[
+            "equivalent_random_group",
+            "final_servers",
+            "final_blocking",
+            "lost_traffic",
+            "total_loss",
+            "parcel_method",
+            "parcels",
+        ],
+    ]
+    .concat();
     let json = calc_json(&["overflow", "--traffic", "10", "--servers", "12"], &keys);
     let m = overflow::riordan(12, 10.0).unwrap();
     assert_close("mean", number(&json, "overflow_mean"), m.mean, 1e-15);
@@ -631,7 +642,7 @@ fn overflow_single_and_shared_final_group() {
     );
     assert!(json["final_blocking"].is_null());
     assert!(json["parcel_method"].is_null() && json["direct_loss"].is_null());
-    assert_eq!(json["parcels"].as_array().map(Vec::len), Some(0));
+    assert!(json["parcels"].is_null());
 
     // One first-choice group hunting into a final group: the lost traffic is
     // exactly A B(N1 + N2, A) (one group of 17 servers).
@@ -645,9 +656,17 @@ fn overflow_single_and_shared_final_group() {
             "--final",
             "5",
         ],
-        &keys,
+        &final_keys,
     );
     let expected = 10.0 * erlang_b::blocking(17, 10.0).unwrap() / m.mean;
+    assert_close(
+        "lost traffic",
+        number(&json, "lost_traffic"),
+        10.0 * erlang_b::blocking(17, 10.0).unwrap(),
+        1e-7,
+    );
+    assert_eq!(json["final_servers"].as_u64(), Some(5));
+    assert_eq!(json["first_choice_groups"][0]["servers"].as_u64(), Some(12));
     assert_close(
         "final blocking",
         number(&json, "final_blocking"),
@@ -667,7 +686,7 @@ fn overflow_single_and_shared_final_group() {
             "--final",
             "8",
         ],
-        &keys,
+        &[&final_keys[..], &["direct_traffic", "direct_loss"]].concat(),
     );
     let f = overflow::final_group(&[(10.0, 12), (8.0, 10)], 2.0, 8).unwrap();
     // Each stream's own loss: Kuczura's IPP parcels (approx.), within 15% of
@@ -1076,6 +1095,7 @@ fn redial_fixed_point_against_the_exact_chain() {
         "loss",
         "carried_traffic",
         "erlang_b_without_redials",
+        "notes",
     ];
     let json = calc_json(
         &[

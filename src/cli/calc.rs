@@ -8,7 +8,6 @@ use std::io::Write;
 
 use anyhow::{Result, bail};
 use clap::{Args, Subcommand};
-use serde::Serialize;
 
 use busyhour::formulas::delay_goals::{self, DelayFigures, DelayGoals};
 use busyhour::formulas::{
@@ -349,25 +348,26 @@ fn output_of(command: &CalcCommand) -> &Output {
     }
 }
 
-/// An answer, both as text and as JSON.
+/// An answer, both as text and as JSON, made from one [`Block`].
 struct Report {
     text: String,
     json: serde_json::Value,
 }
 
 fn evaluate(command: &CalcCommand) -> Result<Report> {
-    match command {
-        CalcCommand::Loss(a) => loss(a),
-        CalcCommand::Servers(a) => servers(a),
-        CalcCommand::Traffic(a) => traffic(a),
-        CalcCommand::Queue(a) => queue(a),
-        CalcCommand::Agents(a) => agents(a),
-        CalcCommand::Redial(a) => redial(a),
-        CalcCommand::Abandon(a) => abandon(a),
-        CalcCommand::Finite(a) => finite(a),
-        CalcCommand::Overflow(a) => overflow_groups(a),
-        CalcCommand::Multirate(a) => multirate_classes(a),
-    }
+    let block = match command {
+        CalcCommand::Loss(a) => loss(a)?,
+        CalcCommand::Servers(a) => servers(a)?,
+        CalcCommand::Traffic(a) => traffic(a)?,
+        CalcCommand::Queue(a) => queue(a)?,
+        CalcCommand::Agents(a) => agents(a)?,
+        CalcCommand::Redial(a) => redial(a)?,
+        CalcCommand::Abandon(a) => abandon(a)?,
+        CalcCommand::Finite(a) => finite(a)?,
+        CalcCommand::Overflow(a) => overflow_groups(a)?,
+        CalcCommand::Multirate(a) => multirate_classes(a)?,
+    };
+    Ok(block.report())
 }
 
 // ---------------------------------------------------------------------------
@@ -404,49 +404,150 @@ fn pair(flag: &str, text: &str, what: &str, example: &str) -> Result<(f64, u32)>
 }
 
 // ---------------------------------------------------------------------------
-// Stage 2: formulas, then the text block and the JSON object.
+// Stage 2: formulas, then one block that is both the text and the JSON.
 
-/// An aligned block of labelled figures under a title line.
+/// A figure as the text block shows it; the JSON carries the raw number
+/// (shares as fractions, times in seconds, traffic in erlangs).
+#[derive(Clone, Copy)]
+enum Shown {
+    /// Traffic: "12.5 erlangs".
+    Erlangs(f64),
+    /// A share: "1.2%".
+    Share(f64),
+    /// A time: "20 s".
+    Seconds(f64),
+    /// A whole number: servers, agents, sources.
+    Count(u32),
+    /// A plain number with up to this many decimals.
+    Number(f64, usize),
+}
+
+impl Shown {
+    fn text(self) -> String {
+        match self {
+            Shown::Erlangs(x) => erlangs(x),
+            Shown::Share(x) => percent(x),
+            Shown::Seconds(x) => seconds(x),
+            Shown::Count(n) => n.to_string(),
+            Shown::Number(x, digits) => number(x, digits),
+        }
+    }
+
+    fn json(self) -> serde_json::Value {
+        match self {
+            Shown::Erlangs(x) | Shown::Share(x) | Shown::Seconds(x) | Shown::Number(x, _) => {
+                x.into()
+            }
+            Shown::Count(n) => n.into(),
+        }
+    }
+}
+
+/// An answer: an aligned block of labelled figures under a title line, and
+/// the same figures as a JSON object. Every text row is added together with
+/// its JSON key, so the two cannot drift apart; the JSON may carry more (a
+/// value the text shows in a label, such as the service-level time).
 struct Block {
     title: String,
     rows: Vec<(String, String)>,
     notes: Vec<String>,
+    json: serde_json::Map<String, serde_json::Value>,
+    /// The JSON object that later keys go into (`None`: the top level).
+    section: Option<String>,
+    /// Those objects, put under their keys at the end.
+    sections: std::collections::BTreeMap<String, serde_json::Map<String, serde_json::Value>>,
 }
 
 impl Block {
     fn new(title: &str) -> Block {
+        let mut json = serde_json::Map::new();
+        json.insert("title".into(), title.into());
         Block {
             title: title.to_string(),
             rows: Vec::new(),
             notes: Vec::new(),
+            json,
+            section: None,
+            sections: Default::default(),
         }
     }
 
-    fn row(mut self, label: &str, value: String) -> Block {
-        self.rows.push((label.to_string(), value));
+    fn put(&mut self, key: &str, value: serde_json::Value) {
+        let object = match &self.section {
+            None => &mut self.json,
+            Some(section) => self.sections.entry(section.clone()).or_default(),
+        };
+        let earlier = object.insert(key.to_string(), value);
+        debug_assert!(earlier.is_none(), "calc JSON key {key} set twice");
+    }
+
+    /// Later rows' JSON goes into the object under `key` (a group of
+    /// figures from another method, such as the general-holding waits).
+    fn section(mut self, key: &str) -> Block {
+        self.section = Some(key.to_string());
         self
     }
 
+    /// A row whose text and JSON both follow from the figure.
+    fn figure(self, label: &str, key: &str, shown: Shown) -> Block {
+        self.row(label, shown.text(), key, shown.json())
+    }
+
+    /// A row with its own wording, and the value the JSON carries for it.
+    fn row(mut self, label: &str, text: String, key: &str, json: serde_json::Value) -> Block {
+        self.rows.push((label.to_string(), text));
+        self.put(key, json);
+        self
+    }
+
+    /// A value the JSON carries that the text shows in a label or the title.
+    fn field(mut self, key: &str, json: serde_json::Value) -> Block {
+        self.put(key, json);
+        self
+    }
+
+    /// A row whose JSON is one more element of the array under `key`.
+    fn item(mut self, label: &str, text: String, key: &str, json: serde_json::Value) -> Block {
+        self.rows.push((label.to_string(), text));
+        match self.json.get_mut(key) {
+            Some(serde_json::Value::Array(items)) => items.push(json),
+            _ => self.put(key, vec![json].into()),
+        }
+        self
+    }
+
+    /// A note under the rows (text in brackets; JSON `notes`).
     fn note(mut self, note: &str) -> Block {
         self.notes.push(note.to_string());
         self
     }
 
-    fn render(&self) -> String {
+    fn report(mut self) -> Report {
         let width = self
             .rows
             .iter()
             .map(|(l, _)| l.chars().count())
             .max()
             .unwrap_or(0);
-        let mut s = format!("{}\n", self.title);
+        let mut text = format!("{}\n", self.title);
         for (label, value) in &self.rows {
-            s += &format!("  {label:<width$}  {value}\n");
+            text += &format!("  {label:<width$}  {value}\n");
         }
         for note in &self.notes {
-            s += &format!("  ({note})\n");
+            text += &format!("  ({note})\n");
         }
-        s
+        self.section = None;
+        if !self.notes.is_empty() {
+            let notes = std::mem::take(&mut self.notes);
+            self.put("notes", notes.into());
+        }
+        for (key, object) in std::mem::take(&mut self.sections) {
+            self.put(&key, object.into());
+        }
+        Report {
+            text,
+            json: serde_json::Value::Object(self.json),
+        }
     }
 }
 
@@ -474,73 +575,51 @@ fn percent(x: f64) -> String {
     units::format_share(x)
 }
 
-fn loss(a: &LossArgs) -> Result<Report> {
+fn loss(a: &LossArgs) -> Result<Block> {
     let traffic = offered_traffic(a.offered.traffic, a.offered.calls, a.holding)?;
     let servers = a.servers;
     let blocking = erlang_b::blocking(servers, traffic)?;
-    let text = Block::new("Erlang B loss system (blocked calls cleared)")
-        .row("offered traffic", erlangs(traffic))
-        .row("servers", servers.to_string())
-        .row("blocking", percent(blocking))
-        .row("carried traffic", erlangs(traffic * (1.0 - blocking)))
-        .row("lost traffic", erlangs(traffic * blocking))
-        .render();
-    #[derive(Serialize)]
-    struct Json {
-        traffic: f64,
-        servers: u32,
-        blocking: f64,
-        carried_traffic: f64,
-        lost_traffic: f64,
-    }
-    Ok(Report {
-        text,
-        json: serde_json::to_value(Json {
-            traffic,
-            servers,
-            blocking,
-            carried_traffic: traffic * (1.0 - blocking),
-            lost_traffic: traffic * blocking,
-        })?,
-    })
+    Ok(Block::new("Erlang B loss system (blocked calls cleared)")
+        .figure("offered traffic", "traffic", Shown::Erlangs(traffic))
+        .figure("servers", "servers", Shown::Count(servers))
+        .figure("blocking", "blocking", Shown::Share(blocking))
+        .figure(
+            "carried traffic",
+            "carried_traffic",
+            Shown::Erlangs(traffic * (1.0 - blocking)),
+        )
+        .figure(
+            "lost traffic",
+            "lost_traffic",
+            Shown::Erlangs(traffic * blocking),
+        ))
 }
 
-fn servers(a: &ServersArgs) -> Result<Report> {
+fn servers(a: &ServersArgs) -> Result<Block> {
     let traffic = offered_traffic(a.offered.traffic, a.offered.calls, a.holding)?;
     let target = a.loss;
     let servers = erlang_b::servers_for(traffic, target)?;
     let blocking = erlang_b::blocking(servers, traffic)?;
-    let text = Block::new("Erlang B sizing: fewest servers for the grade of service")
-        .row("offered traffic", erlangs(traffic))
-        .row("grade of service", format!("{} or less", percent(target)))
-        .row("servers", servers.to_string())
-        .row("blocking", percent(blocking))
-        .row(
-            "occupancy",
-            percent(traffic * (1.0 - blocking) / f64::from(servers)),
-        )
-        .render();
-    #[derive(Serialize)]
-    struct Json {
-        traffic: f64,
-        loss_goal: f64,
-        servers: u32,
-        blocking: f64,
-        occupancy: f64,
-    }
-    Ok(Report {
-        text,
-        json: serde_json::to_value(Json {
-            traffic,
-            loss_goal: target,
-            servers,
-            blocking,
-            occupancy: traffic * (1.0 - blocking) / f64::from(servers),
-        })?,
-    })
+    Ok(
+        Block::new("Erlang B sizing: fewest servers for the grade of service")
+            .figure("offered traffic", "traffic", Shown::Erlangs(traffic))
+            .row(
+                "grade of service",
+                format!("{} or less", percent(target)),
+                "loss_goal",
+                target.into(),
+            )
+            .figure("servers", "servers", Shown::Count(servers))
+            .figure("blocking", "blocking", Shown::Share(blocking))
+            .figure(
+                "occupancy",
+                "occupancy",
+                Shown::Share(traffic * (1.0 - blocking) / f64::from(servers)),
+            ),
+    )
 }
 
-fn traffic(a: &TrafficArgs) -> Result<Report> {
+fn traffic(a: &TrafficArgs) -> Result<Block> {
     if let (Some(agents), Some(holding)) = (a.agents, a.holding) {
         return delay_traffic(a, agents, holding);
     }
@@ -548,37 +627,30 @@ fn traffic(a: &TrafficArgs) -> Result<Report> {
         bail!("give --servers with --loss (a loss group), or --agents with --holding and a goal");
     };
     let traffic = erlang_b::traffic_for(servers, target)?;
-    let text = Block::new("Erlang B capacity: most traffic at the grade of service")
-        .row("servers", servers.to_string())
-        .row("grade of service", percent(target))
-        .row("offered traffic", erlangs(traffic))
-        .row("carried traffic", erlangs(traffic * (1.0 - target)))
-        .row(
-            "occupancy",
-            percent(traffic * (1.0 - target) / f64::from(servers)),
-        )
-        .render();
-    #[derive(Serialize)]
-    struct Json {
-        servers: u32,
-        loss_goal: f64,
-        traffic: f64,
-        carried_traffic: f64,
-        occupancy: f64,
-    }
-    Ok(Report {
-        text,
-        json: serde_json::to_value(Json {
-            servers,
-            loss_goal: target,
-            traffic,
-            carried_traffic: traffic * (1.0 - target),
-            occupancy: traffic * (1.0 - target) / f64::from(servers),
-        })?,
-    })
+    Ok(
+        Block::new("Erlang B capacity: most traffic at the grade of service")
+            .figure("servers", "servers", Shown::Count(servers))
+            .figure("grade of service", "loss_goal", Shown::Share(target))
+            .figure("offered traffic", "traffic", Shown::Erlangs(traffic))
+            .figure(
+                "carried traffic",
+                "carried_traffic",
+                Shown::Erlangs(traffic * (1.0 - target)),
+            )
+            .figure(
+                "occupancy",
+                "occupancy",
+                Shown::Share(traffic * (1.0 - target) / f64::from(servers)),
+            ),
+    )
 }
 
-fn queue(a: &QueueArgs) -> Result<Report> {
+/// "answered within 20 s": the service-level row's label.
+fn within_label(t: f64) -> String {
+    format!("answered within {}", units::format_duration(t))
+}
+
+fn queue(a: &QueueArgs) -> Result<Block> {
     let holding = a.holding;
     let traffic = offered_traffic(a.offered.traffic, a.offered.calls, Some(holding))?;
     let within = a.answer_within;
@@ -592,70 +664,46 @@ fn queue(a: &QueueArgs) -> Result<Report> {
         .map(|cv| queue_general::mean_wait(agents, traffic, holding, cv))
         .transpose()?;
     let mut block = Block::new("Erlang C delay system (callers wait without giving up)")
-        .row("offered traffic", erlangs(traffic))
-        .row("mean holding time", seconds(holding))
-        .row("agents", agents.to_string())
-        .row("probability of waiting", percent(wait_probability))
-        .row("mean wait, all calls", seconds(mean_wait_s))
-        .row(
-            &format!("answered within {}", units::format_duration(within)),
-            percent(service_level),
+        .figure("offered traffic", "traffic", Shown::Erlangs(traffic))
+        .figure("mean holding time", "holding_s", Shown::Seconds(holding))
+        .figure("agents", "agents", Shown::Count(agents))
+        .figure(
+            "probability of waiting",
+            "wait_probability",
+            Shown::Share(wait_probability),
         )
-        .row("occupancy", percent(occupancy));
+        .figure(
+            "mean wait, all calls",
+            "mean_wait_s",
+            Shown::Seconds(mean_wait_s),
+        )
+        .field("answer_within_s", within.into())
+        .figure(
+            &within_label(within),
+            "service_level",
+            Shown::Share(service_level),
+        )
+        .figure("occupancy", "occupancy", Shown::Share(occupancy));
     if let (Some(w), Some(cv)) = (&general, a.holding_cv) {
+        let method = w.method.label();
         block = block
-            .row("holding-time cv", number(cv, 3))
-            .row(
-                &format!("probability of waiting, {}", w.method.label()),
-                percent(w.wait_probability),
+            .section("general_holding")
+            .figure("holding-time cv", "cv", Shown::Number(cv, 3))
+            .field("method", method.into())
+            .field("exact", w.method.is_exact().into())
+            .figure(
+                &format!("probability of waiting, {method}"),
+                "wait_probability",
+                Shown::Share(w.wait_probability),
             )
-            .row(
-                &format!("mean wait, all calls, {}", w.method.label()),
-                seconds(w.mean_wait_s),
+            .figure(
+                &format!("mean wait, all calls, {method}"),
+                "mean_wait_s",
+                Shown::Seconds(w.mean_wait_s),
             )
             .note("the Erlang C rows assume exponential holding (cv 1); the service level has no general-holding form here");
     }
-    #[derive(Serialize)]
-    struct General {
-        cv: f64,
-        method: &'static str,
-        exact: bool,
-        wait_probability: f64,
-        mean_wait_s: f64,
-    }
-    #[derive(Serialize)]
-    struct Json {
-        traffic: f64,
-        holding_s: f64,
-        agents: u32,
-        answer_within_s: f64,
-        wait_probability: f64,
-        mean_wait_s: f64,
-        service_level: f64,
-        occupancy: f64,
-        #[serde(skip_serializing_if = "Option::is_none")]
-        general_holding: Option<General>,
-    }
-    Ok(Report {
-        text: block.render(),
-        json: serde_json::to_value(Json {
-            traffic,
-            holding_s: holding,
-            agents,
-            answer_within_s: within,
-            wait_probability,
-            mean_wait_s,
-            service_level,
-            occupancy,
-            general_holding: general.zip(a.holding_cv).map(|(w, cv)| General {
-                cv,
-                method: w.method.label(),
-                exact: w.method.is_exact(),
-                wait_probability: w.wait_probability,
-                mean_wait_s: w.mean_wait_s,
-            }),
-        })?,
-    })
+    Ok(block)
 }
 
 fn goals_of(
@@ -671,7 +719,8 @@ fn goals_of(
     }
 }
 
-/// The goal rows and the figures of a delay system, as a block.
+/// The goal rows and the figures of a delay system (`calc agents` and the
+/// delay form of `calc traffic`).
 fn delay_block(
     mut block: Block,
     holding: f64,
@@ -679,74 +728,63 @@ fn delay_block(
     goals: &DelayGoals,
     f: &DelayFigures,
 ) -> Block {
-    block = block.row("mean holding time", seconds(holding));
+    block = block.figure("mean holding time", "holding_s", Shown::Seconds(holding));
     if let Some(p) = patience {
-        block = block.row("mean patience", seconds(p));
+        block = block.figure("mean patience", "patience_s", Shown::Seconds(p));
     }
     if let Some((t, goal)) = goals.service_level {
-        block = block.row(
+        block = block.field("answer_within_s", t.into()).row(
             "goal",
             format!(
                 "{} answered within {}",
                 percent(goal),
                 units::format_duration(t)
             ),
+            "service_level_goal",
+            goal.into(),
         );
     }
     if let Some(goal) = goals.mean_wait_s {
-        block = block.row("goal", format!("mean wait {} or less", seconds(goal)));
+        block = block.row(
+            "goal",
+            format!("mean wait {} or less", seconds(goal)),
+            "mean_wait_goal_s",
+            goal.into(),
+        );
     }
     if let Some(goal) = goals.abandonment {
-        block = block.row("goal", format!("{} abandoned or less", percent(goal)));
+        block = block.row(
+            "goal",
+            format!("{} abandoned or less", percent(goal)),
+            "abandonment_goal",
+            goal.into(),
+        );
     }
     block = block
-        .row("agents", f.agents.to_string())
-        .row("offered traffic", erlangs(f.traffic))
-        .row("probability of waiting", percent(f.wait_probability))
-        .row("mean wait, all calls", seconds(f.mean_wait_s));
+        .figure("agents", "agents", Shown::Count(f.agents))
+        .figure("offered traffic", "traffic", Shown::Erlangs(f.traffic))
+        .figure(
+            "probability of waiting",
+            "wait_probability",
+            Shown::Share(f.wait_probability),
+        )
+        .figure(
+            "mean wait, all calls",
+            "mean_wait_s",
+            Shown::Seconds(f.mean_wait_s),
+        );
     if patience.is_some() {
-        block = block.row("abandoned", percent(f.abandonment));
+        block = block.figure("abandoned", "abandonment", Shown::Share(f.abandonment));
     }
     if let (Some(sl), Some((t, _))) = (f.service_level, goals.service_level) {
         block = block.row(
-            &format!("answered within {}", units::format_duration(t)),
+            &within_label(t),
             format!("{} of all calls", percent(sl)),
+            "service_level",
+            sl.into(),
         );
     }
-    block.row("occupancy", percent(f.occupancy))
-}
-
-/// The JSON of `calc agents` and the delay form of `calc traffic`.
-#[derive(Serialize)]
-struct DelayJson {
-    agents: u32,
-    traffic: f64,
-    holding_s: f64,
-    patience_s: Option<f64>,
-    answer_within_s: Option<f64>,
-    service_level: Option<f64>,
-    mean_wait_s: f64,
-    wait_probability: f64,
-    #[serde(skip_serializing_if = "Option::is_none")]
-    abandonment: Option<f64>,
-    occupancy: f64,
-}
-
-impl DelayJson {
-    fn of(f: &DelayFigures, holding: f64, patience: Option<f64>, goals: &DelayGoals) -> DelayJson {
-        DelayJson {
-            agents: f.agents,
-            traffic: f.traffic,
-            holding_s: holding,
-            patience_s: patience,
-            answer_within_s: goals.service_level.map(|(t, _)| t),
-            service_level: f.service_level,
-            mean_wait_s: f.mean_wait_s,
-            wait_probability: f.wait_probability,
-            abandonment: patience.map(|_| f.abandonment),
-            occupancy: f.occupancy,
-        }
-    }
+    block.figure("occupancy", "occupancy", Shown::Share(f.occupancy))
 }
 
 fn method_title(patience: Option<f64>, what: &str) -> String {
@@ -756,34 +794,37 @@ fn method_title(patience: Option<f64>, what: &str) -> String {
     }
 }
 
-fn agents(a: &AgentsArgs) -> Result<Report> {
+fn agents(a: &AgentsArgs) -> Result<Block> {
     let holding = a.holding;
     let traffic = offered_traffic(a.offered.traffic, a.offered.calls, Some(holding))?;
     let goals = goals_of(a.answer_within, a.service_level, a.mean_wait, a.abandon);
     let agents = delay_goals::agents_for(traffic, holding, a.patience, &goals)?;
     let f = delay_goals::figures(agents, traffic, holding, a.patience, a.answer_within)?;
     let title = method_title(a.patience, "sizing: fewest agents meeting every goal");
-    let text = delay_block(Block::new(&title), holding, a.patience, &goals, &f).render();
-    Ok(Report {
-        text,
-        json: serde_json::to_value(DelayJson::of(&f, holding, a.patience, &goals))?,
-    })
+    Ok(delay_block(
+        Block::new(&title),
+        holding,
+        a.patience,
+        &goals,
+        &f,
+    ))
 }
 
-fn delay_traffic(a: &TrafficArgs, agents: u32, holding: f64) -> Result<Report> {
+fn delay_traffic(a: &TrafficArgs, agents: u32, holding: f64) -> Result<Block> {
     let goals = goals_of(a.answer_within, a.service_level, a.mean_wait, a.abandon);
     let traffic = delay_goals::traffic_for(agents, holding, a.patience, &goals)?;
     let f = delay_goals::figures(agents, traffic, holding, a.patience, a.answer_within)?;
     let title = method_title(a.patience, "capacity: most traffic meeting every goal");
-    let block = delay_block(Block::new(&title), holding, a.patience, &goals, &f)
-        .row("calls per hour", number(traffic / holding * 3600.0, 1));
-    Ok(Report {
-        text: block.render(),
-        json: serde_json::to_value(DelayJson::of(&f, holding, a.patience, &goals))?,
-    })
+    Ok(
+        delay_block(Block::new(&title), holding, a.patience, &goals, &f).figure(
+            "calls per hour",
+            "calls_per_hour",
+            Shown::Number(traffic / holding * 3600.0, 1),
+        ),
+    )
 }
 
-fn redial(a: &RedialArgs) -> Result<Report> {
+fn redial(a: &RedialArgs) -> Result<Block> {
     let traffic = offered_traffic(a.offered.traffic, a.offered.calls, a.holding)?;
     let servers = a.servers;
     let stream = redial_fixed_point::RedialingStream {
@@ -795,159 +836,125 @@ fn redial(a: &RedialArgs) -> Result<Report> {
     let shares = fp.streams[0];
     let plain = erlang_b::blocking(servers, traffic)?;
     let chances: Vec<String> = a.chances.iter().map(|&c| percent(c)).collect();
-    let text = Block::new("Loss system with redials (fixed point B = E_N(attempt traffic); approximation)")
-        .row("fresh offered traffic", erlangs(traffic))
-        .row("servers", servers.to_string())
+    Ok(Block::new("Loss system with redials (fixed point B = E_N(attempt traffic); approximation)")
+        .field("method", "redial fixed point (approx.)".into())
+        .figure("fresh offered traffic", "traffic", Shown::Erlangs(traffic))
+        .figure("servers", "servers", Shown::Count(servers))
         .row(
             "redial chances",
             format!("{} (the last repeats)", chances.join(", ")),
+            "redial_chances",
+            a.chances.clone().into(),
         )
         .row(
             "attempts in all",
             a.max_attempts
                 .map_or("no limit".to_string(), |n| n.to_string()),
+            "max_attempts",
+            a.max_attempts.into(),
         )
-        .row("attempt traffic", erlangs(fp.attempt_traffic))
-        .row("blocking of every attempt", percent(fp.blocking))
-        .row("attempts per fresh call", number(shares.attempts_per_call, 4))
-        .row("fresh calls finally lost", percent(shares.loss))
-        .row("carried traffic", erlangs(fp.carried_traffic()))
-        .row("Erlang B without redials", percent(plain))
-        .note("each attempt is taken to meet the same blocking and the attempts to be Poisson; redials bunch after busy spells, so the simulator is the reference")
-        .render();
-    #[derive(Serialize)]
-    struct Json {
-        method: &'static str,
-        traffic: f64,
-        servers: u32,
-        redial_chances: Vec<f64>,
-        max_attempts: Option<u32>,
-        blocking: f64,
-        attempt_traffic: f64,
-        attempts_per_call: f64,
-        loss: f64,
-        carried_traffic: f64,
-        erlang_b_without_redials: f64,
-    }
-    Ok(Report {
-        text,
-        json: serde_json::to_value(Json {
-            method: "redial fixed point (approx.)",
-            traffic,
-            servers,
-            redial_chances: a.chances.clone(),
-            max_attempts: a.max_attempts,
-            carried_traffic: fp.carried_traffic(),
-            blocking: fp.blocking,
-            attempt_traffic: fp.attempt_traffic,
-            attempts_per_call: shares.attempts_per_call,
-            loss: shares.loss,
-            erlang_b_without_redials: plain,
-        })?,
-    })
+        .figure("attempt traffic", "attempt_traffic", Shown::Erlangs(fp.attempt_traffic))
+        .figure("blocking of every attempt", "blocking", Shown::Share(fp.blocking))
+        .figure(
+            "attempts per fresh call",
+            "attempts_per_call",
+            Shown::Number(shares.attempts_per_call, 4),
+        )
+        .figure("fresh calls finally lost", "loss", Shown::Share(shares.loss))
+        .figure("carried traffic", "carried_traffic", Shown::Erlangs(fp.carried_traffic()))
+        .figure(
+            "Erlang B without redials",
+            "erlang_b_without_redials",
+            Shown::Share(plain),
+        )
+        .note("each attempt is taken to meet the same blocking and the attempts to be Poisson; redials bunch after busy spells, so the simulator is the reference"))
 }
 
-fn abandon(a: &AbandonArgs) -> Result<Report> {
+fn abandon(a: &AbandonArgs) -> Result<Block> {
     let holding = a.holding;
     let traffic = offered_traffic(a.offered.traffic, a.offered.calls, Some(holding))?;
     let (patience, within) = (a.patience, a.answer_within);
     let q = erlang_a::solve(a.agents, traffic, holding, patience)?;
-    let service_level = within.map(|t| q.service_level(t));
     let mut block = Block::new("Erlang A delay system with abandonment (M/M/N+M)")
-        .row("offered traffic", erlangs(traffic))
-        .row("mean holding time", seconds(holding))
-        .row("mean patience", seconds(patience))
-        .row("agents", q.agents.to_string())
-        .row("probability of waiting", percent(q.wait_probability))
-        .row("abandoned", percent(q.abandonment))
-        .row("mean wait, all calls", seconds(q.mean_wait_s))
-        .row("mean wait, answered calls", seconds(q.mean_wait_answered_s));
-    if let (Some(sl), Some(t)) = (service_level, within) {
-        block = block.row(
-            &format!("answered within {}", units::format_duration(t)),
+        .figure("offered traffic", "traffic", Shown::Erlangs(traffic))
+        .figure("mean holding time", "holding_s", Shown::Seconds(holding))
+        .figure("mean patience", "patience_s", Shown::Seconds(patience))
+        .figure("agents", "agents", Shown::Count(q.agents))
+        .figure(
+            "probability of waiting",
+            "wait_probability",
+            Shown::Share(q.wait_probability),
+        )
+        .figure("abandoned", "abandonment", Shown::Share(q.abandonment))
+        .figure(
+            "mean wait, all calls",
+            "mean_wait_s",
+            Shown::Seconds(q.mean_wait_s),
+        )
+        .figure(
+            "mean wait, answered calls",
+            "mean_wait_answered_s",
+            Shown::Seconds(q.mean_wait_answered_s),
+        );
+    if let Some(t) = within {
+        let sl = q.service_level(t);
+        block = block.field("answer_within_s", t.into()).row(
+            &within_label(t),
             format!("{} of all calls", percent(sl)),
+            "service_level",
+            sl.into(),
         );
     }
-    let text = block
-        .row("carried traffic", erlangs(q.carried_traffic))
-        .row("occupancy", percent(q.occupancy))
-        .render();
-    #[derive(Serialize)]
-    struct Json {
-        traffic: f64,
-        holding_s: f64,
-        patience_s: f64,
-        agents: u32,
-        answer_within_s: Option<f64>,
-        wait_probability: f64,
-        abandonment: f64,
-        mean_wait_s: f64,
-        mean_wait_answered_s: f64,
-        service_level: Option<f64>,
-        carried_traffic: f64,
-        occupancy: f64,
-    }
-    Ok(Report {
-        text,
-        json: serde_json::to_value(Json {
-            traffic,
-            holding_s: holding,
-            patience_s: patience,
-            agents: q.agents,
-            answer_within_s: within,
-            wait_probability: q.wait_probability,
-            abandonment: q.abandonment,
-            mean_wait_s: q.mean_wait_s,
-            mean_wait_answered_s: q.mean_wait_answered_s,
-            service_level,
-            carried_traffic: q.carried_traffic,
-            occupancy: q.occupancy,
-        })?,
-    })
+    Ok(block
+        .figure(
+            "carried traffic",
+            "carried_traffic",
+            Shown::Erlangs(q.carried_traffic),
+        )
+        .figure("occupancy", "occupancy", Shown::Share(q.occupancy)))
 }
 
-fn finite(a: &FiniteArgs) -> Result<Report> {
+fn finite(a: &FiniteArgs) -> Result<Block> {
     let (sources, servers) = (a.sources, a.servers);
     let g = engset::solve(sources, servers, a.idle_traffic)?;
     let mut block = Block::new("Engset loss system (finite sources, blocked calls cleared)")
-        .row("sources", sources.to_string())
-        .row("servers", servers.to_string())
-        .row("traffic per idle source", erlangs(a.idle_traffic))
-        .row("offered traffic", erlangs(g.offered_traffic))
-        .row("time congestion", percent(g.time_congestion))
-        .row("call congestion", percent(g.call_congestion))
-        .row("carried traffic", erlangs(g.carried_traffic));
+        .figure("sources", "sources", Shown::Count(sources))
+        .figure("servers", "servers", Shown::Count(servers))
+        .figure(
+            "traffic per idle source",
+            "idle_traffic",
+            Shown::Erlangs(a.idle_traffic),
+        )
+        .figure(
+            "offered traffic",
+            "offered_traffic",
+            Shown::Erlangs(g.offered_traffic),
+        )
+        .figure(
+            "time congestion",
+            "time_congestion",
+            Shown::Share(g.time_congestion),
+        )
+        .figure(
+            "call congestion",
+            "call_congestion",
+            Shown::Share(g.call_congestion),
+        )
+        .figure(
+            "carried traffic",
+            "carried_traffic",
+            Shown::Erlangs(g.carried_traffic),
+        );
     if sources <= servers {
         block = block.note("no more sources than servers: no call is ever blocked");
     }
-    #[derive(Serialize)]
-    struct Json {
-        sources: u32,
-        servers: u32,
-        idle_traffic: f64,
-        offered_traffic: f64,
-        time_congestion: f64,
-        call_congestion: f64,
-        carried_traffic: f64,
-    }
-    Ok(Report {
-        text: block.render(),
-        json: serde_json::to_value(Json {
-            sources: a.sources,
-            servers: a.servers,
-            idle_traffic: a.idle_traffic,
-            offered_traffic: g.offered_traffic,
-            time_congestion: g.time_congestion,
-            call_congestion: g.call_congestion,
-            carried_traffic: g.carried_traffic,
-        })?,
-    })
+    Ok(block)
 }
 
 /// The per-stream method of `calc overflow`.
 const PARCEL_METHOD: &str = "IPP overflow parcels, Kuczura (approx.)";
 
-fn overflow_groups(a: &OverflowArgs) -> Result<Report> {
+fn overflow_groups(a: &OverflowArgs) -> Result<Block> {
     let mut groups = Vec::new();
     if a.primary.is_empty() {
         let Some(servers) = a.servers else {
@@ -969,26 +976,34 @@ fn overflow_groups(a: &OverflowArgs) -> Result<Report> {
     let final_group = final_servers
         .map(|n| overflow::final_group(&groups, direct, n))
         .transpose()?;
+    let numbered = |what: &str, i: usize| {
+        if groups.len() == 1 {
+            what.to_string()
+        } else {
+            format!("{what} {}", i + 1)
+        }
+    };
 
     let mut block = Block::new("Overflow traffic (Riordan moments, equivalent random method)");
-    for (i, (traffic, servers)) in groups.iter().enumerate() {
-        let label = if groups.len() == 1 {
-            "first-choice group".to_string()
-        } else {
-            format!("first-choice group {}", i + 1)
-        };
-        block = block.row(
-            &label,
-            format!("{} on {servers} servers", erlangs(*traffic)),
+    for (i, &(traffic, servers)) in groups.iter().enumerate() {
+        block = block.item(
+            &numbered("first-choice group", i),
+            format!("{} on {servers} servers", erlangs(traffic)),
+            "first_choice_groups",
+            serde_json::json!({ "traffic": traffic, "servers": servers }),
         );
     }
     if direct > 0.0 {
-        block = block.row("direct traffic", erlangs(direct));
+        block = block.figure("direct traffic", "direct_traffic", Shown::Erlangs(direct));
     }
     block = block
-        .row("overflow mean", erlangs(mean))
-        .row("overflow variance", number(variance, 4))
-        .row("peakedness", number(peakedness, 4));
+        .figure("overflow mean", "overflow_mean", Shown::Erlangs(mean))
+        .figure(
+            "overflow variance",
+            "overflow_variance",
+            Shown::Number(variance, 4),
+        )
+        .figure("peakedness", "peakedness", Shown::Number(peakedness, 4));
     if let (Some(f), Some(n)) = (&final_group, final_servers) {
         if let Some(eq) = f.equivalent {
             block = block.row(
@@ -998,80 +1013,72 @@ fn overflow_groups(a: &OverflowArgs) -> Result<Report> {
                     erlangs(eq.traffic),
                     number(eq.servers, 3)
                 ),
+                "equivalent_random_group",
+                serde_json::json!({ "traffic": eq.traffic, "servers": eq.servers }),
             );
         }
         block = block
-            .row("final group", format!("{n} servers"))
-            .row("final-group blocking", percent(f.final_blocking))
-            .row("lost traffic", erlangs(f.lost_traffic))
-            .row("share of all traffic lost", percent(f.total_loss));
+            .row(
+                "final group",
+                format!("{n} servers"),
+                "final_servers",
+                n.into(),
+            )
+            .figure(
+                "final-group blocking",
+                "final_blocking",
+                Shown::Share(f.final_blocking),
+            )
+            .figure(
+                "lost traffic",
+                "lost_traffic",
+                Shown::Erlangs(f.lost_traffic),
+            )
+            .figure(
+                "share of all traffic lost",
+                "total_loss",
+                Shown::Share(f.total_loss),
+            );
     }
     // Each stream's own loss: Kuczura's IPP per parcel (None beyond its
     // phase limit, where only the totals above are shown).
     let parcels = final_servers.and_then(|n| overflow::parcel_losses(&groups, direct, n).ok());
-    #[derive(Serialize)]
-    struct Parcel {
-        traffic: f64,
-        servers: u32,
-        final_blocking: f64,
-        loss: f64,
-    }
-    let mut parcel_json = Vec::new();
     if let Some(p) = &parcels {
-        block = block.row("per-stream loss", PARCEL_METHOD.to_string());
+        block = block.row(
+            "per-stream loss",
+            PARCEL_METHOD.to_string(),
+            "parcel_method",
+            PARCEL_METHOD.into(),
+        );
         for (i, &(traffic, servers)) in groups.iter().enumerate() {
-            let label = if groups.len() == 1 {
-                "  first-choice stream".to_string()
-            } else {
-                format!("  first-choice stream {}", i + 1)
-            };
-            block = block.row(
-                &label,
+            block = block.item(
+                &format!("  {}", numbered("first-choice stream", i)),
                 format!(
                     "{} (final group loses {} of its overflow)",
                     percent(p.loss[i]),
                     percent(p.final_blocking[i])
                 ),
+                "parcels",
+                serde_json::json!({
+                    "traffic": traffic,
+                    "servers": servers,
+                    "final_blocking": p.final_blocking[i],
+                    "loss": p.loss[i],
+                }),
             );
-            parcel_json.push(Parcel {
-                traffic,
-                servers,
-                final_blocking: p.final_blocking[i],
-                loss: p.loss[i],
-            });
         }
         if direct > 0.0 {
-            block = block.row("  direct traffic", percent(p.direct_loss));
+            block = block.figure(
+                "  direct traffic",
+                "direct_loss",
+                Shown::Share(p.direct_loss),
+            );
         }
     }
-    #[derive(Serialize)]
-    struct Json {
-        overflow_mean: f64,
-        overflow_variance: f64,
-        peakedness: f64,
-        final_blocking: Option<f64>,
-        parcel_method: Option<&'static str>,
-        parcels: Vec<Parcel>,
-        direct_loss: Option<f64>,
-    }
-    Ok(Report {
-        text: block.render(),
-        json: serde_json::to_value(Json {
-            overflow_mean: mean,
-            overflow_variance: variance,
-            peakedness,
-            final_blocking: final_group.map(|f| f.final_blocking),
-            parcel_method: parcels.as_ref().map(|_| PARCEL_METHOD),
-            parcels: parcel_json,
-            direct_loss: parcels
-                .as_ref()
-                .filter(|_| direct > 0.0)
-                .map(|p| p.direct_loss),
-        })?,
-    })
+    Ok(block)
 }
 
-fn multirate_classes(a: &MultirateArgs) -> Result<Report> {
+fn multirate_classes(a: &MultirateArgs) -> Result<Block> {
     let capacity = a.capacity;
     let classes = a
         .class
@@ -1079,25 +1086,14 @@ fn multirate_classes(a: &MultirateArgs) -> Result<Report> {
         .map(|c| pair("class", c, "UNITS", "2.5:6"))
         .collect::<Result<Vec<_>>>()?;
     let blocking = multirate::kaufman_roberts(capacity, &classes)?;
-    let mut block = Block::new("Multi-rate loss system (Kaufman-Roberts)")
-        .row("capacity", format!("{capacity} channels"));
-    #[derive(Serialize)]
-    struct Class {
-        traffic: f64,
-        units: u32,
-        blocking: f64,
-    }
-    #[derive(Serialize)]
-    struct Json {
-        capacity: u32,
-        classes: Vec<Class>,
-    }
-    let mut json = Json {
-        capacity,
-        classes: Vec::new(),
-    };
+    let mut block = Block::new("Multi-rate loss system (Kaufman-Roberts)").row(
+        "capacity",
+        format!("{capacity} channels"),
+        "capacity",
+        capacity.into(),
+    );
     for (i, (&(traffic, units), &b)) in classes.iter().zip(&blocking).enumerate() {
-        block = block.row(
+        block = block.item(
             &format!("class {}", i + 1),
             format!(
                 "{}, {units} channel{} per call: blocking {}",
@@ -1105,15 +1101,9 @@ fn multirate_classes(a: &MultirateArgs) -> Result<Report> {
                 if units == 1 { "" } else { "s" },
                 percent(b)
             ),
+            "classes",
+            serde_json::json!({ "traffic": traffic, "units": units, "blocking": b }),
         );
-        json.classes.push(Class {
-            traffic,
-            units,
-            blocking: b,
-        });
     }
-    Ok(Report {
-        text: block.render(),
-        json: serde_json::to_value(json)?,
-    })
+    Ok(block)
 }
