@@ -25,7 +25,8 @@ enum Command {
     Sweep(cli::SweepArgs),
     /// Combine the part files of a sharded run into its result.
     Merge(cli::MergeArgs),
-    /// Validate a scenario file; print the compiled model and the formula view.
+    /// Check a scenario file without running it: the model in plain words,
+    /// the closed-form figures of each stream and group, and any problems.
     Check(cli::CheckArgs),
     /// Closed-form teletraffic formulas (Erlang B and C, Erlang A, Engset,
     /// overflow, multi-rate).

@@ -72,8 +72,9 @@ pub struct OutputArgs {
     /// closed-form value (keys in docs/json.md).
     #[arg(long, conflicts_with = "csv")]
     pub json: bool,
-    /// Print CSV instead of the table: one row per figure, stream or group
-    /// and interval, after a "# Caution:" comment line.
+    /// Print CSV instead of the table: one row per figure of each stream
+    /// and group (and of each interval or step), after a "# Caution:"
+    /// comment line.
     #[arg(long)]
     pub csv: bool,
     /// Write the output to FILE (atomically: a temporary file, then a rename)
@@ -315,7 +316,9 @@ pub struct SizeArgs {
 pub struct CheckArgs {
     /// The scenario file (TOML).
     pub scenario: PathBuf,
-    /// Print the formula view as JSON.
+    /// Print JSON instead of the text: each stream and group with its
+    /// closed-form figures, and the problems and notes found (keys in
+    /// docs/json.md).
     #[arg(long)]
     pub json: bool,
     /// Refuse any data file the scenario names that does not lie inside

@@ -77,7 +77,8 @@ pub struct RecordsArgs {
     /// Draw traffic per interval over the days, each day's busy hour shaded, as SVG.
     #[arg(long, value_name = "FILE.svg")]
     pub chart: Option<PathBuf>,
-    /// Print JSON (snake_case keys, every interval included) instead of the report.
+    /// Print JSON instead of the report, every interval included (keys in
+    /// docs/json.md).
     #[arg(long)]
     pub json: bool,
     /// Write the report or JSON to FILE (atomically) instead of standard output.
