@@ -63,6 +63,11 @@
 //!   stationary value moves to the group's per-interval time congestion.
 //! - Engset: one finite-source stream alone on a loss group (insensitive to
 //!   the holding and idle laws).
+//!
+//! Every formula here reads a group's servers as constant: none is shown
+//! for a group whose schedule changes its servers over the run, nor for the
+//! streams routed through one. Shrinkage alone (a constant schedule) keeps
+//! them, on the servers taking calls.
 
 use crate::formulas::{
     engset, erlang_a, erlang_b, erlang_c, finite_queue, multirate, overflow, queue_general,
@@ -193,6 +198,15 @@ pub fn formula_column(model: &Model) -> HashMap<FigureId, Formula> {
     for g in 0..model.groups.len() {
         profile_group(&mut col, g);
     }
+    // The formulas above read a group's servers as constant: none is shown
+    // for a group whose servers change over the run, nor for a stream that
+    // passes through one.
+    let changing = |g: usize| model.groups[g].servers_change();
+    let through_changing = |s: usize| model.streams[s].route.iter().any(|&g| changing(g as usize));
+    col.map.retain(|id, _| match id.scope {
+        Scope::Group(g) | Scope::GroupInterval(_, g) => !changing(g),
+        Scope::Stream(s) | Scope::StreamInterval(_, s) => !through_changing(s),
+    });
     col.map
 }
 
@@ -1005,6 +1019,9 @@ pub fn busy_hour(model: &Model) -> Option<BusyHour> {
         let Some(users) = profiled_loss_users(model, g) else {
             continue;
         };
+        if model.groups[g].servers_change() {
+            continue;
+        }
         let a = window_load(users.iter().map(|&(s, _)| &model.streams[s]), t0, t1);
         if let Ok(b) = erlang_b::blocking(model.groups[g].servers, a) {
             for &(s, _) in &users {

@@ -119,6 +119,10 @@ enum Event {
     /// The middle of the measured period: read off each group's busy
     /// integral so far (changes no state; not counted in `Tally::events`).
     HalfPeriod,
+    /// Entry `step` of group `group`'s schedule begins: its servers change
+    /// (not counted in `Tally::events`, so that a constant schedule gives
+    /// the tally of a constant group).
+    Capacity { group: u32, step: u32 },
 }
 
 /// A call waiting in a queue, kept in a slab so that abandonment and overflow
@@ -143,8 +147,12 @@ struct Step {
 }
 
 struct GroupState {
+    /// Servers taking calls now (see `Schedule`).
     servers: u32,
-    busy: u32, // invariant: busy <= servers
+    /// Busy servers: at most `servers`, except after the schedule lowered
+    /// `servers` while calls were in progress (they finish; no new call is
+    /// carried until `busy` is below `servers`).
+    busy: u32,
     queue_places: u32,
     waiting: u32,                // live entries in `queue`
     queue: VecDeque<(u32, u32)>, // (slot, generation), may hold stale entries
@@ -167,7 +175,7 @@ impl GroupState {
     /// Whether `need` servers are free (waiting calls aside).
     #[inline(always)]
     fn has_free(&self, need: u32) -> bool {
-        self.servers - self.busy >= need
+        self.servers.saturating_sub(self.busy) >= need
     }
 
     /// The admission test: a call needing `need` free servers is carried
@@ -216,6 +224,8 @@ struct Sim<'m> {
     interval_s: f64,
     bins: usize,
     pending: u64,
+    /// Schedule changes handled (left out of `Tally::events`).
+    capacity_events: u64,
     tally: Tally,
 }
 
@@ -264,7 +274,7 @@ impl<'m> Sim<'m> {
             .groups
             .iter()
             .map(|g| GroupState {
-                servers: g.servers,
+                servers: g.schedule.as_ref().map_or(g.servers, |s| s.present[0]),
                 busy: 0,
                 queue_places: g.queue.places(),
                 waiting: 0,
@@ -324,6 +334,7 @@ impl<'m> Sim<'m> {
             interval_s: plan.interval_s.unwrap_or(plan.length_s),
             bins,
             pending: 0,
+            capacity_events: 0,
             tally,
         }
     }
@@ -332,6 +343,9 @@ impl<'m> Sim<'m> {
         // One event per replication instead of a test in every integral
         // piece (a deliberate shortcut: `touch` is on the hot path).
         self.calendar.schedule(self.half, Event::HalfPeriod);
+        for g in 0..self.groups.len() {
+            self.schedule_capacity(g, 0);
+        }
         if self.model.plan.start == Start::Steady {
             self.seat_calls_in_progress();
         }
@@ -374,7 +388,7 @@ impl<'m> Sim<'m> {
             }
         }
         // The half-period event always runs: the loop goes on to `end`.
-        self.tally.events = events - 1;
+        self.tally.events = events - 1 - self.capacity_events;
         for g in 0..self.groups.len() {
             self.touch(g, self.end);
             self.touch_virtual(g, self.end);
@@ -521,7 +535,45 @@ impl<'m> Sim<'m> {
                 }
                 self.move_on(slot, w, now);
             }
+            Event::Capacity { group, step } => self.capacity_changes(group as usize, step, now),
         }
+    }
+
+    /// After entry `after` of group `g`'s schedule, the next entry whose
+    /// servers differ is put on the calendar (none for a constant group).
+    fn schedule_capacity(&mut self, g: usize, after: u32) {
+        let Some(s) = &self.model.groups[g].schedule else {
+            return;
+        };
+        let now = s.present[after as usize];
+        if let Some(j) = (after as usize + 1..s.present.len()).find(|&j| s.present[j] != now) {
+            let t = self.start + j as f64 * s.interval_s;
+            self.calendar.schedule(
+                t,
+                Event::Capacity {
+                    group: g as u32,
+                    step: j as u32,
+                },
+            );
+        }
+    }
+
+    /// Group `g`'s servers become those of schedule entry `step`. Calls in
+    /// progress are never cut short: a fall only stops new calls being
+    /// carried; a rise answers waiting calls at once.
+    #[inline(never)]
+    fn capacity_changes(&mut self, g: usize, step: u32, now: f64) {
+        self.capacity_events += 1;
+        let Some(s) = &self.model.groups[g].schedule else {
+            return;
+        };
+        let servers = s.present[step as usize];
+        self.touch(g, now);
+        self.groups[g].servers = servers;
+        if self.groups[g].waiting > 0 {
+            self.serve_queue(g, now);
+        }
+        self.schedule_capacity(g, step);
     }
 
     /// Time of the next arrival of open stream `si` after `now`.
@@ -870,6 +922,9 @@ impl<'m> Sim<'m> {
             let st = &mut self.tally.streams[si];
             if abandoned {
                 st.abandoned_final += 1;
+                if self.bins > 0 {
+                    self.tally.stream_intervals[call.bin as usize][si].abandoned += 1;
+                }
             } else {
                 st.blocked_final += 1;
             }
@@ -957,6 +1012,9 @@ fn resolved(
     }
     if let Some(it) = interval {
         it.resolved += 1;
+        if waited {
+            it.waited += 1;
+        }
         and(it);
     }
 }

@@ -6,7 +6,7 @@
 
 use super::{Accumulated, Completion, ExperimentError, RunOptions, RunResult, Runner, outcome_of};
 use crate::dist::Law;
-use crate::scenario::{Arrivals, Group, Model, Queue, Retry, RunPlan, Start, Stream};
+use crate::scenario::{Arrivals, Group, Model, Queue, Retry, RunPlan, Schedule, Start, Stream};
 use crate::stats::{self, Obs, Scope};
 use serde::{Deserialize, Serialize};
 use std::time::Instant;
@@ -268,6 +268,7 @@ fn hash_group(h: &mut Fnv, group: &Group) {
     let Group {
         name,
         servers,
+        schedule,
         queue,
         overflow_after_s,
         reserve,
@@ -275,6 +276,24 @@ fn hash_group(h: &mut Fnv, group: &Group) {
     } = group;
     h.text(name);
     h.u32(*servers);
+    // Hashed only when given, so that parts of groups without one keep
+    // the fingerprint of part format 3.
+    if let Some(Schedule {
+        interval_s,
+        scheduled,
+        shrinkage,
+        present,
+    }) = schedule
+    {
+        h.tag(8);
+        h.f64(*interval_s);
+        h.count(scheduled.len());
+        for (&n, &p) in scheduled.iter().zip(present) {
+            h.u32(n);
+            h.u32(p);
+        }
+        h.f64s(shrinkage);
+    }
     match queue {
         Queue::None => h.tag(0),
         Queue::Limited(places) => {

@@ -187,10 +187,12 @@ fn overloaded_queues(model: &Model) -> Vec<Warning> {
 /// Whether every stream's arrival rate is constant over the measured period
 /// (a peak profile changes the load on purpose: halves are not compared).
 fn stationary_load(model: &Model) -> bool {
-    model.streams.iter().all(|s| match &s.arrivals {
-        Arrivals::Profile { rates, .. } => rates.windows(2).all(|w| w[0] == w[1]),
-        _ => true,
-    })
+    let steady_servers = !model.groups.iter().any(|g| g.servers_change());
+    steady_servers
+        && model.streams.iter().all(|s| match &s.arrivals {
+            Arrivals::Profile { rates, .. } => rates.windows(2).all(|w| w[0] == w[1]),
+            _ => true,
+        })
 }
 
 /// The warnings of a run: the warm-up check, then, for models with a steady

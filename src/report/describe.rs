@@ -45,7 +45,7 @@ pub fn describe_model(model: &Model, file: &str) -> String {
             Queue::Limited(q) => format!("queue of {q} places"),
             Queue::Unlimited => "unlimited queue".to_string(),
         };
-        out.push_str(&format!("  {}: {} servers, {queue}", g.name, g.servers));
+        out.push_str(&format!("  {}: {}, {queue}", g.name, servers_in_words(g)));
         if let Some(a) = g.overflow_after_s {
             out.push_str(&format!(
                 ", waiting calls move on after {}",
@@ -128,4 +128,43 @@ pub fn describe_model(model: &Model, file: &str) -> String {
         }
     }
     out
+}
+
+/// A group's servers in words: "18 servers", or its schedule with the
+/// shrinkage that turns scheduled servers into servers taking calls.
+fn servers_in_words(g: &crate::scenario::Group) -> String {
+    let Some(s) = &g.schedule else {
+        return format!("{} servers", g.servers);
+    };
+    let list = |xs: &[u32]| xs.iter().map(u32::to_string).collect::<Vec<_>>().join(", ");
+    let shares: Vec<String> = s
+        .shrinkage
+        .iter()
+        .map(|&x| crate::units::format_share(x))
+        .collect();
+    let mut distinct = shares.clone();
+    distinct.dedup();
+    let shrinkage = if distinct.len() == 1 {
+        distinct[0].clone()
+    } else {
+        shares.join(", ")
+    };
+    if s.present.len() == 1 {
+        return format!(
+            "{} servers taking calls ({} scheduled less {shrinkage} shrinkage)",
+            s.present[0], s.scheduled[0]
+        );
+    }
+    let mut words = format!(
+        "servers per {} taking calls {} (the last holds)",
+        format_duration(s.interval_s),
+        list(&s.present)
+    );
+    if s.shrinkage.iter().any(|&x| x > 0.0) {
+        words.push_str(&format!(
+            ", scheduled {} less {shrinkage} shrinkage",
+            list(&s.scheduled)
+        ));
+    }
+    words
 }

@@ -119,6 +119,11 @@ pub struct RunDocument {
     /// Wall-clock seconds.
     #[serde(skip)]
     pub wall_s: f64,
+    /// Per group, its servers as the table's group column shows them: "18",
+    /// or for a schedule "6 to 11 per 30 min" (the JSON gives each
+    /// interval's servers in its group sets).
+    #[serde(skip)]
+    pub servers_words: Vec<String>,
     /// The scenario in plain words.
     #[serde(skip)]
     pub words: String,
@@ -194,21 +199,29 @@ impl RunDocument {
                 .map(|st| FigureSet::new(&st.name, None))
                 .collect::<Vec<_>>()
         };
-        let group_sets = |servers: bool| {
-            (model.groups.iter())
-                .map(|gr| FigureSet::new(&gr.name, servers.then_some(gr.servers)))
-                .collect::<Vec<_>>()
-        };
         let plan = &model.plan;
         let width = plan.interval_s.unwrap_or(plan.length_s);
         let mut streams = stream_sets();
-        let mut groups = group_sets(true);
+        let mut groups: Vec<FigureSet> = (model.groups.iter())
+            .map(|gr| FigureSet::new(&gr.name, Some(gr.servers)))
+            .collect();
         let mut intervals: Vec<Interval> = (0..plan.interval_count())
             .map(|b| Interval {
                 start_s: b as f64 * width,
                 end_s: b as f64 * width + stats::interval_length(model, b),
                 streams: stream_sets(),
-                groups: group_sets(false),
+                groups: (model.groups.iter())
+                    .map(|gr| {
+                        // A schedule's servers in the interval (their mean,
+                        // rounded, where an entry changes inside it).
+                        let t0 = b as f64 * width;
+                        let servers = (gr.schedule.as_ref()).map(|_| {
+                            let t1 = t0 + stats::interval_length(model, b);
+                            gr.servers_over(t0, t1).round() as u32
+                        });
+                        FigureSet::new(&gr.name, servers)
+                    })
+                    .collect(),
                 offered_all: summed(outcome, b, Figure::OfferedTraffic),
                 carried_all: summed(outcome, b, Figure::CarriedTraffic),
             })
@@ -250,6 +263,7 @@ impl RunDocument {
             interval_s: width,
             events: outcome.events,
             wall_s: outcome.wall_s,
+            servers_words: model.groups.iter().map(servers_words).collect(),
             words: describe_model(model, file),
             textbook: FormulaView::new(model, &formulas),
             units: model.streams.iter().map(|st| st.units).collect(),
@@ -325,7 +339,7 @@ impl RunDocument {
         }];
         let mut rows = vec![header("group")];
         for (g, gr) in self.groups.iter().enumerate() {
-            let servers = gr.servers.unwrap_or_default();
+            let servers = &self.servers_words[g];
             let first = if self.channel_groups.get(g) == Some(&true) {
                 format!("{} ({servers}; traffic in channels)", gr.name)
             } else {
@@ -376,15 +390,40 @@ impl RunDocument {
         let methods: Vec<Option<&str>> = (0..self.streams.len())
             .map(|s| (0..self.intervals.len()).find_map(|b| loss_formula(b, s).map(|f| f.name)))
             .collect();
+        // The waiting figures of streams that can wait, and the servers of
+        // groups with a schedule, where the intervals have them.
+        let has = |s: usize, f: Figure| {
+            (self.intervals.first()).is_some_and(|iv| iv.streams[s].figures.get(f).is_some())
+        };
+        let waits: Vec<Vec<(Figure, &str)>> = (0..self.streams.len())
+            .map(|s| {
+                [
+                    (Figure::ServiceLevel, "service level"),
+                    (Figure::WaitMean, "mean wait"),
+                ]
+                .into_iter()
+                .filter(|&(f, _)| has(s, f))
+                .collect()
+            })
+            .collect();
+        let scheduled: Vec<bool> = (0..self.groups.len())
+            .map(|g| (self.intervals.first()).is_some_and(|iv| iv.groups[g].servers.is_some()))
+            .collect();
         let mut head = vec!["interval".to_string()];
-        for (st, method) in self.streams.iter().zip(&methods) {
+        for ((s, st), method) in self.streams.iter().enumerate().zip(&methods) {
             head.push(format!("{} offered", st.name));
             head.push(format!("{} loss", st.name));
             if let Some(name) = method {
                 head.push(format!("[{name}]"));
             }
+            for (_, label) in &waits[s] {
+                head.push(format!("{} {label}", st.name));
+            }
         }
-        for gr in &self.groups {
+        for (g, gr) in self.groups.iter().enumerate() {
+            if scheduled[g] {
+                head.push(format!("{} servers", gr.name));
+            }
             head.push(format!("{} occupancy", gr.name));
         }
         let mut rows = vec![head];
@@ -408,8 +447,14 @@ impl RunDocument {
                             .map_or("-".into(), |f| text::value(Unit::Share, f.value)),
                     );
                 }
+                for &(f, _) in &waits[s] {
+                    row.push(text::value(f.unit(), st.mean(f)));
+                }
             }
-            for gr in &iv.groups {
+            for (g, gr) in iv.groups.iter().enumerate() {
+                if scheduled[g] {
+                    row.push(gr.servers.map_or("-".into(), |n| n.to_string()));
+                }
                 row.push(text::value(Unit::Share, gr.mean(Figure::Occupancy)));
             }
             rows.push(row);
@@ -703,6 +748,23 @@ fn thousands(n: u64) -> String {
         out.push(c);
     }
     out
+}
+
+/// A group's servers in the group column: "18"; with shrinkage "14 of 20
+/// scheduled"; for a schedule "6 to 11 per 30 min".
+fn servers_words(g: &crate::scenario::Group) -> String {
+    let Some(s) = &g.schedule else {
+        return g.servers.to_string();
+    };
+    if !g.servers_change() {
+        return format!("{} of {} scheduled", s.present[0], s.scheduled[0]);
+    }
+    let fewest = s.present.iter().min().copied().unwrap_or(0);
+    format!(
+        "{fewest} to {} per {}",
+        g.servers,
+        crate::units::format_duration(s.interval_s)
+    )
 }
 
 #[cfg(test)]

@@ -6,8 +6,8 @@ pub mod model;
 pub mod spec;
 
 pub use model::{
-    Arrivals, Group, Model, Queue, Replications, Retry, RunPlan, Start, Stream, TransformError,
-    residual_quantile,
+    Arrivals, Group, Model, Queue, Replications, Retry, RunPlan, Schedule, Start, Stream,
+    TransformError, residual_quantile,
 };
 
 use crate::dist::{self, Law, LawParams};
@@ -468,7 +468,7 @@ impl Compiler {
     /// One `[[group]]`: servers, queue, overflow and trunk reservation.
     fn group(&self, g: &spec::GroupSpec, stream_index: &HashMap<&str, usize>) -> R<Group> {
         let k = |field: &str| format!("group \"{}\".{field}", g.name);
-        let servers = self.count(&k("servers"), g.servers, 1, MAX_GROUP_SERVERS)?;
+        let (servers, schedule) = self.servers(g, &k)?;
         let queue = match &g.queue {
             None | Some(QueueSpec::Places(0)) => Queue::None,
             Some(QueueSpec::Places(q)) => {
@@ -520,11 +520,105 @@ impl Compiler {
         Ok(Group {
             name: g.name.clone(),
             servers,
+            schedule,
             queue,
             overflow_after_s,
             reserve,
             reserved_for,
         })
+    }
+
+    /// A group's servers: a constant `servers`, or a schedule (`servers`
+    /// as a list and/or `shrinkage`, with `interval` where either is a
+    /// list) and the most servers it has present at any time.
+    fn servers(
+        &self,
+        g: &spec::GroupSpec,
+        k: &dyn Fn(&str) -> String,
+    ) -> R<(u32, Option<Schedule>)> {
+        use spec::ServersSpec;
+        let scheduled: Vec<u32> = match &g.servers {
+            ServersSpec::One(n) if g.shrinkage.is_none() => {
+                if g.interval.is_some() {
+                    return Err(self.err(k("interval"), "an interval is for a list of servers or of shrinkage shares, one per interval: give servers = [..] or remove interval"));
+                }
+                return Ok((self.count(&k("servers"), *n, 1, MAX_GROUP_SERVERS)?, None));
+            }
+            ServersSpec::One(n) => vec![self.count(&k("servers"), *n, 1, MAX_GROUP_SERVERS)?],
+            ServersSpec::Each(list) if list.is_empty() => {
+                return Err(self.err(
+                    k("servers"),
+                    "the list of servers is empty: give one number per interval, like [12, 14, 18]",
+                ));
+            }
+            ServersSpec::Each(list) => list
+                .iter()
+                .enumerate()
+                .map(|(j, &n)| {
+                    self.count(
+                        &format!("{}[{}]", k("servers"), j + 1),
+                        n,
+                        0,
+                        MAX_GROUP_SERVERS,
+                    )
+                })
+                .collect::<R<Vec<u32>>>()?,
+        };
+        let shrinkage: Vec<f64> = match &g.shrinkage {
+            None => vec![0.0],
+            Some(ChanceSpec::One(a)) => vec![self.shrinkage(&k("shrinkage"), a)?],
+            Some(ChanceSpec::Each(list)) if list.is_empty() => {
+                return Err(self.err(k("shrinkage"), "the list of shrinkage shares is empty: give one share per interval, like [\"30%\", \"25%\"]"));
+            }
+            Some(ChanceSpec::Each(list)) => list
+                .iter()
+                .enumerate()
+                .map(|(j, a)| self.shrinkage(&format!("{}[{}]", k("shrinkage"), j + 1), a))
+                .collect::<R<Vec<f64>>>()?,
+        };
+        let entries = scheduled.len().max(shrinkage.len());
+        let interval_s = match (&g.interval, entries) {
+            (Some(i), _) => self.positive_duration(&k("interval"), i)?,
+            // One entry lasts the whole run.
+            (None, 1) => MAX_LENGTH_S,
+            (None, _) => {
+                return Err(self.err(k("interval"), "a list of servers or shrinkage shares needs the interval each entry covers, like interval = \"30m\""));
+            }
+        };
+        // The shorter list's last entry holds.
+        let at = |list: &[u32], i: usize| list[i.min(list.len() - 1)];
+        let share_at = |i: usize| shrinkage[i.min(shrinkage.len() - 1)];
+        let scheduled: Vec<u32> = (0..entries).map(|i| at(&scheduled, i)).collect();
+        let shrinkage: Vec<f64> = (0..entries).map(share_at).collect();
+        let present: Vec<u32> = (scheduled.iter().zip(&shrinkage))
+            .map(|(&n, &s)| Schedule::present_of(n, s))
+            .collect();
+        let most = present.iter().copied().max().unwrap_or(0);
+        if most == 0 {
+            return Err(self.err(
+                k("servers"),
+                "no server takes calls at any time: schedule at least one (after shrinkage)",
+            ));
+        }
+        let schedule = Schedule {
+            interval_s,
+            scheduled,
+            shrinkage,
+            present,
+        };
+        Ok((most, Some(schedule)))
+    }
+
+    /// A shrinkage share: from 0 up to, not including, 100%.
+    fn shrinkage(&self, key: &str, a: &Amount) -> R<f64> {
+        let s = self.share(key, a)?;
+        if s >= 1.0 {
+            return Err(self.err(
+                key,
+                format!("{a} leaves nobody taking calls: shrinkage must be below 100%"),
+            ));
+        }
+        Ok(s)
     }
 
     /// One `[[stream]]`: arrivals, holding law, route over the compiled

@@ -109,8 +109,12 @@ impl Queue {
 pub struct Group {
     /// Name from the file.
     pub name: String,
-    /// Servers (circuits, ports, agents).
+    /// Servers (circuits, ports, agents); with a schedule, the most present
+    /// at any time.
     pub servers: u32,
+    /// Servers that change over the run, or agents scheduled with
+    /// shrinkage; `None`: `servers` all the time.
+    pub schedule: Option<Schedule>,
     /// Waiting places.
     pub queue: Queue,
     /// A waiting call moves on along its route after this wait (s).
@@ -119,6 +123,86 @@ pub struct Group {
     pub reserve: u32,
     /// Per stream index: may this stream take the reserved servers?
     pub reserved_for: Vec<bool>,
+}
+
+impl Group {
+    /// Whether the group's servers change over the run (a schedule whose
+    /// entries differ).
+    pub fn servers_change(&self) -> bool {
+        self.schedule.as_ref().is_some_and(|s| !s.is_constant())
+    }
+
+    /// Mean number of servers taking calls from `t0` to `t1` seconds after
+    /// the start of the measured period (`t1 > t0`): the denominator of
+    /// occupancy.
+    pub fn servers_over(&self, t0: f64, t1: f64) -> f64 {
+        let Some(s) = &self.schedule else {
+            return f64::from(self.servers);
+        };
+        if !(t1 > t0) {
+            return f64::from(s.present_at(t0));
+        }
+        // Server-seconds over the entries the span crosses.
+        let mut sum = 0.0;
+        let mut t = t0;
+        while t < t1 {
+            let i = ((t / s.interval_s) as usize).min(s.present.len() - 1);
+            let entry_end = if i + 1 >= s.present.len() {
+                t1
+            } else {
+                ((i + 1) as f64 * s.interval_s).min(t1)
+            };
+            let entry_end = if entry_end > t { entry_end } else { t1 };
+            sum += f64::from(s.present[i]) * (entry_end - t);
+            t = entry_end;
+        }
+        sum / (t1 - t0)
+    }
+}
+
+/// The servers of a group over time: `present[i]` from `i * interval_s`
+/// after the start of the measured period, the warm-up at the first and
+/// the last holding after the list ends (the convention of peak profiles).
+///
+/// When the number falls, a busy server finishes the call in progress and
+/// takes no new one until the busy count is below the new number (no call
+/// is cut short); when it rises, waiting calls are answered at once.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Schedule {
+    /// Length of each entry's interval (s).
+    pub interval_s: f64,
+    /// Servers scheduled per interval, as the file gives them.
+    pub scheduled: Vec<u32>,
+    /// Share of the scheduled servers not taking calls (breaks, training,
+    /// absence) per interval; 0 when the file gives none.
+    pub shrinkage: Vec<f64>,
+    /// Servers taking calls per interval: the scheduled number less the
+    /// shrinkage, rounded down (a fraction of an agent answers no call).
+    pub present: Vec<u32>,
+}
+
+impl Schedule {
+    /// Servers taking calls `t` seconds after the start of the measured
+    /// period (the first entry before it).
+    pub fn present_at(&self, t: f64) -> u32 {
+        let i = if t <= 0.0 {
+            0
+        } else {
+            ((t / self.interval_s) as usize).min(self.present.len() - 1)
+        };
+        self.present[i]
+    }
+
+    /// Whether the number taking calls never changes.
+    pub fn is_constant(&self) -> bool {
+        self.present.iter().all(|&n| n == self.present[0])
+    }
+
+    /// The servers taking calls, `scheduled x (1 - shrinkage)` rounded down.
+    pub fn present_of(scheduled: u32, shrinkage: f64) -> u32 {
+        // The small allowance keeps 20 x (1 - 0.3) at 14, not 13.999...
+        (f64::from(scheduled) * (1.0 - shrinkage) + 1e-9).floor() as u32
+    }
 }
 
 /// How the calls of a stream arrive.
@@ -480,6 +564,11 @@ impl Model {
                 group: g.name.clone(),
             });
         }
+        if g.schedule.is_some() {
+            return Err(TransformError::Scheduled {
+                group: g.name.clone(),
+            });
+        }
         let mut m = self.clone();
         m.groups[group].servers = servers;
         m.groups[group].reserve = m.groups[group].reserve.min(servers.saturating_sub(1));
@@ -491,6 +580,15 @@ impl Model {
 /// leave the range a scenario may have.
 #[derive(Debug, Clone, PartialEq, Error)]
 pub enum TransformError {
+    /// The group follows a schedule (servers per interval or shrinkage):
+    /// one number of servers cannot replace it.
+    #[error(
+        "group \"{group}\" follows a schedule (servers per interval or shrinkage): it cannot be given one number of servers; size or sweep a group with a constant number"
+    )]
+    Scheduled {
+        /// The group's name.
+        group: String,
+    },
     /// The load scale is NaN, infinite, zero or negative; give a finite factor above zero.
     #[error("load scale {factor}: it must be a finite number above zero")]
     Scale {

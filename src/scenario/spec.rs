@@ -38,6 +38,41 @@ impl<'de> Deserialize<'de> for QueueSpec {
     }
 }
 
+/// `servers = 12` or `servers = [12, 14, 18]` (one per interval).
+#[derive(Debug, Clone, PartialEq)]
+pub enum ServersSpec {
+    /// The same number all the time.
+    One(i64),
+    /// One number per interval; the last holds after the list ends.
+    Each(Vec<i64>),
+}
+
+impl<'de> Deserialize<'de> for ServersSpec {
+    fn deserialize<D: Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+        struct V;
+        impl<'de> Visitor<'de> for V {
+            type Value = ServersSpec;
+            fn expecting(&self, f: &mut fmt::Formatter) -> fmt::Result {
+                f.write_str("a whole number of servers or a list of them, one per interval")
+            }
+            fn visit_i64<E: de::Error>(self, v: i64) -> Result<ServersSpec, E> {
+                Ok(ServersSpec::One(v))
+            }
+            fn visit_u64<E: de::Error>(self, v: u64) -> Result<ServersSpec, E> {
+                Ok(ServersSpec::One(i64::try_from(v).unwrap_or(i64::MAX)))
+            }
+            fn visit_seq<A: de::SeqAccess<'de>>(self, mut seq: A) -> Result<ServersSpec, A::Error> {
+                let mut list = Vec::new();
+                while let Some(n) = seq.next_element::<i64>()? {
+                    list.push(n);
+                }
+                Ok(ServersSpec::Each(list))
+            }
+        }
+        d.deserialize_any(V)
+    }
+}
+
 /// One share or a list of shares (`chance = "70%"` or `chance = ["80%", "60%"]`).
 #[derive(Debug, Clone, PartialEq, Deserialize)]
 #[serde(untagged)]
@@ -95,8 +130,13 @@ pub struct SimulationSpec {
 pub struct GroupSpec {
     /// Unique name.
     pub name: String,
-    /// Number of servers (circuits, ports, agents).
-    pub servers: i64,
+    /// Number of servers (circuits, ports, agents), or one number per
+    /// `interval` (a schedule).
+    pub servers: ServersSpec,
+    /// The interval each entry of a `servers` or `shrinkage` list covers.
+    pub interval: Option<Amount>,
+    /// Share of the scheduled servers not taking calls, one or per interval.
+    pub shrinkage: Option<ChanceSpec>,
     /// Waiting places; absent or 0: blocked calls are cleared.
     pub queue: Option<QueueSpec>,
     /// A waiting call may move on along its route after this wait.

@@ -184,13 +184,16 @@ pub fn group_figures(model: &Model, g: usize) -> Vec<Figure> {
 
 /// The per-interval figures of stream `s`.
 pub fn stream_interval_figures(model: &Model, s: usize) -> Vec<Figure> {
-    let mut v = vec![
-        Figure::OfferedCalls,
-        Figure::OfferedTraffic,
-        Figure::Loss,
-        Figure::CarriedTraffic,
-    ];
-    if stream_can_wait(model, s) {
+    let mut v = vec![Figure::OfferedCalls, Figure::OfferedTraffic, Figure::Loss];
+    let can_wait = stream_can_wait(model, s);
+    if can_wait && model.streams[s].patience.is_some() {
+        v.push(Figure::Abandonment);
+    }
+    if can_wait {
+        v.push(Figure::WaitProbability);
+    }
+    v.push(Figure::CarriedTraffic);
+    if can_wait {
         v.push(Figure::WaitMean);
     }
     if model.streams[s].answer_within_s.is_some() {
@@ -203,7 +206,13 @@ fn ratio(num: f64, den: f64) -> f64 {
     if den > 0.0 { num / den } else { f64::NAN }
 }
 
-/// Length of reporting interval `b` (the last may be shorter).
+/// Start of reporting interval `b`, seconds after the start of the
+/// measured period.
+pub fn interval_start(model: &Model, b: usize) -> f64 {
+    b as f64 * model.plan.interval_s.unwrap_or(model.plan.length_s)
+}
+
+/// Length of reporting interval `b` (s): the last may be shorter.
 pub fn interval_length(model: &Model, b: usize) -> f64 {
     let width = model.plan.interval_s.unwrap_or(model.plan.length_s);
     (model.plan.length_s - b as f64 * width).min(width)
@@ -253,7 +262,7 @@ pub fn observe(model: &Model, layout: &[FigureId], t: &Tally) -> Vec<Obs> {
             }
             Scope::Group(g) => {
                 let gt = &t.groups[g];
-                let servers = f64::from(model.groups[g].servers);
+                let servers = model.groups[g].servers_over(0.0, length);
                 Obs::value(match f.figure {
                     Figure::CarriedTraffic => gt.busy_s / length,
                     // Time integrals summed piece by piece can pass their
@@ -279,6 +288,8 @@ pub fn observe(model: &Model, layout: &[FigureId], t: &Tally) -> Vec<Obs> {
                     Figure::OfferedCalls => Obs::value(it.offered as f64),
                     Figure::OfferedTraffic => Obs::value(it.offered_holding_s / len),
                     Figure::Loss => Obs::ratio(it.lost as f64, it.resolved as f64),
+                    Figure::Abandonment => Obs::ratio(it.abandoned as f64, it.resolved as f64),
+                    Figure::WaitProbability => Obs::ratio(it.waited as f64, it.resolved as f64),
                     Figure::CarriedTraffic => Obs::value(it.carried_s / len),
                     Figure::WaitMean => Obs::ratio(it.wait_sum_s, it.answered as f64),
                     Figure::ServiceLevel => {
@@ -293,7 +304,16 @@ pub fn observe(model: &Model, layout: &[FigureId], t: &Tally) -> Vec<Obs> {
                 Obs::value(match f.figure {
                     Figure::CarriedTraffic => it.busy_s / len,
                     Figure::Occupancy => {
-                        (it.busy_s / len / f64::from(model.groups[g].servers)).min(1.0)
+                        let t0 = interval_start(model, b);
+                        let servers = model.groups[g].servers_over(t0, t0 + len);
+                        // Capped at 1: after the schedule lowers the servers,
+                        // calls still in progress finish beyond it. No server
+                        // present: undefined.
+                        if servers > 0.0 {
+                            (it.busy_s / len / servers).min(1.0)
+                        } else {
+                            f64::NAN
+                        }
                     }
                     Figure::TimeCongestion => (it.full_s / len).min(1.0),
                     other => unreachable!("{other} is not an interval figure"),

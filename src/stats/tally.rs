@@ -90,6 +90,10 @@ pub struct StreamIntervalTally {
     pub resolved: u64,
     /// Of them, never served.
     pub lost: u64,
+    /// Of them, lost because the caller gave up waiting (on the last attempt).
+    pub abandoned: u64,
+    /// Of them, waited in a queue on some attempt.
+    pub waited: u64,
     /// Of them, answered.
     pub answered: u64,
     /// Of them, answered within `answer_within`.

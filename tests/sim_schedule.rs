@@ -1,0 +1,306 @@
+//! Servers that change over the run (`servers = [..]` per `interval`, and
+//! shrinkage): the rule when the number falls (calls in progress finish, no
+//! new call is carried until the busy count is below it) and rises (waiting
+//! calls are answered at once), checked against the exact transient of the
+//! Markov chain of the same system, solved in the test.
+//!
+//! Sources:
+//! * The Kolmogorov forward equations dp/dt = p Q of a finite continuous-time
+//!   Markov chain, integrated here with the classical fourth-order
+//!   Runge-Kutta method (any numerical-analysis text); at each change of
+//!   the servers the state jumps as the rule says (waiting calls answered).
+//! * PASTA (Wolff 1982): Poisson arrivals see time averages, so the share
+//!   of an interval's calls that wait is the time average of the chance
+//!   that an arrival would wait.
+//!
+//! Seeds are fixed; tolerances are multiples of the 95% half-width.
+
+mod common;
+
+use busyhour::scenario::Schedule;
+use busyhour::stats::{Figure, Scope};
+use common::{assert_covers, model, run};
+
+/// An agent group whose servers follow `servers` per 30 minutes, 4 calls a
+/// minute of 3 minutes (12 E), exponential patience of mean 2 minutes.
+fn agents(servers: &str, extra: &str) -> String {
+    format!(
+        r#"
+[simulation]
+warmup = "30m"
+length = "2h"
+interval = "30m"
+replications = 400
+seed = 77
+start = "empty"
+
+[[group]]
+name = "agents"
+servers = {servers}
+interval = "30m"
+queue = "unlimited"
+{extra}
+
+[[stream]]
+name = "calls"
+arrivals = {{ law = "poisson", rate = "4/m" }}
+holding = {{ law = "exponential", mean = "3m" }}
+route = ["agents"]
+patience = {{ law = "exponential", mean = "2m" }}
+"#
+    )
+}
+
+/// The exact transient of the agent group: state (busy, waiting), busy up
+/// to the most servers, waiting up to `q_max` (its tail is negligible
+/// here). Returns, per 30-minute interval of the measured period, the time
+/// averages of P(busy >= servers now) (the time every server is busy), of
+/// P(an arrival would wait) and of the busy count (carried traffic).
+fn chain(schedule: &[u32], warmup_min: f64, q_max: usize) -> Vec<(f64, f64, f64)> {
+    let (lambda, mu, theta) = (4.0, 1.0 / 3.0, 0.5); // per minute
+    let b_max = *schedule.iter().max().unwrap() as usize;
+    let states = (b_max + 1) * (q_max + 1);
+    let idx = |b: usize, q: usize| b * (q_max + 1) + q;
+    let servers_at = |t: f64| -> usize {
+        // t in minutes from the end of the warm-up; the first entry before.
+        let i = if t < 0.0 { 0 } else { (t / 30.0) as usize };
+        schedule[i.min(schedule.len() - 1)] as usize
+    };
+    // dp/dt for a given number of servers n.
+    let deriv = |p: &[f64], n: usize, out: &mut [f64]| {
+        out.iter_mut().for_each(|x| *x = 0.0);
+        for b in 0..=b_max {
+            for q in 0..=q_max {
+                let pr = p[idx(b, q)];
+                if pr == 0.0 {
+                    continue;
+                }
+                let mut leave = 0.0;
+                // An arrival: carried when a server is free and nobody
+                // waits, otherwise it waits.
+                if b < n && q == 0 {
+                    out[idx(b + 1, 0)] += lambda * pr;
+                    leave += lambda;
+                } else if q < q_max {
+                    out[idx(b, q + 1)] += lambda * pr;
+                    leave += lambda;
+                }
+                // A departure: the head of the queue takes the server if
+                // the busy count is then below the servers.
+                if b > 0 {
+                    let r = b as f64 * mu;
+                    if q > 0 && b - 1 < n {
+                        out[idx(b, q - 1)] += r * pr;
+                    } else {
+                        out[idx(b - 1, q)] += r * pr;
+                    }
+                    leave += r;
+                }
+                // An abandonment.
+                if q > 0 {
+                    let r = q as f64 * theta;
+                    out[idx(b, q - 1)] += r * pr;
+                    leave += r;
+                }
+                out[idx(b, q)] -= leave * pr;
+            }
+        }
+    };
+    let mut p = vec![0.0; states];
+    p[idx(0, 0)] = 1.0; // an empty start
+    let dt = 0.01; // minutes
+    let mut t = -warmup_min;
+    let mut k = [
+        vec![0.0; states],
+        vec![0.0; states],
+        vec![0.0; states],
+        vec![0.0; states],
+    ];
+    let mut tmp = vec![0.0; states];
+    let bins = 4;
+    let mut out = vec![(0.0, 0.0, 0.0); bins];
+    let mut n = servers_at(t);
+    while t < bins as f64 * 30.0 - 1e-9 {
+        // A change of the servers at an entry boundary: waiting calls are
+        // answered at once where the busy count is below the new number.
+        let now = servers_at(t + 1e-9);
+        if now != n {
+            n = now;
+            let mut moved = vec![0.0; states];
+            for b in 0..=b_max {
+                for q in 0..=q_max {
+                    let take = if b < n { (n - b).min(q) } else { 0 };
+                    moved[idx(b + take, q - take)] += p[idx(b, q)];
+                }
+            }
+            p = moved;
+        }
+        // Time averages over the measured intervals (left Riemann sum of
+        // the smooth p(t) at the RK4 grid: error O(dt)).
+        if t >= -1e-9 {
+            let bin = ((t + 1e-9) / 30.0) as usize;
+            let (mut full, mut wait, mut busy) = (0.0, 0.0, 0.0);
+            for b in 0..=b_max {
+                for q in 0..=q_max {
+                    let pr = p[idx(b, q)];
+                    if b >= n {
+                        full += pr;
+                    }
+                    if b >= n || q > 0 {
+                        wait += pr;
+                    }
+                    busy += b as f64 * pr;
+                }
+            }
+            let w = dt / 30.0;
+            out[bin].0 += full * w;
+            out[bin].1 += wait * w;
+            out[bin].2 += busy * w;
+        }
+        deriv(&p, n, &mut k[0]);
+        for s in 0..states {
+            tmp[s] = p[s] + 0.5 * dt * k[0][s];
+        }
+        deriv(&tmp, n, &mut k[1]);
+        for s in 0..states {
+            tmp[s] = p[s] + 0.5 * dt * k[1][s];
+        }
+        deriv(&tmp, n, &mut k[2]);
+        for s in 0..states {
+            tmp[s] = p[s] + dt * k[2][s];
+        }
+        deriv(&tmp, n, &mut k[3]);
+        for s in 0..states {
+            p[s] += dt / 6.0 * (k[0][s] + 2.0 * k[1][s] + 2.0 * k[2][s] + k[3][s]);
+        }
+        t += dt;
+    }
+    out
+}
+
+/// Falls and rises of the servers on an agent group with abandonment: per
+/// interval, the time every server is busy, the share of calls that wait
+/// and the carried traffic match the exact transient of the chain.
+#[test]
+fn changing_servers_follow_the_exact_transient() {
+    let schedule = [10, 14, 9, 13];
+    let m = model(&agents("[10, 14, 9, 13]", ""));
+    let r = run(&m);
+    let exact = chain(&schedule, 30.0, 80);
+    for (b, &(full, wait, busy)) in exact.iter().enumerate() {
+        let g = Scope::GroupInterval(b, 0);
+        let s = Scope::StreamInterval(b, 0);
+        let est = |scope, figure| {
+            r.get_figure(scope, figure)
+                .unwrap_or_else(|| panic!("no {figure} in interval {b}"))
+        };
+        assert_covers(
+            &format!("interval {b}: time every server is busy"),
+            est(g, Figure::TimeCongestion),
+            full,
+            3.5,
+        );
+        assert_covers(
+            &format!("interval {b}: carried traffic"),
+            est(g, Figure::CarriedTraffic),
+            busy,
+            3.5,
+        );
+        assert_covers(
+            &format!("interval {b}: calls that wait"),
+            est(s, Figure::WaitProbability),
+            wait,
+            3.5,
+        );
+    }
+}
+
+/// A schedule that never changes is the constant group, figure for figure
+/// (the same random numbers: the schedule adds no draw).
+#[test]
+fn a_constant_schedule_is_the_constant_group() {
+    let listed = run(&model(&agents("[12, 12, 12]", "")));
+    let text = agents("12", "").replace("interval = \"30m\"\nqueue", "queue");
+    let constant = run(&model(&text));
+    assert_eq!(listed.layout, constant.layout);
+    assert_eq!(listed.estimates, constant.estimates);
+}
+
+/// Shrinkage turns scheduled agents into agents taking calls, rounded
+/// down: 20 scheduled at 30% are 14, the same run as 14 agents.
+#[test]
+fn shrinkage_leaves_the_agents_taking_calls() {
+    let m =
+        model(&agents("20", "shrinkage = \"30%\"").replace("interval = \"30m\"\nqueue", "queue"));
+    let s: &Schedule = m.groups[0].schedule.as_ref().expect("a schedule");
+    assert_eq!(
+        (s.scheduled.clone(), s.present.clone()),
+        (vec![20], vec![14])
+    );
+    assert_eq!(m.groups[0].servers, 14);
+    let text = agents("14", "").replace("interval = \"30m\"\nqueue", "queue");
+    assert_eq!(run(&m).estimates, run(&model(&text)).estimates);
+    assert_eq!(Schedule::present_of(7, 0.35), 4); // 4.55 rounded down
+}
+
+/// When the servers fall, calls in progress finish: five one-hour calls
+/// seized at once keep five circuits busy after the group drops to one, and
+/// every call offered meanwhile is lost (the busy count never drops below
+/// the new number before the calls end).
+#[test]
+fn a_fall_cuts_no_call_short() {
+    let text = r#"
+[simulation]
+warmup = "0s"
+length = "1h"
+interval = "30m"
+replications = 5
+seed = 3
+start = "empty"
+
+[[group]]
+name = "circuits"
+servers = [5, 1]
+interval = "30m"
+
+[[stream]]
+name = "calls"
+arrivals = { law = "poisson", rate = "3600/h" }
+holding = { law = "deterministic", mean = "2h" }
+route = ["circuits"]
+"#;
+    let r = run(&model(text));
+    let second = |scope, figure| r.get_figure(scope, figure).unwrap().mean;
+    // The five circuits seized in the first second stay busy all through
+    // the second interval, where one circuit is present.
+    let carried = second(Scope::GroupInterval(1, 0), Figure::CarriedTraffic);
+    assert!((carried - 5.0).abs() < 1e-9, "carried {carried}");
+    assert_eq!(second(Scope::StreamInterval(1, 0), Figure::Loss), 1.0);
+    assert_eq!(
+        second(Scope::GroupInterval(1, 0), Figure::TimeCongestion),
+        1.0
+    );
+}
+
+/// Bad schedules are refused with the field named.
+#[test]
+fn bad_schedules_name_the_field() {
+    let bad = |servers: &str, extra: &str, expect: &str| {
+        let text = agents(servers, extra);
+        let e = busyhour::scenario::parse(&text, "s.toml", std::path::Path::new("."), "t")
+            .err()
+            .unwrap_or_else(|| panic!("{servers} {extra} was accepted"))
+            .to_string();
+        assert!(e.contains(expect), "{servers} {extra}: {e}");
+    };
+    bad("[]", "", "servers");
+    bad("[0, 0]", "", "no server takes calls");
+    bad("[3, -1]", "", "servers[2]");
+    bad("12", "shrinkage = \"100%\"", "shrinkage");
+    bad("[12, 14]", "shrinkage = [\"20%\", \"x\"]", "shrinkage[2]");
+    let text = agents("[12, 14]", "").replace("interval = \"30m\"\nqueue", "queue");
+    let e = busyhour::scenario::parse(&text, "s.toml", std::path::Path::new("."), "t")
+        .expect_err("a list needs its interval")
+        .to_string();
+    assert!(e.contains("interval"), "{e}");
+}
