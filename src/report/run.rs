@@ -7,7 +7,7 @@ use super::check::FormulaView;
 use super::describe::{describe_model, warmup_origin};
 use super::figures::{FigureSet, FigureValue};
 use super::json::finite;
-use super::plot::{self, ChartError, LineChart, Series};
+use super::plot::{self, ChartError, LineChart, Paint, Series};
 use super::text::{self, Table, align, clock_at};
 use super::{CAUTION, Charted, Document, html};
 use crate::experiment::RunResult;
@@ -497,11 +497,14 @@ shows the closed-form value where its assumptions hold.",
                     (mid(b), total)
                 })
                 .collect();
-            traffic.series.push(plot::estimate_series(
-                format!("{name}, all streams (95% band)"),
-                &pts,
-                1.0,
-            ));
+            traffic.series.push(
+                plot::estimate_series(format!("{name}, all streams (95% band)"), &pts, 1.0)
+                    .painted(if offered {
+                        Paint::Offered
+                    } else {
+                        Paint::Carried
+                    }),
+            );
         }
         let mut loss = LineChart::new(
             format!("{}: loss per interval", self.scenario),
@@ -516,11 +519,10 @@ shows the closed-form value where its assumptions hold.",
                 })
             };
             let pts: Vec<(f64, Estimate)> = values().map(|(x, v)| (x, v.estimate)).collect();
-            loss.series.push(plot::estimate_series(
-                format!("{} loss (95% band)", st.name),
-                &pts,
-                100.0,
-            ));
+            loss.series.push(
+                plot::estimate_series(format!("{} loss (95% band)", st.name), &pts, 100.0)
+                    .painted(Paint::Stream(s)),
+            );
             let formula: Vec<(f64, f64)> = values()
                 .filter_map(|(x, v)| v.formula.as_ref().map(|f| (x, f.value * 100.0)))
                 .collect();
@@ -531,11 +533,10 @@ shows the closed-form value where its assumptions hold.",
                     "Erlang B, interval load" => "Erlang B of the interval load",
                     other => other,
                 };
-                loss.series.push(Series {
-                    name: format!("{} loss, {method}", st.name),
-                    points: formula,
-                    band: None,
-                });
+                loss.series.push(
+                    Series::formula(format!("{} loss, {method}", st.name), formula)
+                        .painted(Paint::Stream(s)),
+                );
             }
         }
         Ok(plot::stack(&[

@@ -6,7 +6,7 @@
 use super::describe::describe_model;
 use super::figures::{FigureSet, FigureValue};
 use super::json::verdict_word;
-use super::plot::{self, ChartError, LineChart, Series};
+use super::plot::{self, ChartError, LineChart, Paint, Series};
 use super::run::RunDocument;
 use super::text::{self, Table, align};
 use super::{CAUTION, Charted, Document, html};
@@ -428,20 +428,29 @@ impl Charted for SweepDocument {
                         .filter_map(move |st| Some((st.value, value_at(&st.result, c)?)))
                 };
                 let pts: Vec<(f64, Estimate)> = values().map(|(x, v)| (x, v.estimate)).collect();
-                chart.series.push(plot::estimate_series(
-                    format!("{} (95% band)", self.column_name(c)),
-                    &pts,
-                    scale,
-                ));
+                let paint = match c.place {
+                    Place::Stream(s) => Paint::Stream(s),
+                    Place::Group(g) => Paint::Group(g),
+                };
+                chart.series.push(
+                    plot::estimate_series(
+                        format!("{} (95% band)", self.column_name(c)),
+                        &pts,
+                        scale,
+                    )
+                    .painted(paint),
+                );
                 let formula: Vec<(f64, f64, &str)> = values()
                     .filter_map(|(x, v)| v.formula.as_ref().map(|f| (x, f.value * scale, f.name)))
                     .collect();
                 if formula.len() >= 2 {
-                    chart.series.push(Series {
-                        name: format!("{}, {}", self.column_name(c), formula[0].2),
-                        points: formula.iter().map(|p| (p.0, p.1)).collect(),
-                        band: None,
-                    });
+                    chart.series.push(
+                        Series::formula(
+                            format!("{}, {}", self.column_name(c), formula[0].2),
+                            formula.iter().map(|p| (p.0, p.1)).collect(),
+                        )
+                        .painted(paint),
+                    );
                 }
             }
             let (x0, x1) = (
@@ -449,11 +458,11 @@ impl Charted for SweepDocument {
                 self.steps.last().map_or(1.0, |s| s.value),
             );
             for g in self.goals.iter().filter(|g| g.figure == figure) {
-                chart.series.push(Series {
-                    name: format!("goal {}", g.text),
-                    points: vec![(x0, g.bound * scale), (x1, g.bound * scale)],
-                    band: None,
-                });
+                chart.series.push(Series::goal(
+                    format!("goal {}", g.text),
+                    g.bound * scale,
+                    (x0, x1),
+                ));
             }
             panels.push(plot::render_svg(&chart)?);
         }
