@@ -410,8 +410,7 @@ pub fn render_svg(chart: &LineChart) -> Result<String, ChartError> {
         if let Some(z) = zoom {
             let (near, _) = rest.split_vertically(zoom_h);
             let title = format!(
-                "{}: near the goal (y axis cut at {})",
-                chart.title,
+                "Near the goal: the same chart with the y axis cut at {}",
                 crate::units::trim_float(z, 3)
             );
             draw_panel(&near, chart, &title, xr, (0.0, z), &mut data)?;
@@ -610,6 +609,27 @@ fn legend(rows: &[Vec<Entry<'_>>], top: u32, out: &mut String) {
     }
 }
 
+/// A figure's y axis label with its unit, and the scale from its value
+/// (100 for shares drawn in percent): "loss (calls never served, %)",
+/// "service level (%)" (the unit joins a label's own brackets rather than
+/// opening a second pair).
+pub fn axis(figure: crate::stats::Figure) -> (String, f64) {
+    use crate::stats::Unit;
+    let (unit, scale) = match figure.unit() {
+        Unit::Share => ("%", 100.0),
+        Unit::Erlangs => ("erlangs", 1.0),
+        Unit::Seconds => ("seconds", 1.0),
+        Unit::Count => ("calls", 1.0),
+        Unit::Ratio => ("ratio", 1.0),
+    };
+    let label = figure.label();
+    let text = match label.strip_suffix(')') {
+        Some(inner) if inner.contains(" (") => format!("{inner}, {unit})"),
+        _ => format!("{label} ({unit})"),
+    };
+    (text, scale)
+}
+
 /// A series of estimates at x positions, scaled by `scale` (100 for
 /// percentages), with their 95% interval as its band (the interval's two
 /// ends: cut to the figure's range, or widened by an exact bound for rare
@@ -732,12 +752,12 @@ mod tests {
             .push(Series::new("sim", vec![(0.0, 0.2), (1.0, 30.0)]).painted(Paint::Stream(0)));
         c.series.push(Series::goal("goal", 1.0, (0.0, 1.0)));
         let svg = render_svg(&c).unwrap();
-        assert!(svg.contains("near the goal (y axis cut at 3)"), "{svg}");
+        assert!(svg.contains("Near the goal: the same chart with the y axis cut at 3"));
         assert_eq!(svg.matches("overflow=\"hidden\"").count(), 2);
         // Without a low goal: one panel.
         c.series.pop();
         c.series.push(Series::goal("goal", 20.0, (0.0, 1.0)));
-        assert!(!render_svg(&c).unwrap().contains("near the goal"));
+        assert!(!render_svg(&c).unwrap().contains("Near the goal"));
     }
 
     #[test]

@@ -377,7 +377,12 @@ impl Charted for SweepDocument {
         let mut blocks = vec![
             Block::Heading("The scenario in plain words".into()),
             Block::Pre(self.words.clone()),
-            Block::Heading("Sweep".into()),
+            Block::Heading(
+                match self.steps.first().and_then(|st| st.result.clock_period()) {
+                    Some(p) => format!("Sweep, measured {p}"),
+                    None => "Sweep".into(),
+                },
+            ),
             Block::Paragraph(format!(
                 "Each step runs the same seeds (common random numbers); values are means ± 95% half-widths, \
 [formula] where a closed form applies.{}",
@@ -416,11 +421,14 @@ impl Charted for SweepDocument {
         }
         let mut panels = Vec::new();
         for figure in figures {
-            let (unit, scale) = axis_unit(figure.unit());
+            let (y_label, scale) = plot::axis(figure);
+            let period = (self.steps.first())
+                .and_then(|st| st.result.clock_period())
+                .map_or(String::new(), |p| format!(", measured {p}"));
             let mut chart = LineChart::new(
-                format!("{}: {}", self.scenario, figure.label()),
+                format!("{}: {}{period}", self.scenario, figure.label()),
                 self.swept.clone(),
-                format!("{} ({unit})", figure.label()),
+                y_label,
             );
             for c in self.columns.iter().filter(|c| c.figure == figure) {
                 let values = || {
@@ -570,15 +578,4 @@ fn set_at(run: &RunDocument, place: Place) -> &FigureSet {
 
 fn value_at<'a>(run: &'a RunDocument, c: &Column) -> Option<&'a FigureValue> {
     set_at(run, c.place).figures.get(c.figure)
-}
-
-/// The axis unit of a figure and the scale from its value.
-fn axis_unit(unit: Unit) -> (&'static str, f64) {
-    match unit {
-        Unit::Share => ("%", 100.0),
-        Unit::Erlangs => ("erlangs", 1.0),
-        Unit::Seconds => ("seconds", 1.0),
-        Unit::Count => ("calls", 1.0),
-        Unit::Ratio => ("ratio", 1.0),
-    }
 }
