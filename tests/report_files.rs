@@ -75,15 +75,32 @@ fn run_chart_shows_the_interval_figures() {
         text.contains("life-safety calls keep margin"),
         "no caution footnote"
     );
-    // Without intervals the chart is refused before any work.
+    // Formula curves are dashed, simulated ones solid.
+    assert!(
+        text.contains("stroke-dasharray=\"9 5\""),
+        "no dashed formula line"
+    );
+}
+
+#[test]
+fn run_chart_without_intervals_is_a_dot_and_whisker_per_stream() {
+    let svg = scratch("video.svg");
     let o = busyhour(&[
         "run",
         "scenarios/video-link.toml",
+        "--replications",
+        "6",
         "--chart",
         svg.to_str().unwrap(),
+        "-q",
     ]);
-    assert_eq!(o.status.code(), Some(2));
-    assert!(String::from_utf8_lossy(&o.stderr).contains("interval"));
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let text = std::fs::read_to_string(&svg).unwrap();
+    assert_well_formed(&text);
+    assert!(text.contains("loss (calls never served) by stream"));
+    assert!(text.contains("<circle"), "no dots");
+    assert!(text.contains("simulated (95% interval)"));
+    assert!(text.contains("life-safety calls keep margin"));
 }
 
 #[test]

@@ -171,8 +171,10 @@ pub struct RunArgs {
     pub scenario: PathBuf,
     #[command(flatten)]
     pub reps: ReplicationArgs,
-    /// Draw the per-interval figures (offered and carried traffic, loss, with
-    /// their 95% bands) to FILE.svg; needs `interval` in [simulation].
+    /// Draw the figures to FILE.svg: per interval when [simulation] sets
+    /// `interval` (traffic, loss, and where calls queue service level, mean
+    /// wait and occupancy, with 95% bands and the formula dashed), otherwise
+    /// one dot and 95% whisker per stream or group.
     #[arg(long, value_name = "FILE.svg")]
     pub chart: Option<PathBuf>,
     /// Run only shard I of N (a contiguous slice of the replications, with
@@ -307,6 +309,10 @@ pub struct SizeArgs {
     /// within about 15 s of engine work per size).
     #[arg(long = "decide-within", value_name = "N", value_parser = flags::replications)]
     pub decide_within: Option<u32>,
+    /// Draw each goal's figure against the sizes tried, with the interval it
+    /// was judged on and the goal's bound, to FILE.svg.
+    #[arg(long, value_name = "FILE.svg")]
+    pub chart: Option<PathBuf>,
     #[command(flatten)]
     pub output: OutputArgs,
 }
@@ -448,12 +454,6 @@ pub fn run(a: &RunArgs) -> Result<Status> {
         a.chart.as_deref(),
     )?;
     let reps = a.reps.plan_override(&model);
-    if a.chart.is_some() && model.plan.interval_count() == 0 {
-        bail!(
-            "--chart draws figures per interval: add interval = \"15m\" (for example) to [simulation] in {}",
-            a.scenario.display()
-        );
-    }
     if let Some(spec) = &a.shard {
         return run_shard(a, &model, *spec);
     }
@@ -503,8 +503,8 @@ pub fn run(a: &RunArgs) -> Result<Status> {
 }
 
 /// Print a document in the format asked for, after writing its chart
-/// (`--chart`) and HTML page (`--report`) where asked (`run`, `sweep` and
-/// `merge`).
+/// (`--chart`) and HTML page (`--report`) where asked (`run`, `size`,
+/// `sweep` and `merge`).
 fn emit_charted(doc: &impl Charted, output: &OutputArgs, chart_path: Option<&Path>) -> Result<()> {
     let chart = if doc.has_chart() && (chart_path.is_some() || output.report.is_some()) {
         Some(doc.chart().context("chart")?)
@@ -561,7 +561,7 @@ pub fn size(a: &SizeArgs) -> Result<Status> {
         bail!("size prints a table or --json; --csv is for run and sweep");
     }
     let model = a.reps.load(&a.scenario)?;
-    a.output.plan(&a.scenario, &model, false).check()?;
+    check_files(&a.output, &a.scenario, &model, false, a.chart.as_deref())?;
     let group = model.group_index(&a.group).with_context(|| {
         format!(
             "--group {}: no group of {} has that name",
@@ -582,10 +582,7 @@ pub fn size(a: &SizeArgs) -> Result<Status> {
     })?;
     let file = a.scenario.display().to_string();
     let doc = report::SizeDocument::new(&model, &file, &result);
-    if let Some(path) = &a.output.report {
-        write_file(path, &doc.html())?;
-    }
-    emit(a.output.format(), &doc, a.output.out.as_deref())?;
+    emit_charted(&doc, &a.output, a.chart.as_deref())?;
     Ok(if result.partial {
         Status::Interrupted
     } else if result.servers.is_some() {

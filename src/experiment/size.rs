@@ -386,6 +386,9 @@ pub struct SizeResult {
     pub formula_servers: Option<u32>,
     /// Every size tried: (servers, replications, verdict).
     pub tried: Vec<(u32, u64, Verdict)>,
+    /// Every size evaluated, fewest servers first: per goal, the deciding
+    /// estimate with the interval its verdict was judged on (for the chart).
+    pub by_size: Vec<(u32, Vec<Estimate>)>,
     /// Confidence of each verdict: 1 - 0.05 / looks (Bonferroni).
     pub looks: u32,
     /// One server fewer could not be decided within the replication cap:
@@ -826,6 +829,9 @@ pub fn size(
     let uncertain = one_fewer
         .as_ref()
         .is_some_and(|e| e.verdict() == Verdict::Undecided);
+    let by_size = (evaluations.iter())
+        .map(|(&n, e)| (n, e.goals.iter().map(|g| g.1).collect()))
+        .collect();
     Ok(SizeResult {
         group,
         goals,
@@ -834,6 +840,7 @@ pub fn size(
         one_fewer,
         formula_servers,
         tried,
+        by_size,
         uncertain,
         looks,
         limit,

@@ -5,7 +5,7 @@
 //! only; the command prints or writes them.
 
 use super::json::{Rounded, round, round_opt};
-use super::plot::{LineChart, Markers, Series};
+use super::plot::{LineChart, Markers, Paint, Series};
 use super::{CAUTION, Document};
 use crate::dist::Law;
 use crate::records::busy_hour::{ClockHour, DailyPeak};
@@ -891,6 +891,8 @@ pub fn chart(a: &Analysis) -> LineChart {
                 .map(|iv| (x_of(iv) + mid, iv.offered_traffic))
                 .collect(),
             band: None,
+            paint: Paint::Offered,
+            ..Series::default()
         });
     }
     c.series.push(Series {
@@ -901,6 +903,8 @@ pub fn chart(a: &Analysis) -> LineChart {
             .map(|iv| (x_of(iv) + mid, iv.carried_traffic))
             .collect(),
         band: None,
+        paint: Paint::Carried,
+        ..Series::default()
     });
     c.markers.push(Markers {
         name: "busy hour of the day".into(),

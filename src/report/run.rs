@@ -7,7 +7,7 @@ use super::check::FormulaView;
 use super::describe::{describe_model, warmup_origin};
 use super::figures::{FigureSet, FigureValue};
 use super::json::finite;
-use super::plot::{self, ChartError, LineChart, Series};
+use super::plot::{self, ChartError, Line, LineChart, Paint, Series};
 use super::text::{self, Table, align, clock_at};
 use super::{CAUTION, Charted, Document, html};
 use crate::experiment::RunResult;
@@ -464,8 +464,8 @@ impl RunDocument {
 }
 
 impl Charted for RunDocument {
-    /// The run as one self-contained HTML page, with the per-interval chart
-    /// when one is given.
+    /// The run as one self-contained HTML page, with the chart when one is
+    /// given.
     fn html(&self, chart: Option<&str>) -> String {
         use html::Block;
         let mut blocks = vec![
@@ -491,7 +491,14 @@ shows the closed-form value where its assumptions hold.",
         }
         blocks.extend(self.tables().into_iter().map(Block::Table));
         if let Some(svg) = chart {
-            blocks.push(Block::Heading("Per interval".into()));
+            blocks.push(Block::Heading(if self.intervals.is_empty() {
+                "Chart".into()
+            } else {
+                match self.clock_period() {
+                    Some(period) => format!("Per interval, {period}"),
+                    None => "Per interval".into(),
+                }
+            }));
             blocks.push(Block::Svg(svg.to_string()));
         }
         blocks.push(Block::Heading("Textbook view".into()));
@@ -505,32 +512,104 @@ shows the closed-form value where its assumptions hold.",
         )
     }
 
+    /// Every run has a chart: per interval when the scenario has
+    /// intervals, otherwise each stream's and group's figures side by side.
     fn has_chart(&self) -> bool {
-        !self.intervals.is_empty()
+        true
     }
 
-    /// The per-interval chart: offered and carried traffic (all streams)
-    /// with their 95% bands, and each stream's loss with its band and the
-    /// Erlang B of the interval load where it applies. Needs intervals.
+    /// The chart. With intervals: offered and carried traffic (all
+    /// streams), each stream's loss, and where calls queue each stream's
+    /// service level and mean wait and each group's occupancy, per interval,
+    /// with 95% bands and the closed form (dashed) where one applies.
+    /// Without: the same figures over the measured period, one dot and
+    /// whisker per stream or group, the closed form as a ring beside it.
     fn chart(&self) -> Result<String, ChartError> {
-        if self.intervals.is_empty() {
+        let panels = if self.intervals.is_empty() {
+            self.whole_period_panels()
+        } else {
+            self.interval_panels()
+        };
+        let svgs = (panels.iter())
+            .map(plot::render_svg)
+            .collect::<Result<Vec<_>, _>>()?;
+        if svgs.is_empty() {
             return Err(ChartError::NoData);
         }
+        Ok(plot::stack(&svgs))
+    }
+}
+
+/// The figures the run chart shows beside traffic, in order, and whose
+/// (streams or groups) they are; a panel is drawn only when some stream or
+/// group reports the figure, and the queue figures only where calls queue.
+const CHART_FIGURES: [(Figure, bool); 5] = [
+    (Figure::Loss, false),
+    (Figure::Abandonment, false),
+    (Figure::ServiceLevel, false),
+    (Figure::WaitMean, false),
+    (Figure::Occupancy, true),
+];
+
+impl RunDocument {
+    /// Whether some stream can queue (it reports a mean wait).
+    fn queues(&self) -> bool {
+        (self.streams.iter()).any(|st| st.figures.get(Figure::WaitMean).is_some())
+    }
+
+    /// The figures charted: loss always; abandonment, service level, mean
+    /// wait and group occupancy where calls queue (abandonment is reported
+    /// over the whole period only).
+    fn charted_figures(&self) -> impl Iterator<Item = (Figure, bool)> + '_ {
+        (CHART_FIGURES.into_iter()).filter(|&(f, _)| f == Figure::Loss || self.queues())
+    }
+
+    /// The measured period in clock times ("06:00-09:00"), when the
+    /// scenario gives a clock start.
+    pub(crate) fn clock_period(&self) -> Option<String> {
+        self.clock_start.map(|_| {
+            format!(
+                "{}-{}",
+                clock_at(self.clock_start, 0.0),
+                clock_at(self.clock_start, self.length_s)
+            )
+        })
+    }
+
+    /// A panel title: what is shown, with the measured period's clock times
+    /// when the scenario gives a clock start; the first panel names the
+    /// scenario too.
+    fn panel_title(&self, what: &str, first: bool) -> String {
+        let mut title = if first {
+            format!("{}: {what}", self.scenario)
+        } else {
+            let mut c = what.chars();
+            c.next()
+                .map_or(String::new(), |f| f.to_uppercase().chain(c).collect())
+        };
+        if let Some(period) = self.clock_period() {
+            title.push_str(&format!(", {period}"));
+        }
+        title
+    }
+
+    /// One panel per charted figure, per interval.
+    fn interval_panels(&self) -> Vec<LineChart> {
         let width_h = self.interval_s / 3600.0;
         let mid = |b: usize| (b as f64 + 0.5) * width_h;
         let x_label = if self.clock_start.is_some() {
-            "clock time (interval midpoints)"
+            "clock time, interval midpoints"
         } else {
-            "time from the end of the warm-up (h:mm, interval midpoints)"
+            "time from the end of the warm-up (h:mm), interval midpoints"
         };
         let start = self.clock_start;
-        let ticks = move |hours: f64| clock_at(start, hours * 3600.0);
-        let mut traffic = LineChart::new(
-            format!("{}: traffic per interval", self.scenario),
-            x_label,
-            "traffic (erlangs)",
-        );
-        traffic.x_ticks = Some(Box::new(ticks));
+        let new_chart = |what: &str, y_label: String| {
+            let first = what.starts_with("traffic");
+            let mut c = LineChart::new(self.panel_title(what, first), x_label, y_label);
+            c.x_ticks = Some(Box::new(move |hours: f64| clock_at(start, hours * 3600.0)));
+            c
+        };
+        let mut traffic = new_chart("traffic per interval", "traffic (erlangs)".into());
         for (name, offered) in [("offered traffic", true), ("carried traffic", false)] {
             let pts: Vec<(f64, Estimate)> = (self.intervals.iter().enumerate())
                 .map(|(b, iv)| {
@@ -542,51 +621,130 @@ shows the closed-form value where its assumptions hold.",
                     (mid(b), total)
                 })
                 .collect();
-            traffic.series.push(plot::estimate_series(
-                format!("{name}, all streams (95% band)"),
-                &pts,
-                1.0,
-            ));
+            traffic.series.push(
+                plot::estimate_series(format!("{name}, all streams (95% band)"), &pts, 1.0)
+                    .painted(if offered {
+                        Paint::Offered
+                    } else {
+                        Paint::Carried
+                    }),
+            );
         }
-        let mut loss = LineChart::new(
-            format!("{}: loss per interval", self.scenario),
-            x_label,
-            "loss (% of calls)",
-        );
-        loss.x_ticks = Some(Box::new(ticks));
-        for (s, st) in self.streams.iter().enumerate() {
-            let values = || {
-                (self.intervals.iter().enumerate()).filter_map(move |(b, iv)| {
-                    Some((mid(b), iv.streams[s].figures.get(Figure::Loss)?))
-                })
+        let mut panels = vec![traffic];
+        for (figure, of_groups) in self.charted_figures() {
+            let (y_label, scale) = plot::axis(figure);
+            let mut c = new_chart(&format!("{} per interval", figure.label()), y_label);
+            let owners = if of_groups {
+                &self.groups
+            } else {
+                &self.streams
             };
-            let pts: Vec<(f64, Estimate)> = values().map(|(x, v)| (x, v.estimate)).collect();
-            loss.series.push(plot::estimate_series(
-                format!("{} loss (95% band)", st.name),
-                &pts,
-                100.0,
-            ));
-            let formula: Vec<(f64, f64)> = values()
-                .filter_map(|(x, v)| v.formula.as_ref().map(|f| (x, f.value * 100.0)))
-                .collect();
-            // The series is named for the method that gave it.
-            let method = values().find_map(|(_, v)| v.formula.as_ref().map(|f| f.name));
-            if let Some(method) = method {
-                let method = match method {
-                    "Erlang B, interval load" => "Erlang B of the interval load",
-                    other => other,
+            for (k, owner) in owners.iter().enumerate() {
+                let values = || {
+                    (self.intervals.iter().enumerate()).filter_map(move |(b, iv)| {
+                        let sets = if of_groups { &iv.groups } else { &iv.streams };
+                        Some((mid(b), sets[k].figures.get(figure)?))
+                    })
                 };
-                loss.series.push(Series {
-                    name: format!("{} loss, {method}", st.name),
-                    points: formula,
-                    band: None,
-                });
+                let pts: Vec<(f64, Estimate)> = values().map(|(x, v)| (x, v.estimate)).collect();
+                if pts.is_empty() {
+                    continue;
+                }
+                let paint = if of_groups {
+                    Paint::Group(k)
+                } else {
+                    Paint::Stream(k)
+                };
+                let short = figure.label().split(" (").next().unwrap_or("");
+                c.series.push(
+                    plot::estimate_series(
+                        format!("{} {short} (95% band)", owner.name),
+                        &pts,
+                        scale,
+                    )
+                    .painted(paint),
+                );
+                let formula: Vec<(f64, f64)> = values()
+                    .filter_map(|(x, v)| v.formula.as_ref().map(|f| (x, f.value * scale)))
+                    .collect();
+                // The series is named for the method that gave it.
+                let method = values().find_map(|(_, v)| v.formula.as_ref().map(|f| f.name));
+                if let Some(method) = method {
+                    let method = match method {
+                        "Erlang B, interval load" => "Erlang B of the interval load",
+                        other => other,
+                    };
+                    c.series.push(
+                        Series::formula(format!("{} {short}, {method}", owner.name), formula)
+                            .painted(paint),
+                    );
+                }
+            }
+            if !c.series.is_empty() {
+                panels.push(c);
             }
         }
-        Ok(plot::stack(&[
-            plot::render_svg(&traffic)?,
-            plot::render_svg(&loss)?,
-        ]))
+        panels
+    }
+
+    /// One panel per charted figure over the measured period: a dot and
+    /// whisker (the 95% interval) per stream or group, the closed form as a
+    /// ring beside it.
+    fn whole_period_panels(&self) -> Vec<LineChart> {
+        let mut panels = Vec::new();
+        for (figure, of_groups) in self.charted_figures() {
+            let owners = if of_groups {
+                &self.groups
+            } else {
+                &self.streams
+            };
+            let shown: Vec<(usize, &FigureValue)> = (owners.iter().enumerate())
+                .filter_map(|(k, o)| Some((k, o.figures.get(figure)?)))
+                .collect();
+            if shown.is_empty() {
+                continue;
+            }
+            let (y_label, scale) = plot::axis(figure);
+            let whose = if of_groups { "group" } else { "stream" };
+            let mut c = LineChart::new(
+                self.panel_title(&format!("{} by {whose}", figure.label()), panels.is_empty()),
+                String::new(),
+                y_label,
+            );
+            c.x_categories = shown.iter().map(|(k, _)| owners[*k].name.clone()).collect();
+            c.size.1 = 360;
+            let mut simulated = Vec::new();
+            let mut band = Vec::new();
+            let mut formula = Vec::new();
+            for (slot, (_, v)) in shown.iter().enumerate() {
+                let e = &v.estimate;
+                let x = slot as f64;
+                if e.mean.is_finite() {
+                    simulated.push((x, e.mean * scale));
+                }
+                if e.low.is_finite() && e.high.is_finite() {
+                    band.push((x, e.low * scale, e.high * scale));
+                }
+                if let Some(f) = &v.formula {
+                    formula.push((x + 0.12, f.value * scale));
+                }
+            }
+            c.series.push(Series {
+                band: Some(band),
+                ..Series::new("simulated (95% interval)", simulated)
+                    .painted(Paint::Stream(0))
+                    .drawn(Line::Dots)
+            });
+            if !formula.is_empty() {
+                c.series.push(
+                    Series::formula("closed form, where it applies (see the table)", formula)
+                        .painted(Paint::Stream(1))
+                        .drawn(Line::Rings),
+                );
+            }
+            panels.push(c);
+        }
+        panels
     }
 }
 

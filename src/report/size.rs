@@ -5,8 +5,9 @@
 use super::describe::describe_model;
 use super::figures::FigureValue;
 use super::json::verdict_word;
+use super::plot::{self, ChartError, Line, LineChart, Markers, Paint, Series};
 use super::text::{self, Table, align};
-use super::{CAUTION, Document, html};
+use super::{CAUTION, Charted, Document, html};
 use crate::experiment::size::{Evaluation, SizeResult, Verdict};
 use crate::scenario::Model;
 use crate::stats::{Estimate, Figure, Scope, Unit};
@@ -130,6 +131,10 @@ pub struct SizeDocument {
     /// where calls queue, "servers" otherwise.
     #[serde(skip)]
     pub what: &'static str,
+    /// Every size evaluated, fewest first: per goal, the deciding estimate
+    /// with the interval it was judged on (for the chart).
+    #[serde(skip)]
+    pub by_size: Vec<(u32, Vec<Estimate>)>,
 }
 
 impl SizeDocument {
@@ -195,6 +200,7 @@ impl SizeDocument {
             } else {
                 "agents"
             },
+            by_size: r.by_size.clone(),
         }
     }
 
@@ -259,9 +265,91 @@ impl SizeDocument {
         }
         rows
     }
+}
 
-    /// The sizing as one self-contained HTML page.
-    pub fn html(&self) -> String {
+impl Charted for SizeDocument {
+    fn has_chart(&self) -> bool {
+        !self.by_size.is_empty()
+    }
+
+    /// One panel per goal: its deciding figure at every size tried, with
+    /// the interval its verdict was judged on, the bound as a goal line and
+    /// the answer shaded.
+    fn chart(&self) -> Result<String, ChartError> {
+        let xs = (self.by_size.first().map(|s| f64::from(s.0)))
+            .zip(self.by_size.last().map(|s| f64::from(s.0)));
+        let Some((x0, x1)) = xs else {
+            return Err(ChartError::NoData);
+        };
+        let mut panels = Vec::new();
+        for (i, goal) in self.goals.iter().enumerate() {
+            let (y_label, scale) = plot::axis(goal.figure);
+            let what = format!("{} against {} on {}", goal.goal, self.what, self.group);
+            let mut c = LineChart::new(
+                if i == 0 {
+                    format!("{}: {what}", self.scenario)
+                } else {
+                    what
+                },
+                format!("{} on {}", self.what, self.group),
+                y_label,
+            );
+            c.x_ticks = Some(Box::new(|x: f64| {
+                if (x - x.round()).abs() < 1e-6 {
+                    format!("{}", x.round())
+                } else {
+                    String::new()
+                }
+            }));
+            let pts: Vec<(f64, Estimate)> = (self.by_size.iter())
+                .filter_map(|(n, e)| Some((f64::from(*n), *e.get(i)?)))
+                .collect();
+            let whose = if goal.several {
+                ", the worst stream or group"
+            } else {
+                ""
+            };
+            // The goal line spans half a size beyond the first and last
+            // sizes, which sets the x axis.
+            c.series.push(Series::goal(
+                format!(
+                    "goal {} (bound {})",
+                    goal.goal,
+                    text::value(goal.figure.unit(), goal.bound)
+                ),
+                goal.bound * scale,
+                (x0 - 0.5, x1 + 0.5),
+            ));
+            // Sizes are whole numbers: a dot and whisker at each size tried.
+            c.series.push(
+                plot::estimate_series(
+                    format!(
+                        "simulated{whose} ({}% interval, as judged)",
+                        crate::units::trim_float(self.level(), 2)
+                    ),
+                    &pts,
+                    scale,
+                )
+                .painted(Paint::Stream(0))
+                .drawn(Line::Dots),
+            );
+            if let Some(n) = self.servers {
+                c.markers.push(Markers {
+                    name: format!("the answer: {n} {}", self.what),
+                    spans: vec![(f64::from(n) - 0.3, f64::from(n) + 0.3)],
+                });
+            }
+            panels.push(plot::render_svg(&c)?);
+        }
+        if panels.is_empty() {
+            return Err(ChartError::NoData);
+        }
+        Ok(plot::stack(&panels))
+    }
+
+    /// The sizing as one self-contained HTML page, with its chart when one
+    /// is given.
+    fn html(&self, chart: Option<&str>) -> String {
         use html::Block;
         let answer = match self.servers {
             Some(n) => format!("Answer: {n} {} on {}.", self.what, self.group),
@@ -307,6 +395,9 @@ smallest size shown to meet them and may be one more than needed.",
             title: "Sizes tried".into(),
             rows: tried,
         }));
+        if let Some(svg) = chart {
+            blocks.push(Block::Svg(svg.to_string()));
+        }
         blocks.push(Block::Paragraph(format!(
             "A goal holds at a size when its whole interval lies on the right side of the bound; with up to {} looks \
 at one size each verdict uses a {:.2}% interval (Bonferroni), so the chance of any wrong verdict stays at most 5%.",

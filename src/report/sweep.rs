@@ -6,7 +6,7 @@
 use super::describe::describe_model;
 use super::figures::{FigureSet, FigureValue};
 use super::json::verdict_word;
-use super::plot::{self, ChartError, LineChart, Series};
+use super::plot::{self, ChartError, LineChart, Paint, Series};
 use super::run::RunDocument;
 use super::text::{self, Table, align};
 use super::{CAUTION, Charted, Document, html};
@@ -377,7 +377,12 @@ impl Charted for SweepDocument {
         let mut blocks = vec![
             Block::Heading("The scenario in plain words".into()),
             Block::Pre(self.words.clone()),
-            Block::Heading("Sweep".into()),
+            Block::Heading(
+                match self.steps.first().and_then(|st| st.result.clock_period()) {
+                    Some(p) => format!("Sweep, measured {p}"),
+                    None => "Sweep".into(),
+                },
+            ),
             Block::Paragraph(format!(
                 "Each step runs the same seeds (common random numbers); values are means ± 95% half-widths, \
 [formula] where a closed form applies.{}",
@@ -416,11 +421,14 @@ impl Charted for SweepDocument {
         }
         let mut panels = Vec::new();
         for figure in figures {
-            let (unit, scale) = axis_unit(figure.unit());
+            let (y_label, scale) = plot::axis(figure);
+            let period = (self.steps.first())
+                .and_then(|st| st.result.clock_period())
+                .map_or(String::new(), |p| format!(", measured {p}"));
             let mut chart = LineChart::new(
-                format!("{}: {}", self.scenario, figure.label()),
+                format!("{}: {}{period}", self.scenario, figure.label()),
                 self.swept.clone(),
-                format!("{} ({unit})", figure.label()),
+                y_label,
             );
             for c in self.columns.iter().filter(|c| c.figure == figure) {
                 let values = || {
@@ -428,20 +436,29 @@ impl Charted for SweepDocument {
                         .filter_map(move |st| Some((st.value, value_at(&st.result, c)?)))
                 };
                 let pts: Vec<(f64, Estimate)> = values().map(|(x, v)| (x, v.estimate)).collect();
-                chart.series.push(plot::estimate_series(
-                    format!("{} (95% band)", self.column_name(c)),
-                    &pts,
-                    scale,
-                ));
+                let paint = match c.place {
+                    Place::Stream(s) => Paint::Stream(s),
+                    Place::Group(g) => Paint::Group(g),
+                };
+                chart.series.push(
+                    plot::estimate_series(
+                        format!("{} (95% band)", self.column_name(c)),
+                        &pts,
+                        scale,
+                    )
+                    .painted(paint),
+                );
                 let formula: Vec<(f64, f64, &str)> = values()
                     .filter_map(|(x, v)| v.formula.as_ref().map(|f| (x, f.value * scale, f.name)))
                     .collect();
                 if formula.len() >= 2 {
-                    chart.series.push(Series {
-                        name: format!("{}, {}", self.column_name(c), formula[0].2),
-                        points: formula.iter().map(|p| (p.0, p.1)).collect(),
-                        band: None,
-                    });
+                    chart.series.push(
+                        Series::formula(
+                            format!("{}, {}", self.column_name(c), formula[0].2),
+                            formula.iter().map(|p| (p.0, p.1)).collect(),
+                        )
+                        .painted(paint),
+                    );
                 }
             }
             let (x0, x1) = (
@@ -449,11 +466,11 @@ impl Charted for SweepDocument {
                 self.steps.last().map_or(1.0, |s| s.value),
             );
             for g in self.goals.iter().filter(|g| g.figure == figure) {
-                chart.series.push(Series {
-                    name: format!("goal {}", g.text),
-                    points: vec![(x0, g.bound * scale), (x1, g.bound * scale)],
-                    band: None,
-                });
+                chart.series.push(Series::goal(
+                    format!("goal {}", g.text),
+                    g.bound * scale,
+                    (x0, x1),
+                ));
             }
             panels.push(plot::render_svg(&chart)?);
         }
@@ -561,15 +578,4 @@ fn set_at(run: &RunDocument, place: Place) -> &FigureSet {
 
 fn value_at<'a>(run: &'a RunDocument, c: &Column) -> Option<&'a FigureValue> {
     set_at(run, c.place).figures.get(c.figure)
-}
-
-/// The axis unit of a figure and the scale from its value.
-fn axis_unit(unit: Unit) -> (&'static str, f64) {
-    match unit {
-        Unit::Share => ("%", 100.0),
-        Unit::Erlangs => ("erlangs", 1.0),
-        Unit::Seconds => ("seconds", 1.0),
-        Unit::Count => ("calls", 1.0),
-        Unit::Ratio => ("ratio", 1.0),
-    }
 }
