@@ -228,7 +228,7 @@ pub struct RowCounts {
     pub skipped: u64,
     /// The first few skipped rows' messages (`file:line: reason`).
     pub skipped_examples: Vec<String>,
-    /// Skipped rows by what was wrong: "start time", "holding time",
+    /// Skipped rows by what was wrong: "start time" (its date too), "holding time",
     /// "outcome" or "other".
     pub skipped_by_kind: std::collections::BTreeMap<&'static str, u64>,
     /// Rows whose start falls on a day the filter leaves out.
@@ -237,7 +237,7 @@ pub struct RowCounts {
 
 /// What was wrong with a bad row, from its reason.
 fn bad_row_kind(reason: &str) -> &'static str {
-    if reason.starts_with("start time") {
+    if reason.starts_with("start time") || reason.starts_with("start date") {
         "start time"
     } else if reason.starts_with("duration") {
         "holding time"

@@ -20,6 +20,10 @@ const MAX_FIELD_BYTES: usize = 100;
 
 /// Column names tried, in order, when the user names no start column.
 pub const START_NAMES: [&str; 5] = ["start", "start_time", "started", "time", "timestamp"];
+/// Column names tried when the user names no date column. The date column
+/// is used only for rows whose start holds a time of day without a date
+/// (`08:15:30`); it is optional, like the outcome.
+pub const DATE_NAMES: [&str; 3] = ["date", "call_date", "start_date"];
 /// Column names tried when the user names no duration column.
 pub const DURATION_NAMES: [&str; 6] = [
     "duration",
@@ -94,6 +98,9 @@ impl Outcome {
 pub struct Columns {
     /// Start time column.
     pub start: Option<String>,
+    /// Date column, for a start written as a date column and a time-of-day
+    /// column; when named it must exist.
+    pub date: Option<String>,
     /// Holding time (duration) column.
     pub duration: Option<String>,
     /// Outcome column; when named it must exist.
@@ -127,6 +134,8 @@ pub struct RecordReader<R: Read> {
     row: csv::ByteRecord,
     file: String,
     start: usize,
+    date: Option<usize>,
+    date_name: String,
     duration: usize,
     outcome: Option<usize>,
     outcome_words: Vec<(String, Outcome)>,
@@ -264,7 +273,7 @@ impl<R: Read> RecordReader<R> {
                     return Ok(Some(i));
                 }
             }
-            if role == "outcome" && given.is_none() {
+            if matches!(role, "outcome" | "date") && given.is_none() {
                 return Ok(None);
             }
             Err(RecordsError::NoColumn {
@@ -275,6 +284,7 @@ impl<R: Read> RecordReader<R> {
             })
         };
         let start = find("start", &columns.start, &START_NAMES)?.unwrap_or_default();
+        let date = find("date", &columns.date, &DATE_NAMES)?;
         let duration = find("duration", &columns.duration, &DURATION_NAMES)?.unwrap_or_default();
         let outcome = find("outcome", &columns.outcome, &OUTCOME_NAMES)?;
         let column_names = [
@@ -287,6 +297,8 @@ impl<R: Read> RecordReader<R> {
             row: csv::ByteRecord::new(),
             file: file.to_string(),
             start,
+            date,
+            date_name: date.map(|i| names[i].clone()).unwrap_or_default(),
             duration,
             outcome,
             outcome_words: columns.outcome_words.clone(),
@@ -294,6 +306,11 @@ impl<R: Read> RecordReader<R> {
             names: column_names,
             done: false,
         })
+    }
+
+    /// The name of the date column used for time-of-day starts, if any.
+    pub fn date_column(&self) -> Option<&str> {
+        self.date.map(|_| self.date_name.as_str())
     }
 
     /// Whether the file has an outcome column.
@@ -388,8 +405,25 @@ impl<R: Read> RecordReader<R> {
         let start_field = field(self.start, start_name)?;
         let start_text = std::str::from_utf8(start_field)
             .map_err(|_| bad(format!("column \"{start_name}\" is not UTF-8 text")))?;
-        let mut start =
-            time::parse_timestamp(start_text).map_err(|e| bad(format!("start time: {e}")))?;
+        let mut start = if time::is_time_of_day(start_text) {
+            let Some(date) = self.date else {
+                return Err(bad(format!(
+                    "start time '{}' in column \"{start_name}\" is a time of day without a date: name the date column with --date (looked for {})",
+                    shown(start_field),
+                    quote_list(&DATE_NAMES)
+                )));
+            };
+            let date_name = &self.date_name;
+            let date_field = field(date, date_name)?;
+            let date_text = std::str::from_utf8(date_field)
+                .map_err(|_| bad(format!("column \"{date_name}\" is not UTF-8 text")))?;
+            time::parse_date(date_text)
+                .map_err(|e| bad(format!("start date in column \"{date_name}\": {e}")))?;
+            time::parse_date_and_time(date_text, start_text)
+                .map_err(|e| bad(format!("start time in column \"{start_name}\": {e}")))?
+        } else {
+            time::parse_timestamp(start_text).map_err(|e| bad(format!("start time: {e}")))?
+        };
         if let (time::TimeKind::Unix, Some(offset)) = (start.kind, self.unix_offset_s) {
             start.offset_s = offset;
         }
