@@ -42,6 +42,13 @@ pub struct RecordsArgs {
     /// [default: the first of outcome, result, status, disposition, if any].
     #[arg(long, value_name = "COLUMN")]
     pub outcome: Option<String>,
+    /// Column with each call's waiting time in the queue before it was
+    /// answered or abandoned: seconds or h:mm:ss, empty when unknown
+    /// [default: the first of wait, wait_s, wait_time, waiting_time,
+    /// queue_s, queue_time, if any]. With abandoned calls, it lets
+    /// --scenario-out fit the callers' patience.
+    #[arg(long, value_name = "COLUMN")]
+    pub wait: Option<String>,
     /// Map one of the system's outcome words to how the call ended, as
     /// WORD=answered, WORD=blocked or WORD=abandoned ("NO ANSWER=abandoned");
     /// repeatable; tried before the usual words.
@@ -123,6 +130,7 @@ pub fn run(a: &RecordsArgs) -> Result<()> {
             date: a.date.clone(),
             duration: a.duration.clone(),
             outcome: a.outcome.clone(),
+            wait: a.wait.clone(),
             outcome_words: a.outcome_words.clone(),
             unix_offset_s: a.unix_offset,
         },

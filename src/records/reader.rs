@@ -33,6 +33,16 @@ pub const DURATION_NAMES: [&str; 6] = [
     "holding_time",
     "talk_s",
 ];
+/// Column names tried when the user names no waiting-time column (the wait
+/// is optional: without one, no patience law can be fitted).
+pub const WAIT_NAMES: [&str; 6] = [
+    "wait",
+    "wait_s",
+    "wait_time",
+    "waiting_time",
+    "queue_s",
+    "queue_time",
+];
 /// Column names tried when the user names no outcome column (the outcome is
 /// optional: without one, every call is taken as answered).
 pub const OUTCOME_NAMES: [&str; 4] = ["outcome", "result", "status", "disposition"];
@@ -105,6 +115,9 @@ pub struct Columns {
     pub duration: Option<String>,
     /// Outcome column; when named it must exist.
     pub outcome: Option<String>,
+    /// Waiting-time column (time in the queue before the call was answered
+    /// or abandoned); when named it must exist.
+    pub wait: Option<String>,
     /// The system's own outcome words, each mapped to how the call ended
     /// ("NO ANSWER" to abandoned); tried before the usual words, case and
     /// surrounding spaces ignored.
@@ -126,6 +139,9 @@ pub struct CallRecord {
     pub duration_s: f64,
     /// How it ended; `None` when the file has no outcome column.
     pub outcome: Option<Outcome>,
+    /// Time waited before being answered or abandoning (s, >= 0); `None`
+    /// without a wait column or when the row's wait field is empty.
+    pub wait_s: Option<f64>,
 }
 
 /// Reads calls one at a time; memory does not depend on the file's length.
@@ -138,6 +154,8 @@ pub struct RecordReader<R: Read> {
     date_name: String,
     duration: usize,
     outcome: Option<usize>,
+    wait: Option<usize>,
+    wait_name: String,
     outcome_words: Vec<(String, Outcome)>,
     unix_offset_s: Option<i32>,
     names: [String; 3],
@@ -273,7 +291,7 @@ impl<R: Read> RecordReader<R> {
                     return Ok(Some(i));
                 }
             }
-            if matches!(role, "outcome" | "date") && given.is_none() {
+            if matches!(role, "outcome" | "date" | "wait") && given.is_none() {
                 return Ok(None);
             }
             Err(RecordsError::NoColumn {
@@ -287,6 +305,7 @@ impl<R: Read> RecordReader<R> {
         let date = find("date", &columns.date, &DATE_NAMES)?;
         let duration = find("duration", &columns.duration, &DURATION_NAMES)?.unwrap_or_default();
         let outcome = find("outcome", &columns.outcome, &OUTCOME_NAMES)?;
+        let wait = find("wait", &columns.wait, &WAIT_NAMES)?;
         let column_names = [
             names[start].clone(),
             names[duration].clone(),
@@ -301,6 +320,8 @@ impl<R: Read> RecordReader<R> {
             date_name: date.map(|i| names[i].clone()).unwrap_or_default(),
             duration,
             outcome,
+            wait,
+            wait_name: wait.map(|i| names[i].clone()).unwrap_or_default(),
             outcome_words: columns.outcome_words.clone(),
             unix_offset_s: columns.unix_offset_s,
             names: column_names,
@@ -316,6 +337,11 @@ impl<R: Read> RecordReader<R> {
     /// Whether the file has an outcome column.
     pub fn has_outcomes(&self) -> bool {
         self.outcome.is_some()
+    }
+
+    /// The name of the waiting-time column, if any.
+    pub fn wait_column(&self) -> Option<&str> {
+        self.wait.map(|_| self.wait_name.as_str())
     }
 
     /// The names of the start, duration and outcome columns used (the
@@ -455,11 +481,37 @@ impl<R: Read> RecordReader<R> {
                 })?)
             }
         };
+        // An empty wait is unknown (some systems leave it blank): the row
+        // counts, but not in the patience estimate.
+        let wait_s = match self.wait.map(|i| (i, self.row.get(i))) {
+            None | Some((_, None)) => None,
+            Some((_, Some(f))) if f.trim_ascii().is_empty() => None,
+            Some((i, Some(_))) => {
+                let name = &self.wait_name;
+                let f = field(i, name)?;
+                let text = std::str::from_utf8(f)
+                    .map_err(|_| bad(format!("column \"{name}\" is not UTF-8 text")))?;
+                let w = time::parse_holding(text).map_err(|_| {
+                    bad(format!(
+                        "waiting time in column \"{name}\": '{}' is not a time: expected seconds (\"42\"), a clock duration (\"0:00:42\", \"0:42\") or a time like \"42s\"",
+                        shown(f)
+                    ))
+                })?;
+                if w > MAX_HOLDING_S {
+                    return Err(bad(format!(
+                        "waiting time '{}' in column \"{name}\" is longer than the 7-day limit",
+                        shown(f)
+                    )));
+                }
+                Some(w)
+            }
+        };
         Ok(CallRecord {
             line,
             start,
             duration_s,
             outcome,
+            wait_s,
         })
     }
 }
