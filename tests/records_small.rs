@@ -380,3 +380,144 @@ fn line_numbers_count_blank_lines_and_quoted_line_breaks() {
     let e = analyse(last).unwrap_err().to_string();
     assert!(e.starts_with("calls.csv:3:"), "{e}");
 }
+
+#[test]
+fn a_start_split_into_date_and_time_columns_reads_as_the_joined_timestamp() {
+    // The same three calls, one file with a start column, one with a date
+    // column and a time-of-day column (by the default names "date" and
+    // "time", and by named columns), give the same timeline: the joined
+    // text 2026-03-02T08:15:30 is the definition (ISO 8601 date and time).
+    let joined = "start,duration,outcome\n\
+        2026-03-02T08:15:30,120,answered\n\
+        2026-03-02T23:59:00,120,answered\n\
+        2026-03-03T07:05:00.5,60,blocked\n";
+    let split = "date,time,duration,outcome\n\
+        2026-03-02,08:15:30,120,answered\n\
+        2026-03-02,23:59:00,120,answered\n\
+        2026/03/03,7:05:00.5,60,blocked\n";
+    let named = "call day,clock,duration,outcome\n\
+        2026-03-02,08:15:30,120,answered\n\
+        2026-03-02,23:59,120,answered\n\
+        2026-03-03,07:05:00.5,60,blocked\n";
+    let signature = |a: &Analysis| -> Vec<(i64, u32, u64, u64)> {
+        (a.timeline.intervals.iter())
+            .filter(|iv| iv.calls > 0 || iv.carried_traffic > 0.0)
+            .map(|iv| {
+                (
+                    iv.day,
+                    iv.clock_s,
+                    iv.calls,
+                    (iv.carried_traffic * 900.0).round() as u64,
+                )
+            })
+            .collect()
+    };
+    let a = analyse(joined).unwrap();
+    let b = analyse(split).unwrap();
+    let c = analyse_with(
+        named,
+        &Options {
+            columns: Columns {
+                start: Some("clock".into()),
+                date: Some("call day".into()),
+                ..Columns::default()
+            },
+            ..Options::default()
+        },
+    )
+    .unwrap();
+    let day = days_from_civil(2026, 3, 2);
+    // Worked by hand: 08:15:30 for 120 s in the 08:15 interval; 23:59 for
+    // 120 s: 60 s before midnight, 60 s in the next day's 00:00 interval;
+    // 07:05 blocked: a call but no carried time.
+    assert_eq!(
+        signature(&a),
+        vec![
+            (day, 8 * 3600 + 900, 1, 120),
+            (day, 23 * 3600 + 2700, 1, 60),
+            (day + 1, 0, 0, 60),
+            (day + 1, 7 * 3600, 1, 0),
+        ]
+    );
+    assert_eq!(signature(&b), signature(&a));
+    assert_eq!(signature(&c), signature(&a));
+    assert_eq!(b.totals, a.totals);
+    assert_eq!(b.time_kind, a.time_kind);
+}
+
+#[test]
+fn a_bad_date_or_time_of_day_names_the_file_line_and_column() {
+    let cases = [
+        // (file, expected pieces of the message)
+        (
+            "date,time,duration\n2026-03-02,08:00,60\n2026-02-30,08:00,60\n",
+            vec!["calls.csv:3:", "column \"date\"", "'2026-02-30'", "day"],
+        ),
+        (
+            "date,time,duration\n2026-03-02,08:00,60\n02.03.2026,08:00,60\n",
+            vec![
+                "calls.csv:3:",
+                "column \"date\"",
+                "'02.03.2026'",
+                "not a date",
+            ],
+        ),
+        (
+            "date,time,duration\n2026-03-02,8:00,60\n2026-03-02,24:10,60\n",
+            vec!["calls.csv:3:", "column \"time\"", "'24:10'", "hour"],
+        ),
+        (
+            "date,time,duration\n2026-03-02,8:7,60\n",
+            vec![
+                "calls.csv:2:",
+                "column \"time\"",
+                "'8:7'",
+                "not a time of day",
+            ],
+        ),
+        (
+            "date,time,duration\n2026-03-02,,60\n",
+            vec!["calls.csv:2:", "column \"time\" is empty"],
+        ),
+        (
+            "date,time,duration\n,08:00,60\n",
+            vec!["calls.csv:2:", "column \"date\" is empty"],
+        ),
+        // A time of day with no date column: the message says how to name one.
+        (
+            "time,duration\n08:00,60\n",
+            vec!["calls.csv:2:", "time of day without a date", "--date"],
+        ),
+    ];
+    for (text, pieces) in cases {
+        let e = analyse(text).unwrap_err().to_string();
+        assert!(!e.contains('\n'), "{e}");
+        for p in pieces {
+            assert!(e.contains(p), "{text:?}: {e} lacks {p}");
+        }
+    }
+    // A named date column that is not there is a header error naming --date.
+    let e = analyse_with(
+        "time,duration\n08:00,60\n",
+        &Options {
+            columns: Columns {
+                date: Some("day".into()),
+                ..Columns::default()
+            },
+            ..Options::default()
+        },
+    )
+    .unwrap_err()
+    .to_string();
+    assert!(e.contains("no date column") && e.contains("--date"), "{e}");
+    // Skipped bad dates are counted as start-time problems.
+    let a = analyse_with(
+        "date,time,duration\n2026-03-02,08:00,60\n2026-13-02,08:00,60\n",
+        &Options {
+            skip_bad: true,
+            ..Options::default()
+        },
+    )
+    .unwrap();
+    assert_eq!(a.rows.skipped_by_kind.get("start time"), Some(&1));
+}

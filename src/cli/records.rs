@@ -23,10 +23,16 @@ pub struct RecordsArgs {
     #[arg(long, value_name = "DURATION", default_value = "15m")]
     pub interval: String,
     /// Column with each call's start: RFC 3339 / ISO 8601 (with or without a
-    /// zone offset) or Unix seconds [default: the first of start,
-    /// start_time, started, time, timestamp].
+    /// zone offset), Unix seconds, or a time of day ("08:15:30") beside a
+    /// date column [default: the first of start, start_time, started, time,
+    /// timestamp].
     #[arg(long, value_name = "COLUMN")]
     pub start: Option<String>,
+    /// Column with each call's date ("2026-03-02"), for records whose start
+    /// column holds only the time of day [default: the first of date,
+    /// call_date, start_date, if any].
+    #[arg(long, value_name = "COLUMN")]
+    pub date: Option<String>,
     /// Column with each call's holding time: seconds or h:mm:ss [default:
     /// the first of duration, duration_s, holding, holding_s, holding_time,
     /// talk_s].
@@ -36,6 +42,13 @@ pub struct RecordsArgs {
     /// [default: the first of outcome, result, status, disposition, if any].
     #[arg(long, value_name = "COLUMN")]
     pub outcome: Option<String>,
+    /// Column with each call's waiting time in the queue before it was
+    /// answered or abandoned: seconds or h:mm:ss, empty when unknown
+    /// [default: the first of wait, wait_s, wait_time, waiting_time,
+    /// queue_s, queue_time, if any]. With abandoned calls, it lets
+    /// --scenario-out fit the callers' patience.
+    #[arg(long, value_name = "COLUMN")]
+    pub wait: Option<String>,
     /// Map one of the system's outcome words to how the call ended, as
     /// WORD=answered, WORD=blocked or WORD=abandoned ("NO ANSWER=abandoned");
     /// repeatable; tried before the usual words.
@@ -115,8 +128,10 @@ pub fn run(a: &RecordsArgs) -> Result<()> {
         interval_s,
         columns: Columns {
             start: a.start.clone(),
+            date: a.date.clone(),
             duration: a.duration.clone(),
             outcome: a.outcome.clone(),
+            wait: a.wait.clone(),
             outcome_words: a.outcome_words.clone(),
             unix_offset_s: a.unix_offset,
         },

@@ -29,6 +29,7 @@ pub mod busy_hour;
 pub mod days;
 pub mod fit;
 pub mod intervals;
+pub mod patience;
 pub mod peakedness;
 pub mod reader;
 pub mod scenario_out;
@@ -42,6 +43,7 @@ pub use busy_hour::{BusyHour, ClockHour, DailyPeak};
 pub use days::DayFilter;
 pub use fit::{Fit, HoldingSample, HoldingSummary};
 pub use intervals::{Day, Interval, Timeline};
+pub use patience::{PatienceEstimate, WaitTally};
 pub use peakedness::{Peakedness, PeakednessMethod};
 pub use reader::{CallRecord, Columns, Outcome, RecordReader};
 pub use time::{TimeKind, Timestamp};
@@ -228,8 +230,8 @@ pub struct RowCounts {
     pub skipped: u64,
     /// The first few skipped rows' messages (`file:line: reason`).
     pub skipped_examples: Vec<String>,
-    /// Skipped rows by what was wrong: "start time", "holding time",
-    /// "outcome" or "other".
+    /// Skipped rows by what was wrong: "start time" (its date too), "holding time",
+    /// "waiting time", "outcome" or "other".
     pub skipped_by_kind: std::collections::BTreeMap<&'static str, u64>,
     /// Rows whose start falls on a day the filter leaves out.
     pub outside_days: u64,
@@ -237,10 +239,12 @@ pub struct RowCounts {
 
 /// What was wrong with a bad row, from its reason.
 fn bad_row_kind(reason: &str) -> &'static str {
-    if reason.starts_with("start time") {
+    if reason.starts_with("start time") || reason.starts_with("start date") {
         "start time"
     } else if reason.starts_with("duration") {
         "holding time"
+    } else if reason.starts_with("waiting time") {
+        "waiting time"
     } else if reason.starts_with("outcome") {
         "outcome"
     } else {
@@ -288,6 +292,12 @@ pub struct Analysis {
     pub holding: HoldingSummary,
     /// Peakedness of the calls per interval (None with too few intervals).
     pub peakedness: Option<Peakedness>,
+    /// The waiting-time column's name and the waits of answered and
+    /// abandoned calls on the analysed days; None without a wait column.
+    pub waits: Option<(String, WaitTally)>,
+    /// Exponential patience fitted to the censored waits
+    /// ([`patience`]); None without abandoned calls with a known wait.
+    pub patience: Option<PatienceEstimate>,
 }
 
 /// Analyse a call-record file (see the module doc).
@@ -312,6 +322,8 @@ pub fn analyse_reader<R: Read>(
 ) -> Result<Analysis, RecordsError> {
     let mut reader = RecordReader::new(input, file, &opts.columns)?;
     let has_outcomes = reader.has_outcomes();
+    let wait_column = reader.wait_column().map(str::to_string);
+    let mut waits = WaitTally::default();
     let mut acc = intervals::Accumulator::new(opts.interval_s);
     let mut holding = HoldingSample::new(opts.reservoir, opts.seed);
     let mut rows = RowCounts::default();
@@ -352,6 +364,9 @@ pub fn analyse_reader<R: Read>(
         }
         if rec.outcome.is_none_or(|o| o == Outcome::Answered) {
             holding.add(rec.duration_s);
+        }
+        if wait_column.is_some() && rec.outcome != Some(Outcome::Blocked) {
+            waits.add(rec.outcome == Some(Outcome::Abandoned), rec.wait_s);
         }
     }
     let Some((time_kind, _)) = time_kind else {
@@ -401,6 +416,8 @@ pub fn analyse_reader<R: Read>(
         busy_hour,
         holding,
         peakedness,
+        patience: wait_column.as_ref().and_then(|_| waits.exponential()),
+        waits: wait_column.map(|c| (c, waits)),
     })
 }
 

@@ -20,6 +20,10 @@ const MAX_FIELD_BYTES: usize = 100;
 
 /// Column names tried, in order, when the user names no start column.
 pub const START_NAMES: [&str; 5] = ["start", "start_time", "started", "time", "timestamp"];
+/// Column names tried when the user names no date column. The date column
+/// is used only for rows whose start holds a time of day without a date
+/// (`08:15:30`); it is optional, like the outcome.
+pub const DATE_NAMES: [&str; 3] = ["date", "call_date", "start_date"];
 /// Column names tried when the user names no duration column.
 pub const DURATION_NAMES: [&str; 6] = [
     "duration",
@@ -28,6 +32,16 @@ pub const DURATION_NAMES: [&str; 6] = [
     "holding_s",
     "holding_time",
     "talk_s",
+];
+/// Column names tried when the user names no waiting-time column (the wait
+/// is optional: without one, no patience law can be fitted).
+pub const WAIT_NAMES: [&str; 6] = [
+    "wait",
+    "wait_s",
+    "wait_time",
+    "waiting_time",
+    "queue_s",
+    "queue_time",
 ];
 /// Column names tried when the user names no outcome column (the outcome is
 /// optional: without one, every call is taken as answered).
@@ -94,10 +108,16 @@ impl Outcome {
 pub struct Columns {
     /// Start time column.
     pub start: Option<String>,
+    /// Date column, for a start written as a date column and a time-of-day
+    /// column; when named it must exist.
+    pub date: Option<String>,
     /// Holding time (duration) column.
     pub duration: Option<String>,
     /// Outcome column; when named it must exist.
     pub outcome: Option<String>,
+    /// Waiting-time column (time in the queue before the call was answered
+    /// or abandoned); when named it must exist.
+    pub wait: Option<String>,
     /// The system's own outcome words, each mapped to how the call ended
     /// ("NO ANSWER" to abandoned); tried before the usual words, case and
     /// surrounding spaces ignored.
@@ -119,6 +139,9 @@ pub struct CallRecord {
     pub duration_s: f64,
     /// How it ended; `None` when the file has no outcome column.
     pub outcome: Option<Outcome>,
+    /// Time waited before being answered or abandoning (s, >= 0); `None`
+    /// without a wait column or when the row's wait field is empty.
+    pub wait_s: Option<f64>,
 }
 
 /// Reads calls one at a time; memory does not depend on the file's length.
@@ -127,8 +150,12 @@ pub struct RecordReader<R: Read> {
     row: csv::ByteRecord,
     file: String,
     start: usize,
+    date: Option<usize>,
+    date_name: String,
     duration: usize,
     outcome: Option<usize>,
+    wait: Option<usize>,
+    wait_name: String,
     outcome_words: Vec<(String, Outcome)>,
     unix_offset_s: Option<i32>,
     names: [String; 3],
@@ -264,7 +291,7 @@ impl<R: Read> RecordReader<R> {
                     return Ok(Some(i));
                 }
             }
-            if role == "outcome" && given.is_none() {
+            if matches!(role, "outcome" | "date" | "wait") && given.is_none() {
                 return Ok(None);
             }
             Err(RecordsError::NoColumn {
@@ -275,8 +302,10 @@ impl<R: Read> RecordReader<R> {
             })
         };
         let start = find("start", &columns.start, &START_NAMES)?.unwrap_or_default();
+        let date = find("date", &columns.date, &DATE_NAMES)?;
         let duration = find("duration", &columns.duration, &DURATION_NAMES)?.unwrap_or_default();
         let outcome = find("outcome", &columns.outcome, &OUTCOME_NAMES)?;
+        let wait = find("wait", &columns.wait, &WAIT_NAMES)?;
         let column_names = [
             names[start].clone(),
             names[duration].clone(),
@@ -287,8 +316,12 @@ impl<R: Read> RecordReader<R> {
             row: csv::ByteRecord::new(),
             file: file.to_string(),
             start,
+            date,
+            date_name: date.map(|i| names[i].clone()).unwrap_or_default(),
             duration,
             outcome,
+            wait,
+            wait_name: wait.map(|i| names[i].clone()).unwrap_or_default(),
             outcome_words: columns.outcome_words.clone(),
             unix_offset_s: columns.unix_offset_s,
             names: column_names,
@@ -296,9 +329,19 @@ impl<R: Read> RecordReader<R> {
         })
     }
 
+    /// The name of the date column used for time-of-day starts, if any.
+    pub fn date_column(&self) -> Option<&str> {
+        self.date.map(|_| self.date_name.as_str())
+    }
+
     /// Whether the file has an outcome column.
     pub fn has_outcomes(&self) -> bool {
         self.outcome.is_some()
+    }
+
+    /// The name of the waiting-time column, if any.
+    pub fn wait_column(&self) -> Option<&str> {
+        self.wait.map(|_| self.wait_name.as_str())
     }
 
     /// The names of the start, duration and outcome columns used (the
@@ -388,8 +431,25 @@ impl<R: Read> RecordReader<R> {
         let start_field = field(self.start, start_name)?;
         let start_text = std::str::from_utf8(start_field)
             .map_err(|_| bad(format!("column \"{start_name}\" is not UTF-8 text")))?;
-        let mut start =
-            time::parse_timestamp(start_text).map_err(|e| bad(format!("start time: {e}")))?;
+        let mut start = if time::is_time_of_day(start_text) {
+            let Some(date) = self.date else {
+                return Err(bad(format!(
+                    "start time '{}' in column \"{start_name}\" is a time of day without a date: name the date column with --date (looked for {})",
+                    shown(start_field),
+                    quote_list(&DATE_NAMES)
+                )));
+            };
+            let date_name = &self.date_name;
+            let date_field = field(date, date_name)?;
+            let date_text = std::str::from_utf8(date_field)
+                .map_err(|_| bad(format!("column \"{date_name}\" is not UTF-8 text")))?;
+            time::parse_date(date_text)
+                .map_err(|e| bad(format!("start date in column \"{date_name}\": {e}")))?;
+            time::parse_date_and_time(date_text, start_text)
+                .map_err(|e| bad(format!("start time in column \"{start_name}\": {e}")))?
+        } else {
+            time::parse_timestamp(start_text).map_err(|e| bad(format!("start time: {e}")))?
+        };
         if let (time::TimeKind::Unix, Some(offset)) = (start.kind, self.unix_offset_s) {
             start.offset_s = offset;
         }
@@ -421,11 +481,37 @@ impl<R: Read> RecordReader<R> {
                 })?)
             }
         };
+        // An empty wait is unknown (some systems leave it blank): the row
+        // counts, but not in the patience estimate.
+        let wait_s = match self.wait.map(|i| (i, self.row.get(i))) {
+            None | Some((_, None)) => None,
+            Some((_, Some(f))) if f.trim_ascii().is_empty() => None,
+            Some((i, Some(_))) => {
+                let name = &self.wait_name;
+                let f = field(i, name)?;
+                let text = std::str::from_utf8(f)
+                    .map_err(|_| bad(format!("column \"{name}\" is not UTF-8 text")))?;
+                let w = time::parse_holding(text).map_err(|_| {
+                    bad(format!(
+                        "waiting time in column \"{name}\": '{}' is not a time: expected seconds (\"42\"), a clock duration (\"0:00:42\", \"0:42\") or a time like \"42s\"",
+                        shown(f)
+                    ))
+                })?;
+                if w > MAX_HOLDING_S {
+                    return Err(bad(format!(
+                        "waiting time '{}' in column \"{name}\" is longer than the 7-day limit",
+                        shown(f)
+                    )));
+                }
+                Some(w)
+            }
+        };
         Ok(CallRecord {
             line,
             start,
             duration_s,
             outcome,
+            wait_s,
         })
     }
 }

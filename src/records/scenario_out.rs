@@ -71,6 +71,8 @@ pub struct ScenarioOut {
     pub profile: Vec<ProfileStep>,
     /// The holding law written.
     pub holding: Law,
+    /// The patience written (with a queue), fitted from the waits.
+    pub patience: Option<super::PatienceEstimate>,
 }
 
 /// The busy-hour profile: the time-consistent busy hour's intervals with
@@ -157,6 +159,8 @@ struct Inputs {
     profile: Vec<ProfileStep>,
     servers: u32,
     holding: Law,
+    /// The fitted patience as a law, where the records give one.
+    patience: Option<Law>,
 }
 
 /// Write the scenario (see the module doc). Fails when the records show no
@@ -166,13 +170,14 @@ pub fn render(a: &Analysis, opts: &ScenarioOptions) -> Result<ScenarioOut, Recor
     let mut text = String::new();
     write_header(&mut text, a, &inputs);
     write_simulation(&mut text, a, opts, &inputs);
-    write_group(&mut text, opts, &inputs);
+    write_group(&mut text, a, opts, &inputs);
     write_stream(&mut text, a, opts, &inputs);
     let Inputs {
         bh,
         profile,
         servers,
         holding,
+        patience: _,
     } = inputs;
     Ok(ScenarioOut {
         text,
@@ -181,6 +186,7 @@ pub fn render(a: &Analysis, opts: &ScenarioOptions) -> Result<ScenarioOut, Recor
         offered_traffic: bh.offered_traffic,
         profile,
         holding,
+        patience: a.patience,
     })
 }
 
@@ -218,11 +224,16 @@ fn inputs(a: &Analysis, opts: &ScenarioOptions) -> Result<Inputs, RecordsError> 
     } else {
         a.holding.recommended.clone()
     };
+    let patience = (a.patience.as_ref())
+        .map(|p| crate::dist::Exponential::new(p.mean_s).map(Law::Exponential))
+        .transpose()
+        .map_err(|e| err(format!("the fitted patience: {e}")))?;
     Ok(Inputs {
         bh,
         profile,
         servers,
         holding,
+        patience,
     })
 }
 
@@ -313,10 +324,22 @@ fn write_simulation(w: &mut String, a: &Analysis, opts: &ScenarioOptions, inputs
     let _ = writeln!(w);
 }
 
-/// `[[group]]`: one loss group, with how its size was chosen.
-fn write_group(w: &mut String, opts: &ScenarioOptions, inputs: &Inputs) {
+/// The group's name: agents where callers queue, circuits otherwise.
+fn group_name(a: &Analysis) -> &'static str {
+    if a.patience.is_some() {
+        "agents"
+    } else {
+        "circuits"
+    }
+}
+
+/// `[[group]]`: one group, with how its size was chosen: a loss group, or
+/// an unlimited queue when the records give the callers' patience
+/// ([`super::patience`]); with abandoned calls but no waits, a comment says
+/// why no patience law is written.
+fn write_group(w: &mut String, a: &Analysis, opts: &ScenarioOptions, inputs: &Inputs) {
     let _ = writeln!(w, "[[group]]");
-    let _ = writeln!(w, "name = \"circuits\"");
+    let _ = writeln!(w, "name = \"{}\"", group_name(a));
     match opts.servers {
         None => {
             let _ = writeln!(
@@ -325,12 +348,38 @@ fn write_group(w: &mut String, opts: &ScenarioOptions, inputs: &Inputs) {
                 crate::units::format_share(opts.grade),
                 trim_float(inputs.bh.offered_traffic, 3)
             );
+            if a.patience.is_some() {
+                let _ = writeln!(
+                    w,
+                    "# Here callers wait instead of being lost; size for a service level with busyhour size."
+                );
+            }
         }
         Some(_) => {
             let _ = writeln!(w, "# Servers as given (not sized by a formula).");
         }
     }
     let _ = writeln!(w, "servers = {}", inputs.servers);
+    if a.patience.is_some() {
+        let _ = writeln!(
+            w,
+            "queue = \"unlimited\"     # callers wait until answered or out of patience (below)"
+        );
+    } else if a.totals.abandoned > 0 {
+        let why = match &a.waits {
+            None => "the file has no waiting-time column".to_string(),
+            Some((column, _)) => format!("column \"{column}\" gives no abandoned call a wait"),
+        };
+        let _ = writeln!(
+            w,
+            "# The records hold {} abandoned calls but no waiting times to fit a patience law to",
+            a.totals.abandoned
+        );
+        let _ = writeln!(
+            w,
+            "# ({why}; name it with --wait): written as a loss group. Add queue and patience by hand."
+        );
+    }
     let _ = writeln!(w);
 }
 
@@ -370,7 +419,26 @@ fn write_stream(w: &mut String, a: &Analysis, opts: &ScenarioOptions, inputs: &I
     };
     let _ = writeln!(w, "# holding time: {fit_note}");
     let _ = writeln!(w, "holding = {}", law_toml(holding, &opts.holding_file));
-    let _ = writeln!(w, "route = [\"circuits\"]");
+    let _ = writeln!(w, "route = [\"{}\"]", group_name(a));
+    if let (Some(p), Some((column, waits))) = (&a.patience, &a.waits) {
+        let _ = writeln!(w, "# patience: {}.", super::patience::METHOD);
+        let _ = writeln!(
+            w,
+            "# From column \"{column}\": {} abandoned and {} answered calls with a wait, {} s waited in all;",
+            waits.abandoned,
+            waits.answered,
+            trim_float(waits.total_wait_s, 1)
+        );
+        let _ = writeln!(
+            w,
+            "# mean patience {} s, standard error {} s. It assumes patience does not depend on the wait.",
+            trim_float(p.mean_s, 1),
+            trim_float(p.mean_standard_error_s, 1)
+        );
+        if let Some(law) = &inputs.patience {
+            let _ = writeln!(w, "patience = {}", law_toml(law, ""));
+        }
+    }
 }
 
 /// The data file of an empirical holding law: its values, one a line.

@@ -78,6 +78,14 @@ pub enum TimeError {
         /// The allowed range.
         expected: &'static str,
     },
+    /// Not a date (in a date column beside a time-of-day column).
+    #[error("'{0}' is not a date: expected year-month-day like \"2026-03-02\" or \"2026/03/02\"")]
+    Date(String),
+    /// Not a time of day (in a start column beside a date column).
+    #[error(
+        "'{0}' is not a time of day: expected hh:mm, hh:mm:ss or hh:mm:ss.fff, like \"08:15:30\", optionally with a zone offset (\"08:15:30+01:00\")"
+    )]
+    TimeOfDay(String),
     /// Not a holding time.
     #[error(
         "'{0}' is not a holding time: expected seconds (\"182.5\"), a clock duration (\"0:03:02\", \"3:02\") or a time like \"3m2s\""
@@ -337,6 +345,94 @@ pub fn parse_timestamp(text: &str) -> Result<Timestamp, TimeError> {
     })
 }
 
+/// Whether a start field is a time of day without a date (`8:15`,
+/// `08:15:30.5`, `08:15+01:00`): one or two digits, then a colon. Such a
+/// start needs a date column ([`parse_date_and_time`]); a full timestamp or
+/// Unix seconds never starts that way.
+pub fn is_time_of_day(text: &str) -> bool {
+    let b = text.trim().as_bytes();
+    let digits = b.iter().take_while(|c| c.is_ascii_digit()).count();
+    (1..=2).contains(&digits) && b.get(digits) == Some(&b':')
+}
+
+/// Parse a date written year first: `2026-03-02` or `2026/03/02` (month
+/// and day with one or two digits), to a day number ([`days_from_civil`]).
+///
+/// # Example
+/// ```
+/// use busyhour::records::time::{days_from_civil, parse_date};
+/// assert_eq!(parse_date("2026-03-02").unwrap(), days_from_civil(2026, 3, 2));
+/// assert_eq!(parse_date("2026/3/2").unwrap(), days_from_civil(2026, 3, 2));
+/// assert!(parse_date("02/03/2026").is_err());
+/// ```
+pub fn parse_date(text: &str) -> Result<i64, TimeError> {
+    let t = text.trim();
+    let bad = || TimeError::Date(text.to_string());
+    let sep = if t.contains('-') { '-' } else { '/' };
+    let parts: Vec<&str> = t.split(sep).collect();
+    let [y, m, d] = parts.as_slice() else {
+        return Err(bad());
+    };
+    let number = |p: &str, len: std::ops::RangeInclusive<usize>| -> Option<u32> {
+        (len.contains(&p.len()) && p.bytes().all(|c| c.is_ascii_digit()))
+            .then(|| p.parse().ok())
+            .flatten()
+    };
+    let year = number(y, 4..=4).ok_or_else(bad)?;
+    let month = number(m, 1..=2).ok_or_else(bad)?;
+    let day = number(d, 1..=2).ok_or_else(bad)?;
+    if !(1..=12).contains(&month) {
+        return Err(TimeError::Range {
+            text: text.to_string(),
+            part: "month",
+            expected: "01 to 12",
+        });
+    }
+    if day < 1 || day > days_in_month(i64::from(year), month) {
+        return Err(TimeError::Range {
+            text: text.to_string(),
+            part: "day",
+            expected: "1 to the last day of the month",
+        });
+    }
+    Ok(days_from_civil(i64::from(year), month, day))
+}
+
+/// A start split into a date (`2026-03-02`, [`parse_date`]) and a time of
+/// day (`08:15:30`, `8:15`, `08:15:30.25`, optionally with a zone offset
+/// as in [`parse_timestamp`]): the same [`Timestamp`] as the joined
+/// `2026-03-02T08:15:30`. The error names the part that is wrong.
+///
+/// # Example
+/// ```
+/// use busyhour::records::time::{parse_date_and_time, parse_timestamp};
+/// let t = parse_date_and_time("2026-03-02", "8:15:30").unwrap();
+/// assert_eq!(t, parse_timestamp("2026-03-02T08:15:30").unwrap());
+/// ```
+pub fn parse_date_and_time(date: &str, time_of_day: &str) -> Result<Timestamp, TimeError> {
+    let day = parse_date(date)?;
+    let t = time_of_day.trim();
+    let bad = || TimeError::TimeOfDay(time_of_day.to_string());
+    if !is_time_of_day(t) {
+        return Err(bad());
+    }
+    let padded = if t.as_bytes()[1] == b':' {
+        format!("0{t}")
+    } else {
+        t.to_string()
+    };
+    let joined = format!("{}T{padded}", Date(day));
+    match parse_timestamp(&joined) {
+        Ok(ts) => Ok(ts),
+        Err(TimeError::Range { part, expected, .. }) => Err(TimeError::Range {
+            text: time_of_day.to_string(),
+            part,
+            expected,
+        }),
+        Err(_) => Err(bad()),
+    }
+}
+
 /// Parse a holding time to seconds: a number of seconds (`182.5`), a clock
 /// duration `h:mm:ss` or `mm:ss` (each with an optional fraction on the
 /// seconds), or a duration with units as in the scenario file (`3m2s`).
@@ -472,6 +568,61 @@ mod tests {
         ] {
             assert!(parse_holding(bad).is_err(), "{bad:?}");
         }
+    }
+
+    #[test]
+    fn dates_and_times_of_day() {
+        let joined = |d, t| parse_date_and_time(d, t).unwrap();
+        assert_eq!(
+            joined("2026-03-02", "08:15:30"),
+            parse_timestamp("2026-03-02T08:15:30").unwrap()
+        );
+        assert_eq!(
+            joined("2026/3/2", "8:15"),
+            parse_timestamp("2026-03-02T08:15").unwrap()
+        );
+        assert_eq!(
+            joined("2026-03-02", "23:59:59.5+01:00"),
+            parse_timestamp("2026-03-02T23:59:59.5+01:00").unwrap()
+        );
+        // 2024 was a leap year; 2026 is not.
+        assert!(parse_date("2024-02-29").is_ok());
+        for bad in ["2026-02-29", "2026-13-01", "2026-00-10"] {
+            assert!(
+                matches!(parse_date(bad), Err(TimeError::Range { .. })),
+                "{bad}"
+            );
+        }
+        for bad in [
+            "",
+            "02/03/2026",
+            "2026-03",
+            "26-03-02",
+            "2026-03-02T08:00",
+            "2026.03.02",
+        ] {
+            assert!(matches!(parse_date(bad), Err(TimeError::Date(_))), "{bad}");
+        }
+        for bad in [
+            "",
+            "815",
+            "08h15",
+            "2026-03-02T08:15",
+            "1741000000",
+            "123:00",
+        ] {
+            assert!(
+                matches!(
+                    parse_date_and_time("2026-03-02", bad),
+                    Err(TimeError::TimeOfDay(_))
+                ),
+                "{bad}"
+            );
+        }
+        let e = parse_date_and_time("2026-03-02", "25:00")
+            .unwrap_err()
+            .to_string();
+        assert!(e.starts_with("'25:00'") && e.contains("hour"), "{e}");
     }
 
     #[test]

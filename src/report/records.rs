@@ -379,6 +379,31 @@ impl From<&Peakedness> for PeakednessSummary {
     }
 }
 
+/// Waiting times and the callers' patience fitted to them
+/// ([`crate::records::patience`]).
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct PatienceSummary {
+    /// The waiting-time column.
+    pub wait_column: String,
+    /// How the patience is estimated, in words.
+    pub method: &'static str,
+    /// Abandoned calls with a known wait (the events).
+    pub abandoned_with_wait: u64,
+    /// Answered calls with a known wait (censored observations).
+    pub answered_with_wait: u64,
+    /// Answered or abandoned calls whose wait field was empty (left out).
+    pub wait_unknown: u64,
+    /// Total wait of the calls with a known wait (s).
+    #[serde(serialize_with = "round::<3, _>")]
+    pub total_wait_s: f64,
+    /// Mean patience (s); null without an abandoned call with a wait.
+    #[serde(serialize_with = "round_opt::<4, _>")]
+    pub mean_s: Option<f64>,
+    /// Its standard error (s).
+    #[serde(serialize_with = "round_opt::<4, _>")]
+    pub standard_error_s: Option<f64>,
+}
+
 /// One local day of the file.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct DaySummary {
@@ -437,6 +462,12 @@ pub struct ScenarioWritten {
     pub offered_traffic: f64,
     /// The holding law written.
     pub holding: &'static str,
+    /// The mean of the exponential patience written (s), with a queue.
+    #[serde(
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "round_opt::<4, _>"
+    )]
+    pub patience_mean_s: Option<f64>,
 }
 
 impl ScenarioWritten {
@@ -450,6 +481,7 @@ impl ScenarioWritten {
             grade,
             offered_traffic: out.offered_traffic,
             holding: out.holding.name(),
+            patience_mean_s: out.patience.map(|p| p.mean_s),
         }
     }
 }
@@ -481,6 +513,9 @@ pub struct RecordsDocument {
     pub holding: Holding,
     /// Peakedness of arrivals; null with too few intervals.
     pub peakedness: Option<PeakednessSummary>,
+    /// Waits and patience; absent without a waiting-time column.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub patience: Option<PatienceSummary>,
     /// Every local day of the file.
     pub days: Vec<DaySummary>,
     /// Every interval, in time order.
@@ -554,6 +589,16 @@ impl RecordsDocument {
                 recommended: LawSummary::from(&h.recommended),
             },
             peakedness: a.peakedness.as_ref().map(PeakednessSummary::from),
+            patience: a.waits.as_ref().map(|(column, w)| PatienceSummary {
+                wait_column: column.clone(),
+                method: crate::records::patience::METHOD,
+                abandoned_with_wait: w.abandoned,
+                answered_with_wait: w.answered,
+                wait_unknown: w.unknown,
+                total_wait_s: w.total_wait_s,
+                mean_s: a.patience.map(|p| p.mean_s),
+                standard_error_s: a.patience.map(|p| p.mean_standard_error_s),
+            }),
             days: (t.days.iter())
                 .map(|d| {
                     let ivs = t.of(d);
@@ -776,6 +821,53 @@ impl RecordsDocument {
         }
     }
 
+    /// The waits and the patience fitted to them; with abandoned calls but
+    /// no waiting-time column, a line saying so.
+    fn write_patience(&self, w: &mut String) {
+        match &self.patience {
+            Some(p) => {
+                let _ = writeln!(
+                    w,
+                    "\nPatience of waiting callers (column \"{}\"): {} abandoned and {} answered calls with a wait, {} s waited in all{}",
+                    p.wait_column,
+                    p.abandoned_with_wait,
+                    p.answered_with_wait,
+                    trim_float(p.total_wait_s, 1),
+                    if p.wait_unknown > 0 {
+                        format!(" ({} calls without a wait left out)", p.wait_unknown)
+                    } else {
+                        String::new()
+                    }
+                );
+                match (p.mean_s, p.standard_error_s) {
+                    (Some(m), Some(se)) => {
+                        let _ = writeln!(
+                            w,
+                            "  mean patience {} s ± {} s (standard error)",
+                            trim_float(m, 1),
+                            trim_float(se, 1)
+                        );
+                        let _ = writeln!(w, "  method: {}", p.method);
+                    }
+                    _ => {
+                        let _ = writeln!(
+                            w,
+                            "  no abandoned call with a wait: no patience law can be fitted"
+                        );
+                    }
+                }
+            }
+            None if self.calls.abandoned > 0 => {
+                let _ = writeln!(
+                    w,
+                    "\nPatience: {} abandoned calls, but the file has no waiting-time column (name it with --wait): no patience law is fitted",
+                    self.calls.abandoned
+                );
+            }
+            None => {}
+        }
+    }
+
     /// The peakedness of the arrivals and what it means.
     fn write_peakedness(&self, w: &mut String) {
         match &self.peakedness {
@@ -834,6 +926,7 @@ impl Document for RecordsDocument {
         self.write_rows_and_calls(&mut s);
         self.write_busy_hours(&mut s);
         self.write_holding(&mut s);
+        self.write_patience(&mut s);
         self.write_peakedness(&mut s);
         self.write_next_and_files(&mut s);
         s
