@@ -1043,3 +1043,174 @@ pub fn busy_hour(model: &Model) -> Option<BusyHour> {
 pub fn formula_view(model: &Model) -> HashMap<FigureId, Formula> {
     formula_column(model)
 }
+
+/// The book's per-interval staffing references of an agent group: for each
+/// reporting interval, the offered load by the forecast and the agents
+/// Erlang C (no patience) or Erlang A (exponential patience) asks for at
+/// that load (stationary, independent per interval); and the same at the
+/// interval's mean of the infinite-server load `m(t)` (the modified offered
+/// load, which follows the lag of calls in progress: Jagerman 1975; for
+/// staffing, Jennings, Mandelbaum, Massey and Whitt 1996; approx.).
+#[derive(Debug, Clone, PartialEq)]
+pub struct IntervalReference {
+    /// Offered traffic of the interval by the forecast (E).
+    pub load: f64,
+    /// Agents for the goals at `load` (`None`: no formula covers them).
+    pub stationary: Option<u32>,
+    /// Mean of `m(t)` over the interval (E).
+    pub modified_load: f64,
+    /// Agents for the goals at `modified_load`.
+    pub modified: Option<u32>,
+}
+
+/// The methods of [`IntervalReference::stationary`] and
+/// [`IntervalReference::modified`] for group `g`: Erlang B for a loss
+/// group, Erlang A where its callers have patience, Erlang C otherwise.
+pub fn reference_methods(model: &Model, g: usize) -> (&'static str, &'static str) {
+    if model.groups[g].queue == Queue::None {
+        return (INTERVAL_LOAD, "Erlang B, modified offered load (approx.)");
+    }
+    let patience = (model.streams.iter())
+        .any(|s| s.patience.is_some() && s.route.first() == Some(&(g as u32)));
+    if patience {
+        (
+            "Erlang A, interval load",
+            "Erlang A, modified offered load (approx.)",
+        )
+    } else {
+        (
+            "Erlang C, interval load",
+            "Erlang C, modified offered load (approx.)",
+        )
+    }
+}
+
+/// The per-interval references of group `g` (see [`IntervalReference`]),
+/// over the streams whose route starts at `g`: for a loss group the
+/// servers Erlang B gives for `loss` (a blocking share), for a queue the
+/// agents for the delay `goals`. The holding time is the streams'
+/// traffic-weighted mean; the patience, when every such stream has one,
+/// their mean patience (Erlang A takes it as exponential: an approximation
+/// for other laws).
+pub fn interval_references(
+    model: &Model,
+    g: usize,
+    goals: &crate::formulas::delay_goals::DelayGoals,
+    loss: Option<f64>,
+) -> Vec<IntervalReference> {
+    use crate::formulas::delay_goals;
+    let plan = &model.plan;
+    let width = plan.interval_s.unwrap_or(plan.length_s);
+    let streams: Vec<&Stream> = (model.streams.iter())
+        .filter(|s| s.route.first() == Some(&(g as u32)))
+        .collect();
+    let traffic_mean = |f: &dyn Fn(&Stream) -> f64| -> f64 {
+        let weights: f64 = streams.iter().map(|s| load_of(s)).sum();
+        if weights > 0.0 {
+            streams.iter().map(|s| load_of(s) * f(s)).sum::<f64>() / weights
+        } else {
+            f64::NAN
+        }
+    };
+    let holding = traffic_mean(&|s: &Stream| s.holding.mean());
+    let patience = (streams.iter().all(|s| s.patience.is_some()) && !streams.is_empty())
+        .then(|| traffic_mean(&|s: &Stream| s.patience.as_ref().map_or(f64::NAN, |p| p.mean())));
+    let loss_group = model.groups[g].queue == Queue::None;
+    let agents = |a: f64| {
+        if loss_group {
+            loss.and_then(|b| erlang_b::servers_for(a, b).ok())
+        } else {
+            delay_goals::agents_for(a, holding, patience, goals).ok()
+        }
+    };
+    (0..plan.interval_count())
+        .map(|b| {
+            let t0 = b as f64 * width;
+            let t1 = (t0 + width).min(plan.length_s);
+            let load = window_load(streams.iter().copied(), t0, t1);
+            let modified_load = mean_infinite_server_load(model, &streams, t0, t1);
+            IntervalReference {
+                load,
+                stationary: agents(load),
+                modified_load,
+                modified: agents(modified_load),
+            }
+        })
+        .collect()
+}
+
+/// A stream's offered traffic at its first rate (a weight).
+fn load_of(s: &Stream) -> f64 {
+    s.arrivals.initial_rate().unwrap_or(0.0) * s.holding.mean()
+}
+
+/// The mean over `[t0, t1)` (seconds after the warm-up) of the
+/// infinite-server load `m(t)` of `streams`: the M_t/G/∞ mean, exact for a
+/// piecewise-constant rate and any holding law (see
+/// [`modified_offered_load`]); Simpson's rule over 16 panels per piece of
+/// constant rates.
+fn mean_infinite_server_load(model: &Model, streams: &[&Stream], t0: f64, t1: f64) -> f64 {
+    if !(t1 > t0) {
+        return f64::NAN;
+    }
+    let plan = &model.plan;
+    // Per stream: the load before any step, and the steps (time, change).
+    let history: Vec<(f64, Vec<(f64, f64)>)> = streams
+        .iter()
+        .map(|s| {
+            let first = s.arrivals.initial_rate().unwrap_or(0.0);
+            let mut steps = Vec::new();
+            let mut base = 0.0;
+            match plan.start {
+                crate::scenario::Start::Steady => base = first,
+                crate::scenario::Start::Empty => steps.push((-plan.warmup_s, first)),
+            }
+            if let Arrivals::Profile { interval_s, rates } = &s.arrivals {
+                for i in 1..rates.len() {
+                    steps.push((i as f64 * interval_s, rates[i] - rates[i - 1]));
+                }
+            }
+            (base, steps)
+        })
+        .collect();
+    let m_at = |t: f64| -> f64 {
+        (streams.iter().zip(&history))
+            .map(|(s, (base, steps))| {
+                let h = s.holding.mean();
+                base * h
+                    + steps
+                        .iter()
+                        .filter(|&&(c, _)| c <= t)
+                        .map(|&(c, d)| d * h * (1.0 - s.holding.residual_tail(t - c)))
+                        .sum::<f64>()
+            })
+            .sum::<f64>()
+            .max(0.0)
+    };
+    // Pieces between the rate changes inside the span.
+    let mut cuts = vec![t0, t1];
+    for (_, steps) in &history {
+        cuts.extend(steps.iter().map(|&(c, _)| c).filter(|&c| c > t0 && c < t1));
+    }
+    cuts.sort_by(f64::total_cmp);
+    cuts.dedup();
+    const PANELS: usize = 16;
+    let mut integral = 0.0;
+    for piece in cuts.windows(2) {
+        let (a, b) = (piece[0], piece[1]);
+        let step = (b - a) / PANELS as f64;
+        let mut sum = 0.0;
+        for k in 0..=PANELS {
+            let w = if k == 0 || k == PANELS {
+                1.0
+            } else if k % 2 == 1 {
+                4.0
+            } else {
+                2.0
+            };
+            sum += w * m_at(a + k as f64 * step);
+        }
+        integral += sum * step / 3.0;
+    }
+    integral / (t1 - t0)
+}

@@ -309,6 +309,16 @@ pub struct SizeArgs {
     /// within about 15 s of engine work per size).
     #[arg(long = "decide-within", value_name = "N", value_parser = flags::replications)]
     pub decide_within: Option<u32>,
+    /// Size the group in each reporting interval (needs `interval` in
+    /// [simulation]): the fewest servers per interval for which every
+    /// interval meets every goal, simulating the whole day again after each
+    /// adjustment, so that what one interval leaves to the next counts.
+    /// Prints the staffing table beside the formulas' requirements.
+    #[arg(long = "per-interval", conflicts_with_all = ["decide_within", "chart", "report"])]
+    pub per_interval: bool,
+    /// Most simulations of the day for --per-interval.
+    #[arg(long, value_name = "N", default_value_t = 40, requires = "per_interval", value_parser = clap::value_parser!(u32).range(2..=1000))]
+    pub rounds: u32,
     /// Draw each goal's figure against the sizes tried, with the interval it
     /// was judged on and the goal's bound, to FILE.svg.
     #[arg(long, value_name = "FILE.svg")]
@@ -557,8 +567,11 @@ pub fn check(a: &CheckArgs) -> Result<Status> {
 /// `busyhour size`.
 pub fn size(a: &SizeArgs) -> Result<Status> {
     use busyhour::experiment::size::{self, Goal, SizeOptions};
+    if a.per_interval {
+        return size_per_interval(a);
+    }
     if a.output.csv {
-        bail!("size prints a table or --json; --csv is for run and sweep");
+        bail!("size prints a table or --json (--csv is for run, sweep and size --per-interval)");
     }
     let model = a.reps.load(&a.scenario)?;
     check_files(&a.output, &a.scenario, &model, false, a.chart.as_deref())?;
@@ -586,6 +599,65 @@ pub fn size(a: &SizeArgs) -> Result<Status> {
     Ok(if result.partial {
         Status::Interrupted
     } else if result.servers.is_some() {
+        Status::Done
+    } else {
+        Status::Failed
+    })
+}
+
+/// `busyhour size --per-interval`: the staffing table.
+fn size_per_interval(a: &SizeArgs) -> Result<Status> {
+    use busyhour::experiment::size::Goal;
+    use busyhour::experiment::staffing;
+    let model = a.reps.load(&a.scenario)?;
+    check_files(&a.output, &a.scenario, &model, false, None)?;
+    let group = model.group_index(&a.group).with_context(|| {
+        format!(
+            "--group {}: no group of {} has that name",
+            a.group,
+            a.scenario.display()
+        )
+    })?;
+    if model.plan.interval_s.is_none() {
+        bail!(
+            "--per-interval sizes each reporting interval: give interval = \"30m\" (or another length) in [simulation] of {}",
+            a.scenario.display()
+        );
+    }
+    let goals = a
+        .goal
+        .iter()
+        .map(|g| Goal::parse(g, &model, group))
+        .collect::<Result<Vec<_>, _>>()?;
+    for g in &goals {
+        if staffing::interval_goals(&model, std::slice::from_ref(g), 0).is_none() {
+            bail!(
+                "--goal {}: that figure is not reported per interval; per-interval goals are on loss, abandonment, wait_probability, wait_mean, service_level, occupancy and time_congestion",
+                g.text
+            );
+        }
+    }
+    let references = staffing::references(&model, group, &goals);
+    let start = staffing::formula_start(&references);
+    let replications = a.reps.plan(&model);
+    guard::check_size(&model, &replications, &a.reps, a.output.quiet)?;
+    let plan = with_progress(a.output.quiet, a.reps.threads, |opts| {
+        staffing::staff(
+            &model,
+            group,
+            &goals,
+            &start,
+            Some(replications.clone()),
+            opts,
+            a.rounds,
+        )
+    })?;
+    let file = a.scenario.display().to_string();
+    let doc = report::StaffingDocument::new(&model, &file, group, &goals, &references, &plan);
+    emit(a.output.format(), &doc, a.output.out.as_deref())?;
+    Ok(if plan.partial && !plan.met {
+        Status::Interrupted
+    } else if plan.met {
         Status::Done
     } else {
         Status::Failed

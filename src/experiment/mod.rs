@@ -4,6 +4,7 @@
 
 pub mod shard;
 pub mod size;
+pub mod staffing;
 pub mod sweep;
 pub mod warnings;
 pub mod work;

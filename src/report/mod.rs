@@ -15,6 +15,7 @@ pub mod plot;
 pub mod records;
 pub mod run;
 pub mod size;
+pub mod staffing;
 pub mod sweep;
 pub mod text;
 
@@ -22,6 +23,7 @@ pub use check::CheckDocument;
 pub use figures::{FigureSet, FigureValue, Figures, FormulaValue};
 pub use run::RunDocument;
 pub use size::SizeDocument;
+pub use staffing::StaffingDocument;
 pub use sweep::SweepDocument;
 pub use text::Table;
 

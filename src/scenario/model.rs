@@ -576,6 +576,59 @@ impl Model {
     }
 }
 
+impl Model {
+    /// The model with group `group` taking calls with `present[i]` servers
+    /// in reporting interval i (a per-interval staffing probe). A shrinkage
+    /// the group has is kept: its scheduled numbers become the fewest that
+    /// leave at least that many taking calls, and exactly `present` take
+    /// calls.
+    pub fn with_schedule(&self, group: usize, present: &[u32]) -> Result<Model, TransformError> {
+        let Some(g) = self.groups.get(group) else {
+            return Err(TransformError::NoGroup {
+                group,
+                groups: self.groups.len(),
+            });
+        };
+        let most = present.iter().copied().max().unwrap_or(0);
+        let interval_s = self.plan.interval_s.unwrap_or(self.plan.length_s);
+        if most == 0 || i64::from(most) > super::MAX_GROUP_SERVERS {
+            return Err(TransformError::Servers {
+                servers: most,
+                group: g.name.clone(),
+            });
+        }
+        let old = g.schedule.as_ref();
+        let share_at = |i: usize| {
+            old.map_or(0.0, |s| {
+                let j =
+                    ((i as f64 * interval_s / s.interval_s) as usize).min(s.shrinkage.len() - 1);
+                s.shrinkage[j]
+            })
+        };
+        let shrinkage: Vec<f64> = (0..present.len()).map(share_at).collect();
+        let scheduled = (present.iter().zip(&shrinkage))
+            .map(|(&n, &s)| {
+                let mut k = (f64::from(n) / (1.0 - s)).floor() as u32;
+                while Schedule::present_of(k, s) < n {
+                    k += 1;
+                }
+                k
+            })
+            .collect();
+        let mut m = self.clone();
+        let grp = &mut m.groups[group];
+        grp.servers = most;
+        grp.reserve = grp.reserve.min(most.saturating_sub(1));
+        grp.schedule = Some(Schedule {
+            interval_s,
+            scheduled,
+            shrinkage,
+            present: present.to_vec(),
+        });
+        Ok(m)
+    }
+}
+
 /// A change to a compiled model (a sweep step, a sizing probe) that would
 /// leave the range a scenario may have.
 #[derive(Debug, Clone, PartialEq, Error)]
