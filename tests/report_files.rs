@@ -492,6 +492,62 @@ fn queue_intervals_are_charted_with_service_level_wait_and_occupancy() {
         svg_texts(&chart).iter().any(|t| t == "09:00"),
         "no clock ticks"
     );
+    assert!(chart.contains("Abandonment per interval"));
+}
+
+#[test]
+fn scheduled_servers_are_charted_as_a_staircase_beside_the_busy_ones() {
+    let scenario = scratch("schedule.toml");
+    std::fs::write(
+        &scenario,
+        r#"title = "Agents by the half hour"
+[simulation]
+warmup = "30m"
+length = "2h"
+interval = "30m"
+replications = 4
+seed = 5
+
+[[group]]
+name = "agents"
+servers = [8, 12, 11, 9]
+interval = "30m"
+queue = 30
+
+[[stream]]
+name = "callers"
+arrivals = { law = "poisson", rate = "120/h" }
+holding = { law = "exponential", mean = "4m" }
+route = ["agents"]
+answer_within = "20s"
+"#,
+    )
+    .unwrap();
+    let svg = scratch("schedule.svg");
+    let o = busyhour(&[
+        "run",
+        scenario.to_str().unwrap(),
+        "--chart",
+        svg.to_str().unwrap(),
+        "-q",
+    ]);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let chart = std::fs::read_to_string(&svg).unwrap();
+    assert_well_formed(&chart);
+    assert!(chart.contains("agents servers present (schedule)"));
+    assert!(chart.contains("agents servers busy (95% band)"));
+    // The staircase: two points per interval, dash-dotted like a bound.
+    let stair = (chart.lines())
+        .find(|l| l.starts_with("<polyline") && l.contains("14 5 3 5"))
+        .expect("a dash-dotted staircase");
+    let points = stair
+        .split("points=\"")
+        .nth(1)
+        .unwrap()
+        .split('"')
+        .next()
+        .unwrap();
+    assert_eq!(points.split(' ').count(), 8, "{points}");
 }
 
 #[test]
