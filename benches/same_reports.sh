@@ -12,6 +12,10 @@
 set -uo pipefail
 cd "$(dirname "$0")/.."
 
+# HTML reports carry the time they were made: pin it (the reproducible-builds
+# convention busyhour honours; see docs/files.md).
+export SOURCE_DATE_EPOCH=1764763200
+
 OLD=$(realpath "${1:?usage: benches/same_reports.sh OLD_BINARY [NEW_BINARY]}")
 NEW=$(realpath "${2:-target/release/busyhour}")
 ROOT=$PWD
@@ -85,6 +89,9 @@ for s in *.toml; do
     rm -f part?.json sweep?.json
 done
 case_ run-harbour-peak-chart run harbour-peak.toml "${reps[@]}" --chart out.svg
+case_ run-video-link-chart run video-link.toml "${reps[@]}" --chart out.svg
+case_ size-harbour-peak-chart size harbour-peak.toml --group switchboard-lines --goal 'loss<=1%' \
+    --seed 4 --replications 4 --decide-within 8 --quiet --chart out.svg
 case_ sweep-campus-servers sweep campus-overflow.toml --servers carrier-shared=8:12:2 \
     --seed 2 --replications 3 --goal loss\<=1% --report out.html --quiet
 

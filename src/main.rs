@@ -39,7 +39,7 @@ enum Command {
 fn main() -> ExitCode {
     let cli: Cli = cli::guard::parse_args();
     cli::install_interrupt_handler();
-    let result = match &cli.command {
+    let result = cli::record_origin().and_then(|()| match &cli.command {
         Command::Run(a) => cli::run(a),
         Command::Size(a) => cli::size(a),
         Command::Sweep(a) => cli::sweep(a),
@@ -47,7 +47,7 @@ fn main() -> ExitCode {
         Command::Check(a) => cli::check(a),
         Command::Calc(a) => cli::calc::run(a).map(|()| cli::Status::Done),
         Command::Records(a) => cli::records::run(a).map(|()| cli::Status::Done),
-    };
+    });
     match result {
         Ok(status) => status.into(),
         Err(e) => {

@@ -453,6 +453,28 @@ fn write_file(path: &std::path::Path, text: &str) -> Result<()> {
         .with_context(|| format!("cannot write {}", path.display()))
 }
 
+/// Record when and by which command line this process's HTML reports are
+/// made: now, or `SOURCE_DATE_EPOCH` (seconds since 1970, UTC) when set,
+/// the reproducible-builds convention, so that tests and comparisons of
+/// reports get the same bytes.
+pub fn record_origin() -> Result<()> {
+    let unix_s = match std::env::var("SOURCE_DATE_EPOCH") {
+        Ok(text) => text.trim().parse::<i64>().map_err(|_| {
+            anyhow::anyhow!(
+                "SOURCE_DATE_EPOCH={text}: expected whole seconds since 1970-01-01 UTC, like 1764763200"
+            )
+        })?,
+        Err(_) => std::time::SystemTime::now()
+            .duration_since(std::time::UNIX_EPOCH)
+            .map_or(0, |d| d.as_secs() as i64),
+    };
+    let args: Vec<String> = std::env::args_os()
+        .map(|a| a.to_string_lossy().into_owned())
+        .collect();
+    report::html::set_origin(report::html::Origin::new(&args, unix_s));
+    Ok(())
+}
+
 /// `busyhour run`.
 pub fn run(a: &RunArgs) -> Result<Status> {
     let model = a.reps.load(&a.scenario)?;

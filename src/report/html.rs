@@ -3,6 +3,66 @@
 
 use super::CAUTION;
 use super::text::Table;
+use std::sync::OnceLock;
+
+/// Where the pages of this process come from: when and by which command
+/// line. Set once by the binary ([`set_origin`]); a page made without it
+/// (library use, unit tests) has no such line.
+static ORIGIN: OnceLock<Origin> = OnceLock::new();
+
+/// When and how a report was made.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct Origin {
+    /// UTC time, ISO 8601: "2026-12-03T11:42:07Z".
+    pub made_at: String,
+    /// The command line, shell-quoted: "busyhour run 'a b.toml' --report r.html".
+    pub command: String,
+}
+
+impl Origin {
+    /// The origin of a process run as `args` (the program first, written
+    /// as `busyhour`) at `unix_s` seconds since 1970 (UTC).
+    pub fn new(args: &[String], unix_s: i64) -> Origin {
+        let command = std::iter::once("busyhour".to_string())
+            .chain(args.iter().skip(1).map(|a| shell_quote(a)))
+            .collect::<Vec<_>>()
+            .join(" ");
+        Origin {
+            made_at: iso_utc(unix_s),
+            command,
+        }
+    }
+}
+
+/// Record the origin every page of this process carries (the first call
+/// wins).
+pub fn set_origin(origin: Origin) {
+    let _ = ORIGIN.set(origin);
+}
+
+/// `unix_s` as ISO 8601 UTC, to the second.
+pub fn iso_utc(unix_s: i64) -> String {
+    let day = unix_s.div_euclid(86_400);
+    let s = unix_s.rem_euclid(86_400);
+    format!(
+        "{}T{:02}:{:02}:{:02}Z",
+        crate::records::time::Date(day),
+        s / 3600,
+        s / 60 % 60,
+        s % 60
+    )
+}
+
+/// A word as a POSIX shell reads it back: as is when it holds only safe
+/// characters, else in single quotes (a quote inside written `'\''`).
+pub fn shell_quote(word: &str) -> String {
+    let safe = |c: char| c.is_ascii_alphanumeric() || "_-./:=@%+,".contains(c);
+    if !word.is_empty() && word.chars().all(safe) {
+        word.to_string()
+    } else {
+        format!("'{}'", word.replace('\'', "'\\''"))
+    }
+}
 
 /// A piece of a page.
 pub enum Block {
@@ -42,7 +102,7 @@ margin-top:2rem;border-bottom:1px solid #d5dbe3;padding-bottom:.2rem}table{borde
 font-size:.9rem}th,td{padding:.25rem .7rem;text-align:left;border-bottom:1px solid #e6eaf0;white-space:nowrap}\
 th{background:#f1f4f8}pre{background:#f6f8fa;padding:.8rem;overflow-x:auto;font-size:.85rem}\
 .caution{border-left:4px solid #c77700;background:#fff7e8;padding:.6rem .9rem;margin:1rem 0}\
-.chart{margin:1rem 0;overflow-x:auto}.meta{color:#5b6675;font-size:.9rem}";
+.chart{margin:1rem 0;overflow-x:auto}.chart svg{max-width:100%;height:auto}.meta{color:#5b6675;font-size:.9rem}";
 
 /// The whole page.
 pub fn page(title: &str, subtitle: &str, blocks: &[Block]) -> String {
@@ -58,6 +118,13 @@ pub fn page(title: &str, subtitle: &str, blocks: &[Block]) -> String {
         escape(title),
         escape(subtitle)
     ));
+    if let Some(o) = ORIGIN.get() {
+        out.push_str(&format!(
+            "<p class=\"meta\">Made {} (UTC) by <code>{}</code></p>\n",
+            escape(&o.made_at),
+            escape(&o.command)
+        ));
+    }
     out.push_str(&format!(
         "<div class=\"caution\"><strong>Caution.</strong> {}</div>\n",
         escape(CAUTION)
@@ -143,5 +210,31 @@ mod tests {
         assert!(p.contains("<div class=\"chart\"><svg width=\"1\"></svg></div>"));
         assert!(!p.contains("<?xml"));
         assert!(!p.contains("<script"));
+    }
+
+    #[test]
+    fn origin_is_iso_utc_and_a_shell_quoted_command_line() {
+        // 2026-12-03 is day 20,790 since 1970-01-01 (Python: (date(2026, 12, 3) - date(1970, 1, 1)).days).
+        assert_eq!(iso_utc(0), "1970-01-01T00:00:00Z");
+        assert_eq!(
+            iso_utc(20_790 * 86_400 + 11 * 3600 + 42 * 60 + 7),
+            "2026-12-03T11:42:07Z"
+        );
+        assert_eq!(iso_utc(-1), "1969-12-31T23:59:59Z");
+        let args: Vec<String> = [
+            "/x/target/busyhour",
+            "size",
+            "a b.toml",
+            "--goal",
+            "loss<=1%",
+            "it's",
+        ]
+        .map(String::from)
+        .to_vec();
+        assert_eq!(
+            Origin::new(&args, 0).command,
+            "busyhour size 'a b.toml' --goal 'loss<=1%' 'it'\\''s'"
+        );
+        assert_eq!(shell_quote(""), "''");
     }
 }

@@ -35,8 +35,8 @@ pub enum Paint {
     Carried,
     /// A stream's figures, by the stream's index in the scenario.
     Stream(usize),
-    /// A group's figures, by the group's index (the palette from its other
-    /// end, so that stream 0 and group 0 differ).
+    /// A group's figures, by the group's index (the palette in another
+    /// order, so that stream 0 and group 0 differ).
     Group(usize),
     /// A goal or target line (near black).
     Goal,
@@ -58,6 +58,9 @@ pub const PALETTE: [RGBColor; 6] = [
     RGBColor(0x9f, 0xd0, 0xea), // sky
     RGBColor(0x7a, 0x3d, 0x8f), // plum
 ];
+/// The palette's order for groups: from its other end (so that stream 0 and
+/// group 0 differ), with the light sky, faint on white, late.
+const GROUP_ORDER: [usize; 6] = [5, 3, 2, 4, 1, 0];
 /// The colour of marked periods (busy hours).
 const MARKER: RGBColor = RGBColor(0xf0, 0xd2, 0x8c);
 
@@ -69,7 +72,7 @@ impl Paint {
             Paint::Offered => OFFERED,
             Paint::Carried => CARRIED,
             Paint::Stream(s) => PALETTE[s % PALETTE.len()],
-            Paint::Group(g) => PALETTE[PALETTE.len() - 1 - g % PALETTE.len()],
+            Paint::Group(g) => PALETTE[GROUP_ORDER[g % GROUP_ORDER.len()]],
             Paint::Goal => GOAL,
         }
     }
@@ -507,7 +510,7 @@ fn draw_panel(
                 .collect();
             let _ = writeln!(
                 out,
-                "<polygon points=\"{}\" fill=\"{colour}\" fill-opacity=\"0.2\" stroke=\"none\"/>",
+                "<polygon points=\"{}\" fill=\"{colour}\" fill-opacity=\"0.16\" stroke=\"none\"/>",
                 outline.join(" ")
             );
         }

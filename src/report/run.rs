@@ -520,8 +520,9 @@ shows the closed-form value where its assumptions hold.",
 
     /// The chart. With intervals: offered and carried traffic (all
     /// streams), each stream's loss, and where calls queue each stream's
-    /// service level and mean wait and each group's occupancy, per interval,
-    /// with 95% bands and the closed form (dashed) where one applies.
+    /// abandonment, service level and mean wait and each group's occupancy,
+    /// per interval, with 95% bands and the closed form (dashed) where one
+    /// applies; a scheduled group's servers busy against servers present.
     /// Without: the same figures over the measured period, one dot and
     /// whisker per stream or group, the closed form as a ring beside it.
     fn chart(&self) -> Result<String, ChartError> {
@@ -558,8 +559,7 @@ impl RunDocument {
     }
 
     /// The figures charted: loss always; abandonment, service level, mean
-    /// wait and group occupancy where calls queue (abandonment is reported
-    /// over the whole period only).
+    /// wait and group occupancy where calls queue.
     fn charted_figures(&self) -> impl Iterator<Item = (Figure, bool)> + '_ {
         (CHART_FIGURES.into_iter()).filter(|&(f, _)| f == Figure::Loss || self.queues())
     }
@@ -606,6 +606,9 @@ impl RunDocument {
         let new_chart = |what: &str, y_label: String| {
             let first = what.starts_with("traffic");
             let mut c = LineChart::new(self.panel_title(what, first), x_label, y_label);
+            if !first {
+                c.size.1 = 420;
+            }
             c.x_ticks = Some(Box::new(move |hours: f64| clock_at(start, hours * 3600.0)));
             c
         };
@@ -683,6 +686,45 @@ impl RunDocument {
             if !c.series.is_empty() {
                 panels.push(c);
             }
+        }
+        // Groups whose servers follow a schedule: servers busy against
+        // servers present, interval by interval.
+        let mut busy = new_chart("servers busy and present per interval", "servers".into());
+        for (g, gr) in self.groups.iter().enumerate() {
+            // A staircase: each interval's servers across the interval.
+            let present: Vec<(f64, f64)> = (self.intervals.iter())
+                .filter_map(|iv| {
+                    let n = f64::from(iv.groups[g].servers?);
+                    Some([(iv.start_s / 3600.0, n), (iv.end_s / 3600.0, n)])
+                })
+                .flatten()
+                .collect();
+            if present.is_empty() {
+                continue;
+            }
+            let pts: Vec<(f64, Estimate)> = (self.intervals.iter().enumerate())
+                .filter_map(|(b, iv)| {
+                    let v = iv.groups[g].figures.get(Figure::CarriedTraffic)?;
+                    Some((mid(b), v.estimate))
+                })
+                .collect();
+            busy.series.push(
+                plot::estimate_series(format!("{} servers busy (95% band)", gr.name), &pts, 1.0)
+                    .painted(Paint::Group(g)),
+            );
+            // A bound, drawn as goals are.
+            busy.series.push(Series {
+                points: present,
+                ..Series::goal(
+                    format!("{} servers present (schedule)", gr.name),
+                    0.0,
+                    (0.0, 0.0),
+                )
+            });
+        }
+        if !busy.series.is_empty() {
+            busy.zoom_to_goals = false;
+            panels.push(busy);
         }
         panels
     }
