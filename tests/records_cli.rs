@@ -303,3 +303,127 @@ fn unix_times_are_read_at_the_offset_given() {
     let o = busyhour(&["records", file.to_str().unwrap(), "--unix-offset", "+15:00"]);
     assert_eq!(o.status.code(), Some(2));
 }
+
+/// `--csv`: the intervals after the caution comment line, every interval
+/// of the JSON with the same counts and traffic, written atomically with
+/// `--out` (and an earlier CSV of ours replaced without --force).
+#[test]
+fn the_intervals_as_csv() {
+    let dir = temp_dir("csv");
+    let path = dir.join("intervals.csv");
+    let out = busyhour(&["records", DEMO, "--csv", "--out", &text(&path)]);
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    assert!(out.stdout.is_empty());
+    let csv = std::fs::read_to_string(&path).unwrap();
+    let mut lines = csv.lines();
+    assert_eq!(
+        lines.next().unwrap(),
+        format!("# Caution: {}", busyhour::report::CAUTION)
+    );
+    assert_eq!(
+        lines.next().unwrap(),
+        "start,date,time,calls,answered,blocked,abandoned,carried_traffic,offered_traffic"
+    );
+    let json: Value =
+        serde_json::from_slice(&busyhour(&["records", DEMO, "--json"]).stdout).unwrap();
+    let intervals = json["intervals"].as_array().unwrap();
+    let rows: Vec<Vec<&str>> = lines.map(|l| l.split(',').collect()).collect();
+    assert_eq!(rows.len(), intervals.len());
+    for (row, iv) in rows.iter().zip(intervals) {
+        assert_eq!(row[0], iv["start"].as_str().unwrap());
+        assert_eq!(format!("{}T{}:00", row[1], row[2]), row[0][..19]);
+        assert_eq!(row[3], iv["calls"].to_string());
+        assert_eq!(row[4], iv["answered"].to_string());
+        assert_eq!(row[5], iv["blocked"].to_string());
+        assert_eq!(row[6], iv["abandoned"].to_string());
+        for (cell, key) in [(row[7], "carried_traffic"), (row[8], "offered_traffic")] {
+            let x: f64 = cell.parse().unwrap();
+            assert!((x - iv[key].as_f64().unwrap()).abs() < 1e-9, "{cell} {key}");
+        }
+    }
+    // Calls by outcome add up to the report's totals.
+    let sum = |c: usize| {
+        rows.iter()
+            .map(|r| r[c].parse::<u64>().unwrap())
+            .sum::<u64>()
+    };
+    assert_eq!(sum(3), json["calls"]["attempts"].as_u64().unwrap());
+    assert_eq!(sum(5), json["calls"]["blocked"].as_u64().unwrap());
+    // Written again over our own CSV: no --force needed; no temporary file left.
+    let again = busyhour(&["records", DEMO, "--csv", "--out", &text(&path)]);
+    assert!(again.status.success());
+    let left: Vec<_> = std::fs::read_dir(&dir).unwrap().collect();
+    assert_eq!(left.len(), 1, "{left:?}");
+    // Without outcomes, the outcome cells are empty, not zeros.
+    let bare = dir.join("bare.csv");
+    std::fs::write(&bare, "start,duration\n2025-03-03T10:00:00Z,60\n").unwrap();
+    let out = busyhour(&["records", &text(&bare), "--csv"]);
+    let csv = String::from_utf8(out.stdout).unwrap();
+    assert!(
+        csv.contains("\n2025-03-03T10:00:00Z,2025-03-03,10:00,1,,,,0.0667,0.0667\n")
+            || csv.contains("\n2025-03-03T10:00:00+00:00,2025-03-03,10:00,1,,,,0.0667,0.0667\n"),
+        "{csv}"
+    );
+    // --csv with --json is refused.
+    let out = busyhour(&["records", DEMO, "--csv", "--json"]);
+    assert_eq!(out.status.code(), Some(2));
+    let _ = std::fs::remove_dir_all(&dir);
+}
+
+/// `--report`: an HTML page with the caution, the chart inline and the
+/// report's tables; a name that is not .html or .htm is refused before any
+/// work, as for the other commands.
+#[test]
+fn the_html_report() {
+    let dir = temp_dir("html");
+    let page = dir.join("depot.html");
+    let out = busyhour(&["records", DEMO, "--report", &text(&page)]);
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let stdout = String::from_utf8(out.stdout).unwrap();
+    assert!(stdout.contains(&format!("Report written: {}", text(&page))));
+    let html = std::fs::read_to_string(&page).unwrap();
+    assert!(html.starts_with("<!DOCTYPE html>"));
+    assert!(html.contains("<title>Call records: depot-calls.csv</title>"));
+    assert!(html.contains(&busyhour::report::html::escape(busyhour::report::CAUTION)));
+    assert!(html.contains("<div class=\"chart\"><svg"));
+    let json: Value =
+        serde_json::from_slice(&busyhour(&["records", DEMO, "--json"]).stdout).unwrap();
+    // Each day's busiest hour is a table row, as in the terminal report.
+    for d in json["busy_hour"]["daily"].as_array().unwrap() {
+        let row = format!(
+            "<tr><td>{}</td><td>{}</td><td>{}-{}</td><td>{}</td>",
+            d["date"].as_str().unwrap(),
+            d["weekday"].as_str().unwrap(),
+            d["start"].as_str().unwrap(),
+            d["end"].as_str().unwrap(),
+            d["calls"]
+        );
+        assert!(html.contains(&row), "{row}");
+    }
+    // The fits table names the recommended law.
+    let recommended = json["holding"]["recommended"]["description"]
+        .as_str()
+        .unwrap();
+    assert!(
+        html.contains(&format!("<tr><td>{recommended}</td>")),
+        "{recommended}"
+    );
+    for name in ["report.pdf", "report.svg", "report"] {
+        let bad = dir.join(name);
+        let out = busyhour(&["records", DEMO, "--report", &text(&bad)]);
+        assert_eq!(out.status.code(), Some(2), "{name}");
+        let err = String::from_utf8(out.stderr).unwrap();
+        assert_eq!(err.lines().count(), 1, "{err}");
+        assert!(err.contains("--report") && err.contains(".html"), "{err}");
+        assert!(!bad.exists());
+    }
+    let _ = std::fs::remove_dir_all(&dir);
+}

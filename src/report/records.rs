@@ -528,6 +528,9 @@ pub struct RecordsDocument {
     /// The chart written, with `--chart`.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub chart: Option<String>,
+    /// The HTML report written, with `--report`.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub report: Option<String>,
 }
 
 impl RecordsDocument {
@@ -630,6 +633,7 @@ impl RecordsDocument {
             caution: CAUTION,
             scenario_out: None,
             chart: None,
+            report: None,
         }
     }
 }
@@ -916,10 +920,49 @@ impl RecordsDocument {
         if let Some(path) = &self.chart {
             let _ = writeln!(w, "Chart written: {path}");
         }
+        if let Some(path) = &self.report {
+            let _ = writeln!(w, "Report written: {path}");
+        }
     }
 }
 
+/// The header of the records CSV (`records --csv`): one row an interval.
+pub const CSV_HEADER: [&str; 9] = [
+    "start",
+    "date",
+    "time",
+    "calls",
+    "answered",
+    "blocked",
+    "abandoned",
+    "carried_traffic",
+    "offered_traffic",
+];
+
 impl Document for RecordsDocument {
+    /// The intervals, one row each in time order: the local start (with the
+    /// offset where the file has one), its date and clock time, the calls
+    /// starting in it by outcome (empty without an outcome column), carried
+    /// and offered traffic (E, 4 decimals as in the JSON).
+    fn csv(&self) -> Option<String> {
+        let header = CSV_HEADER.iter().map(|h| h.to_string()).collect();
+        let count = |n: Option<u64>| n.map_or(String::new(), |n| n.to_string());
+        let rows = self.intervals.iter().map(|iv| {
+            vec![
+                iv.start.clone(),
+                iv.start.get(..10).unwrap_or_default().to_string(),
+                iv.start.get(11..16).unwrap_or_default().to_string(),
+                iv.calls.to_string(),
+                count(iv.answered),
+                count(iv.blocked),
+                count(iv.abandoned),
+                trim_float(iv.carried_traffic, 4),
+                trim_float(iv.offered_traffic, 4),
+            ]
+        });
+        Some(super::text::csv(std::iter::once(header).chain(rows)))
+    }
+
     /// The terminal report, with a line for each file written.
     fn table(&self) -> String {
         let mut s = String::new();
@@ -931,6 +974,176 @@ impl Document for RecordsDocument {
         self.write_next_and_files(&mut s);
         s
     }
+}
+
+/// A section of the terminal report as paragraphs, one a line, its
+/// indentation and leading blank line dropped.
+fn paragraphs(text: &str) -> Vec<super::html::Block> {
+    (text.lines())
+        .map(str::trim)
+        .filter(|l| !l.is_empty())
+        .map(|l| super::html::Block::Paragraph(l.to_string()))
+        .collect()
+}
+
+impl RecordsDocument {
+    /// The HTML report (`records --report`): the terminal report's
+    /// sections, its tables as tables, and the traffic chart where given.
+    /// The page carries the caution ([`super::html::page`]).
+    pub fn html(&self, chart: Option<&str>) -> String {
+        use super::html::Block;
+        let section = |write: fn(&RecordsDocument, &mut String)| {
+            let mut s = String::new();
+            write(self, &mut s);
+            s
+        };
+        let mut blocks = vec![Block::Heading("The records".into())];
+        // The first line names the file, which the page's title does.
+        blocks.extend(
+            paragraphs(&section(Self::write_rows_and_calls))
+                .into_iter()
+                .skip(1),
+        );
+        if let Some(svg) = chart {
+            blocks.push(Block::Svg(svg.to_string()));
+        }
+        let bh = &self.busy_hour;
+        blocks.push(Block::Heading("Busy hour".into()));
+        blocks.push(Block::Paragraph(format!("Traffic in erlangs; {BASIS}.")));
+        let mut daily = vec![
+            [
+                "day",
+                "weekday",
+                "busiest hour",
+                "calls",
+                "carried (E)",
+                "offered (E)",
+            ]
+            .map(String::from)
+            .to_vec(),
+        ];
+        daily.extend(bh.daily.iter().map(|p| {
+            vec![
+                p.date.clone(),
+                p.weekday.to_string(),
+                format!("{}-{}", p.start, p.end),
+                p.calls.to_string(),
+                e(p.carried_traffic),
+                e(p.offered_traffic),
+            ]
+        }));
+        blocks.push(Block::Table(super::Table {
+            title: "Each day's busiest hour".into(),
+            rows: daily,
+        }));
+        if let Some(b) = &bh.time_consistent {
+            blocks.push(Block::Paragraph(format!(
+                "Time-consistent busy hour {}-{}: offered {} E, carried {} E, {} calls/h (mean of {} days); {TCBH_DEFINITION}.",
+                b.start,
+                b.end,
+                e(b.offered_traffic),
+                e(b.carried_traffic),
+                trim_float(b.calls_per_hour, 1),
+                b.days
+            )));
+        }
+        let adp = &bh.average_daily_peak;
+        if let (Some(o), Some(c)) = (adp.offered_traffic, adp.carried_traffic) {
+            blocks.push(Block::Paragraph(format!(
+                "Average daily peak hour: offered {} E, carried {} E; {ADPH_DEFINITION}.",
+                e(o),
+                e(c)
+            )));
+        }
+        if self.calls.outcomes_given {
+            blocks.push(Block::Paragraph(format!(
+                "Offered traffic estimate: {OFFERED_ESTIMATOR}."
+            )));
+        }
+        if !bh.profile.is_empty() {
+            let mut rows = vec![
+                ["interval", "calls/h", "offered (E)"]
+                    .map(String::from)
+                    .to_vec(),
+            ];
+            rows.extend(bh.profile.iter().map(|p| {
+                vec![
+                    format!("{}-{}", p.start, p.end),
+                    trim_float(p.calls_per_hour, 1),
+                    e(p.offered_traffic),
+                ]
+            }));
+            blocks.push(Block::Table(super::Table {
+                title: "Busy-hour profile (mean over the days analysed; one interval either side)"
+                    .into(),
+                rows,
+            }));
+        }
+        let h = &self.holding;
+        blocks.push(Block::Heading("Holding time of answered calls".into()));
+        let holding = section(Self::write_holding);
+        // The summary and percentile lines; the fits go in a table.
+        blocks.extend(paragraphs(&holding).into_iter().take(3));
+        let mut fits = vec![
+            ["law", "Kolmogorov-Smirnov D", "verdict"]
+                .map(String::from)
+                .to_vec(),
+        ];
+        fits.extend(h.fits.iter().map(|f| {
+            let verdict = match (f.law.measured, f.fits) {
+                (true, _) => "the data itself",
+                (_, true) => "fits",
+                (_, false) => "does not fit",
+            };
+            vec![
+                f.law.description.clone(),
+                format!("{:.4}", f.ks_distance),
+                verdict.to_string(),
+            ]
+        }));
+        blocks.push(Block::Table(super::Table {
+            title: String::new(),
+            rows: fits,
+        }));
+        if let Some(last) = holding.lines().last() {
+            blocks.push(Block::Paragraph(
+                last.trim().trim_start_matches("=> ").to_string(),
+            ));
+        }
+        let patience = section(Self::write_patience);
+        if !patience.is_empty() {
+            blocks.push(Block::Heading("Patience".into()));
+            blocks.extend(paragraphs(&patience));
+        }
+        blocks.push(Block::Heading("Peakedness".into()));
+        blocks.extend(paragraphs(&section(Self::write_peakedness)));
+        let next = section(Self::write_next_and_files);
+        let next: Vec<_> = (next.lines())
+            .filter(|l| {
+                let l = l.trim();
+                !l.is_empty() && l != CAUTION && !l.starts_with("Report written:")
+            })
+            .map(|l| Block::Paragraph(l.trim().to_string()))
+            .collect();
+        if !next.is_empty() {
+            blocks.push(Block::Heading("Next".into()));
+            blocks.extend(next);
+        }
+        let name = short_name(&self.file);
+        super::html::page(
+            &format!("Call records: {name}"),
+            &format!("busyhour records of {}", self.file),
+            &blocks,
+        )
+    }
+}
+
+/// The file name of a path, for titles ("depot-calls.csv").
+fn short_name(file: &str) -> &str {
+    std::path::Path::new(file)
+        .file_name()
+        .and_then(|n| n.to_str())
+        .unwrap_or(file)
 }
 
 /// The analysis alone as a terminal report (nothing written).
