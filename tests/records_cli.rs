@@ -427,3 +427,71 @@ fn the_html_report() {
     }
     let _ = std::fs::remove_dir_all(&dir);
 }
+
+/// The traffic chart: only the days analysed (`--days`), the hours without
+/// traffic between days cut, the installed servers (`--servers`) as a line,
+/// and the file's name (not its path) in the title.
+#[test]
+fn the_chart_cuts_nights_keeps_the_days_chosen_and_draws_the_installed_servers() {
+    use busyhour::records::{DayFilter, Options};
+    use busyhour::report::records::chart;
+    let opts = Options {
+        days: Some(DayFilter::parse("mon-wed").unwrap()),
+        ..Options::default()
+    };
+    let path = Path::new(env!("CARGO_MANIFEST_DIR")).join(DEMO);
+    let a = busyhour::records::analyse(&path, &opts).unwrap();
+    let c = chart(&a, Some(10));
+    assert_eq!(c.title, "Traffic per 15 min interval: depot-calls.csv");
+    // The demo's calls start from 07:00 and end before 20:00 (checked on
+    // the intervals themselves): 13 hours of 4 quarter hours a day drawn.
+    let busy: Vec<u32> = (a.timeline.selected_days())
+        .flat_map(|d| a.timeline.of(d))
+        .filter(|iv| iv.calls > 0 || iv.carried_traffic > 0.0)
+        .map(|iv| iv.clock_s)
+        .collect();
+    let (first, last) = (busy.iter().min().unwrap(), busy.iter().max().unwrap());
+    assert!(*first >= 7 * 3600 && *first < 8 * 3600, "{first}");
+    assert!(*last >= 19 * 3600 && *last < 20 * 3600, "{last}");
+    assert!(c.x_label.contains("07:00-20:00"), "{}", c.x_label);
+    let carried: Vec<_> = (c.series.iter())
+        .filter(|s| s.name == "carried traffic")
+        .collect();
+    assert_eq!(carried.len(), 3, "one line for each of Mon, Tue, Wed");
+    for (k, s) in carried.iter().enumerate() {
+        assert_eq!(s.points.len(), 13 * 4);
+        assert!(
+            (s.points.iter()).all(|p| p.0 > k as f64 && p.0 < k as f64 + 1.0),
+            "day {k} inside its unit of the x axis"
+        );
+    }
+    // Every carried interval of the chosen days is drawn: nothing cut but zeros.
+    let drawn: f64 = carried.iter().flat_map(|s| &s.points).map(|p| p.1).sum();
+    let all: f64 = (a.timeline.selected_days())
+        .flat_map(|d| a.timeline.of(d))
+        .map(|iv| iv.carried_traffic)
+        .sum();
+    assert!((drawn - all).abs() < 1e-9, "{drawn} vs {all}");
+    let line = c
+        .series
+        .iter()
+        .find(|s| s.name == "installed servers (10)")
+        .expect("the installed servers' line");
+    assert_eq!(line.points, vec![(0.0, 10.0), (3.0, 10.0)]);
+    // The busy hours shaded are the three days' own, inside the axis.
+    assert_eq!(c.markers[0].spans.len(), 3);
+    assert!(c.markers[0].spans.iter().all(|s| s.0 >= 0.0 && s.1 <= 3.0));
+    // End to end: --servers stands alone and the SVG carries its line.
+    let dir = temp_dir("chart-servers");
+    let svg = dir.join("depot.svg");
+    let out = busyhour(&["records", DEMO, "--chart", &text(&svg), "--servers", "10"]);
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let svg = std::fs::read_to_string(&svg).unwrap();
+    assert_well_formed(&svg);
+    assert!(svg.contains("installed servers (10)") && !svg.contains("scenarios/depot"));
+    let _ = std::fs::remove_dir_all(&dir);
+}

@@ -69,11 +69,14 @@ pub struct RecordsArgs {
     #[arg(long)]
     pub skip_bad: bool,
     /// Write a scenario file for `busyhour run`: the busy hour as a peak
-    /// profile, the fitted holding-time law, one group sized by Erlang B.
+    /// profile, the fitted holding-time law, one group sized by Erlang B (a
+    /// queue with the fitted patience when abandoned calls have waits).
     #[arg(long, value_name = "FILE.toml")]
     pub scenario_out: Option<PathBuf>,
-    /// Servers of the scenario's group, instead of sizing it by Erlang B.
-    #[arg(long, value_name = "N", requires = "scenario_out", value_parser = clap::value_parser!(u32).range(1..=1_000_000))]
+    /// Servers installed in the measured system (circuits or agents): drawn
+    /// as a line on the chart, and given to the scenario's group
+    /// (--scenario-out) instead of sizing it by Erlang B.
+    #[arg(long, value_name = "N", value_parser = clap::value_parser!(u32).range(1..=1_000_000))]
     pub servers: Option<u32>,
     /// Grade of service the scenario's group is sized for (blocking share).
     #[arg(
@@ -213,7 +216,9 @@ pub fn run(a: &RecordsArgs) -> Result<()> {
         ));
     }
     let svg = if a.chart.is_some() || a.report.is_some() {
-        Some(plot::stack(&[plot::render_svg(&report::chart(&analysis))?]))
+        Some(plot::stack(&[plot::render_svg(&report::chart(
+            &analysis, a.servers,
+        ))?]))
     } else {
         None
     };
