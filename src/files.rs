@@ -66,6 +66,7 @@ impl OutputKind {
                 };
                 header.starts_with("kind,name,interval_start_s,figure,")
                     || header.starts_with("value,kind,name,figure,")
+                    || header.starts_with("start,date,time,calls,")
             }
             OutputKind::Text => head.contains(CAUTION_MARK),
             OutputKind::Svg => {

@@ -303,3 +303,195 @@ fn unix_times_are_read_at_the_offset_given() {
     let o = busyhour(&["records", file.to_str().unwrap(), "--unix-offset", "+15:00"]);
     assert_eq!(o.status.code(), Some(2));
 }
+
+/// `--csv`: the intervals after the caution comment line, every interval
+/// of the JSON with the same counts and traffic, written atomically with
+/// `--out` (and an earlier CSV of ours replaced without --force).
+#[test]
+fn the_intervals_as_csv() {
+    let dir = temp_dir("csv");
+    let path = dir.join("intervals.csv");
+    let out = busyhour(&["records", DEMO, "--csv", "--out", &text(&path)]);
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    assert!(out.stdout.is_empty());
+    let csv = std::fs::read_to_string(&path).unwrap();
+    let mut lines = csv.lines();
+    assert_eq!(
+        lines.next().unwrap(),
+        format!("# Caution: {}", busyhour::report::CAUTION)
+    );
+    assert_eq!(
+        lines.next().unwrap(),
+        "start,date,time,calls,answered,blocked,abandoned,carried_traffic,offered_traffic"
+    );
+    let json: Value =
+        serde_json::from_slice(&busyhour(&["records", DEMO, "--json"]).stdout).unwrap();
+    let intervals = json["intervals"].as_array().unwrap();
+    let rows: Vec<Vec<&str>> = lines.map(|l| l.split(',').collect()).collect();
+    assert_eq!(rows.len(), intervals.len());
+    for (row, iv) in rows.iter().zip(intervals) {
+        assert_eq!(row[0], iv["start"].as_str().unwrap());
+        assert_eq!(format!("{}T{}:00", row[1], row[2]), row[0][..19]);
+        assert_eq!(row[3], iv["calls"].to_string());
+        assert_eq!(row[4], iv["answered"].to_string());
+        assert_eq!(row[5], iv["blocked"].to_string());
+        assert_eq!(row[6], iv["abandoned"].to_string());
+        for (cell, key) in [(row[7], "carried_traffic"), (row[8], "offered_traffic")] {
+            let x: f64 = cell.parse().unwrap();
+            assert!((x - iv[key].as_f64().unwrap()).abs() < 1e-9, "{cell} {key}");
+        }
+    }
+    // Calls by outcome add up to the report's totals.
+    let sum = |c: usize| {
+        rows.iter()
+            .map(|r| r[c].parse::<u64>().unwrap())
+            .sum::<u64>()
+    };
+    assert_eq!(sum(3), json["calls"]["attempts"].as_u64().unwrap());
+    assert_eq!(sum(5), json["calls"]["blocked"].as_u64().unwrap());
+    // Written again over our own CSV: no --force needed; no temporary file left.
+    let again = busyhour(&["records", DEMO, "--csv", "--out", &text(&path)]);
+    assert!(again.status.success());
+    let left: Vec<_> = std::fs::read_dir(&dir).unwrap().collect();
+    assert_eq!(left.len(), 1, "{left:?}");
+    // Without outcomes, the outcome cells are empty, not zeros.
+    let bare = dir.join("bare.csv");
+    std::fs::write(&bare, "start,duration\n2025-03-03T10:00:00Z,60\n").unwrap();
+    let out = busyhour(&["records", &text(&bare), "--csv"]);
+    let csv = String::from_utf8(out.stdout).unwrap();
+    assert!(
+        csv.contains("\n2025-03-03T10:00:00Z,2025-03-03,10:00,1,,,,0.0667,0.0667\n")
+            || csv.contains("\n2025-03-03T10:00:00+00:00,2025-03-03,10:00,1,,,,0.0667,0.0667\n"),
+        "{csv}"
+    );
+    // --csv with --json is refused.
+    let out = busyhour(&["records", DEMO, "--csv", "--json"]);
+    assert_eq!(out.status.code(), Some(2));
+    let _ = std::fs::remove_dir_all(&dir);
+}
+
+/// `--report`: an HTML page with the caution, the chart inline and the
+/// report's tables; a name that is not .html or .htm is refused before any
+/// work, as for the other commands.
+#[test]
+fn the_html_report() {
+    let dir = temp_dir("html");
+    let page = dir.join("depot.html");
+    let out = busyhour(&["records", DEMO, "--report", &text(&page)]);
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let stdout = String::from_utf8(out.stdout).unwrap();
+    assert!(stdout.contains(&format!("Report written: {}", text(&page))));
+    let html = std::fs::read_to_string(&page).unwrap();
+    assert!(html.starts_with("<!DOCTYPE html>"));
+    assert!(html.contains("<title>Call records: depot-calls.csv</title>"));
+    assert!(html.contains(&busyhour::report::html::escape(busyhour::report::CAUTION)));
+    assert!(html.contains("<div class=\"chart\"><svg"));
+    let json: Value =
+        serde_json::from_slice(&busyhour(&["records", DEMO, "--json"]).stdout).unwrap();
+    // Each day's busiest hour is a table row, as in the terminal report.
+    for d in json["busy_hour"]["daily"].as_array().unwrap() {
+        let row = format!(
+            "<tr><td>{}</td><td>{}</td><td>{}-{}</td><td>{}</td>",
+            d["date"].as_str().unwrap(),
+            d["weekday"].as_str().unwrap(),
+            d["start"].as_str().unwrap(),
+            d["end"].as_str().unwrap(),
+            d["calls"]
+        );
+        assert!(html.contains(&row), "{row}");
+    }
+    // The fits table names the recommended law.
+    let recommended = json["holding"]["recommended"]["description"]
+        .as_str()
+        .unwrap();
+    assert!(
+        html.contains(&format!("<tr><td>{recommended}</td>")),
+        "{recommended}"
+    );
+    for name in ["report.pdf", "report.svg", "report"] {
+        let bad = dir.join(name);
+        let out = busyhour(&["records", DEMO, "--report", &text(&bad)]);
+        assert_eq!(out.status.code(), Some(2), "{name}");
+        let err = String::from_utf8(out.stderr).unwrap();
+        assert_eq!(err.lines().count(), 1, "{err}");
+        assert!(err.contains("--report") && err.contains(".html"), "{err}");
+        assert!(!bad.exists());
+    }
+    let _ = std::fs::remove_dir_all(&dir);
+}
+
+/// The traffic chart: only the days analysed (`--days`), the hours without
+/// traffic between days cut, the installed servers (`--servers`) as a line,
+/// and the file's name (not its path) in the title.
+#[test]
+fn the_chart_cuts_nights_keeps_the_days_chosen_and_draws_the_installed_servers() {
+    use busyhour::records::{DayFilter, Options};
+    use busyhour::report::records::chart;
+    let opts = Options {
+        days: Some(DayFilter::parse("mon-wed").unwrap()),
+        ..Options::default()
+    };
+    let path = Path::new(env!("CARGO_MANIFEST_DIR")).join(DEMO);
+    let a = busyhour::records::analyse(&path, &opts).unwrap();
+    let c = chart(&a, Some(10));
+    assert_eq!(c.title, "Traffic per 15 min interval: depot-calls.csv");
+    // The demo's calls start from 07:00 and end before 20:00 (checked on
+    // the intervals themselves): 13 hours of 4 quarter hours a day drawn.
+    let busy: Vec<u32> = (a.timeline.selected_days())
+        .flat_map(|d| a.timeline.of(d))
+        .filter(|iv| iv.calls > 0 || iv.carried_traffic > 0.0)
+        .map(|iv| iv.clock_s)
+        .collect();
+    let (first, last) = (busy.iter().min().unwrap(), busy.iter().max().unwrap());
+    assert!(*first >= 7 * 3600 && *first < 8 * 3600, "{first}");
+    assert!(*last >= 19 * 3600 && *last < 20 * 3600, "{last}");
+    assert!(c.x_label.contains("07:00-20:00"), "{}", c.x_label);
+    let carried: Vec<_> = (c.series.iter())
+        .filter(|s| s.name == "carried traffic")
+        .collect();
+    assert_eq!(carried.len(), 3, "one line for each of Mon, Tue, Wed");
+    for (k, s) in carried.iter().enumerate() {
+        assert_eq!(s.points.len(), 13 * 4);
+        assert!(
+            (s.points.iter()).all(|p| p.0 > k as f64 && p.0 < k as f64 + 1.0),
+            "day {k} inside its unit of the x axis"
+        );
+    }
+    // Every carried interval of the chosen days is drawn: nothing cut but zeros.
+    let drawn: f64 = carried.iter().flat_map(|s| &s.points).map(|p| p.1).sum();
+    let all: f64 = (a.timeline.selected_days())
+        .flat_map(|d| a.timeline.of(d))
+        .map(|iv| iv.carried_traffic)
+        .sum();
+    assert!((drawn - all).abs() < 1e-9, "{drawn} vs {all}");
+    let line = c
+        .series
+        .iter()
+        .find(|s| s.name == "installed servers (10)")
+        .expect("the installed servers' line");
+    assert_eq!(line.points, vec![(0.0, 10.0), (3.0, 10.0)]);
+    // The busy hours shaded are the three days' own, inside the axis.
+    assert_eq!(c.markers[0].spans.len(), 3);
+    assert!(c.markers[0].spans.iter().all(|s| s.0 >= 0.0 && s.1 <= 3.0));
+    // End to end: --servers stands alone and the SVG carries its line.
+    let dir = temp_dir("chart-servers");
+    let svg = dir.join("depot.svg");
+    let out = busyhour(&["records", DEMO, "--chart", &text(&svg), "--servers", "10"]);
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let svg = std::fs::read_to_string(&svg).unwrap();
+    assert_well_formed(&svg);
+    assert!(svg.contains("installed servers (10)") && !svg.contains("scenarios/depot"));
+    let _ = std::fs::remove_dir_all(&dir);
+}

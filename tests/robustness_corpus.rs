@@ -173,6 +173,18 @@ fn every_bad_scenario_is_refused_with_one_clear_line() {
 /// Bad call-record files and a fragment of each one's message.
 const RECORDS: &[(&str, &str)] = &[
     ("all-answered-zero-holding.csv", "holding time of 0 s"),
+    (
+        "bad-date-line-3.csv",
+        "start date in column \"date\": '2026-02-30': day is out of range",
+    ),
+    (
+        "bad-time-of-day-line-3.csv",
+        "start time in column \"time\": '8h20' is not a time of day",
+    ),
+    (
+        "bad-wait-line-3.csv",
+        "waiting time in column \"wait_s\": '-5' is not a time",
+    ),
     ("bad-timestamp-line-3.csv", "hour is out of range"),
     ("binary-garbage.csv", "no start column"),
     (
@@ -208,6 +220,10 @@ const RECORDS: &[(&str, &str)] = &[
     (
         "offset-out-of-range-line-2.csv",
         "zone offset is out of range",
+    ),
+    (
+        "time-of-day-without-date-line-2.csv",
+        "a time of day without a date: name the date column with --date",
     ),
     ("too-few-columns-line-2.csv", "too few for \"duration\""),
     (

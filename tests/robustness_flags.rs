@@ -372,7 +372,18 @@ fn bad_flags_of_records_and_merge() {
         (vec!["records", c, "--days", "funday"], "funday"),
         (vec!["records", c, "--days", "2025-02-30"], "2025-02-30"),
         (vec!["records", c, "--start", "begins"], "begins"),
-        (vec!["records", c, "--servers", "4"], "--scenario-out"),
+        // --servers stands alone (the installed servers, drawn on the chart).
+        (vec!["records", c, "--servers", "0"], "'0'"),
+        (vec!["records", c, "--date", "day"], "no date column"),
+        (
+            vec!["records", c, "--wait", "queue"],
+            "name the column with --wait",
+        ),
+        (vec!["records", c, "--csv", "--json"], "--csv"),
+        (
+            vec!["records", c, "--report", "records.pdf"],
+            ".html ending",
+        ),
         (
             vec![
                 "records",

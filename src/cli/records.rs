@@ -69,11 +69,14 @@ pub struct RecordsArgs {
     #[arg(long)]
     pub skip_bad: bool,
     /// Write a scenario file for `busyhour run`: the busy hour as a peak
-    /// profile, the fitted holding-time law, one group sized by Erlang B.
+    /// profile, the fitted holding-time law, one group sized by Erlang B (a
+    /// queue with the fitted patience when abandoned calls have waits).
     #[arg(long, value_name = "FILE.toml")]
     pub scenario_out: Option<PathBuf>,
-    /// Servers of the scenario's group, instead of sizing it by Erlang B.
-    #[arg(long, value_name = "N", requires = "scenario_out", value_parser = clap::value_parser!(u32).range(1..=1_000_000))]
+    /// Servers installed in the measured system (circuits or agents): drawn
+    /// as a line on the chart, and given to the scenario's group
+    /// (--scenario-out) instead of sizing it by Erlang B.
+    #[arg(long, value_name = "N", value_parser = clap::value_parser!(u32).range(1..=1_000_000))]
     pub servers: Option<u32>,
     /// Grade of service the scenario's group is sized for (blocking share).
     #[arg(
@@ -92,8 +95,17 @@ pub struct RecordsArgs {
     pub chart: Option<PathBuf>,
     /// Print JSON instead of the report, every interval included (keys in
     /// docs/json.md).
-    #[arg(long)]
+    #[arg(long, conflicts_with = "csv")]
     pub json: bool,
+    /// Print the intervals as CSV instead of the report: local start, date,
+    /// time, calls by outcome, carried and offered traffic (erlangs), after
+    /// a "# Caution:" comment line.
+    #[arg(long)]
+    pub csv: bool,
+    /// Also write an HTML report of the analysis (its tables and the
+    /// traffic chart) to FILE.
+    #[arg(long, value_name = "FILE.html")]
+    pub report: Option<PathBuf>,
     /// Write the report or JSON to FILE (atomically) instead of standard output.
     #[arg(long, value_name = "FILE")]
     pub out: Option<PathBuf>,
@@ -146,6 +158,8 @@ pub fn run(a: &RecordsArgs) -> Result<()> {
     if let Some(out) = &a.out {
         let kind = if a.json {
             OutputKind::Json
+        } else if a.csv {
+            OutputKind::Csv
         } else {
             OutputKind::Text
         };
@@ -153,6 +167,9 @@ pub fn run(a: &RecordsArgs) -> Result<()> {
     }
     if let Some(chart) = &a.chart {
         files.output("--chart", chart, OutputKind::Svg);
+    }
+    if let Some(report) = &a.report {
+        files.output("--report", report, OutputKind::Html);
     }
     if let Some(path) = &a.scenario_out {
         files.output("--scenario-out", path, OutputKind::Scenario);
@@ -198,13 +215,30 @@ pub fn run(a: &RecordsArgs) -> Result<()> {
             grade,
         ));
     }
-    if let Some(path) = &a.chart {
-        let svg = plot::stack(&[plot::render_svg(&report::chart(&analysis))?]);
+    let svg = if a.chart.is_some() || a.report.is_some() {
+        Some(plot::stack(&[plot::render_svg(&report::chart(
+            &analysis, a.servers,
+        ))?]))
+    } else {
+        None
+    };
+    if let (Some(path), Some(svg)) = (&a.chart, &svg) {
         write_atomically(path, svg.as_bytes())
             .with_context(|| format!("cannot write {}", path.display()))?;
         doc.chart = Some(path.display().to_string());
     }
-    let format = if a.json { Format::Json } else { Format::Table };
+    if let Some(path) = &a.report {
+        doc.report = Some(path.display().to_string());
+        write_atomically(path, doc.html(svg.as_deref()).as_bytes())
+            .with_context(|| format!("cannot write {}", path.display()))?;
+    }
+    let format = if a.json {
+        Format::Json
+    } else if a.csv {
+        Format::Csv
+    } else {
+        Format::Table
+    };
     super::emit(format, &doc, a.out.as_deref())
 }
 

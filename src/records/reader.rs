@@ -448,7 +448,14 @@ impl<R: Read> RecordReader<R> {
             time::parse_date_and_time(date_text, start_text)
                 .map_err(|e| bad(format!("start time in column \"{start_name}\": {e}")))?
         } else {
-            time::parse_timestamp(start_text).map_err(|e| bad(format!("start time: {e}")))?
+            time::parse_timestamp(start_text).map_err(|e| match e {
+                // Beside a date column a time of day is the likely intent.
+                time::TimeError::Timestamp(_) if self.date.is_some() => bad(format!(
+                    "start time in column \"{start_name}\": {}",
+                    time::TimeError::TimeOfDay(start_text.to_string())
+                )),
+                e => bad(format!("start time: {e}")),
+            })?
         };
         if let (time::TimeKind::Unix, Some(offset)) = (start.kind, self.unix_offset_s) {
             start.offset_s = offset;

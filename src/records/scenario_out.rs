@@ -1,6 +1,8 @@
 //! A scenario file from measured call records: the time-consistent busy hour
-//! as a Poisson peak profile, the recommended holding-time law, and one loss
-//! group sized by Erlang B, ready to edit and to run. Owns the text written;
+//! as a Poisson peak profile, the recommended holding-time law, and one
+//! group sized by Erlang B (a loss group; a queue with the callers' fitted
+//! patience when the records give one, [`super::patience`]), ready to edit
+//! and to run. Owns the text written;
 //! the scenario module validates it like any other file.
 
 use super::busy_hour::ClockHour;

@@ -528,6 +528,9 @@ pub struct RecordsDocument {
     /// The chart written, with `--chart`.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub chart: Option<String>,
+    /// The HTML report written, with `--report`.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub report: Option<String>,
 }
 
 impl RecordsDocument {
@@ -630,6 +633,7 @@ impl RecordsDocument {
             caution: CAUTION,
             scenario_out: None,
             chart: None,
+            report: None,
         }
     }
 }
@@ -916,10 +920,49 @@ impl RecordsDocument {
         if let Some(path) = &self.chart {
             let _ = writeln!(w, "Chart written: {path}");
         }
+        if let Some(path) = &self.report {
+            let _ = writeln!(w, "Report written: {path}");
+        }
     }
 }
 
+/// The header of the records CSV (`records --csv`): one row an interval.
+pub const CSV_HEADER: [&str; 9] = [
+    "start",
+    "date",
+    "time",
+    "calls",
+    "answered",
+    "blocked",
+    "abandoned",
+    "carried_traffic",
+    "offered_traffic",
+];
+
 impl Document for RecordsDocument {
+    /// The intervals, one row each in time order: the local start (with the
+    /// offset where the file has one), its date and clock time, the calls
+    /// starting in it by outcome (empty without an outcome column), carried
+    /// and offered traffic (E, 4 decimals as in the JSON).
+    fn csv(&self) -> Option<String> {
+        let header = CSV_HEADER.iter().map(|h| h.to_string()).collect();
+        let count = |n: Option<u64>| n.map_or(String::new(), |n| n.to_string());
+        let rows = self.intervals.iter().map(|iv| {
+            vec![
+                iv.start.clone(),
+                iv.start.get(..10).unwrap_or_default().to_string(),
+                iv.start.get(11..16).unwrap_or_default().to_string(),
+                iv.calls.to_string(),
+                count(iv.answered),
+                count(iv.blocked),
+                count(iv.abandoned),
+                trim_float(iv.carried_traffic, 4),
+                trim_float(iv.offered_traffic, 4),
+            ]
+        });
+        Some(super::text::csv(std::iter::once(header).chain(rows)))
+    }
+
     /// The terminal report, with a line for each file written.
     fn table(&self) -> String {
         let mut s = String::new();
@@ -933,81 +976,310 @@ impl Document for RecordsDocument {
     }
 }
 
+/// A section of the terminal report as paragraphs, one a line, its
+/// indentation and leading blank line dropped.
+fn paragraphs(text: &str) -> Vec<super::html::Block> {
+    (text.lines())
+        .map(str::trim)
+        .filter(|l| !l.is_empty())
+        .map(|l| super::html::Block::Paragraph(l.to_string()))
+        .collect()
+}
+
+impl RecordsDocument {
+    /// The HTML report (`records --report`): the terminal report's
+    /// sections, its tables as tables, and the traffic chart where given.
+    /// The page carries the caution ([`super::html::page`]).
+    pub fn html(&self, chart: Option<&str>) -> String {
+        use super::html::Block;
+        let section = |write: fn(&RecordsDocument, &mut String)| {
+            let mut s = String::new();
+            write(self, &mut s);
+            s
+        };
+        let mut blocks = vec![Block::Heading("The records".into())];
+        // The first line names the file, which the page's title does.
+        blocks.extend(
+            paragraphs(&section(Self::write_rows_and_calls))
+                .into_iter()
+                .skip(1),
+        );
+        if let Some(svg) = chart {
+            blocks.push(Block::Svg(svg.to_string()));
+        }
+        let bh = &self.busy_hour;
+        blocks.push(Block::Heading("Busy hour".into()));
+        blocks.push(Block::Paragraph(format!("Traffic in erlangs; {BASIS}.")));
+        let mut daily = vec![
+            [
+                "day",
+                "weekday",
+                "busiest hour",
+                "calls",
+                "carried (E)",
+                "offered (E)",
+            ]
+            .map(String::from)
+            .to_vec(),
+        ];
+        daily.extend(bh.daily.iter().map(|p| {
+            vec![
+                p.date.clone(),
+                p.weekday.to_string(),
+                format!("{}-{}", p.start, p.end),
+                p.calls.to_string(),
+                e(p.carried_traffic),
+                e(p.offered_traffic),
+            ]
+        }));
+        blocks.push(Block::Table(super::Table {
+            title: "Each day's busiest hour".into(),
+            rows: daily,
+        }));
+        if let Some(b) = &bh.time_consistent {
+            blocks.push(Block::Paragraph(format!(
+                "Time-consistent busy hour {}-{}: offered {} E, carried {} E, {} calls/h (mean of {} days); {TCBH_DEFINITION}.",
+                b.start,
+                b.end,
+                e(b.offered_traffic),
+                e(b.carried_traffic),
+                trim_float(b.calls_per_hour, 1),
+                b.days
+            )));
+        }
+        let adp = &bh.average_daily_peak;
+        if let (Some(o), Some(c)) = (adp.offered_traffic, adp.carried_traffic) {
+            blocks.push(Block::Paragraph(format!(
+                "Average daily peak hour: offered {} E, carried {} E; {ADPH_DEFINITION}.",
+                e(o),
+                e(c)
+            )));
+        }
+        if self.calls.outcomes_given {
+            blocks.push(Block::Paragraph(format!(
+                "Offered traffic estimate: {OFFERED_ESTIMATOR}."
+            )));
+        }
+        if !bh.profile.is_empty() {
+            let mut rows = vec![
+                ["interval", "calls/h", "offered (E)"]
+                    .map(String::from)
+                    .to_vec(),
+            ];
+            rows.extend(bh.profile.iter().map(|p| {
+                vec![
+                    format!("{}-{}", p.start, p.end),
+                    trim_float(p.calls_per_hour, 1),
+                    e(p.offered_traffic),
+                ]
+            }));
+            blocks.push(Block::Table(super::Table {
+                title: "Busy-hour profile (mean over the days analysed; one interval either side)"
+                    .into(),
+                rows,
+            }));
+        }
+        let h = &self.holding;
+        blocks.push(Block::Heading("Holding time of answered calls".into()));
+        let holding = section(Self::write_holding);
+        // The summary and percentile lines; the fits go in a table.
+        blocks.extend(paragraphs(&holding).into_iter().take(3));
+        let mut fits = vec![
+            ["law", "Kolmogorov-Smirnov D", "verdict"]
+                .map(String::from)
+                .to_vec(),
+        ];
+        fits.extend(h.fits.iter().map(|f| {
+            let verdict = match (f.law.measured, f.fits) {
+                (true, _) => "the data itself",
+                (_, true) => "fits",
+                (_, false) => "does not fit",
+            };
+            vec![
+                f.law.description.clone(),
+                format!("{:.4}", f.ks_distance),
+                verdict.to_string(),
+            ]
+        }));
+        blocks.push(Block::Table(super::Table {
+            title: String::new(),
+            rows: fits,
+        }));
+        if let Some(last) = holding.lines().last() {
+            blocks.push(Block::Paragraph(
+                last.trim().trim_start_matches("=> ").to_string(),
+            ));
+        }
+        let patience = section(Self::write_patience);
+        if !patience.is_empty() {
+            blocks.push(Block::Heading("Patience".into()));
+            blocks.extend(paragraphs(&patience));
+        }
+        blocks.push(Block::Heading("Peakedness".into()));
+        blocks.extend(paragraphs(&section(Self::write_peakedness)));
+        let next = section(Self::write_next_and_files);
+        let next: Vec<_> = (next.lines())
+            .filter(|l| {
+                let l = l.trim();
+                !l.is_empty() && l != CAUTION && !l.starts_with("Report written:")
+            })
+            .map(|l| Block::Paragraph(l.trim().to_string()))
+            .collect();
+        if !next.is_empty() {
+            blocks.push(Block::Heading("Next".into()));
+            blocks.extend(next);
+        }
+        let name = short_name(&self.file);
+        super::html::page(
+            &format!("Call records: {name}"),
+            &format!("busyhour records of {}", self.file),
+            &blocks,
+        )
+    }
+}
+
+/// The file name of a path, for titles ("depot-calls.csv").
+fn short_name(file: &str) -> &str {
+    std::path::Path::new(file)
+        .file_name()
+        .and_then(|n| n.to_str())
+        .unwrap_or(file)
+}
+
 /// The analysis alone as a terminal report (nothing written).
 pub fn to_text(a: &Analysis) -> String {
     RecordsDocument::new(a).table()
 }
 
-/// The traffic chart: carried traffic (and the offered estimate, with
-/// outcomes) per interval over the days, each day's busy hour shaded.
-pub fn chart(a: &Analysis) -> LineChart {
+/// The hours of the day the chart draws: from the first whole hour to the
+/// end of the last hour in which some shown day carries or offers traffic
+/// or has a call starting (s after midnight); the whole day when that
+/// leaves out less than four hours, so that a line open day and night is
+/// drawn as it is.
+fn drawn_hours(a: &Analysis) -> (u32, u32) {
     let t = &a.timeline;
-    let first_day = t.days.first().map_or(0, |d| d.day);
-    let interval = f64::from(a.interval_s);
-    // x: local days since the first day's midnight, at the interval's middle.
-    let x_of = |iv: &Interval| (iv.local_start_s() - first_day * DAY_S) as f64 / DAY_S as f64;
-    let mid = interval / 2.0 / DAY_S as f64;
+    let busy = (t.selected_days())
+        .flat_map(|d| t.of(d))
+        .filter(|iv| iv.calls > 0 || iv.carried_traffic > 0.0 || iv.offered_traffic > 0.0);
+    let (mut from, mut to) = (u32::MAX, 0);
+    for iv in busy {
+        from = from.min(iv.clock_s);
+        to = to.max(iv.clock_s + a.interval_s);
+    }
+    let (from, to) = (from / 3600 * 3600, to.div_ceil(3600) * 3600);
+    if from >= to || to - from > 20 * 3600 {
+        (0, DAY_S as u32)
+    } else {
+        (from, to)
+    }
+}
+
+/// The traffic chart: carried traffic (and the offered estimate, with
+/// outcomes) per interval on the days analysed (`--days`), each day's busy
+/// hour shaded, and the installed servers as a line when known. The hours
+/// without traffic between days are cut (`drawn_hours`): each day takes
+/// one unit of the x axis, its traffic hours only, and its line stops at
+/// the day's end, so nights do not take most of the width. Titled with the
+/// file's name, not its path.
+pub fn chart(a: &Analysis, installed: Option<u32>) -> LineChart {
+    let t = &a.timeline;
+    let days: Vec<i64> = t.selected_days().map(|d| d.day).collect();
+    let (from_s, to_s) = drawn_hours(a);
+    let width_s = f64::from(to_s - from_s);
+    let whole_day = (from_s, to_s) == (0, DAY_S as u32);
+    // x: the day's place among the days drawn, plus the share of its drawn
+    // hours before the interval's middle.
+    let place = |day: i64| days.iter().position(|&d| d == day);
+    let x_at = move |k: usize, clock_s: f64| k as f64 + (clock_s - f64::from(from_s)) / width_s;
+    let mid = f64::from(a.interval_s) / 2.0;
+    let name = std::path::Path::new(&a.file)
+        .file_name()
+        .and_then(|n| n.to_str())
+        .unwrap_or(&a.file);
+    let x_label = if whole_day {
+        "local day and time".to_string()
+    } else {
+        format!(
+            "local day and time, {}-{} of each day (hours without traffic left out)",
+            Clock(i64::from(from_s)),
+            Clock(i64::from(to_s))
+        )
+    };
     let mut c = LineChart::new(
         format!(
-            "Traffic per {} interval: {}",
-            format_duration(interval),
-            a.file
+            "Traffic per {} interval: {name}",
+            format_duration(f64::from(a.interval_s))
         ),
-        format!("local day and time (from {})", Date(first_day)),
+        x_label,
         "traffic (erlangs)",
     );
+    let tick_days = days.clone();
     c.x_ticks = Some(Box::new(move |x: f64| {
-        let d = first_day + x.floor() as i64;
-        let within = ((x - x.floor()) * DAY_S as f64).round() as i64;
-        if within == 0 || within == DAY_S {
-            let d = if within == DAY_S { d + 1 } else { d };
-            format!(
-                "{} {}",
-                time::weekday_name(time::weekday(d)),
-                &Date(d).to_string()[5..]
-            )
+        let Some(&last) = tick_days.last() else {
+            return String::new();
+        };
+        // The end of the last day is the end of its drawn hours.
+        let (day, within) = match tick_days.get(x.floor().max(0.0) as usize) {
+            Some(&d) => (d, (x - x.floor()).clamp(0.0, 1.0)),
+            None => (last, 1.0),
+        };
+        let wd = time::weekday_name(time::weekday(day));
+        if within < 1e-9 {
+            format!("{wd} {}", &Date(day).to_string()[5..])
         } else {
-            format!(
-                "{} {}",
-                time::weekday_name(time::weekday(d)),
-                Clock(within / 60 * 60)
-            )
+            let clock = f64::from(from_s) + within * width_s;
+            format!("{wd} {}", Clock((clock / 60.0).round() as i64 * 60))
         }
     }));
-    // The offered estimate first, so the carried line is drawn over it.
+    // One line a day (a shared name: one legend entry), so that no line
+    // crosses the cut between days; the offered estimate first, so the
+    // carried line is drawn over it.
+    let per_day = |name: &str, paint: Paint, value: fn(&Interval) -> f64| -> Vec<Series> {
+        (t.selected_days())
+            .enumerate()
+            .map(|(k, d)| {
+                let points = (t.of(d).iter())
+                    .filter(|iv| iv.clock_s >= from_s && iv.clock_s < to_s)
+                    .map(|iv| (x_at(k, f64::from(iv.clock_s) + mid), value(iv)))
+                    .collect();
+                Series::new(name, points).painted(paint)
+            })
+            .collect::<Vec<_>>()
+    };
+    // Drawn whole, the days follow one another: one unbroken line.
+    let joined = |mut lines: Vec<Series>| -> Vec<Series> {
+        if whole_day && let Some(first) = lines.first().cloned() {
+            let points = lines.drain(..).flat_map(|s| s.points).collect();
+            vec![Series { points, ..first }]
+        } else {
+            lines
+        }
+    };
     if a.has_outcomes {
-        c.series.push(Series {
-            name: "offered traffic (estimate)".into(),
-            points: t
-                .intervals
-                .iter()
-                .map(|iv| (x_of(iv) + mid, iv.offered_traffic))
-                .collect(),
-            band: None,
-            paint: Paint::Offered,
-            ..Series::default()
-        });
+        c.series.extend(joined(per_day(
+            "offered traffic (estimate)",
+            Paint::Offered,
+            |iv| iv.offered_traffic,
+        )));
     }
-    c.series.push(Series {
-        name: "carried traffic".into(),
-        points: t
-            .intervals
-            .iter()
-            .map(|iv| (x_of(iv) + mid, iv.carried_traffic))
-            .collect(),
-        band: None,
-        paint: Paint::Carried,
-        ..Series::default()
-    });
+    c.series
+        .extend(joined(per_day("carried traffic", Paint::Carried, |iv| {
+            iv.carried_traffic
+        })));
+    if let Some(n) = installed {
+        c.series.push(Series::goal(
+            format!("installed servers ({n})"),
+            f64::from(n),
+            (0.0, days.len() as f64),
+        ));
+    }
     c.markers.push(Markers {
         name: "busy hour of the day".into(),
-        spans: a
-            .busy_hour
-            .daily
-            .iter()
-            .map(|p| {
-                let x = x_of(&t.intervals[p.first]);
-                (x, x + 3600.0 / DAY_S as f64)
+        spans: (a.busy_hour.daily.iter())
+            .filter_map(|p| {
+                let iv = &t.intervals[p.first];
+                let x = x_at(place(iv.day)?, f64::from(iv.clock_s));
+                Some((x, x + 3600.0 / width_s))
             })
             .collect(),
     });
