@@ -677,7 +677,7 @@ fn size_per_interval(a: &SizeArgs) -> Result<Status> {
     let file = a.scenario.display().to_string();
     let doc = report::StaffingDocument::new(&model, &file, group, &goals, &references, &plan);
     emit(a.output.format(), &doc, a.output.out.as_deref())?;
-    Ok(if plan.partial && !plan.met {
+    Ok(if plan.result.partial {
         Status::Interrupted
     } else if plan.met {
         Status::Done

@@ -103,6 +103,9 @@ pub struct StaffingPlan {
     pub result: RunResult,
     /// Every simulation, in order.
     pub rounds: Vec<Round>,
+    /// The run at the starting staffing (the formula's plan, as the
+    /// simulator sees it).
+    pub at_start: Option<RunResult>,
     /// Stopped on request, or after the most rounds, before the search ended.
     pub partial: bool,
 }
@@ -194,10 +197,14 @@ pub fn staff(
     let mut rounds = Vec::new();
     let mut best: Option<(Vec<u32>, RunResult)> = None;
     let mut last: Option<RunResult> = None;
+    let mut at_start: Option<RunResult> = None;
     let mut partial = true;
     let mut parity = 0;
     while rounds.len() < max_rounds as usize {
         let (result, verdicts) = simulate(&servers)?;
+        if at_start.is_none() {
+            at_start = Some(result.clone());
+        }
         let short: Vec<usize> = (0..bins)
             .filter(|&b| verdicts[b] != Verdict::Holds)
             .collect();
@@ -269,6 +276,7 @@ pub fn staff(
             settled,
             result,
             rounds,
+            at_start,
             partial,
         },
         None => StaffingPlan {
@@ -280,6 +288,7 @@ pub fn staff(
                 None => simulate(start)?.0,
             },
             rounds,
+            at_start,
             partial: true,
         },
     })

@@ -49,6 +49,11 @@ pub struct StaffingInterval {
     pub settled: bool,
     /// Each goal there.
     pub goals: Vec<IntervalGoal>,
+    /// Servers of the starting plan (the stationary requirement, where a
+    /// formula covers the goals).
+    pub start_servers: u32,
+    /// Each goal there under the starting plan, as simulated.
+    pub start_goals: Vec<IntervalGoal>,
 }
 
 /// What `size --per-interval` found.
@@ -108,18 +113,22 @@ impl StaffingDocument {
             .map(|b| {
                 let start_s = stats::interval_start(model, b);
                 let r = references.get(b);
-                let goals = staffing::interval_goals(model, goals, b)
-                    .unwrap_or_default()
-                    .iter()
-                    .map(|g| {
-                        let (verdict, estimate, _) = g.judge_targets(&plan.result, 1);
-                        IntervalGoal {
-                            goal: g.text.clone(),
-                            verdict,
-                            estimate,
-                        }
-                    })
-                    .collect();
+                let judged = |result: &crate::experiment::RunResult| {
+                    staffing::interval_goals(model, goals, b)
+                        .unwrap_or_default()
+                        .iter()
+                        .map(|g| {
+                            let (verdict, estimate, _) = g.judge_targets(result, 1);
+                            IntervalGoal {
+                                goal: g.text.clone(),
+                                verdict,
+                                estimate,
+                            }
+                        })
+                        .collect::<Vec<_>>()
+                };
+                let goals = judged(&plan.result);
+                let start_goals = plan.at_start.as_ref().map(judged).unwrap_or_default();
                 StaffingInterval {
                     start_s,
                     end_s: start_s + stats::interval_length(model, b),
@@ -133,6 +142,11 @@ impl StaffingDocument {
                         .map_or(plan.servers[b], |s| s.scheduled[b]),
                     settled: plan.settled[b],
                     goals,
+                    start_servers: plan
+                        .rounds
+                        .first()
+                        .map_or(plan.servers[b], |r| r.servers[b]),
+                    start_goals,
                 }
             })
             .collect();
@@ -178,6 +192,11 @@ impl StaffingDocument {
             head.push("to schedule".into());
         }
         head.extend(self.goals.iter().cloned());
+        head.extend(
+            self.goals
+                .iter()
+                .map(|g| format!("{g}, stationary plan simulated")),
+        );
         let mut rows = vec![head];
         for r in &self.intervals {
             let mut row = vec![
@@ -198,7 +217,7 @@ impl StaffingDocument {
             if self.shrinkage() {
                 row.push(r.scheduled.to_string());
             }
-            for g in &r.goals {
+            for g in r.goals.iter().chain(&r.start_goals) {
                 let unit = (crate::stats::Figure::from_name(goal_figure(&g.goal)))
                     .map_or(stats::Unit::Ratio, |f| f.unit());
                 let mark = match g.verdict {
