@@ -90,6 +90,17 @@ fn the_censored_estimate_recovers_a_known_exponential_patience() {
     let naive = waits.abandoned_wait_s / waits.abandoned as f64;
     assert!((naive - 40.0).abs() < 4.0 * 40.0 / (waits.abandoned as f64).sqrt());
     assert!(p.mean_s - naive > 60.0);
+    // The life table (Cutler and Ederer 1958, Greenwood's standard error)
+    // follows the true survival exp(-t / 120) without assuming a law.
+    for t in busyhour::records::patience::SURVIVAL_AT_S {
+        let (share, se) = waits.survival(t).expect("callers waited that long");
+        let truth = (-t / PATIENCE_MEAN_S).exp();
+        assert!(
+            (share - truth).abs() < 4.0 * se,
+            "after {t} s: {share} vs {truth}, se {se}"
+        );
+        assert!(se < 0.03, "after {t} s: se {se}");
+    }
 }
 
 #[test]

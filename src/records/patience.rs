@@ -28,9 +28,33 @@
 //!
 //! Blocked calls never waited and count in neither sum; rows whose wait
 //! is unknown (an empty field) are counted apart and left out.
+//!
+//! # Life table
+//!
+//! Beside the exponential fit, a non-parametric view that does not assume
+//! a law: the share of callers still willing to wait after t seconds, by
+//! the actuarial life-table estimator (Cutler and Ederer 1958) on bins of
+//! [`BIN_S`] seconds, kept in fixed memory. In bin j with n_j callers still
+//! waiting at its start, d_j abandoning and c_j answered inside it, the
+//! effective number at risk is n_j - c_j / 2 (answers spread evenly over
+//! the bin) and S(end of j) = prod (1 - d_j / (n_j - c_j / 2)); its
+//! standard error is Greenwood's, S sqrt(sum d_j / (n'_j (n'_j - d_j))).
+//! Answered calls that did not wait (wait 0) were never at risk and are
+//! left out of the table; they add nothing to the exponential fit either.
+//! Read against exp(-t / mean), it shows whether the exponential patience
+//! is fair.
+
+/// Width of a life-table bin (s).
+pub const BIN_S: f64 = 5.0;
+
+/// Life-table bins: waits of an hour or more share the last one.
+const BINS: usize = 720;
+
+/// Waits at which the life table is reported (s).
+pub const SURVIVAL_AT_S: [f64; 5] = [15.0, 30.0, 60.0, 120.0, 300.0];
 
 /// Waits of the analysed calls, summed for the estimate.
-#[derive(Debug, Clone, Copy, Default, PartialEq)]
+#[derive(Debug, Clone, Default, PartialEq)]
 pub struct WaitTally {
     /// Abandoned calls with a known wait (the events).
     pub abandoned: u64,
@@ -42,6 +66,8 @@ pub struct WaitTally {
     pub abandoned_wait_s: f64,
     /// Answered or abandoned calls whose wait field was empty.
     pub unknown: u64,
+    /// Per life-table bin: (abandoned, answered after a wait) in it.
+    bins: Vec<(u64, u64)>,
 }
 
 impl WaitTally {
@@ -52,6 +78,15 @@ impl WaitTally {
             return;
         };
         self.total_wait_s += w;
+        if self.bins.is_empty() {
+            self.bins = vec![(0, 0); BINS];
+        }
+        let bin = ((w / BIN_S) as usize).min(BINS - 1);
+        if abandoned {
+            self.bins[bin].0 += 1;
+        } else if w > 0.0 {
+            self.bins[bin].1 += 1;
+        }
         if abandoned {
             self.abandoned += 1;
             self.abandoned_wait_s += w;
@@ -74,6 +109,30 @@ impl WaitTally {
             mean_s: 1.0 / rate_per_s,
             mean_standard_error_s: 1.0 / rate_per_s / d.sqrt(),
         })
+    }
+}
+
+impl WaitTally {
+    /// The life table at `t_s` (a multiple of [`BIN_S`] below an hour):
+    /// the share of callers still willing to wait after `t_s` seconds and
+    /// Greenwood's standard error; `None` when nobody waited that long.
+    pub fn survival(&self, t_s: f64) -> Option<(f64, f64)> {
+        let end = ((t_s / BIN_S).round() as usize).min(BINS - 1);
+        let mut at_risk: f64 = self.bins.iter().map(|b| (b.0 + b.1) as f64).sum();
+        let (mut s, mut greenwood) = (1.0, 0.0);
+        for &(d, c) in self.bins.iter().take(end) {
+            let (d, c) = (d as f64, c as f64);
+            let effective = at_risk - c / 2.0;
+            if !(effective > 0.0) {
+                return None;
+            }
+            s *= 1.0 - d / effective;
+            if effective > d {
+                greenwood += d / (effective * (effective - d));
+            }
+            at_risk -= d + c;
+        }
+        (at_risk > 0.0 || end == 0).then(|| (s, s * greenwood.sqrt()))
     }
 }
 
@@ -117,6 +176,16 @@ mod tests {
         assert!((e.rate_per_s - 0.01).abs() < 1e-15);
         assert!((e.mean_s - 100.0).abs() < 1e-12);
         assert!((e.mean_standard_error_s - 100.0 / 2f64.sqrt()).abs() < 1e-12);
+        // Life table, worked by hand on 5 s bins: at risk 4 (the wait of 0
+        // s answered never was); bin [20, 25): 1 answered, n' = 3.5, no
+        // event; bin [30, 35): 1 abandoned of 3, S = 2/3; bin [50, 55): 1
+        // of 2, S = 1/3.
+        assert_eq!(t.survival(30.0).unwrap().0, 1.0);
+        assert!((t.survival(35.0).unwrap().0 - 2.0 / 3.0).abs() < 1e-12);
+        assert!((t.survival(55.0).unwrap().0 - 1.0 / 3.0).abs() < 1e-12);
+        // Greenwood at 55 s: S^2 (1/(3*2) + 1/(2*1)) = (1/9)(2/3).
+        let se = t.survival(55.0).unwrap().1;
+        assert!((se - (2.0f64 / 27.0).sqrt()).abs() < 1e-12, "{se}");
         // No abandonment, or only zero waits: nothing to fit.
         let mut none = WaitTally::default();
         none.add(false, Some(40.0));

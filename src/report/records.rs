@@ -402,6 +402,25 @@ pub struct PatienceSummary {
     /// Its standard error (s).
     #[serde(serialize_with = "round_opt::<4, _>")]
     pub standard_error_s: Option<f64>,
+    /// The life table: the share of callers still willing to wait after
+    /// a few waits, beside the fitted exponential's.
+    pub still_waiting: Vec<StillWaiting>,
+}
+
+/// One row of the patience life table ([`crate::records::patience`]).
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct StillWaiting {
+    /// The wait (s).
+    pub after_s: f64,
+    /// Life-table share still willing to wait.
+    #[serde(serialize_with = "round::<4, _>")]
+    pub share: f64,
+    /// Greenwood's standard error.
+    #[serde(serialize_with = "round::<4, _>")]
+    pub standard_error: f64,
+    /// The fitted exponential's share, exp(-t / mean); null without a fit.
+    #[serde(serialize_with = "round_opt::<4, _>")]
+    pub exponential: Option<f64>,
 }
 
 /// One local day of the file.
@@ -601,6 +620,17 @@ impl RecordsDocument {
                 total_wait_s: w.total_wait_s,
                 mean_s: a.patience.map(|p| p.mean_s),
                 standard_error_s: a.patience.map(|p| p.mean_standard_error_s),
+                still_waiting: (crate::records::patience::SURVIVAL_AT_S.iter())
+                    .filter_map(|&t| {
+                        let (share, standard_error) = w.survival(t)?;
+                        Some(StillWaiting {
+                            after_s: t,
+                            share,
+                            standard_error,
+                            exponential: a.patience.map(|p| (-t / p.mean_s).exp()),
+                        })
+                    })
+                    .collect(),
             }),
             days: (t.days.iter())
                 .map(|d| {
@@ -859,6 +889,27 @@ impl RecordsDocument {
                             "  no abandoned call with a wait: no patience law can be fitted"
                         );
                     }
+                }
+                if !p.still_waiting.is_empty() {
+                    let cells: Vec<String> = (p.still_waiting.iter())
+                        .map(|r| {
+                            format!(
+                                "{} s {} ± {}{}",
+                                r.after_s,
+                                format_share(r.share),
+                                format_share(r.standard_error),
+                                r.exponential.map_or(String::new(), |x| format!(
+                                    " (exp. {})",
+                                    format_share(x)
+                                ))
+                            )
+                        })
+                        .collect();
+                    let _ = writeln!(
+                        w,
+                        "  still willing to wait (life table, Cutler-Ederer; the exponential fit beside): {}",
+                        cells.join(", ")
+                    );
                 }
             }
             None if self.calls.abandoned > 0 => {
