@@ -685,7 +685,7 @@ pub fn stack(charts: &[String]) -> String {
         y += dims(c).1;
     }
     out.push_str(&format!(
-        "<text x=\"8\" y=\"{}\" font-family=\"sans-serif\" font-size=\"11\" fill=\"#444\">{}</text>\n",
+        "<text x=\"8\" y=\"{}\" font-family=\"sans-serif\" font-size=\"13\" fill=\"#444\">{}</text>\n",
         panels + FOOTNOTE_HEIGHT - 6,
         super::html::escape(super::CAUTION_SHORT)
     ));
@@ -694,7 +694,7 @@ pub fn stack(charts: &[String]) -> String {
 }
 
 /// Height of the caution line under a stacked chart, in pixels.
-const FOOTNOTE_HEIGHT: u32 = 20;
+const FOOTNOTE_HEIGHT: u32 = 24;
 
 #[cfg(test)]
 mod tests {
