@@ -259,9 +259,10 @@ const AXIS_PX: f64 = 16.0;
 const TICK_PX: f64 = 15.0;
 const LEGEND_PX: f64 = 15.0;
 
-/// The plotters font size that is written as `px` SVG pixels.
+/// The plotters font size that is written as at least `px` SVG pixels
+/// (plotters keeps whole sizes).
 fn font(px: f64) -> (&'static str, f64) {
-    ("sans-serif", px * 1.24)
+    ("sans-serif", (px * 1.24).ceil())
 }
 
 /// Height of one legend row, in pixels.
@@ -440,8 +441,13 @@ fn draw_panel(
 ) -> Result<(), ChartError> {
     let draw = |e: &dyn fmt::Display| ChartError::Draw(e.to_string());
     let categories = !chart.x_categories.is_empty();
+    // A long title (a scenario's own) is set smaller to fit the width, an
+    // average glyph taken as 0.55 em, down to the tick size.
+    let (width, _) = area.dim_in_pixel();
+    let chars = title.chars().count().max(1) as f64;
+    let title_px = (f64::from(width.saturating_sub(40)) / (chars * 0.55)).clamp(TICK_PX, TITLE_PX);
     let mut c = ChartBuilder::on(area)
-        .caption(title, font(TITLE_PX))
+        .caption(title, font(title_px))
         .margin(14)
         .margin_right(28)
         .x_label_area_size(if categories { 40 } else { 62 })
@@ -685,7 +691,7 @@ pub fn stack(charts: &[String]) -> String {
         y += dims(c).1;
     }
     out.push_str(&format!(
-        "<text x=\"8\" y=\"{}\" font-family=\"sans-serif\" font-size=\"11\" fill=\"#444\">{}</text>\n",
+        "<text x=\"8\" y=\"{}\" font-family=\"sans-serif\" font-size=\"13\" fill=\"#444\">{}</text>\n",
         panels + FOOTNOTE_HEIGHT - 6,
         super::html::escape(super::CAUTION_SHORT)
     ));
@@ -694,7 +700,7 @@ pub fn stack(charts: &[String]) -> String {
 }
 
 /// Height of the caution line under a stacked chart, in pixels.
-const FOOTNOTE_HEIGHT: u32 = 20;
+const FOOTNOTE_HEIGHT: u32 = 24;
 
 #[cfg(test)]
 mod tests {
@@ -746,6 +752,17 @@ mod tests {
         // The legend sits below the plot: every legend text lies under the
         // plotting area's bottom edge.
         assert!(svg.contains(">book</text>") && svg.contains(">goal</text>"));
+        // Every text, ticks included, is at least 13 px at the native size
+        // (the HTML page shows charts at that size).
+        let sizes: Vec<f64> = svg
+            .split("font-size=\"")
+            .skip(1)
+            .map(|r| r.split('"').next().unwrap().parse().unwrap())
+            .collect();
+        assert!(
+            sizes.len() > 5 && sizes.iter().all(|&px| px >= 13.0),
+            "{sizes:?}"
+        );
     }
 
     #[test]
