@@ -1,8 +1,9 @@
 //! `busyhour size --per-interval` end to end: the staffing table's exit
-//! status, its CSV with the caution line, and the one-line refusals of what
-//! it cannot do. (The method is checked against outside references in
+//! status, its CSV with the caution line, the chart and the HTML report,
+//! and the one-line refusals of what it cannot do. (The method is checked against outside references in
 //! `tests/staffing.rs`.)
 
+use std::path::PathBuf;
 use std::process::{Command, Output};
 
 fn busyhour(args: &[&str]) -> Output {
@@ -14,6 +15,41 @@ fn busyhour(args: &[&str]) -> Output {
 }
 
 const CLINIC: &str = "scenarios/clinic-day.toml";
+
+/// A fresh folder for one test's files.
+fn scratch(name: &str) -> PathBuf {
+    let dir = std::env::temp_dir().join(format!("busyhour-staffing-{name}-{}", std::process::id()));
+    let _ = std::fs::remove_dir_all(&dir);
+    std::fs::create_dir_all(&dir).unwrap();
+    dir
+}
+
+/// The points of an SVG polyline element.
+fn points(line: &str) -> Vec<(f64, f64)> {
+    let start = line.find("points=\"").unwrap() + 8;
+    let end = start + line[start..].find('"').unwrap();
+    line[start..end]
+        .split_whitespace()
+        .map(|p| {
+            let (x, y) = p.split_once(',').unwrap();
+            (x.parse().unwrap(), y.parse().unwrap())
+        })
+        .collect()
+}
+
+/// Whether `pts` is a staircase over `intervals` intervals: a level step
+/// across each interval (left to right), joined by vertical risers.
+fn is_staircase(pts: &[(f64, f64)], intervals: usize) -> bool {
+    pts.len() == 2 * intervals
+        && pts
+            .chunks(2)
+            .all(|step| step[0].1 == step[1].1 && step[0].0 < step[1].0)
+        && pts
+            .windows(2)
+            .skip(1)
+            .step_by(2)
+            .all(|riser| riser[0].0 == riser[1].0)
+}
 
 #[test]
 fn the_clinic_day_is_staffed_per_half_hour() {
@@ -46,6 +82,97 @@ fn the_clinic_day_is_staffed_per_half_hour() {
     );
     // One row per half hour of the nine-hour day.
     assert_eq!(lines.count(), 18);
+}
+
+#[test]
+fn the_chart_and_report_show_the_plans_over_the_day() {
+    let dir = scratch("chart");
+    let (svg_path, html_path, csv_path) = (
+        dir.join("day.svg"),
+        dir.join("day.html"),
+        dir.join("day.csv"),
+    );
+    let out = busyhour(&[
+        "size",
+        CLINIC,
+        "--group",
+        "agents",
+        "--goal",
+        "service_level>=80%",
+        "--per-interval",
+        "--replications",
+        "20",
+        "-q",
+        "--csv",
+        "--out",
+        csv_path.to_str().unwrap(),
+        "--chart",
+        svg_path.to_str().unwrap(),
+        "--report",
+        html_path.to_str().unwrap(),
+    ]);
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let svg = std::fs::read_to_string(&svg_path).unwrap();
+    let lines: Vec<&str> = (svg.lines())
+        .filter(|l| l.starts_with("<polyline") && l.contains("stroke-width=\"2.5\""))
+        .collect();
+    // Panel 1: the forecast, the simulated plan (servers taking calls, then
+    // to schedule: the clinic has shrinkage), both solid; the stationary
+    // and the modified-offered-load plans dashed; each a staircase over the
+    // 18 half hours.
+    let solid: Vec<&&str> = lines.iter().filter(|l| !l.contains("dasharray")).collect();
+    let dashed: Vec<&&str> = (lines.iter())
+        .filter(|l| l.contains("stroke-dasharray=\"9 5\""))
+        .collect();
+    let goal_lines = (lines.iter())
+        .filter(|l| l.contains("stroke-dasharray=\"14 5 3 5\""))
+        .count();
+    assert!(
+        solid.iter().take(3).all(|l| is_staircase(&points(l), 18)),
+        "{solid:?}"
+    );
+    assert_eq!(dashed.len(), 2, "{dashed:?}");
+    assert!(dashed.iter().all(|l| is_staircase(&points(l), 18)));
+    // Panel 2: the goal's bound, and the figure under each plan at the 18
+    // interval midpoints.
+    assert_eq!(goal_lines, 1);
+    assert_eq!(solid.len(), 5, "{solid:?}");
+    assert!(solid[3..].iter().all(|l| points(l).len() == 18));
+    // The servers-taking-calls staircase steps where the CSV's plan steps:
+    // equal plans in two intervals are drawn at one height.
+    let csv = std::fs::read_to_string(&csv_path).unwrap();
+    let servers: Vec<u32> = (csv.lines().skip(2))
+        .map(|l| l.split(',').nth(6).unwrap().parse().unwrap())
+        .collect();
+    let heights: Vec<f64> = points(solid[1]).chunks(2).map(|s| s[0].1).collect();
+    for b in 1..servers.len() {
+        assert_eq!(
+            servers[b] == servers[b - 1],
+            heights[b] == heights[b - 1],
+            "interval {b}: {servers:?} against {heights:?}"
+        );
+        // A larger plan is drawn higher (SVG y grows downwards).
+        assert_eq!(servers[b] > servers[b - 1], heights[b] < heights[b - 1]);
+    }
+    for label in [
+        "08:00",
+        "17:00",
+        "stationary plan",
+        "goal service_level&gt;=80%",
+    ] {
+        assert!(svg.contains(label), "{label}");
+    }
+    let html = std::fs::read_to_string(&html_path).unwrap();
+    assert!(html.starts_with("<!DOCTYPE html>"));
+    assert!(html.contains("<svg"), "the page carries the chart");
+    assert!(html.contains("08:00-08:30") && html.contains("16:30-17:00"));
+    assert!(html.contains("to schedule"));
+    assert!(html.contains("Estimates under the stated model assumptions"));
+    let _ = std::fs::remove_dir_all(&dir);
 }
 
 #[test]
@@ -95,4 +222,29 @@ fn refusals_are_one_line_with_exit_2() {
         ],
         "schedule",
     );
+    // Charts and reports are named for what they hold.
+    let dir = scratch("names");
+    let wrong_chart = dir.join("day.png");
+    let wrong_report = dir.join("day.txt");
+    for (flag, path, quoted) in [
+        ("--chart", &wrong_chart, ".svg"),
+        ("--report", &wrong_report, ".html"),
+    ] {
+        refused(
+            &[
+                "size",
+                CLINIC,
+                "--group",
+                "agents",
+                "--goal",
+                "service_level>=80%",
+                "--per-interval",
+                flag,
+                path.to_str().unwrap(),
+            ],
+            quoted,
+        );
+        assert!(!path.exists(), "{flag}: nothing written");
+    }
+    let _ = std::fs::remove_dir_all(&dir);
 }

@@ -314,13 +314,15 @@ pub struct SizeArgs {
     /// interval meets every goal, simulating the whole day again after each
     /// adjustment, so that what one interval leaves to the next counts.
     /// Prints the staffing table beside the formulas' requirements.
-    #[arg(long = "per-interval", conflicts_with_all = ["decide_within", "chart", "report"])]
+    #[arg(long = "per-interval", conflicts_with = "decide_within")]
     pub per_interval: bool,
     /// Most simulations of the day for --per-interval.
     #[arg(long, value_name = "N", default_value_t = 40, requires = "per_interval", value_parser = clap::value_parser!(u32).range(2..=1000))]
     pub rounds: u32,
     /// Draw each goal's figure against the sizes tried, with the interval it
-    /// was judged on and the goal's bound, to FILE.svg.
+    /// was judged on and the goal's bound, to FILE.svg; with --per-interval,
+    /// the load and the plans' servers over the day and each goal's figure
+    /// per interval under the simulated and the stationary plan.
     #[arg(long, value_name = "FILE.svg")]
     pub chart: Option<PathBuf>,
     #[command(flatten)]
@@ -632,7 +634,7 @@ fn size_per_interval(a: &SizeArgs) -> Result<Status> {
     use busyhour::experiment::size::Goal;
     use busyhour::experiment::staffing;
     let model = a.reps.load(&a.scenario)?;
-    check_files(&a.output, &a.scenario, &model, false, None)?;
+    check_files(&a.output, &a.scenario, &model, false, a.chart.as_deref())?;
     let group = model.group_index(&a.group).with_context(|| {
         format!(
             "--group {}: no group of {} has that name",
@@ -676,7 +678,7 @@ fn size_per_interval(a: &SizeArgs) -> Result<Status> {
     })?;
     let file = a.scenario.display().to_string();
     let doc = report::StaffingDocument::new(&model, &file, group, &goals, &references, &plan);
-    emit(a.output.format(), &doc, a.output.out.as_deref())?;
+    emit_charted(&doc, &a.output, a.chart.as_deref())?;
     Ok(if plan.result.partial {
         Status::Interrupted
     } else if plan.met {

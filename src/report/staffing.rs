@@ -2,15 +2,17 @@
 //! interval, the forecast load, the stationary formula's requirement, the
 //! modified-offered-load requirement, the simulated requirement and each
 //! goal's figure there with its 95% interval), built once from a
-//! [`StaffingPlan`]. The JSON, the table and the CSV render it.
+//! [`StaffingPlan`]. The JSON, the table, the CSV, the chart and the HTML
+//! page render it.
 
 use super::json::verdict_word;
-use super::text::{self, align};
-use super::{CAUTION, Document};
+use super::plot::{self, ChartError, LineChart, Paint, Series};
+use super::text::{self, Table, align};
+use super::{CAUTION, Charted, Document, html};
 use crate::experiment::size::{Goal, Verdict};
 use crate::experiment::staffing::{self, StaffingPlan};
 use crate::scenario::Model;
-use crate::stats::{self, Estimate};
+use crate::stats::{self, Estimate, Figure};
 use crate::textbook::{self, IntervalReference};
 use serde::Serialize;
 
@@ -91,6 +93,13 @@ pub struct StaffingDocument {
     /// midnight), for labels.
     #[serde(skip)]
     pub clock_start: Option<f64>,
+    /// Each goal's figure and bound (in the figure's unit), for the chart's
+    /// goal lines.
+    #[serde(skip)]
+    pub bounds: Vec<(Figure, f64)>,
+    /// The scenario in plain words, for the HTML page.
+    #[serde(skip)]
+    pub words: String,
 }
 
 impl StaffingDocument {
@@ -172,7 +181,79 @@ impl StaffingDocument {
             intervals,
             caution: CAUTION,
             clock_start: model.plan.clock_start_s,
+            bounds: goals.iter().map(|g| (g.figure, g.bound)).collect(),
+            words: super::describe::describe_model(model, file),
         }
+    }
+
+    /// Whether every interval has a stationary requirement (then the
+    /// search started from the stationary plan).
+    fn stationary_everywhere(&self) -> bool {
+        self.intervals.iter().all(|r| r.stationary.is_some())
+    }
+
+    /// The name of the plan the search started from.
+    fn start_name(&self) -> &'static str {
+        if self.stationary_everywhere() {
+            "stationary plan"
+        } else {
+            "starting plan"
+        }
+    }
+
+    /// The measured period in clock times ("08:00-17:00"), when the
+    /// scenario gives a clock start.
+    fn clock_period(&self) -> Option<String> {
+        let end = self.intervals.last()?.end_s;
+        self.clock_start.map(|_| {
+            format!(
+                "{}-{}",
+                text::clock_at(self.clock_start, 0.0),
+                text::clock_at(self.clock_start, end)
+            )
+        })
+    }
+
+    /// A panel with the x axis in hours (clock time where the scenario
+    /// gives a clock start).
+    fn panel(&self, what: String, y_label: String, first: bool) -> LineChart {
+        let midpoints = if first { "" } else { ", interval midpoints" };
+        let mut title = if first {
+            format!("{}: {what}", self.scenario)
+        } else {
+            what
+        };
+        if let Some(period) = self.clock_period() {
+            title.push_str(&format!(", {period}"));
+        }
+        let x_label = if self.clock_start.is_some() {
+            format!("clock time{midpoints}")
+        } else {
+            format!("time from the end of the warm-up (h:mm){midpoints}")
+        };
+        let mut c = LineChart::new(title, x_label, y_label);
+        if !first {
+            // A goal's figure near its bound: the axis spans the data.
+            c.size.1 = 420;
+            c.y_from_zero = false;
+        }
+        let start = self.clock_start;
+        c.x_ticks = Some(Box::new(move |hours: f64| {
+            text::clock_at(start, hours * 3600.0)
+        }));
+        c
+    }
+
+    /// A staircase across the intervals: each interval's value held from
+    /// its start to its end; intervals without a value are left out.
+    fn staircase(&self, value: impl Fn(&StaffingInterval) -> Option<f64>) -> Vec<(f64, f64)> {
+        (self.intervals.iter())
+            .filter_map(|r| {
+                let v = value(r)?;
+                Some([(r.start_s / 3600.0, v), (r.end_s / 3600.0, v)])
+            })
+            .flatten()
+            .collect()
     }
 
     fn shrinkage(&self) -> bool {
@@ -318,5 +399,195 @@ impl Document for StaffingDocument {
             row
         });
         Some(text::csv(std::iter::once(head).chain(rows)))
+    }
+}
+
+impl Charted for StaffingDocument {
+    fn has_chart(&self) -> bool {
+        !self.intervals.is_empty()
+    }
+
+    /// Load and agents over the day: the forecast's offered load and the
+    /// servers of the simulated, stationary and modified-offered-load plans
+    /// as staircases (formula plans dashed); then one panel per goal, its
+    /// figure per interval under the simulated plan and under the plan the
+    /// search started from (both simulated, with 95% bands) against the
+    /// goal's bound.
+    fn chart(&self) -> Result<String, ChartError> {
+        if self.intervals.is_empty() {
+            return Err(ChartError::NoData);
+        }
+        let count = |n: Option<u32>| n.map(f64::from);
+        let mut load = self.panel(
+            format!("offered load and {} per interval", self.group),
+            "offered load (erlangs) and servers".into(),
+            true,
+        );
+        load.series.push(
+            Series::new(
+                "offered load by the forecast (erlangs)",
+                self.staircase(|r| Some(r.offered_traffic)),
+            )
+            .painted(Paint::Offered),
+        );
+        load.series.push(
+            Series::new(
+                "simulated plan: servers taking calls",
+                self.staircase(|r| Some(f64::from(r.servers))),
+            )
+            .painted(Paint::Stream(0)),
+        );
+        if self.shrinkage() {
+            load.series.push(
+                Series::new(
+                    "simulated plan: servers to schedule (with shrinkage)",
+                    self.staircase(|r| Some(f64::from(r.scheduled))),
+                )
+                .painted(Paint::Stream(3)),
+            );
+        }
+        let stationary = self.staircase(|r| count(r.stationary));
+        if !stationary.is_empty() {
+            load.series.push(
+                Series::formula(
+                    format!("stationary plan: {}", self.stationary_method),
+                    stationary,
+                )
+                .painted(Paint::Stream(1)),
+            );
+        }
+        let modified = self.staircase(|r| count(r.modified));
+        if !modified.is_empty() {
+            load.series.push(
+                Series::formula(
+                    format!("modified-offered-load plan: {}", self.modified_method),
+                    modified,
+                )
+                .painted(Paint::Stream(2)),
+            );
+        }
+        let mut panels = vec![plot::render_svg(&load)?];
+        let span = (0.0, self.intervals.last().map_or(0.0, |r| r.end_s / 3600.0));
+        let mid = |r: &StaffingInterval| (r.start_s + r.end_s) / 7200.0;
+        for (i, (goal, (figure, bound))) in self.goals.iter().zip(&self.bounds).enumerate() {
+            let (y_label, scale) = plot::axis(*figure);
+            let mut c = self.panel(format!("Goal {goal} per interval"), y_label, false);
+            c.series.push(Series::goal(
+                format!("goal {goal} (bound {})", text::value(figure.unit(), *bound)),
+                bound * scale,
+                span,
+            ));
+            let under = |start: bool| -> Vec<(f64, Estimate)> {
+                (self.intervals.iter())
+                    .filter_map(|r| {
+                        let goals = if start { &r.start_goals } else { &r.goals };
+                        Some((mid(r), goals.get(i)?.estimate))
+                    })
+                    .collect()
+            };
+            c.series.push(
+                plot::estimate_series(
+                    "under the simulated plan (95% band)".into(),
+                    &under(false),
+                    scale,
+                )
+                .painted(Paint::Stream(0)),
+            );
+            let at_start = under(true);
+            if !at_start.is_empty() {
+                c.series.push(
+                    plot::estimate_series(
+                        format!("under the {}, simulated (95% band)", self.start_name()),
+                        &at_start,
+                        scale,
+                    )
+                    .painted(Paint::Stream(1)),
+                );
+            }
+            panels.push(plot::render_svg(&c)?);
+        }
+        Ok(plot::stack(&panels))
+    }
+
+    /// The staffing as one self-contained HTML page, with its chart when
+    /// one is given.
+    fn html(&self, chart: Option<&str>) -> String {
+        use html::Block;
+        let hours = |h: f64| format!("{} server-hours", crate::units::trim_float(h, 1));
+        let mut summary = if self.met {
+            format!(
+                "Every interval meets {} under the simulated plan: {}",
+                self.goals.join(", "),
+                hours(self.server_hours)
+            )
+        } else {
+            format!(
+                "NOT MET: no staffing tried met every goal in every interval; the table shows the last one tried ({})",
+                hours(self.server_hours)
+            )
+        };
+        if let Some(h) = self.stationary_server_hours {
+            summary.push_str(&format!("; the stationary plan: {}", hours(h)));
+        }
+        summary.push('.');
+        let mut blocks = vec![
+            Block::Heading("The scenario in plain words".into()),
+            Block::Pre(self.words.clone()),
+            Block::Heading(format!("Staffing of {} per interval", self.group)),
+            Block::Paragraph(summary),
+        ];
+        if self.partial {
+            blocks.push(Block::Paragraph(
+                "PARTIAL RESULT: the search stopped before it ended; intervals marked \"may be fewer\" were not tried with one fewer."
+                    .into(),
+            ));
+        }
+        blocks.push(Block::Table(Table {
+            title: if self.clock_start.is_some() {
+                "Staffing table (clock time)".into()
+            } else {
+                "Staffing table".into()
+            },
+            rows: self.rows(),
+        }));
+        if let Some(svg) = chart {
+            blocks.push(Block::Heading(match self.clock_period() {
+                Some(period) => format!("Load and servers over the day, {period}"),
+                None => "Load and servers over the day".into(),
+            }));
+            blocks.push(Block::Svg(svg.to_string()));
+        }
+        blocks.push(Block::Heading("Method".into()));
+        blocks.push(Block::Paragraph(format!(
+            "Offered load is the forecast's. The {} column is the stationary requirement of each interval's load, \
+the {} column that of its modified offered load (the interval's mean infinite-server load, Jagerman 1975; \
+Jennings, Mandelbaum, Massey and Whitt 1996); both are approximations for a changing load and count fresh calls \
+only. \"simulated\" is the fewest servers taking calls found by simulating the whole day ({} simulations of {} \
+replications, the same seeds each time, in the manner of Feldman, Mandelbaum, Massey and Whitt 2008): every \
+interval short of a goal gets one more, then every other interval is tried with one fewer, so that what each \
+interval leaves to the next (callers still waiting, calls in progress) counts. An interval holds when each goal's \
+whole 95% interval lies on the right side of its bound, at the run's level with no correction for the number of \
+intervals or simulations. The goal columns marked \"stationary plan simulated\" show the plan the search started \
+from ({}), simulated with the same seeds.",
+            self.stationary_method,
+            self.modified_method,
+            self.rounds,
+            self.replications,
+            if self.stationary_everywhere() {
+                "the stationary requirement of every interval"
+            } else {
+                "the stationary requirement, or one more than the load where no formula covers the goals"
+            }
+        )));
+        blocks.push(Block::Heading("Assumptions".into()));
+        blocks.push(Block::List(html::assumptions()));
+        html::page(
+            &self.scenario,
+            &format!(
+                "busyhour size --per-interval of {} in {}",
+                self.group, self.file
+            ),
+            &blocks,
+        )
     }
 }
