@@ -25,7 +25,7 @@ use thiserror::Error;
 pub enum OutputKind {
     /// A JSON document of a command (it carries the caution text).
     Json,
-    /// A CSV table of a run or a sweep.
+    /// A CSV table of a run, a sweep, a staffing or call records.
     Csv,
     /// A text report.
     Text,
@@ -37,12 +37,19 @@ pub enum OutputKind {
     Part,
     /// A scenario written by `records`.
     Scenario,
+    /// A scenario written by `size --per-interval` (the staffing plan as
+    /// the group's schedule).
+    StaffedScenario,
     /// The holding-time column written beside such a scenario.
     HoldingCsv,
 }
 
 /// Text every report, JSON document and HTML page of busyhour carries.
 const CAUTION_MARK: &str = "Estimates under the stated model assumptions";
+
+/// What the first line of a scenario written by `size --per-interval`
+/// carries.
+pub const STAFFED_SCENARIO_MARK: &str = "(busyhour size --per-interval)";
 
 impl OutputKind {
     /// Whether `head` (the first bytes of an existing file) looks like an
@@ -67,6 +74,7 @@ impl OutputKind {
                 header.starts_with("kind,name,interval_start_s,figure,")
                     || header.starts_with("value,kind,name,figure,")
                     || header.starts_with("start,date,time,calls,")
+                    || header.starts_with("start_s,end_s,offered_traffic,stationary,")
             }
             OutputKind::Text => head.contains(CAUTION_MARK),
             OutputKind::Svg => {
@@ -74,6 +82,9 @@ impl OutputKind {
             }
             OutputKind::Html => first.starts_with("<!DOCTYPE html>") && head.contains(CAUTION_MARK),
             OutputKind::Scenario => first.starts_with("# ") && first.contains("(busyhour records)"),
+            OutputKind::StaffedScenario => {
+                first.starts_with("# ") && first.contains(STAFFED_SCENARIO_MARK)
+            }
             OutputKind::HoldingCsv => first.trim_end() == "holding_s",
         }
     }
@@ -87,6 +98,7 @@ impl OutputKind {
             OutputKind::Svg => "a busyhour chart",
             OutputKind::Html => "a busyhour HTML report",
             OutputKind::Scenario => "a scenario written by busyhour records",
+            OutputKind::StaffedScenario => "a scenario written by busyhour size --per-interval",
             OutputKind::HoldingCsv => "a holding-time column written by busyhour records",
         }
     }
@@ -311,6 +323,13 @@ mod tests {
         assert!(!OutputKind::Csv.looks_like_ours("start,duration,outcome\n"));
         assert!(OutputKind::HoldingCsv.looks_like_ours("holding_s\n12\n"));
         assert!(!OutputKind::Scenario.looks_like_ours("[simulation]\nlength = \"1h\"\n"));
+        assert!(OutputKind::Csv.looks_like_ours(
+            "# Caution: x\nstart_s,end_s,offered_traffic,stationary,modified_offered_traffic\n"
+        ));
+        let staffed = "# Clinic: agents staffed per interval (busyhour size --per-interval)\n";
+        assert!(OutputKind::StaffedScenario.looks_like_ours(staffed));
+        assert!(!OutputKind::Scenario.looks_like_ours(staffed));
+        assert!(!OutputKind::StaffedScenario.looks_like_ours("# A clinic's line\n[simulation]\n"));
         assert!(OutputKind::Svg.looks_like_ours(
             "<svg width=\"1\" height=\"1\" xmlns=\"http://www.w3.org/2000/svg\">"
         ));

@@ -175,6 +175,107 @@ fn the_chart_and_report_show_the_plans_over_the_day() {
     let _ = std::fs::remove_dir_all(&dir);
 }
 
+/// Round trip: the scenario `--scenario-out` writes compiles, gives the
+/// group the plan as its schedule, and the plan holds there: every
+/// interval's goal, judged as the staffing judges it
+/// (`staffing::interval_verdicts`), with the file's seed and replications.
+#[test]
+fn the_written_scenario_carries_the_plan_and_meets_the_goal() {
+    use busyhour::experiment::size::{Goal, Verdict};
+    use busyhour::experiment::{self, RunOptions, staffing};
+    let dir = scratch("scenario-out");
+    let (toml_path, csv_path) = (dir.join("staffed.toml"), dir.join("plan.csv"));
+    let run = |extra: &[&str]| {
+        let mut args = vec![
+            "size",
+            CLINIC,
+            "--group",
+            "agents",
+            "--goal",
+            "service_level>=80%",
+            "--per-interval",
+            "-q",
+            "--csv",
+            "--out",
+            csv_path.to_str().unwrap(),
+            "--scenario-out",
+            toml_path.to_str().unwrap(),
+        ];
+        args.extend_from_slice(extra);
+        busyhour(&args)
+    };
+    let out = run(&[]);
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let text = std::fs::read_to_string(&toml_path).unwrap();
+    assert!(text.starts_with("# "), "{text}");
+    assert!(text.contains("# Caution: Estimates under the stated model assumptions"));
+    let staffed = busyhour::scenario::load(&toml_path)
+        .unwrap_or_else(|e| panic!("the written scenario does not compile: {e}\n{text}"));
+    let original = busyhour::scenario::load(std::path::Path::new(CLINIC)).unwrap();
+    let csv = std::fs::read_to_string(&csv_path).unwrap();
+    let column = |k: usize| -> Vec<u32> {
+        (csv.lines().skip(2))
+            .map(|l| l.split(',').nth(k).unwrap().parse().unwrap())
+            .collect()
+    };
+    let (servers, scheduled) = (column(6), column(7));
+    let g = staffed.group_index("agents").unwrap();
+    let schedule = staffed.groups[g].schedule.as_ref().expect("a schedule");
+    assert_eq!(schedule.interval_s, 1800.0);
+    assert_eq!(schedule.scheduled, scheduled);
+    assert_eq!(schedule.present, servers, "25% shrinkage kept");
+    assert_eq!(staffed.plan.seed, original.plan.seed);
+    assert_eq!(staffed.plan.replications, original.plan.replications);
+    let goal = Goal::parse("service_level>=80%", &staffed, g).unwrap();
+    let result = experiment::run(&staffed, None, &RunOptions::default()).unwrap();
+    let verdicts = staffing::interval_verdicts(&staffed, &[goal], &result);
+    assert_eq!(verdicts.len(), 18);
+    assert!(
+        verdicts.iter().all(|&v| v == Verdict::Holds),
+        "{verdicts:?}"
+    );
+    // An earlier written scenario is replaced without --force; the original
+    // scenario never is.
+    let again = run(&["--replications", "20"]);
+    assert!(
+        again.status.success(),
+        "{}",
+        String::from_utf8_lossy(&again.stderr)
+    );
+    let onto_input = busyhour(&[
+        "size",
+        CLINIC,
+        "--group",
+        "agents",
+        "--goal",
+        "service_level>=80%",
+        "--per-interval",
+        "--scenario-out",
+        CLINIC,
+    ]);
+    assert_eq!(onto_input.status.code(), Some(2));
+    let other = dir.join("mine.toml");
+    std::fs::write(&other, "# my own notes\n").unwrap();
+    let onto_other = busyhour(&[
+        "size",
+        CLINIC,
+        "--group",
+        "agents",
+        "--goal",
+        "service_level>=80%",
+        "--per-interval",
+        "--scenario-out",
+        other.to_str().unwrap(),
+    ]);
+    assert_eq!(onto_other.status.code(), Some(2));
+    assert_eq!(std::fs::read_to_string(&other).unwrap(), "# my own notes\n");
+    let _ = std::fs::remove_dir_all(&dir);
+}
+
 #[test]
 fn refusals_are_one_line_with_exit_2() {
     let refused = |args: &[&str], quoted: &str| {

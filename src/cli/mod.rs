@@ -325,6 +325,16 @@ pub struct SizeArgs {
     /// per interval under the simulated and the stationary plan.
     #[arg(long, value_name = "FILE.svg")]
     pub chart: Option<PathBuf>,
+    /// With --per-interval: write the scenario again to FILE.toml with the
+    /// group's servers set to the simulated plan's servers to schedule, one
+    /// per reporting interval (written only when every interval meets every
+    /// goal; the original's comments are not kept).
+    #[arg(
+        long = "scenario-out",
+        value_name = "FILE.toml",
+        requires = "per_interval"
+    )]
+    pub scenario_out: Option<PathBuf>,
     #[command(flatten)]
     pub output: OutputArgs,
 }
@@ -598,7 +608,14 @@ pub fn size(a: &SizeArgs) -> Result<Status> {
         bail!("size prints a table or --json (--csv is for run, sweep and size --per-interval)");
     }
     let model = a.reps.load(&a.scenario)?;
-    check_files(&a.output, &a.scenario, &model, false, a.chart.as_deref())?;
+    let mut files = a.output.plan(&a.scenario, &model, false);
+    if let Some(chart) = &a.chart {
+        files.output("--chart", chart, OutputKind::Svg);
+    }
+    if let Some(path) = &a.scenario_out {
+        files.output("--scenario-out", path, OutputKind::StaffedScenario);
+    }
+    files.check()?;
     let group = model.group_index(&a.group).with_context(|| {
         format!(
             "--group {}: no group of {} has that name",
@@ -634,7 +651,14 @@ fn size_per_interval(a: &SizeArgs) -> Result<Status> {
     use busyhour::experiment::size::Goal;
     use busyhour::experiment::staffing;
     let model = a.reps.load(&a.scenario)?;
-    check_files(&a.output, &a.scenario, &model, false, a.chart.as_deref())?;
+    let mut files = a.output.plan(&a.scenario, &model, false);
+    if let Some(chart) = &a.chart {
+        files.output("--chart", chart, OutputKind::Svg);
+    }
+    if let Some(path) = &a.scenario_out {
+        files.output("--scenario-out", path, OutputKind::StaffedScenario);
+    }
+    files.check()?;
     let group = model.group_index(&a.group).with_context(|| {
         format!(
             "--group {}: no group of {} has that name",
@@ -678,6 +702,28 @@ fn size_per_interval(a: &SizeArgs) -> Result<Status> {
     })?;
     let file = a.scenario.display().to_string();
     let doc = report::StaffingDocument::new(&model, &file, group, &goals, &references, &plan);
+    if let Some(path) = &a.scenario_out {
+        if plan.met {
+            let original = std::fs::read_to_string(&a.scenario)
+                .with_context(|| format!("cannot read {}", a.scenario.display()))?;
+            let staffed = model.with_schedule(group, &plan.servers)?;
+            let shrinkage = (staffed.groups[group].schedule.as_ref())
+                .map_or_else(Vec::new, |s| s.shrinkage.clone());
+            let args: Vec<String> = std::env::args_os()
+                .map(|a| a.to_string_lossy().into_owned())
+                .collect();
+            let command = report::html::Origin::new(&args, 0).command;
+            let text = doc
+                .scenario_with_plan(&original, &shrinkage, &command)
+                .with_context(|| format!("--scenario-out {}", path.display()))?;
+            write_file(path, &text)?;
+        } else {
+            eprintln!(
+                "busyhour: --scenario-out {}: not written, no staffing tried met every goal in every interval",
+                path.display()
+            );
+        }
+    }
     emit_charted(&doc, &a.output, a.chart.as_deref())?;
     Ok(if plan.result.partial {
         Status::Interrupted

@@ -591,3 +591,83 @@ from ({}), simulated with the same seeds.",
         )
     }
 }
+
+/// A staffing plan that cannot be written back into its scenario.
+#[derive(Debug, thiserror::Error)]
+pub enum WriteBackError {
+    /// The scenario's text is not TOML (it was read once already, so the
+    /// file changed meanwhile).
+    #[error("cannot read the scenario again: {0}")]
+    Parse(#[from] toml::de::Error),
+    /// Something the staffing needs is not in the file.
+    #[error("the scenario has no {0}")]
+    Missing(String),
+    /// The edited scenario cannot be written as TOML.
+    #[error("cannot write the scenario: {0}")]
+    Serialise(#[from] toml::ser::Error),
+}
+
+impl StaffingDocument {
+    /// The scenario `original` (the file's text) with the staffed group's
+    /// `servers` replaced by the simulated plan's scheduled numbers, one per
+    /// reporting interval, and its `interval` set to `[simulation]`'s (as
+    /// the file writes it); a shrinkage list becomes one entry per
+    /// reporting interval (`shrinkage`, one share per interval of the new
+    /// schedule, in percent), a single shrinkage is kept. Everything else
+    /// as the file had it; its comments are not kept. The file starts with
+    /// comments: what wrote it, `command`, and the caution.
+    ///
+    /// # Errors
+    ///
+    /// The text is not TOML, or has no such group or no reporting interval.
+    pub fn scenario_with_plan(
+        &self,
+        original: &str,
+        shrinkage: &[f64],
+        command: &str,
+    ) -> Result<String, WriteBackError> {
+        let mut table: toml::Table = original.parse()?;
+        let interval = table
+            .get("simulation")
+            .and_then(|s| s.get("interval"))
+            .cloned()
+            .ok_or_else(|| WriteBackError::Missing("interval in [simulation]".into()))?;
+        let group = table
+            .get_mut("group")
+            .and_then(toml::Value::as_array_mut)
+            .and_then(|groups| {
+                groups.iter_mut().find_map(|g| {
+                    let g = g.as_table_mut()?;
+                    (g.get("name").and_then(toml::Value::as_str) == Some(&self.group)).then_some(g)
+                })
+            })
+            .ok_or_else(|| WriteBackError::Missing(format!("[[group]] named {}", self.group)))?;
+        let scheduled: Vec<toml::Value> = (self.intervals.iter())
+            .map(|r| toml::Value::Integer(i64::from(r.scheduled)))
+            .collect();
+        group.insert("servers".into(), toml::Value::Array(scheduled));
+        group.insert("interval".into(), interval);
+        if group.get("shrinkage").is_some_and(toml::Value::is_array) {
+            let shares = (shrinkage.iter())
+                .map(|s| {
+                    toml::Value::String(format!("{}%", crate::units::trim_float(s * 100.0, 6)))
+                })
+                .collect();
+            group.insert("shrinkage".into(), toml::Value::Array(shares));
+        }
+        let body = toml::to_string(&table)?;
+        let one_line = |s: &str| s.replace(['\n', '\r'], " ");
+        Ok(format!(
+            "# {}: {} staffed per interval {}\n\
+# Written by: {}\n\
+# The group's servers are the simulated plan's servers to schedule, one per reporting interval ({}).\n\
+# Caution: {CAUTION}\n\
+# The comments of the original scenario were not kept; its values were.\n\n{body}",
+            one_line(&self.scenario),
+            one_line(&self.group),
+            crate::files::STAFFED_SCENARIO_MARK,
+            one_line(command),
+            one_line(&self.goals.join(", ")),
+        ))
+    }
+}
