@@ -559,8 +559,8 @@ impl Charted for StaffingDocument {
         }
         blocks.push(Block::Heading("Method".into()));
         blocks.push(Block::Paragraph(format!(
-            "Offered load is the forecast's. The {} column is the stationary requirement of each interval's load, \
-the {} column that of its modified offered load (the interval's mean infinite-server load, Jagerman 1975; \
+            "Offered load is the forecast's. The [{}] column is the stationary requirement of each interval's load, \
+the [{}] column that of its modified offered load (the interval's mean infinite-server load, Jagerman 1975; \
 Jennings, Mandelbaum, Massey and Whitt 1996); both are approximations for a changing load and count fresh calls \
 only. \"simulated\" is the fewest servers taking calls found by simulating the whole day ({} simulations of {} \
 replications, the same seeds each time, in the manner of Feldman, Mandelbaum, Massey and Whitt 2008): every \
