@@ -323,6 +323,21 @@ fn refusals_are_one_line_with_exit_2() {
         ],
         "schedule",
     );
+    // Writing the plan back needs a plan per interval.
+    refused(
+        &[
+            "size",
+            CLINIC,
+            "--group",
+            "agents",
+            "--goal",
+            "service_level>=80%",
+            "--scenario-out",
+            "never-written.toml",
+        ],
+        "--per-interval",
+    );
+    assert!(!std::path::Path::new("never-written.toml").exists());
     // Charts and reports are named for what they hold.
     let dir = scratch("names");
     let wrong_chart = dir.join("day.png");
