@@ -600,34 +600,14 @@ pub fn check(a: &CheckArgs) -> Result<Status> {
 
 /// `busyhour size`.
 pub fn size(a: &SizeArgs) -> Result<Status> {
-    use busyhour::experiment::size::{self, Goal, SizeOptions};
+    use busyhour::experiment::size::{self, SizeOptions};
     if a.per_interval {
         return size_per_interval(a);
     }
     if a.output.csv {
         bail!("size prints a table or --json (--csv is for run, sweep and size --per-interval)");
     }
-    let model = a.reps.load(&a.scenario)?;
-    let mut files = a.output.plan(&a.scenario, &model, false);
-    if let Some(chart) = &a.chart {
-        files.output("--chart", chart, OutputKind::Svg);
-    }
-    if let Some(path) = &a.scenario_out {
-        files.output("--scenario-out", path, OutputKind::StaffedScenario);
-    }
-    files.check()?;
-    let group = model.group_index(&a.group).with_context(|| {
-        format!(
-            "--group {}: no group of {} has that name",
-            a.group,
-            a.scenario.display()
-        )
-    })?;
-    let goals = a
-        .goal
-        .iter()
-        .map(|g| Goal::parse(g, &model, group))
-        .collect::<Result<Vec<_>, _>>()?;
+    let (model, group, goals) = size_inputs(a)?;
     let replications = a.reps.plan(&model);
     guard::check_size(&model, &replications, &a.reps, a.output.quiet)?;
     let how = SizeOptions::new(&model, &goals, replications, a.decide_within);
@@ -646,10 +626,10 @@ pub fn size(a: &SizeArgs) -> Result<Status> {
     })
 }
 
-/// `busyhour size --per-interval`: the staffing table.
-fn size_per_interval(a: &SizeArgs) -> Result<Status> {
+/// What both kinds of `size` read first: the model (its files checked
+/// against the outputs), the sized group and the goals.
+fn size_inputs(a: &SizeArgs) -> Result<(Model, usize, Vec<busyhour::experiment::size::Goal>)> {
     use busyhour::experiment::size::Goal;
-    use busyhour::experiment::staffing;
     let model = a.reps.load(&a.scenario)?;
     let mut files = a.output.plan(&a.scenario, &model, false);
     if let Some(chart) = &a.chart {
@@ -666,17 +646,24 @@ fn size_per_interval(a: &SizeArgs) -> Result<Status> {
             a.scenario.display()
         )
     })?;
+    let goals = a
+        .goal
+        .iter()
+        .map(|g| Goal::parse(g, &model, group))
+        .collect::<Result<Vec<_>, _>>()?;
+    Ok((model, group, goals))
+}
+
+/// `busyhour size --per-interval`: the staffing table.
+fn size_per_interval(a: &SizeArgs) -> Result<Status> {
+    use busyhour::experiment::staffing;
+    let (model, group, goals) = size_inputs(a)?;
     if model.plan.interval_s.is_none() {
         bail!(
             "--per-interval sizes each reporting interval: give interval = \"30m\" (or another length) in [simulation] of {}",
             a.scenario.display()
         );
     }
-    let goals = a
-        .goal
-        .iter()
-        .map(|g| Goal::parse(g, &model, group))
-        .collect::<Result<Vec<_>, _>>()?;
     for g in &goals {
         if staffing::interval_goals(&model, std::slice::from_ref(g), 0).is_none() {
             bail!(
