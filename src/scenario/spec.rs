@@ -63,10 +63,33 @@ impl<'de> Deserialize<'de> for ServersSpec {
             }
             fn visit_seq<A: de::SeqAccess<'de>>(self, mut seq: A) -> Result<ServersSpec, A::Error> {
                 let mut list = Vec::new();
-                while let Some(n) = seq.next_element::<i64>()? {
+                while let Some(Whole(n)) = seq.next_element::<Whole>()? {
                     list.push(n);
                 }
                 Ok(ServersSpec::Each(list))
+            }
+        }
+        d.deserialize_any(V)
+    }
+}
+
+/// One entry of a list of servers: a whole number, with a message that
+/// says so.
+struct Whole(i64);
+
+impl<'de> Deserialize<'de> for Whole {
+    fn deserialize<D: Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+        struct V;
+        impl Visitor<'_> for V {
+            type Value = Whole;
+            fn expecting(&self, f: &mut fmt::Formatter) -> fmt::Result {
+                f.write_str("a whole number of servers")
+            }
+            fn visit_i64<E: de::Error>(self, v: i64) -> Result<Whole, E> {
+                Ok(Whole(v))
+            }
+            fn visit_u64<E: de::Error>(self, v: u64) -> Result<Whole, E> {
+                Ok(Whole(i64::try_from(v).unwrap_or(i64::MAX)))
             }
         }
         d.deserialize_any(V)
