@@ -26,6 +26,10 @@ pub struct IntervalGoal {
     pub verdict: Verdict,
     /// The deciding estimate (the worst of the figures the goal covers).
     pub estimate: Estimate,
+    /// Share of replications (days) in which the interval's own figures met
+    /// the goal, with its exact 95% interval: how often this half hour
+    /// misses, a different question from the long-run figure.
+    pub days_meeting: Estimate,
 }
 
 /// One row of the staffing table.
@@ -132,6 +136,7 @@ impl StaffingDocument {
                                 goal: g.text.clone(),
                                 verdict,
                                 estimate,
+                                days_meeting: g.period_share(result),
                             }
                         })
                         .collect::<Vec<_>>()
@@ -273,6 +278,7 @@ impl StaffingDocument {
             head.push("to schedule".into());
         }
         head.extend(self.goals.iter().cloned());
+        head.extend(self.goals.iter().map(|g| format!("{g}, days met")));
         head.extend(
             self.goals
                 .iter()
@@ -298,7 +304,7 @@ impl StaffingDocument {
             if self.shrinkage() {
                 row.push(r.scheduled.to_string());
             }
-            for g in r.goals.iter().chain(&r.start_goals) {
+            let marked = |g: &IntervalGoal| {
                 let unit = (crate::stats::Figure::from_name(goal_figure(&g.goal)))
                     .map_or(stats::Unit::Ratio, |f| f.unit());
                 let mark = match g.verdict {
@@ -306,8 +312,13 @@ impl StaffingDocument {
                     Verdict::Fails => " FAILS",
                     Verdict::Undecided => " undecided",
                 };
-                row.push(format!("{}{mark}", text::estimate(unit, &g.estimate)));
-            }
+                format!("{}{mark}", text::estimate(unit, &g.estimate))
+            };
+            row.extend(r.goals.iter().map(marked));
+            row.extend(
+                (r.goals.iter()).map(|g| text::value(stats::Unit::Share, g.days_meeting.mean)),
+            );
+            row.extend(r.start_goals.iter().map(marked));
             rows.push(row);
         }
         rows
@@ -373,6 +384,7 @@ impl Document for StaffingDocument {
                 format!("{g} low"),
                 format!("{g} high"),
                 format!("{g} verdict"),
+                format!("{g} days met"),
             ]);
         }
         let opt = |n: Option<u32>| n.map_or(String::new(), |n| n.to_string());
@@ -394,6 +406,7 @@ impl Document for StaffingDocument {
                     text::csv_number(g.estimate.low),
                     text::csv_number(g.estimate.high),
                     g.verdict.word().to_string(),
+                    text::csv_number(g.days_meeting.mean),
                 ]);
             }
             row
