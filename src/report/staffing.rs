@@ -26,6 +26,9 @@ pub struct IntervalGoal {
     pub verdict: Verdict,
     /// The deciding estimate (the worst of the figures the goal covers).
     pub estimate: Estimate,
+    /// The figure's unit, for the table.
+    #[serde(skip)]
+    pub unit: stats::Unit,
     /// Share of replications (days) in which the interval's own figures met
     /// the goal, with its exact 95% interval: how often this half hour
     /// misses, a different question from the long-run figure.
@@ -136,6 +139,7 @@ impl StaffingDocument {
                                 goal: g.text.clone(),
                                 verdict,
                                 estimate,
+                                unit: g.figure.unit(),
                                 days_meeting: g.period_share(result),
                             }
                         })
@@ -305,14 +309,12 @@ impl StaffingDocument {
                 row.push(r.scheduled.to_string());
             }
             let marked = |g: &IntervalGoal| {
-                let unit = (crate::stats::Figure::from_name(goal_figure(&g.goal)))
-                    .map_or(stats::Unit::Ratio, |f| f.unit());
                 let mark = match g.verdict {
                     Verdict::Holds => "",
                     Verdict::Fails => " FAILS",
                     Verdict::Undecided => " undecided",
                 };
-                format!("{}{mark}", text::estimate(unit, &g.estimate))
+                format!("{}{mark}", text::estimate(g.unit, &g.estimate))
             };
             row.extend(r.goals.iter().map(marked));
             row.extend(
@@ -323,13 +325,6 @@ impl StaffingDocument {
         }
         rows
     }
-}
-
-/// The figure name of a goal as written: "office.service_level>=80%" ->
-/// "service_level".
-fn goal_figure(goal: &str) -> &str {
-    let left = goal.split(['<', '>']).next().unwrap_or(goal).trim();
-    left.rsplit('.').next().unwrap_or(left).trim()
 }
 
 impl Document for StaffingDocument {

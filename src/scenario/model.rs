@@ -146,7 +146,7 @@ impl Group {
         let mut sum = 0.0;
         let mut t = t0;
         while t < t1 {
-            let i = ((t / s.interval_s) as usize).min(s.present.len() - 1);
+            let i = s.entry_at(t);
             let entry_end = if i + 1 >= s.present.len() {
                 t1
             } else {
@@ -185,12 +185,17 @@ impl Schedule {
     /// Servers taking calls `t` seconds after the start of the measured
     /// period (the first entry before it).
     pub fn present_at(&self, t: f64) -> u32 {
-        let i = if t <= 0.0 {
+        self.present[self.entry_at(t)]
+    }
+
+    /// The entry in force `t` seconds after the start of the measured
+    /// period: the first before it, the last after the list ends.
+    pub fn entry_at(&self, t: f64) -> usize {
+        if t <= 0.0 {
             0
         } else {
             ((t / self.interval_s) as usize).min(self.present.len() - 1)
-        };
-        self.present[i]
+        }
     }
 
     /// Whether the number taking calls never changes.
@@ -598,13 +603,8 @@ impl Model {
             });
         }
         let old = g.schedule.as_ref();
-        let share_at = |i: usize| {
-            old.map_or(0.0, |s| {
-                let j =
-                    ((i as f64 * interval_s / s.interval_s) as usize).min(s.shrinkage.len() - 1);
-                s.shrinkage[j]
-            })
-        };
+        let share_at =
+            |i: usize| old.map_or(0.0, |s| s.shrinkage[s.entry_at(i as f64 * interval_s)]);
         let shrinkage: Vec<f64> = (0..present.len()).map(share_at).collect();
         let scheduled = (present.iter().zip(&shrinkage))
             .map(|(&n, &s)| {
