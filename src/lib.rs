@@ -70,6 +70,7 @@ pub mod formulas;
 pub mod records;
 pub mod report;
 pub mod scenario;
+pub mod shifts;
 pub mod stats;
 pub mod textbook;
 pub mod units;
