@@ -97,6 +97,9 @@ pub struct ShiftType {
     pub every: u32,
     /// Breaks, each inside the shift.
     pub breaks: Vec<Break>,
+    /// The most agents all shifts of this type may have together (a
+    /// contract mix: so many part-time posts); `None`: no limit.
+    pub max_agents: Option<u32>,
 }
 
 impl ShiftType {
@@ -140,6 +143,9 @@ pub enum CoverError {
     /// The allowed shifts are not usable (no start, zero length).
     #[error("{0}")]
     Types(String),
+    /// The types' agent limits leave some interval short.
+    #[error("the shift types' max_agents limits leave no cover: allow more agents")]
+    Limits,
     /// The solver stopped without a cover or failed.
     #[error("the shift cover search ended without a cover: {0}")]
     Solver(String),
@@ -168,6 +174,9 @@ pub fn cover(requirement: &[u32], types: &[ShiftType]) -> Result<Cover, CoverErr
         )));
     }
     let candidates: Vec<Shift> = types.iter().flat_map(ShiftType::shifts).collect();
+    let kind: Vec<usize> = (types.iter().enumerate())
+        .flat_map(|(k, t)| std::iter::repeat_n(k, t.shifts().count()))
+        .collect();
     let needed: Vec<(usize, u32)> = (requirement.iter().copied().enumerate())
         .filter(|&(_, r)| r > 0)
         .collect();
@@ -199,11 +208,21 @@ pub fn cover(requirement: &[u32], types: &[ShiftType]) -> Result<Cover, CoverErr
             .collect();
         problem.add_constraint(terms.as_slice(), ComparisonOp::Ge, f64::from(r));
     }
+    for (k, t) in types.iter().enumerate() {
+        if let Some(most) = t.max_agents {
+            let terms: Vec<_> = (vars.iter().zip(&kind))
+                .filter(|&(_, &j)| j == k)
+                .map(|(&v, _)| (v, 1.0))
+                .collect();
+            problem.add_constraint(terms.as_slice(), ComparisonOp::Le, f64::from(most));
+        }
+    }
     let mut options = SolveOptions::default();
     options.node_limit = Some(NODE_LIMIT);
-    let outcome = problem
-        .solve_with(options)
-        .map_err(|e| CoverError::Solver(e.to_string()))?;
+    let outcome = problem.solve_with(options).map_err(|e| match e {
+        microlp::Error::Infeasible => CoverError::Limits,
+        e => CoverError::Solver(e.to_string()),
+    })?;
     let proven = outcome.is_optimal();
     let solution = outcome
         .into_solution()
@@ -278,6 +297,7 @@ mod tests {
             latest: 3,
             every: 1,
             breaks: Vec::new(),
+            max_agents: None,
         };
         let c = cover(&[1, 1, 1, 1], &[t]).unwrap();
         assert_eq!(c.agent_intervals, 4);
@@ -293,6 +313,7 @@ mod tests {
             latest: 0,
             every: 1,
             breaks: Vec::new(),
+            max_agents: None,
         };
         assert_eq!(
             cover(&[1, 0, 3], &[t]),

@@ -9,7 +9,12 @@ use rand_xoshiro::Xoshiro256PlusPlus;
 
 /// The cheapest paid agent-intervals over every assignment of 0..=most
 /// agents to each candidate shift (the reference: plain enumeration).
-fn cheapest_by_enumeration(requirement: &[u32], candidates: &[Shift]) -> Option<u64> {
+fn cheapest_by_enumeration(
+    requirement: &[u32],
+    candidates: &[Shift],
+    kind: &[usize],
+    types: &[ShiftType],
+) -> Option<u64> {
     let most = *requirement.iter().max().unwrap_or(&0);
     let k = candidates.len();
     let mut counts = vec![0u32; k];
@@ -22,7 +27,14 @@ fn cheapest_by_enumeration(requirement: &[u32], candidates: &[Shift]) -> Option<
             })
             .collect();
         let covered = shifts::coverage(&shifts, requirement.len());
-        if covered.iter().zip(requirement).all(|(c, r)| c >= r) {
+        let within_limits = (types.iter().enumerate()).all(|(k, t)| {
+            let agents: u32 = (counts.iter().zip(kind))
+                .filter(|&(_, &j)| j == k)
+                .map(|(&c, _)| c)
+                .sum();
+            t.max_agents.is_none_or(|most| agents <= most)
+        });
+        if within_limits && covered.iter().zip(requirement).all(|(c, r)| c >= r) {
             let cost: u64 = shifts
                 .iter()
                 .map(|s| u64::from(s.length) * u64::from(s.count))
@@ -57,13 +69,18 @@ fn small_case(rng: &mut Xoshiro256PlusPlus) -> (Vec<u32>, Vec<ShiftType>) {
             after: 2,
             length: 1,
         }],
+        max_agents: None,
     };
+    // Half the cases limit the short shifts (a part-time quota), which
+    // the cheapest cover would otherwise use more of.
+    let quota = rng.random_bool(0.5).then(|| rng.random_range(1..=4));
     let short = ShiftType {
         length: 2,
         earliest: 0,
         latest: intervals - 2,
         every: 2,
         breaks: Vec::new(),
+        max_agents: quota,
     };
     (requirement, vec![long, short])
 }
@@ -72,11 +89,15 @@ fn small_case(rng: &mut Xoshiro256PlusPlus) -> (Vec<u32>, Vec<ShiftType>) {
 fn the_cover_covers_and_no_cheaper_cover_exists() {
     let mut rng = Xoshiro256PlusPlus::seed_from_u64(17);
     let mut with_breaks_mattering = 0;
-    for _ in 0..40 {
+    let mut limited = 0;
+    for _ in 0..60 {
         let (requirement, types) = small_case(&mut rng);
         let candidates: Vec<Shift> = types.iter().flat_map(ShiftType::shifts).collect();
+        let kind: Vec<usize> = (types.iter().enumerate())
+            .flat_map(|(k, t)| std::iter::repeat_n(k, t.shifts().count()))
+            .collect();
         assert!(candidates.len() <= 8, "keep the enumeration small");
-        let reference = cheapest_by_enumeration(&requirement, &candidates);
+        let reference = cheapest_by_enumeration(&requirement, &candidates, &kind, &types);
         match shifts::cover(&requirement, &types) {
             Ok(c) => {
                 let covered = shifts::coverage(&c.shifts, requirement.len());
@@ -91,6 +112,14 @@ fn the_cover_covers_and_no_cheaper_cover_exists() {
                 if c.shifts.iter().any(|s| !s.breaks.is_empty()) {
                     with_breaks_mattering += 1;
                 }
+                if let Some(most) = types[1].max_agents {
+                    let short: u32 = (c.shifts.iter())
+                        .filter(|s| s.length == 2)
+                        .map(|s| s.count)
+                        .sum();
+                    assert!(short <= most, "quota {most} exceeded: {short}");
+                    limited += 1;
+                }
             }
             Err(e) => {
                 // Only where enumeration finds no cover either (an
@@ -99,6 +128,7 @@ fn the_cover_covers_and_no_cheaper_cover_exists() {
             }
         }
     }
+    assert!(limited >= 10, "the cases must use the quota: {limited}");
     assert!(
         with_breaks_mattering >= 10,
         "the cases must use shifts with breaks: {with_breaks_mattering}"
@@ -125,6 +155,7 @@ fn a_day_cover_is_tight() {
                 after: 8,
                 length: 1,
             }],
+            max_agents: None,
         },
         ShiftType {
             length: 8,
@@ -132,6 +163,7 @@ fn a_day_cover_is_tight() {
             latest: 12,
             every: 1,
             breaks: Vec::new(),
+            max_agents: None,
         },
     ];
     let c = shifts::cover(&requirement, &types).unwrap();

@@ -687,8 +687,33 @@ fn size_per_interval(a: &SizeArgs) -> Result<Status> {
             a.rounds,
         )
     })?;
+    let shifts = if model.groups[group].shift_types.is_empty() || plan.result.partial {
+        None
+    } else if !plan.met {
+        eprintln!("busyhour: no shift plan: no staffing tried met every goal in every interval");
+        None
+    } else {
+        Some(with_progress(a.output.quiet, a.reps.threads, |opts| {
+            staffing::shift_plan(
+                &model,
+                group,
+                &goals,
+                &plan.servers,
+                Some(replications.clone()),
+                opts,
+            )
+        })?)
+    };
     let file = a.scenario.display().to_string();
-    let doc = report::StaffingDocument::new(&model, &file, group, &goals, &references, &plan);
+    let doc = report::StaffingDocument::new(
+        &model,
+        &file,
+        group,
+        &goals,
+        &references,
+        &plan,
+        shifts.as_ref(),
+    );
     if let Some(path) = &a.scenario_out {
         if plan.met {
             let original = std::fs::read_to_string(&a.scenario)

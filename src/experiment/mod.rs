@@ -30,6 +30,9 @@ pub enum ExperimentError {
         /// Why.
         reason: String,
     },
+    /// No shift plan covers the staffing (the message says why).
+    #[error("{0}")]
+    Shifts(String),
     /// A sweep step or sizing probe the model cannot take.
     #[error(transparent)]
     Transform(#[from] crate::scenario::TransformError),

@@ -42,6 +42,7 @@ use super::size::{Goal, Verdict};
 use super::{ExperimentError, RunOptions, RunResult};
 use crate::formulas::delay_goals::DelayGoals;
 use crate::scenario::{Model, Replications};
+use crate::shifts;
 use crate::stats::{self, Figure, FigureId, Scope};
 use crate::textbook::{self, IntervalReference};
 
@@ -291,5 +292,89 @@ pub fn staff(
             at_start,
             partial: true,
         },
+    })
+}
+
+/// A shift plan for a staffing, and what it does in the simulator.
+#[derive(Debug, Clone)]
+pub struct ShiftPlan {
+    /// The shifts (fewest paid agent-hours covering `required`).
+    pub cover: shifts::Cover,
+    /// Agents to schedule per interval: the staffing's servers taking
+    /// calls with the group's shrinkage added back (what the shifts cover).
+    pub required: Vec<u32>,
+    /// Agents on duty per interval by the shifts (at least `required`).
+    pub scheduled: Vec<u32>,
+    /// Of them, taking calls (after shrinkage).
+    pub present: Vec<u32>,
+    /// The run with the shifts' agents, on the same seeds as the staffing.
+    pub result: RunResult,
+    /// Each interval's verdict under the shifts.
+    pub verdicts: Vec<Verdict>,
+}
+
+/// Cover the staffing `servers` (taking calls, per reporting interval) of
+/// group `group` with the group's allowed shift types, then simulate the
+/// shifts' agents (the cover usually gives some intervals more than they
+/// need; the figures show what that buys).
+///
+/// # Errors
+///
+/// The group has no shift types, an interval that needs agents is on duty
+/// in no allowed shift (named by its clock time), the cover search fails,
+/// or the run cannot be carried out.
+pub fn shift_plan(
+    model: &Model,
+    group: usize,
+    goals: &[Goal],
+    servers: &[u32],
+    replications: Option<Replications>,
+    opts: &RunOptions,
+) -> Result<ShiftPlan, ExperimentError> {
+    let types = &model.groups[group].shift_types;
+    let staffed = model.with_schedule(group, servers)?;
+    let schedule = staffed.groups[group].schedule.clone();
+    let required: Vec<u32> = schedule
+        .as_ref()
+        .map_or_else(|| servers.to_vec(), |s| s.scheduled.clone());
+    let cover = shifts::cover(&required, types).map_err(|e| match e {
+        shifts::CoverError::Uncovered { interval, needed } => {
+            let at = |b: usize| {
+                crate::units::format_time_of_day(
+                    model.plan.clock_start_s.unwrap_or(0.0) + stats::interval_start(model, b),
+                )
+            };
+            ExperimentError::Shifts(format!(
+                "group \"{}\": no allowed shift type is on duty from {} to {}, which needs {needed} agents: allow a shift that covers it",
+                model.groups[group].name,
+                at(interval),
+                at(interval + 1),
+            ))
+        }
+        other => ExperimentError::Shifts(format!(
+            "group \"{}\": {other}",
+            model.groups[group].name
+        )),
+    })?;
+    let scheduled = shifts::coverage(&cover.shifts, required.len());
+    let shrinkage_at = |b: usize| schedule.as_ref().map_or(0.0, |s| s.shrinkage[b]);
+    let present: Vec<u32> = (0..scheduled.len())
+        .map(|b| crate::scenario::Schedule::present_of(scheduled[b], shrinkage_at(b)))
+        .collect();
+    let mut m = model.with_schedule(group, &present)?;
+    if let Some(s) = m.groups[group].schedule.as_mut() {
+        // The shifts put these on duty (with_schedule would write the
+        // fewest that leave `present` taking calls).
+        s.scheduled.clone_from(&scheduled);
+    }
+    let result = super::run(&m, replications, opts)?;
+    let verdicts = interval_verdicts(&m, goals, &result);
+    Ok(ShiftPlan {
+        cover,
+        required,
+        scheduled,
+        present,
+        result,
+        verdicts,
     })
 }

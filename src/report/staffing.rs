@@ -9,8 +9,9 @@ use super::json::verdict_word;
 use super::plot::{self, ChartError, LineChart, Paint, Series};
 use super::text::{self, Table, align};
 use super::{CAUTION, Charted, Document, html};
+use crate::experiment::RunResult;
 use crate::experiment::size::{Goal, Verdict};
-use crate::experiment::staffing::{self, StaffingPlan};
+use crate::experiment::staffing::{self, ShiftPlan, StaffingPlan};
 use crate::scenario::Model;
 use crate::stats::{self, Estimate, Figure};
 use crate::textbook::{self, IntervalReference};
@@ -33,6 +34,104 @@ pub struct IntervalGoal {
     /// the goal, with its exact 95% interval: how often this half hour
     /// misses, a different question from the long-run figure.
     pub days_meeting: Estimate,
+}
+
+/// Each goal of interval `b` judged on `result`.
+fn judged(model: &Model, goals: &[Goal], b: usize, result: &RunResult) -> Vec<IntervalGoal> {
+    staffing::interval_goals(model, goals, b)
+        .unwrap_or_default()
+        .iter()
+        .map(|g| {
+            let (verdict, estimate, _) = g.judge_targets(result, 1);
+            IntervalGoal {
+                goal: g.text.clone(),
+                verdict,
+                estimate,
+                unit: g.figure.unit(),
+                days_meeting: g.period_share(result),
+            }
+        })
+        .collect()
+}
+
+/// One shift of a shift plan.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct ShiftRow {
+    /// Start, seconds after the end of the warm-up.
+    pub start_s: f64,
+    /// End (breaks included).
+    pub end_s: f64,
+    /// Breaks: (start, end) in seconds after the end of the warm-up.
+    pub breaks_s: Vec<(f64, f64)>,
+    /// Agents working it.
+    pub agents: u32,
+}
+
+/// One interval under a shift plan.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct ShiftInterval {
+    /// Agents to schedule (the staffing's, with shrinkage).
+    pub required: u32,
+    /// Agents on duty by the shifts.
+    pub scheduled: u32,
+    /// Of them, taking calls (after shrinkage).
+    pub servers: u32,
+    /// Each goal there under the shifts, simulated.
+    pub goals: Vec<IntervalGoal>,
+}
+
+/// The shift plan of a staffing, and how it fares in the simulator.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct ShiftPlanSection {
+    /// The shifts worked, in order of start.
+    pub shifts: Vec<ShiftRow>,
+    /// Paid agent-hours (each shift's whole length, breaks included).
+    pub paid_agent_hours: f64,
+    /// Agent-hours the staffing asks to schedule.
+    pub required_agent_hours: f64,
+    /// No cheaper cover exists (proven by the search); otherwise the best
+    /// found within its node limit.
+    pub proven_fewest: bool,
+    /// Every interval meets every goal under the shifts.
+    pub met: bool,
+    /// Per reporting interval, as the staffing table's rows.
+    pub intervals: Vec<ShiftInterval>,
+}
+
+impl ShiftPlanSection {
+    fn new(model: &Model, goals: &[Goal], plan: &ShiftPlan) -> ShiftPlanSection {
+        let interval_s = model.plan.interval_s.unwrap_or(model.plan.length_s);
+        let at = |i: u32| f64::from(i) * interval_s;
+        let shifts = (plan.cover.shifts.iter())
+            .map(|s| ShiftRow {
+                start_s: at(s.start),
+                end_s: at(s.end()),
+                breaks_s: (s.breaks.iter())
+                    .map(|b| (at(s.start + b.after), at(s.start + b.after + b.length)))
+                    .collect(),
+                agents: s.count,
+            })
+            .collect();
+        let hours = |n: u64| n as f64 * interval_s / 3600.0;
+        let intervals = (0..plan.required.len())
+            .map(|b| ShiftInterval {
+                required: plan.required[b],
+                scheduled: plan.scheduled[b],
+                servers: plan.present[b],
+                goals: judged(model, goals, b, &plan.result),
+            })
+            .collect();
+        ShiftPlanSection {
+            shifts,
+            paid_agent_hours: hours(plan.cover.agent_intervals),
+            required_agent_hours: (0..plan.required.len())
+                .map(|b| f64::from(plan.required[b]) * stats::interval_length(model, b) / 3600.0)
+                .sum(),
+            proven_fewest: plan.cover.proven,
+            met: plan.verdicts.iter().all(|&v| v == Verdict::Holds),
+            intervals,
+        }
+    }
 }
 
 /// One row of the staffing table.
@@ -94,6 +193,10 @@ pub struct StaffingDocument {
     pub stationary_server_hours: Option<f64>,
     /// The rows.
     pub intervals: Vec<StaffingInterval>,
+    /// The shifts covering the simulated plan, when the group has shift
+    /// types.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub shift_plan: Option<ShiftPlanSection>,
     /// The caution.
     pub caution: &'static str,
     /// Clock time of the start of the measured period (seconds after
@@ -118,6 +221,7 @@ impl StaffingDocument {
         goals: &[Goal],
         references: &[IntervalReference],
         plan: &StaffingPlan,
+        shifts: Option<&ShiftPlan>,
     ) -> StaffingDocument {
         let staffed = model.with_schedule(group, &plan.servers).ok();
         let schedule = staffed
@@ -129,22 +233,7 @@ impl StaffingDocument {
             .map(|b| {
                 let start_s = stats::interval_start(model, b);
                 let r = references.get(b);
-                let judged = |result: &crate::experiment::RunResult| {
-                    staffing::interval_goals(model, goals, b)
-                        .unwrap_or_default()
-                        .iter()
-                        .map(|g| {
-                            let (verdict, estimate, _) = g.judge_targets(result, 1);
-                            IntervalGoal {
-                                goal: g.text.clone(),
-                                verdict,
-                                estimate,
-                                unit: g.figure.unit(),
-                                days_meeting: g.period_share(result),
-                            }
-                        })
-                        .collect::<Vec<_>>()
-                };
+                let judged = |result: &RunResult| judged(model, goals, b, result);
                 let goals = judged(&plan.result);
                 let start_goals = plan.at_start.as_ref().map(judged).unwrap_or_default();
                 StaffingInterval {
@@ -188,6 +277,7 @@ impl StaffingDocument {
             server_hours,
             stationary_server_hours,
             intervals,
+            shift_plan: shifts.map(|p| ShiftPlanSection::new(model, goals, p)),
             caution: CAUTION,
             clock_start: model.plan.clock_start_s,
             bounds: goals.iter().map(|g| (g.figure, g.bound)).collect(),
@@ -308,14 +398,6 @@ impl StaffingDocument {
             if self.shrinkage() {
                 row.push(r.scheduled.to_string());
             }
-            let marked = |g: &IntervalGoal| {
-                let mark = match g.verdict {
-                    Verdict::Holds => "",
-                    Verdict::Fails => " FAILS",
-                    Verdict::Undecided => " undecided",
-                };
-                format!("{}{mark}", text::estimate(g.unit, &g.estimate))
-            };
             row.extend(r.goals.iter().map(marked));
             row.extend(
                 (r.goals.iter()).map(|g| text::value(stats::Unit::Share, g.days_meeting.mean)),
@@ -325,6 +407,132 @@ impl StaffingDocument {
         }
         rows
     }
+}
+
+impl StaffingDocument {
+    /// The shifts of the shift plan: start, end, agents, breaks.
+    fn shift_list(&self, plan: &ShiftPlanSection) -> Vec<Vec<String>> {
+        let clock = |t: f64| text::clock_at(self.clock_start, t);
+        let mut rows = vec![vec![
+            "start".to_string(),
+            "end".into(),
+            "agents".into(),
+            "breaks".into(),
+        ]];
+        for s in &plan.shifts {
+            let breaks: Vec<String> = (s.breaks_s.iter())
+                .map(|&(a, b)| format!("{}-{}", clock(a), clock(b)))
+                .collect();
+            rows.push(vec![
+                clock(s.start_s),
+                clock(s.end_s),
+                s.agents.to_string(),
+                if breaks.is_empty() {
+                    "-".into()
+                } else {
+                    breaks.join(", ")
+                },
+            ]);
+        }
+        rows
+    }
+
+    /// Per interval under the shift plan: to schedule, on duty, taking
+    /// calls, and each goal's figure.
+    fn shift_rows(&self, plan: &ShiftPlanSection) -> Vec<Vec<String>> {
+        let mut head = vec![
+            "interval".to_string(),
+            "to schedule".into(),
+            "shifts give".into(),
+        ];
+        if self.shrinkage() {
+            head.push("taking calls".into());
+        }
+        head.extend(
+            self.goals
+                .iter()
+                .map(|g| format!("{g}, shift plan simulated")),
+        );
+        let mut rows = vec![head];
+        for (r, p) in self.intervals.iter().zip(&plan.intervals) {
+            let mut row = vec![
+                format!(
+                    "{}-{}",
+                    text::clock_at(self.clock_start, r.start_s),
+                    text::clock_at(self.clock_start, r.end_s)
+                ),
+                p.required.to_string(),
+                match p.scheduled - p.required.min(p.scheduled) {
+                    0 => p.scheduled.to_string(),
+                    over => format!("{} (+{over})", p.scheduled),
+                },
+            ];
+            if self.shrinkage() {
+                row.push(p.servers.to_string());
+            }
+            row.extend(p.goals.iter().map(marked));
+            rows.push(row);
+        }
+        rows
+    }
+
+    /// How the intervals fare under the shift plan, in words.
+    fn shift_verdict(&self, plan: &ShiftPlanSection) -> String {
+        let count = |v: Verdict| {
+            (plan.intervals.iter())
+                .filter(|p| p.goals.iter().any(|g| g.verdict == v))
+                .count()
+        };
+        let (fails, undecided) = (count(Verdict::Fails), count(Verdict::Undecided));
+        let intervals = |n: usize| if n == 1 { "interval" } else { "intervals" };
+        match (fails, undecided) {
+            (0, 0) => "Every interval meets every goal under the shift plan.".into(),
+            (0, u) => format!(
+                "No interval fails under the shift plan; {u} {} undecided ({} 95% interval straddles a goal's bound: near the bound, where the fewest servers sit).",
+                intervals(u),
+                if u == 1 { "its" } else { "their" }
+            ),
+            (f, _) => format!(
+                "NOT MET: {f} {} {} a goal under the shift plan (rows marked FAILS).",
+                intervals(f),
+                if f == 1 { "fails" } else { "fail" }
+            ),
+        }
+    }
+
+    /// The shift plan's summary line.
+    fn shift_summary(&self, plan: &ShiftPlanSection) -> String {
+        let h = |x: f64| crate::units::trim_float(x, 1);
+        let over = if plan.required_agent_hours > 0.0 {
+            format!(
+                " ({}% over)",
+                h((plan.paid_agent_hours / plan.required_agent_hours - 1.0) * 100.0)
+            )
+        } else {
+            String::new()
+        };
+        format!(
+            "Shift plan: {} paid agent-hours for the {} agent-hours to schedule{over}; {}. {}",
+            h(plan.paid_agent_hours),
+            h(plan.required_agent_hours),
+            if plan.proven_fewest {
+                "no cheaper cover of the allowed shift types exists"
+            } else {
+                "the best cover found within the search's limit, not proven the fewest"
+            },
+            self.shift_verdict(plan)
+        )
+    }
+}
+
+/// An estimate with its verdict, as the tables show it.
+fn marked(g: &IntervalGoal) -> String {
+    let mark = match g.verdict {
+        Verdict::Holds => "",
+        Verdict::Fails => " FAILS",
+        Verdict::Undecided => " undecided",
+    };
+    format!("{}{mark}", text::estimate(g.unit, &g.estimate))
 }
 
 impl Document for StaffingDocument {
@@ -354,6 +562,15 @@ impl Document for StaffingDocument {
         } else {
             out.push_str("NOT MET: no staffing tried met every goal in every interval; the table shows the last one tried.\n");
         }
+        if let Some(plan) = &self.shift_plan {
+            out.push_str("\nShift plan: the fewest paid agent-hours of the group's shift types that schedule at least \"to schedule\" in every interval, simulated with the same seeds\n\n");
+            out.push_str(&align(&self.shift_list(plan), "  "));
+            out.push('\n');
+            out.push_str(&align(&self.shift_rows(plan), "  "));
+            out.push('\n');
+            out.push_str(&self.shift_summary(plan));
+            out.push('\n');
+        }
         out.push_str(&format!("\nCaution: {CAUTION}\n"));
         out
     }
@@ -382,8 +599,19 @@ impl Document for StaffingDocument {
                 format!("{g} days met"),
             ]);
         }
+        if self.shift_plan.is_some() {
+            head.extend(["shift_scheduled".to_string(), "shift_servers".into()]);
+            for g in &self.goals {
+                head.extend([
+                    format!("shift plan {g} mean"),
+                    format!("shift plan {g} low"),
+                    format!("shift plan {g} high"),
+                    format!("shift plan {g} verdict"),
+                ]);
+            }
+        }
         let opt = |n: Option<u32>| n.map_or(String::new(), |n| n.to_string());
-        let rows = self.intervals.iter().map(|r| {
+        let rows = self.intervals.iter().enumerate().map(|(b, r)| {
             let mut row = vec![
                 text::csv_number(r.start_s),
                 text::csv_number(r.end_s),
@@ -403,6 +631,17 @@ impl Document for StaffingDocument {
                     g.verdict.word().to_string(),
                     text::csv_number(g.days_meeting.mean),
                 ]);
+            }
+            if let Some(p) = self.shift_plan.as_ref().and_then(|p| p.intervals.get(b)) {
+                row.extend([p.scheduled.to_string(), p.servers.to_string()]);
+                for g in &p.goals {
+                    row.extend([
+                        text::csv_number(g.estimate.mean),
+                        text::csv_number(g.estimate.low),
+                        text::csv_number(g.estimate.high),
+                        g.verdict.word().to_string(),
+                    ]);
+                }
             }
             row
         });
@@ -453,6 +692,16 @@ impl Charted for StaffingDocument {
                 )
                 .painted(Paint::Stream(3)),
             );
+        }
+        if let Some(plan) = &self.shift_plan {
+            let on_duty: Vec<(f64, f64)> = (self.intervals.iter().zip(&plan.intervals))
+                .flat_map(|(r, p)| {
+                    let v = f64::from(p.scheduled);
+                    [(r.start_s / 3600.0, v), (r.end_s / 3600.0, v)]
+                })
+                .collect();
+            load.series
+                .push(Series::new("shift plan: agents on duty", on_duty).painted(Paint::Stream(4)));
         }
         let stationary = self.staircase(|r| count(r.stationary));
         if !stationary.is_empty() {
@@ -512,6 +761,19 @@ impl Charted for StaffingDocument {
                     .painted(Paint::Stream(1)),
                 );
             }
+            if let Some(plan) = &self.shift_plan {
+                let under: Vec<(f64, Estimate)> = (self.intervals.iter().zip(&plan.intervals))
+                    .filter_map(|(r, p)| Some((mid(r), p.goals.get(i)?.estimate)))
+                    .collect();
+                c.series.push(
+                    plot::estimate_series(
+                        "under the shift plan, simulated (95% band)".into(),
+                        &under,
+                        scale,
+                    )
+                    .painted(Paint::Stream(4)),
+                );
+            }
             panels.push(plot::render_svg(&c)?);
         }
         Ok(plot::stack(&panels))
@@ -558,6 +820,18 @@ impl Charted for StaffingDocument {
             },
             rows: self.rows(),
         }));
+        if let Some(plan) = &self.shift_plan {
+            blocks.push(Block::Heading("Shift plan".into()));
+            blocks.push(Block::Paragraph(self.shift_summary(plan)));
+            blocks.push(Block::Table(Table {
+                title: "Shifts".into(),
+                rows: self.shift_list(plan),
+            }));
+            blocks.push(Block::Table(Table {
+                title: "Per interval under the shift plan".into(),
+                rows: self.shift_rows(plan),
+            }));
+        }
         if let Some(svg) = chart {
             blocks.push(Block::Heading(match self.clock_period() {
                 Some(period) => format!("Load and servers over the day, {period}"),
@@ -597,6 +871,51 @@ from ({}), simulated with the same seeds.",
             ),
             &blocks,
         )
+    }
+}
+
+/// A duration as a scenario writes it: "8h", "8h30m", "30m", "45s".
+fn duration_text(seconds: f64) -> String {
+    let s = seconds.round() as u64;
+    let (h, m, sec) = (s / 3600, s % 3600 / 60, s % 60);
+    let mut out = String::new();
+    if h > 0 {
+        out.push_str(&format!("{h}h"));
+    }
+    if m > 0 {
+        out.push_str(&format!("{m}m"));
+    }
+    if sec > 0 || out.is_empty() {
+        out.push_str(&format!("{sec}s"));
+    }
+    out
+}
+
+impl StaffingDocument {
+    /// The shift plan as the scenario's `shifts` list.
+    fn shifts_value(&self, plan: &ShiftPlanSection) -> toml::Value {
+        let clock = |t: f64| crate::units::format_time_of_day(self.clock_start.unwrap_or(0.0) + t);
+        let shifts = (plan.shifts.iter())
+            .map(|s| {
+                let mut t = toml::Table::new();
+                t.insert("start".into(), clock(s.start_s).into());
+                t.insert("length".into(), duration_text(s.end_s - s.start_s).into());
+                t.insert("agents".into(), i64::from(s.agents).into());
+                if !s.breaks_s.is_empty() {
+                    let breaks = (s.breaks_s.iter())
+                        .map(|&(a, b)| {
+                            let mut t = toml::Table::new();
+                            t.insert("after".into(), duration_text(a - s.start_s).into());
+                            t.insert("length".into(), duration_text(b - a).into());
+                            toml::Value::Table(t)
+                        })
+                        .collect();
+                    t.insert("breaks".into(), toml::Value::Array(breaks));
+                }
+                toml::Value::Table(t)
+            })
+            .collect();
+        toml::Value::Array(shifts)
     }
 }
 
@@ -650,10 +969,15 @@ impl StaffingDocument {
                 })
             })
             .ok_or_else(|| WriteBackError::Missing(format!("[[group]] named {}", self.group)))?;
-        let scheduled: Vec<toml::Value> = (self.intervals.iter())
-            .map(|r| toml::Value::Integer(i64::from(r.scheduled)))
-            .collect();
-        group.insert("servers".into(), toml::Value::Array(scheduled));
+        if let Some(plan) = &self.shift_plan {
+            group.remove("servers");
+            group.insert("shifts".into(), self.shifts_value(plan));
+        } else {
+            let scheduled: Vec<toml::Value> = (self.intervals.iter())
+                .map(|r| toml::Value::Integer(i64::from(r.scheduled)))
+                .collect();
+            group.insert("servers".into(), toml::Value::Array(scheduled));
+        }
         group.insert("interval".into(), interval);
         if group.get("shrinkage").is_some_and(toml::Value::is_array) {
             let shares = (shrinkage.iter())
@@ -668,14 +992,23 @@ impl StaffingDocument {
         Ok(format!(
             "# {}: {} staffed per interval {}\n\
 # Written by: {}\n\
-# The group's servers are the simulated plan's servers to schedule, one per reporting interval ({}).\n\
+# {}\n\
 # Caution: {CAUTION}\n\
 # The comments of the original scenario were not kept; its values were.\n\n{body}",
             one_line(&self.scenario),
             one_line(&self.group),
             crate::files::STAFFED_SCENARIO_MARK,
             one_line(command),
-            one_line(&self.goals.join(", ")),
+            match &self.shift_plan {
+                Some(_) => format!(
+                    "The group's agents work the shift plan's shifts, which cover the simulated plan's servers to schedule ({}).",
+                    one_line(&self.goals.join(", "))
+                ),
+                None => format!(
+                    "The group's servers are the simulated plan's servers to schedule, one per reporting interval ({}).",
+                    one_line(&self.goals.join(", "))
+                ),
+            },
         ))
     }
 }

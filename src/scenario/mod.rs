@@ -312,6 +312,12 @@ pub fn name_key(name: &str) -> u64 {
     h
 }
 
+/// The grid shifts lie on: its interval and the clock time of its start.
+struct Grid {
+    interval_s: f64,
+    clock_start_s: f64,
+}
+
 struct Compiler {
     file: String,
     base: PathBuf,
@@ -422,7 +428,7 @@ impl Compiler {
         let groups = spec
             .groups
             .iter()
-            .map(|g| self.group(g, &stream_index))
+            .map(|g| self.group(g, &stream_index, &plan))
             .collect::<R<Vec<Group>>>()?;
         let streams = spec
             .streams
@@ -466,9 +472,18 @@ impl Compiler {
     }
 
     /// One `[[group]]`: servers, queue, overflow and trunk reservation.
-    fn group(&self, g: &spec::GroupSpec, stream_index: &HashMap<&str, usize>) -> R<Group> {
+    fn group(
+        &self,
+        g: &spec::GroupSpec,
+        stream_index: &HashMap<&str, usize>,
+        plan: &RunPlan,
+    ) -> R<Group> {
         let k = |field: &str| format!("group \"{}\".{field}", g.name);
-        let (servers, schedule) = self.servers(g, &k)?;
+        let (servers, schedule) = self.servers(g, &k, plan)?;
+        let shift_types = match &g.shift_types {
+            None => Vec::new(),
+            Some(types) => self.shift_types(types, &k, plan)?,
+        };
         let queue = match &g.queue {
             None | Some(QueueSpec::Places(0)) => Queue::None,
             Some(QueueSpec::Places(q)) => {
@@ -525,6 +540,7 @@ impl Compiler {
             overflow_after_s,
             reserve,
             reserved_for,
+            shift_types,
         })
     }
 
@@ -535,9 +551,20 @@ impl Compiler {
         &self,
         g: &spec::GroupSpec,
         k: &dyn Fn(&str) -> String,
+        plan: &RunPlan,
     ) -> R<(u32, Option<Schedule>)> {
         use spec::ServersSpec;
-        let scheduled: Vec<u32> = match &g.servers {
+        let servers = match (&g.servers, &g.shifts) {
+            (Some(_), Some(_)) => {
+                return Err(self.err(k("shifts"), "give servers or shifts, not both: the shifts say how many agents are scheduled"));
+            }
+            (None, None) => {
+                return Err(self.err(k("servers"), "missing: give the group's servers (a number, or one per interval) or the shifts its agents work"));
+            }
+            (Some(servers), None) => servers.clone(),
+            (None, Some(shifts)) => ServersSpec::Each(self.worked_shifts(shifts, g, k, plan)?),
+        };
+        let scheduled: Vec<u32> = match &servers {
             ServersSpec::One(n) if g.shrinkage.is_none() => {
                 if g.interval.is_some() {
                     return Err(self.err(k("interval"), "an interval is for a list of servers or of shrinkage shares, one per interval: give servers = [..] or remove interval"));
@@ -607,6 +634,177 @@ impl Compiler {
             present,
         };
         Ok((most, Some(schedule)))
+    }
+
+    /// The agents scheduled per `interval` by the shifts worked, through
+    /// the end of the last shift and one entry of none after it (which
+    /// holds from then on).
+    fn worked_shifts(
+        &self,
+        shifts: &[spec::ShiftSpec],
+        g: &spec::GroupSpec,
+        k: &dyn Fn(&str) -> String,
+        plan: &RunPlan,
+    ) -> R<Vec<i64>> {
+        let Some(interval) = &g.interval else {
+            return Err(self.err(
+                k("interval"),
+                "shifts start, end and break on a grid: give its interval, like interval = \"30m\"",
+            ));
+        };
+        let grid = Grid {
+            interval_s: self.positive_duration(&k("interval"), interval)?,
+            clock_start_s: plan.clock_start_s.unwrap_or(0.0),
+        };
+        if shifts.is_empty() {
+            return Err(self.err(k("shifts"), "the list of shifts is empty: give at least one, like { start = \"08:00\", length = \"8h\", agents = 5 }"));
+        }
+        let worked = (shifts.iter().enumerate())
+            .map(|(j, s)| {
+                let key = format!("{}[{}]", k("shifts"), j + 1);
+                let length = self.on_grid(&format!("{key}.length"), &s.length, &grid, 1)?;
+                Ok(crate::shifts::Shift {
+                    start: self.clock_on_grid(&format!("{key}.start"), &s.start, &grid)?,
+                    length,
+                    breaks: self.breaks(&key, s.breaks.as_deref(), length, &grid)?,
+                    count: self.count(&format!("{key}.agents"), s.agents, 1, MAX_GROUP_SERVERS)?,
+                })
+            })
+            .collect::<R<Vec<_>>>()?;
+        let end = worked
+            .iter()
+            .map(crate::shifts::Shift::end)
+            .max()
+            .unwrap_or(0);
+        if f64::from(end) * grid.interval_s > MAX_LENGTH_S * 2.0 {
+            return Err(self.err(
+                k("shifts"),
+                "the shifts run longer than any run may: keep them within the measured period",
+            ));
+        }
+        let cover = crate::shifts::coverage(&worked, end as usize + 1);
+        let total = |i: usize| i64::from(cover[i]);
+        if cover.iter().any(|&n| i64::from(n) > MAX_GROUP_SERVERS) {
+            return Err(self.err(
+                k("shifts"),
+                format!("the shifts put more than {MAX_GROUP_SERVERS} agents on duty at once"),
+            ));
+        }
+        Ok((0..cover.len()).map(total).collect())
+    }
+
+    /// The allowed shift kinds of a shift plan, on the grid of the
+    /// reporting intervals.
+    fn shift_types(
+        &self,
+        types: &[spec::ShiftTypeSpec],
+        k: &dyn Fn(&str) -> String,
+        plan: &RunPlan,
+    ) -> R<Vec<crate::shifts::ShiftType>> {
+        let Some(interval_s) = plan.interval_s else {
+            return Err(self.err(k("shift_types"), "shift plans cover the reporting intervals: give interval = \"30m\" (or another length) in [simulation]"));
+        };
+        let grid = Grid {
+            interval_s,
+            clock_start_s: plan.clock_start_s.unwrap_or(0.0),
+        };
+        if types.is_empty() {
+            return Err(self.err(k("shift_types"), "the list of shift types is empty: give at least one, like { length = \"8h\", earliest = \"08:00\", latest = \"12:00\" }"));
+        }
+        (types.iter().enumerate())
+            .map(|(j, t)| {
+                let key = format!("{}[{}]", k("shift_types"), j + 1);
+                let length = self.on_grid(&format!("{key}.length"), &t.length, &grid, 1)?;
+                let earliest =
+                    self.clock_on_grid(&format!("{key}.earliest"), &t.earliest, &grid)?;
+                let latest = self.clock_on_grid(&format!("{key}.latest"), &t.latest, &grid)?;
+                if latest < earliest {
+                    return Err(self.err(
+                        format!("{key}.latest"),
+                        format!("{} is before the earliest start {}", t.latest, t.earliest),
+                    ));
+                }
+                let every = match &t.every {
+                    None => 1,
+                    Some(a) => self.on_grid(&format!("{key}.every"), a, &grid, 1)?,
+                };
+                Ok(crate::shifts::ShiftType {
+                    length,
+                    earliest,
+                    latest,
+                    every,
+                    breaks: self.breaks(&key, t.breaks.as_deref(), length, &grid)?,
+                    max_agents: (t.max_agents)
+                        .map(|n| self.count(&format!("{key}.max_agents"), n, 1, MAX_GROUP_SERVERS))
+                        .transpose()?,
+                })
+            })
+            .collect()
+    }
+
+    /// A duration as a whole number (at least `min`) of grid intervals.
+    fn on_grid(&self, key: &str, a: &Amount, grid: &Grid, min: u32) -> R<u32> {
+        let s = self.duration(key, a)?;
+        let n = (s / grid.interval_s).round();
+        if (s - n * grid.interval_s).abs() > 1e-6 * grid.interval_s.max(1.0) {
+            return Err(self.err(key, format!("{a} is not a whole number of {} intervals: shifts start, end and break on the interval grid", units::format_duration(grid.interval_s))));
+        }
+        if n < f64::from(min) || n > MAX_INTERVALS {
+            return Err(self.err(
+                key,
+                format!(
+                    "{a} must be at least {min} interval(s) of {} and at most {MAX_INTERVALS}",
+                    units::format_duration(grid.interval_s)
+                ),
+            ));
+        }
+        Ok(n as u32)
+    }
+
+    /// A clock time as the grid interval it begins, counted from the
+    /// start of the measured period.
+    fn clock_on_grid(&self, key: &str, text: &str, grid: &Grid) -> R<u32> {
+        let Some(t) = units::parse_time_of_day(text) else {
+            return Err(self.err(
+                key,
+                format!(
+                    "\"{text}\" is not a time of day: expected hours and minutes like \"08:00\""
+                ),
+            ));
+        };
+        let offset = t - grid.clock_start_s;
+        if offset < 0.0 {
+            return Err(self.err(key, format!("{text} is before the measured period begins ({}): start at or after it, or move clock_start in [simulation]", units::format_time_of_day(grid.clock_start_s))));
+        }
+        self.on_grid(key, &Amount::Number(offset), grid, 0)
+            .map_err(|_| self.err(key, format!("{text} is not on the {} interval grid from {}: shifts start on interval boundaries", units::format_duration(grid.interval_s), units::format_time_of_day(grid.clock_start_s))))
+    }
+
+    /// The breaks of a shift of `length` grid intervals, each inside it.
+    fn breaks(
+        &self,
+        key: &str,
+        breaks: Option<&[spec::BreakSpec]>,
+        length: u32,
+        grid: &Grid,
+    ) -> R<Vec<crate::shifts::Break>> {
+        let mut out: Vec<crate::shifts::Break> = Vec::new();
+        for (j, b) in breaks.unwrap_or_default().iter().enumerate() {
+            let at = format!("{key}.breaks[{}]", j + 1);
+            let after = self.on_grid(&format!("{at}.after"), &b.after, grid, 1)?;
+            let long = self.on_grid(&format!("{at}.length"), &b.length, grid, 1)?;
+            if after + long >= length {
+                return Err(self.err(at, "the break must end before the shift does"));
+            }
+            if out.last().is_some_and(|p| after < p.after + p.length) {
+                return Err(self.err(at, "breaks must follow one another without overlapping"));
+            }
+            out.push(crate::shifts::Break {
+                after,
+                length: long,
+            });
+        }
+        Ok(out)
     }
 
     /// A shrinkage share: from 0 up to, not including, 100%.

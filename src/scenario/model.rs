@@ -123,6 +123,9 @@ pub struct Group {
     pub reserve: u32,
     /// Per stream index: may this stream take the reserved servers?
     pub reserved_for: Vec<bool>,
+    /// The kinds of shift a shift plan of this group may use, on the grid
+    /// of the reporting intervals (planning only: no replication reads it).
+    pub shift_types: Vec<crate::shifts::ShiftType>,
 }
 
 impl Group {

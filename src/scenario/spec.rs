@@ -154,9 +154,15 @@ pub struct GroupSpec {
     /// Unique name.
     pub name: String,
     /// Number of servers (circuits, ports, agents), or one number per
-    /// `interval` (a schedule).
-    pub servers: ServersSpec,
-    /// The interval each entry of a `servers` or `shrinkage` list covers.
+    /// `interval` (a schedule); absent when `shifts` say it.
+    pub servers: Option<ServersSpec>,
+    /// The shifts worked: the agents scheduled over time, instead of
+    /// `servers`.
+    pub shifts: Option<Vec<ShiftSpec>>,
+    /// The kinds of shift a shift plan may use (`size --per-interval`).
+    pub shift_types: Option<Vec<ShiftTypeSpec>>,
+    /// The interval each entry of a `servers` or `shrinkage` list covers
+    /// (the grid of `shifts`).
     pub interval: Option<Amount>,
     /// Share of the scheduled servers not taking calls, one or per interval.
     pub shrinkage: Option<ChanceSpec>,
@@ -166,6 +172,50 @@ pub struct GroupSpec {
     pub overflow_after: Option<Amount>,
     /// Trunk reservation.
     pub reserve: Option<ReserveSpec>,
+}
+
+/// One shift worked: `{ start = "08:00", length = "8h", agents = 6,
+/// breaks = [{ after = "4h", length = "30m" }] }`.
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct ShiftSpec {
+    /// Clock time the shift starts.
+    pub start: String,
+    /// Length, breaks included.
+    pub length: Amount,
+    /// Agents working it.
+    pub agents: i64,
+    /// Breaks inside it.
+    pub breaks: Option<Vec<BreakSpec>>,
+}
+
+/// A break inside a shift.
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct BreakSpec {
+    /// Time from the shift's start to the break's.
+    pub after: Amount,
+    /// Length of the break.
+    pub length: Amount,
+}
+
+/// A kind of shift a plan may use: `{ length = "8h", earliest = "08:00",
+/// latest = "12:00", every = "30m", breaks = [...] }`.
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct ShiftTypeSpec {
+    /// Length, breaks included.
+    pub length: Amount,
+    /// Earliest clock time a shift of this kind may start.
+    pub earliest: String,
+    /// Latest clock time it may start.
+    pub latest: String,
+    /// Time between allowed starts (default: the reporting interval).
+    pub every: Option<Amount>,
+    /// The most agents all shifts of this kind may have together.
+    pub max_agents: Option<i64>,
+    /// Breaks inside it.
+    pub breaks: Option<Vec<BreakSpec>>,
 }
 
 /// `reserve = { servers = R, for = [streams] }`.
