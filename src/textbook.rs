@@ -207,7 +207,155 @@ pub fn formula_column(model: &Model) -> HashMap<FigureId, Formula> {
         Scope::Group(g) | Scope::GroupInterval(_, g) => !changing(g),
         Scope::Stream(s) | Scope::StreamInterval(_, s) => !through_changing(s),
     });
+    // Per interval, such groups still have the stationary formula of each
+    // interval's load on that interval's servers.
+    for g in 0..model.groups.len() {
+        interval_stationary_group(&mut col, g);
+    }
     col.map
+}
+
+/// Labels of the stationary per-interval formulas on the interval's own
+/// servers.
+const INTERVAL_B: &str = "Erlang B, interval load and servers (approx.)";
+const INTERVAL_C: &str = "Erlang C, interval load and servers (approx.)";
+const INTERVAL_A: &str = "Erlang A, interval load and servers (approx.)";
+
+/// A group whose servers change over the run, or a queue whose load follows
+/// a peak profile: per reporting interval, the stationary formula of the
+/// interval's forecast load on the servers present in it (Erlang B for a
+/// loss group, Erlang C for an unlimited queue, Erlang A with exponential
+/// patience), the stationary independent period-by-period approximation
+/// (Green, Kolesar and Soares 2001): it ignores what one interval leaves to
+/// the next, so it is marked approx. Only where the servers are the same
+/// through the interval, every stream offers Poisson (or peak-profile)
+/// calls directly, with no redials, one server per call, one holding mean,
+/// exponential holding for a queue and one exponential patience or none. A
+/// loss group with constant servers has its own per-interval references
+/// (`profile_group`).
+fn interval_stationary_group(col: &mut Column, g: usize) {
+    let model = col.model;
+    let grp = &model.groups[g];
+    let users = users(model, g);
+    let profiled =
+        (users.iter()).any(|&(s, _)| matches!(model.streams[s].arrivals, Arrivals::Profile { .. }));
+    let wanted = grp.servers_change() || (profiled && grp.queue != Queue::None);
+    if !wanted
+        || model.plan.interval_s.is_none()
+        || users.is_empty()
+        || grp.reserve > 0
+        || grp.overflow_after_s.is_some()
+        || matches!(grp.queue, Queue::Limited(_))
+    {
+        return;
+    }
+    let mut holding = None::<f64>;
+    let mut patience = None::<Option<f64>>;
+    for &(s, pos) in &users {
+        let st = &model.streams[s];
+        let direct = matches!(
+            st.arrivals,
+            Arrivals::Poisson { .. } | Arrivals::Profile { .. }
+        );
+        if pos != 0 || st.route.len() != 1 || st.units != 1 || st.retry.is_some() || !direct {
+            return;
+        }
+        let h = st.holding.mean();
+        if holding.is_some_and(|x| (x - h).abs() > 1e-12 * h) {
+            return;
+        }
+        holding = Some(h);
+        let p = match &st.patience {
+            None => None,
+            Some(l) if l.is_exponential() => Some(l.mean()),
+            Some(_) => return,
+        };
+        if patience.is_some_and(|x| x != p) {
+            return;
+        }
+        patience = Some(p);
+    }
+    let (Some(h), Some(patience)) = (holding, patience) else {
+        return;
+    };
+    let queue = grp.queue == Queue::Unlimited;
+    let exponential = (users.iter()).all(|&(s, _)| model.streams[s].holding.is_exponential());
+    if queue && !exponential {
+        return;
+    }
+    for b in 0..model.plan.interval_count() {
+        let t0 = crate::stats::interval_start(model, b);
+        let t1 = t0 + crate::stats::interval_length(model, b);
+        let n = match &grp.schedule {
+            None => grp.servers,
+            Some(sch) => {
+                let (first, last) = (sch.entry_at(t0), sch.entry_at(t1 - 1e-6 * (t1 - t0)));
+                let n = sch.present[first];
+                if sch.present[first..=last].iter().any(|&m| m != n) {
+                    continue;
+                }
+                n
+            }
+        };
+        if n == 0 {
+            continue;
+        }
+        let load = window_load(users.iter().map(|&(s, _)| &model.streams[s]), t0, t1);
+        let figures = |s: usize| crate::stats::stream_interval_figures(model, s);
+        if !queue {
+            let Ok(blocking) = erlang_b::blocking(n, load) else {
+                continue;
+            };
+            for &(s, _) in &users {
+                col.stream_interval(b, s, Figure::Loss, INTERVAL_B, blocking);
+            }
+            col.group_interval(b, g, Figure::TimeCongestion, INTERVAL_B, blocking);
+            continue;
+        }
+        match patience {
+            None => {
+                let (Ok(c), Ok(w)) = (
+                    erlang_c::wait_probability(n, load),
+                    erlang_c::mean_wait(n, load, h),
+                ) else {
+                    continue;
+                };
+                for &(s, _) in &users {
+                    let mut set = |f: Figure, v: f64| {
+                        if figures(s).contains(&f) {
+                            col.stream_interval(b, s, f, INTERVAL_C, v);
+                        }
+                    };
+                    set(Figure::WaitProbability, c);
+                    set(Figure::WaitMean, w);
+                    if let Some(aw) = model.streams[s].answer_within_s
+                        && let Ok(sl) = erlang_c::service_level(n, load, h, aw)
+                    {
+                        set(Figure::ServiceLevel, sl);
+                    }
+                }
+            }
+            Some(theta) => {
+                let Ok(ea) = erlang_a::solve(n, load, h, theta) else {
+                    continue;
+                };
+                for &(s, _) in &users {
+                    let mut set = |f: Figure, v: f64| {
+                        if figures(s).contains(&f) {
+                            col.stream_interval(b, s, f, INTERVAL_A, v);
+                        }
+                    };
+                    set(Figure::WaitProbability, ea.wait_probability);
+                    set(Figure::Abandonment, ea.abandonment);
+                    set(Figure::Loss, ea.abandonment);
+                    set(Figure::WaitMean, ea.mean_wait_answered_s);
+                    if let Some(aw) = model.streams[s].answer_within_s {
+                        set(Figure::ServiceLevel, ea.service_level(aw));
+                    }
+                }
+            }
+        }
+    }
 }
 
 /// Label of the redial fixed point.

@@ -121,9 +121,9 @@ fn the_chart_and_report_show_the_plans_over_the_day() {
         .filter(|l| l.starts_with("<polyline") && l.contains("stroke-width=\"2.5\""))
         .collect();
     // Panel 1: the forecast, the simulated plan (servers taking calls, then
-    // to schedule: the clinic has shrinkage), both solid; the stationary
-    // and the modified-offered-load plans dashed; each a staircase over the
-    // 18 half hours.
+    // to schedule: the clinic has shrinkage) and the shift plan's agents on
+    // duty, all solid; the stationary and the modified-offered-load plans
+    // dashed; each a staircase over the 18 half hours.
     let solid: Vec<&&str> = lines.iter().filter(|l| !l.contains("dasharray")).collect();
     let dashed: Vec<&&str> = (lines.iter())
         .filter(|l| l.contains("stroke-dasharray=\"9 5\""))
@@ -132,16 +132,22 @@ fn the_chart_and_report_show_the_plans_over_the_day() {
         .filter(|l| l.contains("stroke-dasharray=\"14 5 3 5\""))
         .count();
     assert!(
-        solid.iter().take(3).all(|l| is_staircase(&points(l), 18)),
+        solid.iter().take(4).all(|l| is_staircase(&points(l), 18)),
         "{solid:?}"
     );
     assert_eq!(dashed.len(), 2, "{dashed:?}");
     assert!(dashed.iter().all(|l| is_staircase(&points(l), 18)));
-    // Panel 2: the goal's bound, and the figure under each plan at the 18
-    // interval midpoints.
+    // Panel 2: the goal's bound, and the figure under each plan (the
+    // simulated, the stationary and the shift plan) at the 18 interval
+    // midpoints.
     assert_eq!(goal_lines, 1);
-    assert_eq!(solid.len(), 5, "{solid:?}");
-    assert!(solid[3..].iter().all(|l| points(l).len() == 18));
+    assert_eq!(solid.len(), 7, "{solid:?}");
+    assert!(solid[4..].iter().all(|l| points(l).len() == 18));
+    // The shift plan's staircase is never below the simulated plan's
+    // servers to schedule (it covers them).
+    let to_schedule: Vec<f64> = points(solid[2]).iter().map(|p| p.1).collect();
+    let on_duty: Vec<f64> = points(solid[3]).iter().map(|p| p.1).collect();
+    assert!(to_schedule.iter().zip(&on_duty).all(|(a, b)| b <= a));
     // The servers-taking-calls staircase steps where the CSV's plan steps:
     // equal plans in two intervals are drawn at one height.
     let csv = std::fs::read_to_string(&csv_path).unwrap();
@@ -171,6 +177,7 @@ fn the_chart_and_report_show_the_plans_over_the_day() {
     assert!(html.contains("<svg"), "the page carries the chart");
     assert!(html.contains("08:00-08:30") && html.contains("16:30-17:00"));
     assert!(html.contains("to schedule"));
+    assert!(html.contains("Shift plan") && html.contains("paid agent-hours"));
     assert!(html.contains("Estimates under the stated model assumptions"));
     let _ = std::fs::remove_dir_all(&dir);
 }
@@ -181,14 +188,43 @@ fn the_chart_and_report_show_the_plans_over_the_day() {
 /// (`staffing::interval_verdicts`), with the file's seed and replications.
 #[test]
 fn the_written_scenario_carries_the_plan_and_meets_the_goal() {
+    written_scenario_carries_the_plan(false);
+}
+
+#[test]
+fn the_written_scenario_carries_the_shift_plan_and_meets_the_goal() {
+    written_scenario_carries_the_plan(true);
+}
+
+/// `--scenario-out` of the clinic day: with its shift types the group
+/// works the shift plan's shifts, without them it gets the staffing's
+/// servers per interval; either way the written scenario compiles,
+/// schedules what the CSV says, and meets the goal in every interval when
+/// run on its own.
+fn written_scenario_carries_the_plan(with_shifts: bool) {
     use busyhour::experiment::size::{Goal, Verdict};
     use busyhour::experiment::{self, RunOptions, staffing};
-    let dir = scratch("scenario-out");
+    let dir = scratch(if with_shifts {
+        "shifts-out"
+    } else {
+        "scenario-out"
+    });
     let (toml_path, csv_path) = (dir.join("staffed.toml"), dir.join("plan.csv"));
+    let scenario = if with_shifts {
+        PathBuf::from(CLINIC)
+    } else {
+        let mut table: toml::Table = std::fs::read_to_string(CLINIC).unwrap().parse().unwrap();
+        let groups = table.get_mut("group").unwrap().as_array_mut().unwrap();
+        let agents = groups[0].as_table_mut().unwrap();
+        assert!(agents.remove("shift_types").is_some());
+        let path = dir.join("clinic-no-shifts.toml");
+        std::fs::write(&path, toml::to_string(&table).unwrap()).unwrap();
+        path
+    };
     let run = |extra: &[&str]| {
         let mut args = vec![
             "size",
-            CLINIC,
+            scenario.to_str().unwrap(),
             "--group",
             "agents",
             "--goal",
@@ -226,8 +262,30 @@ fn the_written_scenario_carries_the_plan_and_meets_the_goal() {
     let g = staffed.group_index("agents").unwrap();
     let schedule = staffed.groups[g].schedule.as_ref().expect("a schedule");
     assert_eq!(schedule.interval_s, 1800.0);
-    assert_eq!(schedule.scheduled, scheduled);
-    assert_eq!(schedule.present, servers, "25% shrinkage kept");
+    if with_shifts {
+        assert!(text.contains("[[group.shifts]]"), "{text}");
+        assert!(!text.contains("servers ="), "{text}");
+        let (on_duty, taking_calls) = (column(14), column(15));
+        // The shifts run to 17:00; one entry of nobody holds after them.
+        assert_eq!(schedule.scheduled[..18], on_duty[..]);
+        assert_eq!(schedule.present[..18], taking_calls[..]);
+        assert_eq!(schedule.present[18..], [0]);
+        for b in 0..18 {
+            assert!(
+                on_duty[b] >= scheduled[b],
+                "interval {b}: shifts under-cover"
+            );
+            // 25% shrinkage: floor(on duty x 0.75).
+            assert_eq!(taking_calls[b], on_duty[b] * 3 / 4, "interval {b}");
+        }
+        assert!(
+            (0..18).any(|b| on_duty[b] > scheduled[b]),
+            "a shift plan of whole shifts over-covers somewhere"
+        );
+    } else {
+        assert_eq!(schedule.scheduled, scheduled);
+        assert_eq!(schedule.present, servers, "25% shrinkage kept");
+    }
     assert_eq!(staffed.plan.seed, original.plan.seed);
     assert_eq!(staffed.plan.replications, original.plan.replications);
     let goal = Goal::parse("service_level>=80%", &staffed, g).unwrap();
@@ -246,6 +304,10 @@ fn the_written_scenario_carries_the_plan_and_meets_the_goal() {
         "{}",
         String::from_utf8_lossy(&again.stderr)
     );
+    if with_shifts {
+        let _ = std::fs::remove_dir_all(&dir);
+        return;
+    }
     let onto_input = busyhour(&[
         "size",
         CLINIC,

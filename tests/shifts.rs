@@ -181,3 +181,84 @@ fn a_day_cover_is_tight() {
         );
     }
 }
+
+/// Worked shifts in a scenario become the group's schedule: agents on duty
+/// per interval, a break taking its agents off, shrinkage on top, nobody
+/// after the last shift ends.
+#[test]
+fn worked_shifts_compile_to_the_agents_on_duty() {
+    let text = r#"
+[simulation]
+length = "4h"
+interval = "30m"
+clock_start = "08:00"
+
+[[group]]
+name = "agents"
+interval = "30m"
+shrinkage = "20%"
+queue = "unlimited"
+shifts = [
+  { start = "08:00", length = "3h", agents = 10, breaks = [{ after = "1h", length = "30m" }] },
+  { start = "09:00", length = "2h", agents = 5 },
+]
+
+[[stream]]
+name = "calls"
+arrivals = { law = "poisson", rate = "100/h" }
+holding = { law = "exponential", mean = "3m" }
+route = ["agents"]
+"#;
+    let model = busyhour::scenario::parse(text, "shifts.toml", ".".as_ref(), "shifts").unwrap();
+    let s = model.groups[0].schedule.as_ref().unwrap();
+    // 08:00 10, 08:30 10, 09:00 break: 5, 09:30 15, 10:00 15, 10:30 15,
+    // then nobody.
+    assert_eq!(s.scheduled, [10, 10, 5, 15, 15, 15, 0]);
+    // floor(n x 0.8).
+    assert_eq!(s.present, [8, 8, 4, 12, 12, 12, 0]);
+    assert_eq!(model.groups[0].servers, 12);
+}
+
+fn clinic_with(shift_types: &str) -> std::path::PathBuf {
+    let text = std::fs::read_to_string(
+        std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("scenarios/clinic-day.toml"),
+    )
+    .unwrap();
+    let start = text.find("shift_types = [").unwrap();
+    let end = start + text[start..].find("\n]\n").unwrap() + 3;
+    let edited = format!("{}{shift_types}\n{}", &text[..start], &text[end..]);
+    let dir = std::env::temp_dir().join(format!("busyhour-shifts-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let path = dir.join(format!("clinic-{}.toml", edited.len()));
+    std::fs::write(&path, edited).unwrap();
+    path
+}
+
+/// A shift plan that cannot be made is refused in one line, exit 2, naming
+/// why: an interval no allowed shift reaches (by its clock time), or
+/// quotas that leave some interval short.
+#[test]
+fn impossible_shift_plans_are_refused_in_one_line() {
+    let refused = |types: &str, quoted: &str| {
+        let path = clinic_with(types);
+        let out = std::process::Command::new(env!("CARGO_BIN_EXE_busyhour"))
+            .args(["size", path.to_str().unwrap(), "--group", "agents"])
+            .args(["--goal", "service_level>=80%", "--per-interval"])
+            .args(["--replications", "10", "-q"])
+            .output()
+            .unwrap();
+        let err = String::from_utf8_lossy(&out.stderr);
+        assert_eq!(out.status.code(), Some(2), "{err}");
+        assert_eq!(err.trim_end().lines().count(), 1, "{err}");
+        assert!(err.contains(quoted), "{err}");
+        let _ = std::fs::remove_file(path);
+    };
+    refused(
+        r#"shift_types = [{ length = "4h", earliest = "08:00", latest = "12:00" }]"#,
+        "no allowed shift type is on duty from 16:00 to 16:30",
+    );
+    refused(
+        r#"shift_types = [{ length = "9h", earliest = "08:00", latest = "08:00", max_agents = 5 }]"#,
+        "max_agents limits leave no cover",
+    );
+}

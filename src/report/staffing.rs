@@ -563,7 +563,7 @@ impl Document for StaffingDocument {
             out.push_str("NOT MET: no staffing tried met every goal in every interval; the table shows the last one tried.\n");
         }
         if let Some(plan) = &self.shift_plan {
-            out.push_str("\nShift plan: the fewest paid agent-hours of the group's shift types that schedule at least \"to schedule\" in every interval, simulated with the same seeds\n\n");
+            out.push_str("\nShifts from the group's shift types: the fewest paid agent-hours that schedule at least \"to schedule\" in every interval, simulated with the same seeds\n\n");
             out.push_str(&align(&self.shift_list(plan), "  "));
             out.push('\n');
             out.push_str(&align(&self.shift_rows(plan), "  "));
