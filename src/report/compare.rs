@@ -512,23 +512,23 @@ impl Charted for CompareDocument {
     /// paired 95% whisker, and the line of no difference.
     fn chart(&self) -> Result<String, ChartError> {
         let mut svgs = Vec::new();
-        for figure in CHART_FIGURES {
+        let panels = CHART_FIGURES
+            .into_iter()
+            .flat_map(|f| [(f, "stream"), (f, "group")]);
+        for (figure, kind) in panels {
             let shown: Vec<&ComparedFigure> = (self.figures.iter())
-                .filter(|f| f.interval.is_none() && f.which == figure)
+                .filter(|f| f.interval.is_none() && f.which == figure && f.kind == kind)
                 .collect();
             if shown.is_empty() {
                 continue;
             }
             let (y_label, scale) = plot::axis(figure);
             let mut c = LineChart::new(
-                format!("B - A: {} (paired 95% interval)", figure.label()),
+                format!("B - A: {} by {kind} (paired 95% interval)", figure.label()),
                 String::new(),
-                format!("difference in {y_label}"),
+                y_label,
             );
-            c.x_categories = shown
-                .iter()
-                .map(|f| format!("{} {}", f.kind, f.name))
-                .collect();
+            c.x_categories = shown.iter().map(|f| f.name.clone()).collect();
             c.size.1 = 300;
             c.y_from_zero = false;
             c.zoom_to_goals = false;
