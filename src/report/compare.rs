@@ -112,11 +112,12 @@ pub struct CompareDocument {
 }
 
 /// The difference in a planner's words: which way B moves the figure when
-/// the interval excludes 0, "not decided" when it does not, and "no
-/// difference" when every replication gave both designs the same value.
+/// the interval excludes 0, "not decided" when it does not, and
+/// "identical in every replication" when every replication gave both
+/// designs the same value.
 pub fn verdict(figure: Figure, difference: &Estimate, decided: bool) -> String {
     if difference.mean == 0.0 && difference.half_width == 0.0 {
-        return "no difference (the same in every replication)".into();
+        return "identical in every replication".into();
     }
     if !decided {
         return "not decided".into();
@@ -367,6 +368,9 @@ A difference is decided when its interval excludes 0."
 fn difference_cell(unit: Unit, d: &Estimate) -> String {
     if d.mean.is_nan() {
         return "-".into();
+    }
+    if d.mean == 0.0 && d.half_width == 0.0 {
+        return "0".into();
     }
     let signed = |x: f64| {
         let v = text::value(unit, x);
