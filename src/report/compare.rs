@@ -588,6 +588,7 @@ impl Charted for CompareDocument {
         for w in &self.warnings {
             blocks.push(Block::Paragraph(format!("Warning: {w}.")));
         }
+        blocks.push(Block::Heading("Results".into()));
         blocks.extend(self.tables().into_iter().map(Block::Table));
         if let Some(svg) = chart {
             blocks.push(Block::Heading("Differences".into()));
@@ -603,7 +604,7 @@ paired replications. Streams that differ between the files draw their own number
         );
         blocks.push(Block::List(assumptions));
         html::page(
-            &format!("{} against {}", self.b.scenario, self.a.scenario),
+            "Comparison of two designs (B - A)",
             &format!("busyhour compare of {} and {}", self.a.file, self.b.file),
             &blocks,
         )
