@@ -311,3 +311,31 @@ fn the_paired_difference_of_a_mean_figure_covers_the_exact_one() {
     assert_covers("carried traffic, 11 - 10 circuits", d, exact, 3.0);
     assert!(d.half_width < 0.2 * exact, "{d:?}");
 }
+
+#[test]
+fn an_interrupted_comparison_keeps_the_pairs_both_finished() {
+    use std::sync::atomic::{AtomicBool, Ordering};
+    let a = model(&loss_design(10, 8.0, 5, 1, 200));
+    let b = model(&loss_design(11, 8.0, 5, 1, 200));
+    // Stop once 70 replications are done: inside B's first batch.
+    let stop = AtomicBool::new(false);
+    let progress = |done: u64, _planned: u64| {
+        if done >= 70 {
+            stop.store(true, Ordering::SeqCst);
+        }
+    };
+    let opts = RunOptions {
+        threads: Some(1),
+        progress: Some(&progress),
+        stop: Some(&stop),
+    };
+    let plan = compare::plan(&a, &b, None).unwrap();
+    let c = compare::compare(&a, &b, plan, &opts).unwrap();
+    assert!(c.partial);
+    let kept = c.a.replications;
+    assert_eq!(kept, c.b.replications);
+    assert!(kept > 0 && kept < 200, "{kept}");
+    // The pairs kept are exactly a comparison of that many replications.
+    let whole = compare_models(&a, &b, Some(kept as u32), Some(1));
+    assert_eq!(c.common, whole.common);
+}

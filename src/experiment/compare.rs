@@ -219,6 +219,9 @@ pub struct Unmatched {
     pub estimate: Estimate,
 }
 
+/// Replications of each design run before the other's next batch.
+pub const COMPARE_BATCH: u64 = 50;
+
 /// The result of a comparison.
 #[derive(Debug, Clone)]
 pub struct Comparison {
@@ -239,9 +242,9 @@ pub struct Comparison {
 }
 
 /// Run `a` and `b` on `plan` (from [`plan`]) and compare every figure they
-/// have in common. Replications run A first, then B, on one pool of
-/// workers; progress counts both. When stopped early, both keep the
-/// replications both finished.
+/// have in common. Replications run in batches of [`COMPARE_BATCH`], A's
+/// then B's, on one pool of workers; progress counts both. When stopped
+/// early, both keep the replications both finished.
 pub fn compare(
     a: &Model,
     b: &Model,
@@ -261,10 +264,17 @@ pub fn compare(
     let n = u64::from(plan.replications);
     let (la, lb) = (stats::layout(&ma), stats::layout(&mb));
     let (mut acc_a, mut acc_b) = (Accumulated::default(), Accumulated::default());
-    let done_a = runner.extend(&ma, &la, &mut acc_a, n, 2 * n);
-    let done_b = runner.extend(&mb, &lb, &mut acc_b, n, 2 * n);
+    // Batches of A then B, so that an interrupted comparison keeps pairs;
+    // each replication's numbers depend on its index only, so the batch
+    // size changes nothing in the result.
+    let mut partial = false;
+    let mut to = 0;
+    while to < n && !partial {
+        to = (to + COMPARE_BATCH).min(n);
+        partial = runner.extend(&ma, &la, &mut acc_a, to, 2 * n).stopped()
+            || runner.extend(&mb, &lb, &mut acc_b, to, 2 * n).stopped();
+    }
     let paired = acc_a.per_replication.len().min(acc_b.per_replication.len());
-    let partial = done_a.stopped() || done_b.stopped();
     for acc in [&mut acc_a, &mut acc_b] {
         acc.per_replication.truncate(paired);
         acc.halves.truncate(paired);
