@@ -23,6 +23,9 @@ enum Command {
     Size(cli::SizeArgs),
     /// Run the scenario at a series of load scales or group sizes.
     Sweep(cli::SweepArgs),
+    /// Run two designs with the same random numbers and report each common
+    /// figure of both with their paired difference and its 95% interval.
+    Compare(cli::compare::CompareArgs),
     /// Combine the part files of a sharded run into its result.
     Merge(cli::MergeArgs),
     /// Check a scenario file without running it: the model in plain words,
@@ -44,6 +47,7 @@ fn main() -> ExitCode {
         Command::Size(a) => cli::size(a),
         Command::Sweep(a) => cli::sweep(a),
         Command::Merge(a) => cli::merge(a),
+        Command::Compare(a) => cli::compare::run(a),
         Command::Check(a) => cli::check(a),
         Command::Calc(a) => cli::calc::run(a).map(|()| cli::Status::Done),
         Command::Records(a) => cli::records::run(a).map(|()| cli::Status::Done),

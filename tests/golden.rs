@@ -154,6 +154,23 @@ fn run_documents() {
 }
 
 #[test]
+fn compare_documents() {
+    let s = Scratch::new("compare");
+    let args = [
+        "compare",
+        "overflow.toml",
+        "overflow-b.toml",
+        "--quiet",
+        "--replications",
+        "4",
+    ];
+    let json = s.run(&[&args[..], &["--json"]].concat(), 0);
+    matches_golden("compare-overflow.json", &json);
+    let csv = s.run(&[&args[..], &["--csv"]].concat(), 0);
+    matches_golden("compare-overflow.csv", &csv);
+}
+
+#[test]
 fn merge_of_run_parts_prints_the_run_documents() {
     // Pinned through the run's golden files: merge must print the same.
     let s = Scratch::new("merge");

@@ -155,11 +155,14 @@ fn every_bad_scenario_is_refused_with_one_clear_line() {
     for case in &cases {
         let file = case.to_str().expect("UTF-8 temp path");
         let fragments = fragments_of(case);
-        let commands: [&[&str]; 4] = [
+        let other = "scenarios/campus-overflow.toml";
+        let commands: [&[&str]; 6] = [
             &["check", file],
             &["run", file, "--quiet"],
             &["size", file, "--group", "trunks", "--goal", "loss<=1%"],
             &["sweep", file, "--scale", "1:2:1", "--quiet"],
+            &["compare", file, other, "--quiet"],
+            &["compare", other, file, "--quiet"],
         ];
         for args in commands {
             let o = busyhour(args);

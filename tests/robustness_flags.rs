@@ -414,3 +414,40 @@ fn bad_flags_of_records_and_merge() {
     ];
     assert_all_refused(&cases);
 }
+
+#[test]
+fn bad_flags_of_compare() {
+    let a = "scenarios/campus-overflow.toml";
+    let b = "scenarios/compare-b.toml";
+    let out = scratch("compare-out.json").display().to_string();
+    let cases: Vec<(Vec<&str>, &str)> = vec![
+        (vec!["compare"], "<A>"),
+        (vec!["compare", a], "<B>"),
+        (
+            vec!["compare", a, b, "--replications", "1"],
+            "--replications",
+        ),
+        (vec!["compare", a, b, "--precision", "5%"], "--precision"),
+        (
+            vec!["compare", a, b, "--json", "--csv"],
+            "cannot be used with",
+        ),
+        (
+            vec!["compare", a, b, "--threads", "0"],
+            "0 is not in 1..=1024",
+        ),
+        (vec!["compare", a, b, "--chart", "c.png"], "--chart"),
+        (vec!["compare", a, b, "--out", a], "design A"),
+        (
+            vec!["compare", a, b, "--out", &out, "--report", &out],
+            "--report",
+        ),
+        (vec!["compare", a, "nope.toml"], "nope.toml"),
+        (vec!["compare", a, SCENARIO], "nothing to compare"),
+        (
+            vec!["compare", a, "scenarios/harbour-peak.toml"],
+            "length is 3 h in B but 2 h in A",
+        ),
+    ];
+    assert_all_refused(&cases);
+}

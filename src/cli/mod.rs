@@ -2,6 +2,7 @@
 //! print the results. No model logic lives here.
 
 pub mod calc;
+pub mod compare;
 pub mod flags;
 pub mod guard;
 pub mod records;

@@ -2,6 +2,7 @@
 //! order so results are identical for any thread count; a fixed count or
 //! precision-driven stopping. Must not parse files or print.
 
+pub mod compare;
 pub mod shard;
 pub mod size;
 pub mod staffing;

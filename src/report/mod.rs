@@ -7,6 +7,7 @@
 //! finished results only; must not run the engine.
 
 pub mod check;
+pub mod compare;
 pub mod describe;
 pub mod figures;
 pub mod html;
@@ -20,6 +21,7 @@ pub mod sweep;
 pub mod text;
 
 pub use check::CheckDocument;
+pub use compare::CompareDocument;
 pub use figures::{FigureSet, FigureValue, Figures, FormulaValue};
 pub use run::RunDocument;
 pub use size::SizeDocument;

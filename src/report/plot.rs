@@ -458,7 +458,11 @@ fn draw_panel(
         Some(f) => f(*x),
         None => crate::units::trim_float(*x, 2),
     };
-    let y_ticks = |y: &f64| crate::units::trim_float(*y, 3);
+    // A tick a rounding error below zero is written "0", not "-0".
+    let y_ticks = |y: &f64| match crate::units::trim_float(*y, 3) {
+        s if s == "-0" => "0".to_string(),
+        s => s,
+    };
     let mut mesh = c.configure_mesh();
     mesh.x_desc(chart.x_label.as_str())
         .y_desc(chart.y_label.as_str())
