@@ -991,10 +991,6 @@ fn modified_offered_load(
     let plan = &model.plan;
     let length = plan.length_s;
     let width = plan.interval_s.unwrap_or(length);
-    let laws: Vec<&crate::dist::Law> = users
-        .iter()
-        .map(|&(s, _)| &model.streams[s].holding)
-        .collect();
     // The rate changes inside the measured period, and the bin edges.
     let mut cuts: Vec<f64> = (0..=plan.interval_count())
         .map(|b| (b as f64 * width).min(length))
@@ -1010,65 +1006,31 @@ fn modified_offered_load(
     }
     cuts.sort_by(f64::total_cmp);
     cuts.dedup();
-    // Per stream: the base load and the rate steps (time, change) so far.
-    let first_rate = |s: usize| model.streams[s].arrivals.initial_rate().unwrap_or(0.0);
-    let mut base = vec![0.0; users.len()];
-    let mut steps: Vec<Vec<(f64, f64)>> = vec![Vec::new(); users.len()];
-    let mut rate_now = vec![0.0; users.len()];
-    for (i, &(s, _)) in users.iter().enumerate() {
-        rate_now[i] = first_rate(s);
-        match plan.start {
-            crate::scenario::Start::Steady => base[i] = rate_now[i] * laws[i].mean(),
-            crate::scenario::Start::Empty => steps[i].push((-plan.warmup_s, rate_now[i])),
-        }
-    }
-    let m_at = |t: f64, base: &[f64], steps: &[Vec<(f64, f64)>]| -> f64 {
-        (0..users.len())
-            .map(|i| {
-                let h = laws[i].mean();
-                base[i]
-                    + steps[i]
-                        .iter()
-                        .map(|&(c, delta)| delta * h * (1.0 - laws[i].residual_tail(t - c)))
-                        .sum::<f64>()
-            })
-            .sum::<f64>()
-            .max(0.0)
-    };
+    let m = InfiniteServerLoad::new(model, users.iter().map(|&(s, _)| &model.streams[s]));
     let bins = plan.interval_count();
     let mut offered = vec![vec![0.0; users.len()]; bins];
     let mut lost = vec![vec![0.0; users.len()]; bins];
-    const PANELS: usize = 16;
     for piece in cuts.windows(2) {
         let (t0, t1) = (piece[0], piece[1]);
         if !(t1 > t0) {
             continue;
         }
         let bin = (((t0 / width) + 1e-9).floor() as usize).min(bins - 1);
+        let mut failed = false;
+        let mean = simpson_mean(t0, t1, |t| {
+            erlang_b::blocking(n, m.at(t)).unwrap_or_else(|_| {
+                failed = true;
+                f64::NAN
+            })
+        });
+        if failed {
+            return None;
+        }
+        let mean_blocking = mean.clamp(0.0, 1.0);
         for (i, &(s, _)) in users.iter().enumerate() {
             let rate = window_rate(&model.streams[s].arrivals, t0, t1).unwrap_or(0.0);
-            if rate != rate_now[i] {
-                steps[i].push((t0, rate - rate_now[i]));
-                rate_now[i] = rate;
-            }
-        }
-        let step = (t1 - t0) / PANELS as f64;
-        let mut integral = 0.0;
-        for k in 0..=PANELS {
-            let weight = if k == 0 || k == PANELS {
-                1.0
-            } else if k % 2 == 1 {
-                4.0
-            } else {
-                2.0
-            };
-            let m = m_at(t0 + k as f64 * step, &base, &steps);
-            integral += weight * erlang_b::blocking(n, m).ok()?;
-        }
-        let mean_blocking = (integral * step / 3.0 / (t1 - t0)).clamp(0.0, 1.0);
-        for i in 0..users.len() {
-            offered[bin][i] += rate_now[i] * (t1 - t0);
-            lost[bin][i] += rate_now[i] * (t1 - t0) * mean_blocking;
+            offered[bin][i] += rate * (t1 - t0);
+            lost[bin][i] += rate * (t1 - t0) * mean_blocking;
         }
     }
     Some(
@@ -1292,73 +1254,98 @@ fn load_of(s: &Stream) -> f64 {
     s.arrivals.initial_rate().unwrap_or(0.0) * s.holding.mean()
 }
 
+/// The infinite-server load `m(t)` of some streams: the M_t/G/∞ mean,
+/// exact for a piecewise-constant rate and any holding law (Eick, Massey
+/// and Whitt 1993): each rate step `d` at time `c` adds
+/// `d h (1 - residual_tail(t - c))`, the calls of the step still in
+/// progress at `t`. A steady start begins at the first rate's load; an
+/// empty start steps up from nothing at the start of the warm-up. The one
+/// home of `m(t)` for the modified offered load and the staffing
+/// references.
+struct InfiniteServerLoad<'a> {
+    /// Per stream: its holding law, its load at the start, and its rate
+    /// steps (time after the warm-up, change in calls per second).
+    streams: Vec<(&'a crate::dist::Law, f64, Vec<(f64, f64)>)>,
+}
+
+impl<'a> InfiniteServerLoad<'a> {
+    fn new(model: &Model, streams: impl Iterator<Item = &'a Stream>) -> InfiniteServerLoad<'a> {
+        let plan = &model.plan;
+        let streams = streams
+            .map(|s| {
+                let first = s.arrivals.initial_rate().unwrap_or(0.0);
+                let h = s.holding.mean();
+                let mut steps = Vec::new();
+                let mut base = 0.0;
+                match plan.start {
+                    crate::scenario::Start::Steady => base = first * h,
+                    crate::scenario::Start::Empty => steps.push((-plan.warmup_s, first)),
+                }
+                if let Arrivals::Profile { interval_s, rates } = &s.arrivals {
+                    for i in 1..rates.len() {
+                        steps.push((i as f64 * interval_s, rates[i] - rates[i - 1]));
+                    }
+                }
+                (&s.holding, base, steps)
+            })
+            .collect();
+        InfiniteServerLoad { streams }
+    }
+
+    /// `m(t)`, `t` seconds after the warm-up (erlangs, never below 0).
+    fn at(&self, t: f64) -> f64 {
+        (self.streams.iter())
+            .map(|(law, base, steps)| {
+                let h = law.mean();
+                base + steps
+                    .iter()
+                    .filter(|&&(c, _)| c <= t)
+                    .map(|&(c, d)| d * h * (1.0 - law.residual_tail(t - c)))
+                    .sum::<f64>()
+            })
+            .sum::<f64>()
+            .max(0.0)
+    }
+
+    /// The times of the rate steps.
+    fn changes(&self) -> impl Iterator<Item = f64> + '_ {
+        (self.streams.iter()).flat_map(|(_, _, steps)| steps.iter().map(|&(c, _)| c))
+    }
+}
+
+/// The mean of `f` over `[a, b)` by Simpson's rule over 16 panels.
+fn simpson_mean(a: f64, b: f64, mut f: impl FnMut(f64) -> f64) -> f64 {
+    const PANELS: usize = 16;
+    let step = (b - a) / PANELS as f64;
+    let mut sum = 0.0;
+    for k in 0..=PANELS {
+        let w = if k == 0 || k == PANELS {
+            1.0
+        } else if k % 2 == 1 {
+            4.0
+        } else {
+            2.0
+        };
+        sum += w * f(a + k as f64 * step);
+    }
+    sum * step / 3.0 / (b - a)
+}
+
 /// The mean over `[t0, t1)` (seconds after the warm-up) of the
-/// infinite-server load `m(t)` of `streams`: the M_t/G/∞ mean, exact for a
-/// piecewise-constant rate and any holding law (see
-/// [`modified_offered_load`]); Simpson's rule over 16 panels per piece of
-/// constant rates.
+/// infinite-server load `m(t)` of `streams` ([`InfiniteServerLoad`]);
+/// Simpson's rule over 16 panels per piece of constant rates.
 fn mean_infinite_server_load(model: &Model, streams: &[&Stream], t0: f64, t1: f64) -> f64 {
     if !(t1 > t0) {
         return f64::NAN;
     }
-    let plan = &model.plan;
-    // Per stream: the load before any step, and the steps (time, change).
-    let history: Vec<(f64, Vec<(f64, f64)>)> = streams
-        .iter()
-        .map(|s| {
-            let first = s.arrivals.initial_rate().unwrap_or(0.0);
-            let mut steps = Vec::new();
-            let mut base = 0.0;
-            match plan.start {
-                crate::scenario::Start::Steady => base = first,
-                crate::scenario::Start::Empty => steps.push((-plan.warmup_s, first)),
-            }
-            if let Arrivals::Profile { interval_s, rates } = &s.arrivals {
-                for i in 1..rates.len() {
-                    steps.push((i as f64 * interval_s, rates[i] - rates[i - 1]));
-                }
-            }
-            (base, steps)
-        })
-        .collect();
-    let m_at = |t: f64| -> f64 {
-        (streams.iter().zip(&history))
-            .map(|(s, (base, steps))| {
-                let h = s.holding.mean();
-                base * h
-                    + steps
-                        .iter()
-                        .filter(|&&(c, _)| c <= t)
-                        .map(|&(c, d)| d * h * (1.0 - s.holding.residual_tail(t - c)))
-                        .sum::<f64>()
-            })
-            .sum::<f64>()
-            .max(0.0)
-    };
+    let load = InfiniteServerLoad::new(model, streams.iter().copied());
     // Pieces between the rate changes inside the span.
     let mut cuts = vec![t0, t1];
-    for (_, steps) in &history {
-        cuts.extend(steps.iter().map(|&(c, _)| c).filter(|&c| c > t0 && c < t1));
-    }
+    cuts.extend(load.changes().filter(|&c| c > t0 && c < t1));
     cuts.sort_by(f64::total_cmp);
     cuts.dedup();
-    const PANELS: usize = 16;
-    let mut integral = 0.0;
-    for piece in cuts.windows(2) {
-        let (a, b) = (piece[0], piece[1]);
-        let step = (b - a) / PANELS as f64;
-        let mut sum = 0.0;
-        for k in 0..=PANELS {
-            let w = if k == 0 || k == PANELS {
-                1.0
-            } else if k % 2 == 1 {
-                4.0
-            } else {
-                2.0
-            };
-            sum += w * m_at(a + k as f64 * step);
-        }
-        integral += sum * step / 3.0;
-    }
+    let integral: f64 = (cuts.windows(2))
+        .map(|piece| simpson_mean(piece[0], piece[1], |t| load.at(t)) * (piece[1] - piece[0]))
+        .sum();
     integral / (t1 - t0)
 }

@@ -82,3 +82,11 @@ fn coverage_erlang_c_half_hour_covers_erlang_c() {
 fn coverage_lognormal_loss_after_a_short_warmup_covers_erlang_b() {
     assert_covers_truth("lognormal-short-warmup");
 }
+
+#[test]
+fn coverage_schedule_figures_cover_the_exact_transient() {
+    // Agents 10, 14, 9, 13 per half hour with abandonment: per-interval
+    // figures after each rise and fall against the forward equations of
+    // the chain (`formulas::transient`).
+    assert_covers_truth("schedule-agents");
+}

@@ -6,9 +6,10 @@
 //!
 //! Sources:
 //! * The Kolmogorov forward equations dp/dt = p Q of a finite continuous-time
-//!   Markov chain, integrated here with the classical fourth-order
-//!   Runge-Kutta method (any numerical-analysis text); at each change of
-//!   the servers the state jumps as the rule says (waiting calls answered).
+//!   Markov chain, integrated with the classical fourth-order Runge-Kutta
+//!   method (any numerical-analysis text; `formulas::transient`, whose
+//!   constant case is checked against Erlang A); at each change of the
+//!   servers the state jumps as the rule says (waiting calls answered).
 //! * PASTA (Wolff 1982): Poisson arrivals see time averages, so the share
 //!   of an interval's calls that wait is the time average of the chance
 //!   that an arrival would wait.
@@ -51,131 +52,27 @@ patience = {{ law = "exponential", mean = "2m" }}
     )
 }
 
-/// The exact transient of the agent group: state (busy, waiting), busy up
-/// to the most servers, waiting up to `q_max` (its tail is negligible
-/// here). Returns, per 30-minute interval of the measured period, the time
-/// averages of P(busy >= servers now) (the time every server is busy), of
+/// The exact transient of the agent group (`formulas::transient`: the
+/// forward equations of the (busy, waiting) chain by RK4, waiting up to
+/// `q_max`, whose tail is negligible here): per 30-minute interval of the
+/// measured period, the time averages of P(busy >= servers now), of
 /// P(an arrival would wait) and of the busy count (carried traffic).
 fn chain(schedule: &[u32], warmup_min: f64, q_max: usize) -> Vec<(f64, f64, f64)> {
-    let (lambda, mu, theta) = (4.0, 1.0 / 3.0, 0.5); // per minute
-    let b_max = *schedule.iter().max().unwrap() as usize;
-    let states = (b_max + 1) * (q_max + 1);
-    let idx = |b: usize, q: usize| b * (q_max + 1) + q;
-    let servers_at = |t: f64| -> usize {
-        // t in minutes from the end of the warm-up; the first entry before.
-        let i = if t < 0.0 { 0 } else { (t / 30.0) as usize };
-        schedule[i.min(schedule.len() - 1)] as usize
-    };
-    // dp/dt for a given number of servers n.
-    let deriv = |p: &[f64], n: usize, out: &mut [f64]| {
-        out.iter_mut().for_each(|x| *x = 0.0);
-        for b in 0..=b_max {
-            for q in 0..=q_max {
-                let pr = p[idx(b, q)];
-                if pr == 0.0 {
-                    continue;
-                }
-                let mut leave = 0.0;
-                // An arrival: carried when a server is free and nobody
-                // waits, otherwise it waits.
-                if b < n && q == 0 {
-                    out[idx(b + 1, 0)] += lambda * pr;
-                    leave += lambda;
-                } else if q < q_max {
-                    out[idx(b, q + 1)] += lambda * pr;
-                    leave += lambda;
-                }
-                // A departure: the head of the queue takes the server if
-                // the busy count is then below the servers.
-                if b > 0 {
-                    let r = b as f64 * mu;
-                    if q > 0 && b - 1 < n {
-                        out[idx(b, q - 1)] += r * pr;
-                    } else {
-                        out[idx(b - 1, q)] += r * pr;
-                    }
-                    leave += r;
-                }
-                // An abandonment.
-                if q > 0 {
-                    let r = q as f64 * theta;
-                    out[idx(b, q - 1)] += r * pr;
-                    leave += r;
-                }
-                out[idx(b, q)] -= leave * pr;
-            }
-        }
-    };
-    let mut p = vec![0.0; states];
-    p[idx(0, 0)] = 1.0; // an empty start
-    let dt = 0.01; // minutes
-    let mut t = -warmup_min;
-    let mut k = [
-        vec![0.0; states],
-        vec![0.0; states],
-        vec![0.0; states],
-        vec![0.0; states],
-    ];
-    let mut tmp = vec![0.0; states];
-    let bins = 4;
-    let mut out = vec![(0.0, 0.0, 0.0); bins];
-    let mut n = servers_at(t);
-    while t < bins as f64 * 30.0 - 1e-9 {
-        // A change of the servers at an entry boundary: waiting calls are
-        // answered at once where the busy count is below the new number.
-        let now = servers_at(t + 1e-9);
-        if now != n {
-            n = now;
-            let mut moved = vec![0.0; states];
-            for b in 0..=b_max {
-                for q in 0..=q_max {
-                    let take = if b < n { (n - b).min(q) } else { 0 };
-                    moved[idx(b + take, q - take)] += p[idx(b, q)];
-                }
-            }
-            p = moved;
-        }
-        // Time averages over the measured intervals (left Riemann sum of
-        // the smooth p(t) at the RK4 grid: error O(dt)).
-        if t >= -1e-9 {
-            let bin = ((t + 1e-9) / 30.0) as usize;
-            let (mut full, mut wait, mut busy) = (0.0, 0.0, 0.0);
-            for b in 0..=b_max {
-                for q in 0..=q_max {
-                    let pr = p[idx(b, q)];
-                    if b >= n {
-                        full += pr;
-                    }
-                    if b >= n || q > 0 {
-                        wait += pr;
-                    }
-                    busy += b as f64 * pr;
-                }
-            }
-            let w = dt / 30.0;
-            out[bin].0 += full * w;
-            out[bin].1 += wait * w;
-            out[bin].2 += busy * w;
-        }
-        deriv(&p, n, &mut k[0]);
-        for s in 0..states {
-            tmp[s] = p[s] + 0.5 * dt * k[0][s];
-        }
-        deriv(&tmp, n, &mut k[1]);
-        for s in 0..states {
-            tmp[s] = p[s] + 0.5 * dt * k[1][s];
-        }
-        deriv(&tmp, n, &mut k[2]);
-        for s in 0..states {
-            tmp[s] = p[s] + dt * k[2][s];
-        }
-        deriv(&tmp, n, &mut k[3]);
-        for s in 0..states {
-            p[s] += dt / 6.0 * (k[0][s] + 2.0 * k[1][s] + 2.0 * k[2][s] + k[3][s]);
-        }
-        t += dt;
+    busyhour::formulas::transient::ScheduledAgents {
+        arrival_rate: 4.0 / 60.0,
+        holding_s: 180.0,
+        patience_s: Some(120.0),
+        interval_s: 1800.0,
+        servers: schedule.to_vec(),
+        warmup_s: warmup_min * 60.0,
+        queue_cut: q_max,
+        intervals: 4,
     }
-    out
+    .solve()
+    .expect("the chain solves")
+    .into_iter()
+    .map(|x| (x.all_busy, x.wait, x.carried))
+    .collect()
 }
 
 /// Falls and rises of the servers on an agent group with abandonment: per

@@ -5,8 +5,9 @@
 //! equivalent random method and per-parcel losses by Kuczura's interrupted
 //! Poisson process, Kaufman-Roberts multi-rate blocking, and M/G/N
 //! mean waits (Pollaczek-Khinchine, Allen-Cunneen, Cosmetatos), the finite
-//! queue M/M/N/K(+M) and the redial fixed point of a loss group. Must not touch simulation, files or
-//! printing.
+//! queue M/M/N/K(+M), the redial fixed point of a loss group, and the exact
+//! transient of an agent group on a schedule (`transient`). Must not touch
+//! simulation, files or printing.
 //!
 //! Units: traffic in erlangs, times in seconds, shares between 0 and 1,
 //! servers (agents, circuits) as `u32`. Every function validates its
@@ -53,5 +54,6 @@ pub mod overflow;
 pub mod queue_general;
 pub mod redial_fixed_point;
 mod scaled;
+pub mod transient;
 
 pub use error::FormulaError;

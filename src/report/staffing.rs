@@ -210,6 +210,10 @@ pub struct StaffingDocument {
     /// The scenario in plain words, for the HTML page.
     #[serde(skip)]
     pub words: String,
+    /// Some stream offered to the group redials, which the formula
+    /// columns leave out.
+    #[serde(skip)]
+    pub redials: bool,
 }
 
 impl StaffingDocument {
@@ -282,6 +286,8 @@ impl StaffingDocument {
             clock_start: model.plan.clock_start_s,
             bounds: goals.iter().map(|g| (g.figure, g.bound)).collect(),
             words: super::describe::describe_model(model, file),
+            redials: (model.streams.iter())
+                .any(|s| s.route.contains(&(group as u32)) && s.retry.is_some()),
         }
     }
 
@@ -545,7 +551,11 @@ impl Document for StaffingDocument {
             self.rounds,
             self.replications
         ));
-        out.push_str("Offered load by the forecast; the formulas are the stationary requirement of each interval's load and that of its modified offered load (both approx. for a changing load); \"simulated\" is the fewest servers taking calls found by simulation, with what each interval leaves to the next; each goal's figure there with its 95% interval.\n\n");
+        out.push_str("Offered load by the forecast; the formulas are the stationary requirement of each interval's load and that of its modified offered load (both approx. for a changing load");
+        if self.redials {
+            out.push_str(", and counting fresh calls only: the redials the simulation carries are not in them");
+        }
+        out.push_str("); \"simulated\" is the fewest servers taking calls found by simulation, with what each interval leaves to the next; each goal's figure there with its 95% interval.\n\n");
         out.push_str(&align(&self.rows(), "  "));
         out.push('\n');
         let hours = |h: f64| format!("{} server-hours", crate::units::trim_float(h, 1));

@@ -619,6 +619,60 @@ fn overflow_network() -> Result<Case, FormulaError> {
     })
 }
 
+/// Agents whose servers fall and rise every half hour, from an empty
+/// start: per-interval figures against the exact transient of the chain
+/// (`formulas::transient`), where no stationary formula holds.
+fn schedule_agents() -> Result<Case, FormulaError> {
+    use busyhour::formulas::transient::ScheduledAgents;
+    let servers = vec![10, 14, 9, 13];
+    let exact = ScheduledAgents {
+        arrival_rate: 4.0 / 60.0,
+        holding_s: HOLDING_S,
+        patience_s: Some(120.0),
+        interval_s: 1800.0,
+        servers: servers.clone(),
+        warmup_s: 1800.0,
+        queue_cut: 80,
+        intervals: 4,
+    }
+    .solve()?;
+    let at = |b: usize, stream: bool, figure: &'static str, value: f64| Check {
+        scope: if stream {
+            Scope::StreamInterval(b, 0)
+        } else {
+            Scope::GroupInterval(b, 0)
+        },
+        figure,
+        place: format!(
+            "interval {} {}",
+            b + 1,
+            if stream { "stream" } else { "group agents" }
+        ),
+        exact: value,
+        source: "exact transient chain",
+    };
+    let mut checks = Vec::new();
+    for b in 1..4 {
+        checks.push(at(b, true, "wait_probability", exact[b].wait));
+        checks.push(at(b, false, "carried_traffic", exact[b].carried));
+    }
+    checks.push(at(2, false, "time_congestion", exact[2].all_busy));
+    Ok(Case {
+        name: "schedule-agents",
+        about: "agents 10, 14, 9, 13 per half hour, 12 E, exponential 3 min, exponential patience 2 min, empty start, 30 min warm-up, 2 h replications",
+        text: "[simulation]\nwarmup = \"30m\"\nlength = \"2h\"\ninterval = \"30m\"\nstart = \"empty\"\n\n\
+             [[group]]\nname = \"agents\"\nservers = [10, 14, 9, 13]\ninterval = \"30m\"\nqueue = \"unlimited\"\n\n\
+             [[stream]]\nname = \"calls\"\n\
+             arrivals = { law = \"poisson\", rate = \"4/m\" }\n\
+             holding = { law = \"exponential\", mean = \"3m\" }\n\
+             patience = { law = \"exponential\", mean = \"2m\" }\n\
+             route = [\"agents\"]\n"
+            .to_string(),
+        replications: 40,
+        checks,
+    })
+}
+
 /// Every case, in the harness's order.
 pub fn cases() -> Result<Vec<Case>, FormulaError> {
     Ok(vec![
@@ -631,6 +685,7 @@ pub fn cases() -> Result<Vec<Case>, FormulaError> {
         redials()?,
         engset_sources()?,
         overflow_network()?,
+        schedule_agents()?,
     ])
 }
 
