@@ -1264,9 +1264,13 @@ fn load_of(s: &Stream) -> f64 {
 /// references.
 struct InfiniteServerLoad<'a> {
     /// Per stream: its holding law, its load at the start, and its rate
-    /// steps (time after the warm-up, change in calls per second).
-    streams: Vec<(&'a crate::dist::Law, f64, Vec<(f64, f64)>)>,
+    /// steps.
+    streams: Vec<(&'a crate::dist::Law, f64, RateSteps)>,
 }
+
+/// Rate steps of a stream: (time after the warm-up, change in calls per
+/// second).
+type RateSteps = Vec<(f64, f64)>;
 
 impl<'a> InfiniteServerLoad<'a> {
     fn new(model: &Model, streams: impl Iterator<Item = &'a Stream>) -> InfiniteServerLoad<'a> {
