@@ -652,9 +652,9 @@ fn schedule_agents() -> Result<Case, FormulaError> {
         source: "exact transient chain",
     };
     let mut checks = Vec::new();
-    for b in 1..4 {
-        checks.push(at(b, true, "wait_probability", exact[b].wait));
-        checks.push(at(b, false, "carried_traffic", exact[b].carried));
+    for (b, x) in exact.iter().enumerate().skip(1) {
+        checks.push(at(b, true, "wait_probability", x.wait));
+        checks.push(at(b, false, "carried_traffic", x.carried));
     }
     checks.push(at(2, false, "time_congestion", exact[2].all_busy));
     Ok(Case {
