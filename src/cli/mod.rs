@@ -314,7 +314,9 @@ pub struct SizeArgs {
     /// [simulation]): the fewest servers per interval for which every
     /// interval meets every goal, simulating the whole day again after each
     /// adjustment, so that what one interval leaves to the next counts.
-    /// Prints the staffing table beside the formulas' requirements.
+    /// Prints the staffing table beside the formulas' requirements; when
+    /// the group has shift_types, also the fewest paid agent-hours of
+    /// shifts covering it, simulated.
     #[arg(long = "per-interval", conflicts_with = "decide_within")]
     pub per_interval: bool,
     /// Most simulations of the day for --per-interval.
@@ -328,8 +330,9 @@ pub struct SizeArgs {
     pub chart: Option<PathBuf>,
     /// With --per-interval: write the scenario again to FILE.toml with the
     /// group's servers set to the simulated plan's servers to schedule, one
-    /// per reporting interval (written only when every interval meets every
-    /// goal; the original's comments are not kept).
+    /// per reporting interval, or to the shift plan's shifts when the group
+    /// has shift_types (written only when every interval meets every goal;
+    /// the original's comments are not kept).
     #[arg(
         long = "scenario-out",
         value_name = "FILE.toml",
