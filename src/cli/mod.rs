@@ -250,13 +250,25 @@ pub struct SweepArgs {
     #[arg(
         long,
         value_name = "[STREAM=]RANGE",
-        required_unless_present = "servers"
+        required_unless_present_any = ["servers", "set"]
     )]
     pub scale: Option<String>,
     /// Set one group's servers to each size of start:end[:step] ("trunks=40:60");
     /// with --scale, every load scale at every size (a grid).
     #[arg(long, value_name = "GROUP=RANGE")]
     pub servers: Option<String>,
+    /// Set one setting of the scenario file, by its key path, to each value
+    /// of start:end:step, written as the file writes it:
+    /// "stream.office.holding.mean=2m:4m:30s",
+    /// "group.agents.queue=0:10:2", "stream.office.retry.chance=20%:60%:10%".
+    /// Repeat to sweep several settings one at a time (each alone, the
+    /// others as the file has them) with a table of their effects.
+    #[arg(long, value_name = "KEY=RANGE", conflicts_with_all = ["scale", "servers", "shard"])]
+    pub set: Vec<String>,
+    /// With two --set: every value of the second at each value of the first
+    /// (a grid), instead of one at a time.
+    #[arg(long, requires = "set")]
+    pub grid: bool,
     /// A figure to show (repeatable): the table and chart show these
     /// (default: loss, service level, occupancy), the CSV and JSON only
     /// these (default: every figure).
@@ -750,6 +762,87 @@ fn size_per_interval(a: &SizeArgs) -> Result<Status> {
     })
 }
 
+/// `busyhour sweep --set`: one setting swept, or several one at a time
+/// with their effects.
+fn sweep_settings(a: &SweepArgs, model: &scenario::Model) -> Result<Status> {
+    use busyhour::experiment::sweep::{self, Sweep};
+    use busyhour::scenario::setting::{Editable, SettingRange};
+    let file = Editable::load(&a.scenario, a.reps.data_dir.as_deref())?;
+    let seed = a.reps.seed;
+    let adjust = |m: &mut scenario::Model| {
+        if let Some(seed) = seed {
+            m.plan.seed = seed;
+        }
+    };
+    let ranges = (a.set.iter())
+        .map(|text| SettingRange::parse(text).context("--set"))
+        .collect::<Result<Vec<_>>>()?;
+    let specs = if a.grid {
+        let [outer, inner] = <[SettingRange; 2]>::try_from(ranges).map_err(|r| {
+            anyhow::anyhow!(
+                "--grid crosses two settings: give exactly two --set, not {}",
+                r.len()
+            )
+        })?;
+        if a.chart.is_some() {
+            bail!(
+                "--chart draws one axis: chart a grid one --set at a time (the table and --report show the grid)"
+            );
+        }
+        vec![Sweep::setting_grid(outer, inner, &file, adjust).context("--set")?]
+    } else {
+        (ranges.into_iter().zip(&a.set))
+            .map(|(range, text)| {
+                Sweep::setting(range, &file, adjust).with_context(|| format!("--set {text}"))
+            })
+            .collect::<Result<Vec<_>>>()?
+    };
+    let goals = a
+        .goal
+        .iter()
+        .map(|g| busyhour::experiment::size::Goal::parse(g, model, 0))
+        .collect::<Result<Vec<_>, _>>()?;
+    let layout = busyhour::stats::layout(model);
+    let mut figures = Vec::new();
+    for name in &a.figure {
+        match layout.iter().find(|f| f.name() == name) {
+            Some(f) if !figures.contains(&f.figure) => figures.push(f.figure),
+            Some(_) => {}
+            None => bail!("--figure {name}: this scenario reports no figure of that name"),
+        }
+    }
+    let plan = a.reps.plan(model);
+    for spec in &specs {
+        guard::check_sweep(model, spec, &plan, &a.reps, a.output.quiet)?;
+    }
+    let name = a.scenario.display().to_string();
+    let mut docs = Vec::new();
+    let mut partial = false;
+    for spec in &specs {
+        let (steps, completion) = with_progress(a.output.quiet, a.reps.threads, |opts| {
+            sweep::run(model, spec, &plan, opts)
+        })?;
+        partial = completion.stopped();
+        docs.push(SweepDocument::new(
+            model, &name, spec, &steps, partial, &figures, &goals,
+        ));
+        if partial {
+            break;
+        }
+    }
+    if docs.len() == 1 {
+        emit_charted(&docs[0], &a.output, a.chart.as_deref())?;
+    } else {
+        let doc = report::SensitivityDocument::new(&name, docs);
+        emit_charted(&doc, &a.output, a.chart.as_deref())?;
+    }
+    Ok(if partial {
+        Status::Interrupted
+    } else {
+        Status::Done
+    })
+}
+
 /// `busyhour sweep`.
 pub fn sweep(a: &SweepArgs) -> Result<Status> {
     use busyhour::experiment::sweep::{self, Sweep};
@@ -761,6 +854,9 @@ pub fn sweep(a: &SweepArgs) -> Result<Status> {
         a.shard.is_some(),
         a.chart.as_deref(),
     )?;
+    if !a.set.is_empty() {
+        return sweep_settings(a, &model);
+    }
     let spec = match (&a.scale, &a.servers) {
         (Some(s), Some(n)) => {
             if a.shard.is_some() {

@@ -3,6 +3,7 @@
 //! numbers), for peak-hour stress tests.
 
 use super::{Accumulated, Completion, ExperimentError, RunOptions, RunResult, Runner, outcome_of};
+use crate::scenario::setting::{Editable, SettingRange};
 use crate::scenario::{Model, Replications, TransformError};
 use std::time::Instant;
 use thiserror::Error;
@@ -34,6 +35,10 @@ pub enum SweepError {
         /// Why the model refuses it.
         reason: TransformError,
     },
+    /// A scenario setting the file cannot take (its path, or a value
+    /// refused with the scenario's own message).
+    #[error("{0}")]
+    Setting(String),
     /// The named stream or group does not exist.
     #[error("'{text}': no {what} is named \"{name}\"")]
     Name {
@@ -47,7 +52,7 @@ pub enum SweepError {
 }
 
 /// What a sweep varies.
-#[derive(Debug, Clone, PartialEq)]
+#[derive(Debug, Clone)]
 pub enum Sweep {
     /// Arrival rates multiplied by each value (all streams, or one).
     Scale {
@@ -74,6 +79,25 @@ pub enum Sweep {
         group: usize,
         /// Its sizes.
         sizes: Vec<u32>,
+    },
+    /// One setting of the scenario file, by its key path, set to each
+    /// value; every step's model is the file compiled with that value.
+    Setting {
+        /// The key path and its values.
+        range: SettingRange,
+        /// The model at each value.
+        models: Vec<Model>,
+    },
+    /// Two settings of the file as a grid: every value of `inner` at each
+    /// value of `outer` (outer first: all of `inner` at its first value,
+    /// then at the next).
+    SettingGrid {
+        /// The setting of the outer loop.
+        outer: SettingRange,
+        /// The setting of the inner loop.
+        inner: SettingRange,
+        /// The model at each point, in that order.
+        models: Vec<Model>,
     },
 }
 
@@ -201,6 +225,84 @@ impl Sweep {
         .checked("--scale with --servers", model)
     }
 
+    /// `--set KEY=RANGE` on the scenario `file`: the file compiled at each
+    /// value, then `adjust`ed (the flags' overrides, such as a seed).
+    ///
+    /// # Errors
+    ///
+    /// A path that leads nowhere or a value the scenario refuses, named.
+    pub fn setting(
+        range: SettingRange,
+        file: &Editable,
+        adjust: impl Fn(&mut Model),
+    ) -> Result<Sweep, SweepError> {
+        let models = (0..range.values.len())
+            .map(|i| {
+                let mut m = file
+                    .with(&[(range.key.as_str(), range.toml_value(i))])
+                    .map_err(|e| SweepError::Setting(e.to_string()))?;
+                adjust(&mut m);
+                Ok(m)
+            })
+            .collect::<Result<Vec<_>, SweepError>>()?;
+        Ok(Sweep::Setting { range, models })
+    }
+
+    /// `--set A --set B --grid`: every value of `inner` at each value of
+    /// `outer`, the file compiled at each point, then `adjust`ed.
+    ///
+    /// # Errors
+    ///
+    /// As [`Sweep::setting`]; more points than [`MAX_STEPS`].
+    pub fn setting_grid(
+        outer: SettingRange,
+        inner: SettingRange,
+        file: &Editable,
+        adjust: impl Fn(&mut Model),
+    ) -> Result<Sweep, SweepError> {
+        let points = outer.values.len() * inner.values.len();
+        if points > MAX_STEPS {
+            return Err(SweepError::Values {
+                text: format!("--set {} with --set {}", outer.key, inner.key),
+                reason: format!("{points} steps is more than the limit of {MAX_STEPS}"),
+            });
+        }
+        let mut models = Vec::with_capacity(points);
+        for o in 0..outer.values.len() {
+            for i in 0..inner.values.len() {
+                let mut m = file
+                    .with(&[
+                        (outer.key.as_str(), outer.toml_value(o)),
+                        (inner.key.as_str(), inner.toml_value(i)),
+                    ])
+                    .map_err(|e| SweepError::Setting(e.to_string()))?;
+                adjust(&mut m);
+                models.push(m);
+            }
+        }
+        Ok(Sweep::SettingGrid {
+            outer,
+            inner,
+            models,
+        })
+    }
+
+    /// The outer setting's value at step `i` of a setting grid.
+    pub fn outer_at(&self, i: usize) -> Option<f64> {
+        match self {
+            Sweep::SettingGrid { outer, inner, .. } => Some(outer.values[i / inner.values.len()]),
+            _ => None,
+        }
+    }
+
+    /// The outer setting's label of a setting grid.
+    pub fn outer_label(&self) -> Option<String> {
+        match self {
+            Sweep::SettingGrid { outer, .. } => Some(outer.label()),
+            _ => None,
+        }
+    }
+
     /// The sweep, once every step's model has been built from `model`.
     fn checked(self, text: &str, model: &Model) -> Result<Sweep, SweepError> {
         for i in 0..self.values().len() {
@@ -220,6 +322,10 @@ impl Sweep {
             Sweep::Servers { values, .. } => values.iter().map(|&v| f64::from(v)).collect(),
             Sweep::Grid { scales, sizes, .. } => (0..sizes.len())
                 .flat_map(|_| scales.iter().copied())
+                .collect(),
+            Sweep::Setting { range, .. } => range.values.clone(),
+            Sweep::SettingGrid { outer, inner, .. } => (0..outer.values.len())
+                .flat_map(|_| inner.values.iter().copied())
                 .collect(),
         }
     }
@@ -242,7 +348,7 @@ impl Sweep {
         match self {
             Sweep::Servers { group, .. } => Some(*group),
             Sweep::Grid { group, .. } => Some(*group),
-            Sweep::Scale { .. } => None,
+            Sweep::Scale { .. } | Sweep::Setting { .. } | Sweep::SettingGrid { .. } => None,
         }
     }
 
@@ -263,7 +369,16 @@ impl Sweep {
                     .with_servers(*group, sizes[i / n])?
                     .with_load_scaled(scales[i % n], *stream)
             }
+            Sweep::Setting { models, .. } | Sweep::SettingGrid { models, .. } => {
+                Ok(models[i].clone())
+            }
         }
+    }
+
+    /// Whether the swept value is a setting of the file (no direction is
+    /// easier).
+    pub fn is_setting(&self) -> bool {
+        matches!(self, Sweep::Setting { .. } | Sweep::SettingGrid { .. })
     }
 
     /// Axis label of the swept value.
@@ -274,6 +389,8 @@ impl Sweep {
                 Some(s) => format!("load scale of {} (x forecast)", model.streams[*s].name),
             },
             Sweep::Servers { group, .. } => format!("servers on {}", model.groups[*group].name),
+            Sweep::Setting { range, .. } => range.label(),
+            Sweep::SettingGrid { inner, .. } => inner.label(),
         }
     }
 }

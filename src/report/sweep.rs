@@ -26,6 +26,9 @@ pub struct SweepStep {
     /// scale against servers.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub servers: Option<u32>,
+    /// The outer setting's value at this step, in a grid of two settings.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub outer_value: Option<f64>,
     /// The run at this step.
     pub result: RunDocument,
     /// Each `--goal`'s verdict at this step (95% interval, one look), in the
@@ -113,9 +116,20 @@ pub struct SweepDocument {
     /// up to which every goal holds.
     #[serde(skip_serializing_if = "Vec::is_empty")]
     pub goals_by_servers: Vec<GridGoals>,
+    /// *With `--goal`, sweeping a setting*: the values at which every goal
+    /// holds (a setting has no easier direction to hold "through").
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub goals_met_at: Option<Vec<f64>>,
     /// In a grid: the group whose servers are swept.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub grid_group: Option<String>,
+    /// In a grid of two settings: the outer setting (key path and unit).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub outer_setting: Option<String>,
+    /// *With `--goal`, in a grid of two settings*: the points `[outer,
+    /// inner]` at which every goal holds.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub goals_met_at_points: Option<Vec<[f64; 2]>>,
     /// The figures `--figure` chose, when it was given: each step's result
     /// then carries only these.
     #[serde(skip_serializing_if = "Vec::is_empty", serialize_with = "figure_names")]
@@ -140,6 +154,9 @@ pub struct SweepDocument {
     /// easier).
     #[serde(skip)]
     pub load_swept: bool,
+    /// A setting of the file is swept (the table's title says so).
+    #[serde(skip)]
+    pub setting: bool,
 }
 
 impl SweepDocument {
@@ -166,6 +183,7 @@ impl SweepDocument {
                 SweepStep {
                     value: st.value,
                     servers: swept.servers_at(i),
+                    outer_value: swept.outer_at(i),
                     result,
                     goals: (goals.iter())
                         .map(|g| StepGoal {
@@ -213,8 +231,23 @@ impl SweepDocument {
             .unwrap_or_default();
         let load_swept = swept.scales_load();
         let grid = matches!(swept, Sweep::Grid { .. });
+        let setting = swept.is_setting();
         let goals_hold_through =
-            (!goals.is_empty() && !grid).then(|| hold_through(&steps, load_swept));
+            (!goals.is_empty() && !grid && !setting).then(|| hold_through(&steps, load_swept));
+        let outer_setting = swept.outer_label();
+        let holds = |st: &&SweepStep| st.goals.iter().all(|g| g.verdict == Verdict::Holds);
+        let goals_met_at_points = (!goals.is_empty() && outer_setting.is_some()).then(|| {
+            (steps.iter())
+                .filter(holds)
+                .map(|st| [st.outer_value.unwrap_or(f64::NAN), st.value])
+                .collect()
+        });
+        let goals_met_at = (!goals.is_empty() && setting && outer_setting.is_none()).then(|| {
+            (steps.iter())
+                .filter(|st| st.goals.iter().all(|g| g.verdict == Verdict::Holds))
+                .map(|st| st.value)
+                .collect()
+        });
         let mut goals_by_servers = Vec::new();
         if !goals.is_empty() && grid {
             let mut sizes: Vec<u32> = steps.iter().filter_map(|s| s.servers).collect();
@@ -237,6 +270,9 @@ impl SweepDocument {
             partial,
             goals_hold_through,
             goals_by_servers,
+            goals_met_at,
+            outer_setting,
+            goals_met_at_points,
             grid_group,
             figures: figures.to_vec(),
             steps,
@@ -252,6 +288,7 @@ impl SweepDocument {
                 .collect(),
             words: describe_model(model, file),
             load_swept,
+            setting,
         }
     }
 
@@ -269,6 +306,37 @@ impl SweepDocument {
                 })
                 .collect();
             return Some(format!("Every goal is met {}.", parts.join("; ")));
+        }
+        if let (Some(points), Some(outer)) = (&self.goals_met_at_points, &self.outer_setting) {
+            let n = |v: f64| trim_float(v, 4);
+            let listed: Vec<String> = (points.iter())
+                .map(|[o, i]| format!("({}, {})", n(*o), n(*i)))
+                .collect();
+            return Some(if points.is_empty() {
+                "No point of the grid meets every goal.".into()
+            } else {
+                format!(
+                    "Every goal is met at {} of {} points ({outer}, {}): {}.",
+                    points.len(),
+                    self.steps.len(),
+                    self.swept,
+                    listed.join(", ")
+                )
+            });
+        }
+        if let Some(at) = &self.goals_met_at {
+            return Some(if at.is_empty() {
+                format!("No value of {} meets every goal.", self.swept)
+            } else {
+                let values: Vec<String> = at.iter().map(|v| trim_float(*v, 4)).collect();
+                format!(
+                    "Every goal is met at {} of {} values of {}: {}.",
+                    at.len(),
+                    self.steps.len(),
+                    self.swept,
+                    values.join(", ")
+                )
+            });
         }
         let through = self.goals_hold_through?;
         let what = |v: f64| {
@@ -306,7 +374,7 @@ impl SweepDocument {
 
     /// A column's heading in plain words: "office loss", "office service
     /// level".
-    fn column_name(&self, c: &Column) -> String {
+    pub fn column_name(&self, c: &Column) -> String {
         let label = c.figure.label();
         let short = label.split(" (").next().unwrap_or(label);
         format!("{} {short}", self.name_of(c.place))
@@ -324,6 +392,9 @@ impl SweepDocument {
             "offered traffic"
         };
         let mut head = vec![self.swept.clone(), offered.to_string()];
+        if let Some(o) = &self.outer_setting {
+            head.insert(0, o.clone());
+        }
         if let Some(g) = &self.grid_group {
             head.insert(0, format!("servers on {g}"));
         }
@@ -338,6 +409,12 @@ impl SweepDocument {
                 trim_float(st.value, 3),
                 text::value(Unit::Erlangs, st.offered_traffic),
             ];
+            if self.outer_setting.is_some() {
+                row.insert(
+                    0,
+                    st.outer_value.map_or(String::new(), |v| trim_float(v, 4)),
+                );
+            }
             if self.grid_group.is_some() {
                 row.insert(0, st.servers.map_or(String::new(), |n| n.to_string()));
             }
@@ -367,7 +444,7 @@ impl SweepDocument {
 impl Charted for SweepDocument {
     /// A grid has no one axis to draw against: its page shows the table.
     fn has_chart(&self) -> bool {
-        self.grid_group.is_none()
+        self.grid_group.is_none() && self.outer_setting.is_none()
     }
 
     /// The sweep as one self-contained HTML page, with its chart when one
@@ -483,7 +560,14 @@ impl Charted for SweepDocument {
 
 impl Document for SweepDocument {
     fn table(&self) -> String {
-        let mut out = format!("Load sweep of {}  ({})\n", self.scenario, self.file);
+        let mut out = if self.setting {
+            format!(
+                "Sweep of {} in {}  ({})\n",
+                self.swept, self.scenario, self.file
+            )
+        } else {
+            format!("Load sweep of {}  ({})\n", self.scenario, self.file)
+        };
         if let Some(first) = self.steps.first() {
             out.push_str(&format!(
                 "{} replications per step, the same seeds at every step; [formula] where a closed form applies.\n",
@@ -576,6 +660,7 @@ fn set_at(run: &RunDocument, place: Place) -> &FigureSet {
     }
 }
 
-fn value_at<'a>(run: &'a RunDocument, c: &Column) -> Option<&'a FigureValue> {
+/// The value of column `c` in a step's run.
+pub fn value_at<'a>(run: &'a RunDocument, c: &Column) -> Option<&'a FigureValue> {
     set_at(run, c.place).figures.get(c.figure)
 }

@@ -3,6 +3,7 @@
 //! is; must not simulate or report.
 
 pub mod model;
+pub mod setting;
 pub mod spec;
 
 pub use model::{
