@@ -263,11 +263,8 @@ pub enum EditError {
         /// The value, as written into the file.
         value: String,
         /// The scenario's own message.
-        error: ScenarioError,
+        error: Box<ScenarioError>,
     },
-    /// The file cannot be read or parsed at all.
-    #[error(transparent)]
-    Load(#[from] ScenarioError),
 }
 
 impl Editable {
@@ -330,7 +327,11 @@ impl Editable {
             let (key, value) = edits.last().map_or((String::new(), String::new()), |e| {
                 (e.0.to_string(), e.1.to_string())
             });
-            EditError::Scenario { key, value, error }
+            EditError::Scenario {
+                key,
+                value,
+                error: Box::new(error),
+            }
         })
     }
 }
