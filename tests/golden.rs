@@ -272,6 +272,45 @@ fn sweep_documents_and_their_merge() {
 }
 
 #[test]
+fn sweep_settings_documents() {
+    let s = Scratch::new("settings");
+    let base = [
+        "sweep",
+        "queue.toml",
+        "--seed",
+        "7",
+        "--replications",
+        "3",
+        "-q",
+    ];
+    let with = |extra: &[&str]| s.run(&[&base[..], extra].concat(), 0);
+    let two = [
+        "--set",
+        "stream.callers.patience.mean=30s:90s:60s",
+        "--set",
+        "group.agents.queue=2:10:8",
+    ];
+    matches_golden(
+        "sweep-settings.json",
+        &with(&[&two[..], &["--json"]].concat()),
+    );
+    matches_golden(
+        "sweep-settings.csv",
+        &with(&[&two[..], &["--csv"]].concat()),
+    );
+    matches_golden(
+        "sweep-settings-grid.json",
+        &with(
+            &[
+                &two[..],
+                &["--grid", "--goal", "service_level>=60%", "--json"],
+            ]
+            .concat(),
+        ),
+    );
+}
+
+#[test]
 fn records_documents() {
     let s = Scratch::new("records");
     let records = ["records", "calls.csv", "--interval", "1h", "--json"];
