@@ -26,6 +26,10 @@ enum Command {
     /// Run two designs with the same random numbers and report each common
     /// figure of both with their paired difference and its 95% interval.
     Compare(cli::compare::CompareArgs),
+    /// Why the answer differs from the book: from the textbook model to the
+    /// scenario one real effect at a time (holding law, arrivals, peak
+    /// profile, redials, patience), on the same seeds, with what each adds.
+    Explain(cli::explain::ExplainArgs),
     /// Combine the part files of a sharded run into its result.
     Merge(cli::MergeArgs),
     /// Check a scenario file without running it: the model in plain words,
@@ -48,6 +52,7 @@ fn main() -> ExitCode {
         Command::Sweep(a) => cli::sweep(a),
         Command::Merge(a) => cli::merge(a),
         Command::Compare(a) => cli::compare::run(a),
+        Command::Explain(a) => cli::explain::run(a),
         Command::Check(a) => cli::check(a),
         Command::Calc(a) => cli::calc::run(a).map(|()| cli::Status::Done),
         Command::Records(a) => cli::records::run(a).map(|()| cli::Status::Done),

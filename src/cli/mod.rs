@@ -3,6 +3,7 @@
 
 pub mod calc;
 pub mod compare;
+pub mod explain;
 pub mod flags;
 pub mod guard;
 pub mod records;

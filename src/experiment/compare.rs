@@ -301,7 +301,7 @@ pub fn compare(
 
 /// The figures of the two runs matched by owner name and figure: the
 /// common ones compared, the others listed by design.
-fn match_figures(
+pub fn match_figures(
     ma: &Model,
     ra: &RunResult,
     mb: &Model,

@@ -365,7 +365,7 @@ A difference is decided when its interval excludes 0."
 }
 
 /// A difference with its interval: "-0.62% [-0.71% to -0.54%]".
-fn difference_cell(unit: Unit, d: &Estimate) -> String {
+pub fn difference_cell(unit: Unit, d: &Estimate) -> String {
     if d.mean.is_nan() {
         return "-".into();
     }

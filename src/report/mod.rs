@@ -9,6 +9,7 @@
 pub mod check;
 pub mod compare;
 pub mod describe;
+pub mod explain;
 pub mod figures;
 pub mod html;
 pub mod json;
@@ -23,6 +24,7 @@ pub mod text;
 
 pub use check::CheckDocument;
 pub use compare::CompareDocument;
+pub use explain::ExplainDocument;
 pub use figures::{FigureSet, FigureValue, Figures, FormulaValue};
 pub use run::RunDocument;
 pub use sensitivity::SensitivityDocument;
