@@ -156,8 +156,10 @@ fn every_bad_scenario_is_refused_with_one_clear_line() {
         let file = case.to_str().expect("UTF-8 temp path");
         let fragments = fragments_of(case);
         let other = "scenarios/campus-overflow.toml";
-        let commands: [&[&str]; 6] = [
+        let commands: [&[&str]; 8] = [
             &["check", file],
+            &["explain", file, "--quiet"],
+            &["sweep", file, "--set", "simulation.warmup=1m:2m:1m", "--quiet"],
             &["run", file, "--quiet"],
             &["size", file, "--group", "trunks", "--goal", "loss<=1%"],
             &["sweep", file, "--scale", "1:2:1", "--quiet"],
