@@ -3,6 +3,7 @@
 //! precision-driven stopping. Must not parse files or print.
 
 pub mod compare;
+pub mod cost;
 pub mod explain;
 pub mod shard;
 pub mod size;

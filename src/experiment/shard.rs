@@ -170,6 +170,9 @@ pub fn fingerprint(model: &Model) -> String {
         groups,
         streams,
         data_files: _,
+        // Prices change no replication: a part's figures do not depend on
+        // them.
+        prices: _,
     } = model;
     let mut h = Fnv::new();
     h.text(title);

@@ -7,7 +7,7 @@ pub mod setting;
 pub mod spec;
 
 pub use model::{
-    Arrivals, Group, Model, Queue, Replications, Retry, RunPlan, Schedule, Start, Stream,
+    Arrivals, Group, Model, Prices, Queue, Replications, Retry, RunPlan, Schedule, Start, Stream,
     TransformError, residual_quantile,
 };
 
@@ -436,12 +436,17 @@ impl Compiler {
             .iter()
             .map(|s| self.stream(s, &group_index, &groups))
             .collect::<R<Vec<Stream>>>()?;
+        let prices = match &spec.prices {
+            None => None,
+            Some(p) => Some(self.prices(p, &group_index, &stream_index)?),
+        };
         let mut model = Model {
             title: spec.title.unwrap_or_else(|| default_title.to_string()),
             plan,
             groups,
             streams,
             data_files: self.data_files.take(),
+            prices,
         };
         if !model.plan.warmup_given {
             // The default warm-up from the holding laws, whole seconds, at
@@ -449,6 +454,65 @@ impl Compiler {
             model.plan.warmup_s = model.warmup_needed_s().ceil().min(MAX_LENGTH_S);
         }
         Ok(model)
+    }
+
+    /// `[prices]` by group and stream index.
+    fn prices(
+        &self,
+        p: &spec::PricesSpec,
+        groups: &HashMap<&str, usize>,
+        streams: &HashMap<&str, usize>,
+    ) -> R<crate::scenario::Prices> {
+        use spec::PriceMap;
+        let by = |key: &str,
+                  map: &Option<PriceMap>,
+                  index: &HashMap<&str, usize>,
+                  what: &str,
+                  default: f64|
+         -> R<Vec<f64>> {
+            let mut out = vec![default; index.len()];
+            let check = |k: &str, v: f64| -> R<f64> {
+                if v.is_finite() && v >= 0.0 {
+                    Ok(v)
+                } else {
+                    Err(self.err(k, format!("{v} is not a price: expected a number >= 0")))
+                }
+            };
+            match map {
+                None => {}
+                Some(PriceMap::All(v)) => {
+                    let v = check(&format!("prices.{key}"), *v)?;
+                    out.iter_mut().for_each(|x| *x = v);
+                }
+                Some(PriceMap::By(m)) => {
+                    for (name, &v) in m {
+                        let k = format!("prices.{key}.{name}");
+                        let Some(&i) = index.get(name.as_str()) else {
+                            return Err(self.err(k, format!("no {what} is named \"{name}\"")));
+                        };
+                        out[i] = check(&k, v)?;
+                    }
+                }
+            }
+            Ok(out)
+        };
+        let module = by("module", &p.module, groups, "group", 1.0)?;
+        if let Some((g, &m)) = (module.iter().enumerate())
+            .find(|&(_, &m)| m.fract() != 0.0 || !(1.0..=1e6).contains(&m))
+        {
+            let name = groups.iter().find(|&(_, &i)| i == g).map_or("", |(n, _)| *n);
+            return Err(self.err(
+                format!("prices.module.{name}"),
+                format!("{m} is not a pack size: expected a whole number of servers from 1 to 1000000"),
+            ));
+        }
+        Ok(crate::scenario::Prices {
+            server_hour: by("server_hour", &p.server_hour, groups, "group", 0.0)?,
+            module: module.iter().map(|&m| m as u32).collect(),
+            lost_call: by("lost_call", &p.lost_call, streams, "stream", 0.0)?,
+            abandoned_call: by("abandoned_call", &p.abandoned_call, streams, "stream", 0.0)?,
+            wait_minute: by("wait_minute", &p.wait_minute, streams, "stream", 0.0)?,
+        })
     }
 
     /// Index by name of the groups or streams (`what`), each name usable

@@ -373,6 +373,24 @@ pub struct Model {
     /// Data files the scenario read (empirical laws), as resolved against
     /// the scenario's folder: inputs that no output may replace.
     pub data_files: Vec<std::path::PathBuf>,
+    /// Prices from `[prices]`, for cost sizing (no replication reads them).
+    pub prices: Option<Prices>,
+}
+
+/// Prices of a design, by group and stream index (0 where the file gives
+/// none; packs of 1).
+#[derive(Debug, Clone, PartialEq)]
+pub struct Prices {
+    /// Per server (agent) and hour present, per group.
+    pub server_hour: Vec<f64>,
+    /// Servers come in packs of this many, per group.
+    pub module: Vec<u32>,
+    /// Per call never served, per stream.
+    pub lost_call: Vec<f64>,
+    /// Per call abandoned while waiting, per stream.
+    pub abandoned_call: Vec<f64>,
+    /// Per minute answered callers waited, per stream.
+    pub wait_minute: Vec<f64>,
 }
 
 impl Model {

@@ -120,6 +120,35 @@ pub struct ScenarioSpec {
     /// Traffic streams.
     #[serde(default, rename = "stream")]
     pub streams: Vec<StreamSpec>,
+    /// Prices of servers, lost calls and waiting (`size --goal cost`).
+    pub prices: Option<PricesSpec>,
+}
+
+/// `[prices]`: each kind of price is one number for every group (or
+/// stream), or a table by name.
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct PricesSpec {
+    /// Per server (agent) and hour present, by group.
+    pub server_hour: Option<PriceMap>,
+    /// Servers come in packs of this many, by group (sizes round up).
+    pub module: Option<PriceMap>,
+    /// Per call never served, by stream.
+    pub lost_call: Option<PriceMap>,
+    /// Per call abandoned while waiting, by stream (on top of lost_call).
+    pub abandoned_call: Option<PriceMap>,
+    /// Per minute that answered callers waited, by stream.
+    pub wait_minute: Option<PriceMap>,
+}
+
+/// One number for all, or one per name.
+#[derive(Debug, Clone, Deserialize)]
+#[serde(untagged)]
+pub enum PriceMap {
+    /// The same for every group or stream.
+    All(f64),
+    /// By name.
+    By(std::collections::BTreeMap<String, f64>),
 }
 
 /// `[simulation]`.
