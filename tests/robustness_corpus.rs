@@ -159,7 +159,13 @@ fn every_bad_scenario_is_refused_with_one_clear_line() {
         let commands: [&[&str]; 8] = [
             &["check", file],
             &["explain", file, "--quiet"],
-            &["sweep", file, "--set", "simulation.warmup=1m:2m:1m", "--quiet"],
+            &[
+                "sweep",
+                file,
+                "--set",
+                "simulation.warmup=1m:2m:1m",
+                "--quiet",
+            ],
             &["run", file, "--quiet"],
             &["size", file, "--group", "trunks", "--goal", "loss<=1%"],
             &["sweep", file, "--scale", "1:2:1", "--quiet"],

@@ -618,6 +618,9 @@ pub fn check(a: &CheckArgs) -> Result<Status> {
 /// `busyhour size`.
 pub fn size(a: &SizeArgs) -> Result<Status> {
     use busyhour::experiment::size::{self, SizeOptions};
+    if a.goal.iter().any(|g| g.trim() == "cost") {
+        return size_cost(a);
+    }
     if a.per_interval {
         return size_per_interval(a);
     }
@@ -669,6 +672,42 @@ fn size_inputs(a: &SizeArgs) -> Result<(Model, usize, Vec<busyhour::experiment::
         .map(|g| Goal::parse(g, &model, group))
         .collect::<Result<Vec<_>, _>>()?;
     Ok((model, group, goals))
+}
+
+/// `busyhour size --goal cost`: the size of least expected cost.
+fn size_cost(a: &SizeArgs) -> Result<Status> {
+    use busyhour::experiment::cost;
+    if a.goal.len() > 1 {
+        bail!(
+            "--goal cost stands alone: the cost already prices lost and waiting calls; give prices in [prices] instead of other goals"
+        );
+    }
+    if a.per_interval || a.scenario_out.is_some() {
+        bail!(
+            "--goal cost sizes one number of servers for the whole run: leave out --per-interval and --scenario-out"
+        );
+    }
+    let model = a.reps.load(&a.scenario)?;
+    check_files(&a.output, &a.scenario, &model, false, a.chart.as_deref())?;
+    let group = model.group_index(&a.group).ok_or_else(|| {
+        anyhow::anyhow!(
+            "--group {}: {} has no group of that name",
+            a.group,
+            a.scenario.display()
+        )
+    })?;
+    let replications = a.reps.plan(&model);
+    guard::check_size(&model, &replications, &a.reps, a.output.quiet)?;
+    let sizing = with_progress(a.output.quiet, a.reps.threads, |opts| {
+        cost::size_for_cost(&model, group, replications.clone(), opts)
+    })?;
+    let doc = report::CostDocument::new(&model, &a.scenario.display().to_string(), &sizing);
+    emit_charted(&doc, &a.output, a.chart.as_deref())?;
+    Ok(if sizing.partial {
+        Status::Interrupted
+    } else {
+        Status::Done
+    })
 }
 
 /// `busyhour size --per-interval`: the staffing table.

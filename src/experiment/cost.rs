@@ -41,6 +41,10 @@ pub struct CostSamples {
     pub abandoned: Vec<f64>,
     /// Waiting's cost.
     pub waiting: Vec<f64>,
+    /// The priced call counts over all replications, per part (lost,
+    /// abandoned): (price, calls), for the exact Poisson bound of rare
+    /// events.
+    pub counts: [Vec<(f64, f64)>; 2],
 }
 
 impl CostSamples {
@@ -110,6 +114,7 @@ pub fn samples(model: &Model, prices: &Prices, result: &RunResult) -> CostSample
         lost: vec![0.0; n],
         abandoned: vec![0.0; n],
         waiting: vec![0.0; n],
+        counts: [Vec::new(), Vec::new()],
     };
     for s in 0..model.streams.len() {
         let add = |into: &mut Vec<f64>, price: f64, figure: Figure, per: f64| {
@@ -120,22 +125,80 @@ pub fn samples(model: &Model, prices: &Prices, result: &RunResult) -> CostSample
             }
         };
         add(&mut out.lost, prices.lost_call[s], Figure::Loss, 1.0);
-        add(&mut out.abandoned, prices.abandoned_call[s], Figure::Abandonment, 1.0);
+        add(
+            &mut out.abandoned,
+            prices.abandoned_call[s],
+            Figure::Abandonment,
+            1.0,
+        );
+        for (part, price, figure) in [
+            (0, prices.lost_call[s], Figure::Loss),
+            (1, prices.abandoned_call[s], Figure::Abandonment),
+        ] {
+            if price > 0.0 {
+                out.counts[part].push((price, counts(s, figure).iter().sum()));
+            }
+        }
         // WaitMean's numerator is the answered calls' waits in seconds.
-        add(&mut out.waiting, prices.wait_minute[s], Figure::WaitMean, 60.0);
+        add(
+            &mut out.waiting,
+            prices.wait_minute[s],
+            Figure::WaitMean,
+            60.0,
+        );
     }
     out
 }
 
-/// Means and intervals of `samples`.
+/// The exact 95% interval of a Poisson mean from `k` events (Garwood
+/// 1936): chi-square quantiles `chi2(0.025; 2k) / 2` and
+/// `chi2(0.975; 2k + 2) / 2` (statrs).
+fn poisson_interval(k: f64) -> (f64, f64) {
+    use statrs::distribution::{ChiSquared, ContinuousCDF};
+    let q = |p: f64, dof: f64| ChiSquared::new(dof).map_or(f64::NAN, |c| c.inverse_cdf(p) / 2.0);
+    let low = if k > 0.0 { q(0.025, 2.0 * k) } else { 0.0 };
+    (low, q(0.975, 2.0 * k + 2.0))
+}
+
+/// Means and intervals of `samples`: Student-t across replications, each
+/// part of priced calls widened to the exact Poisson interval of its
+/// pooled counts where that is wider (no interval of zero width from no
+/// lost call seen), and the total to the sum of its parts' bounds.
 pub fn estimate(samples: &CostSamples) -> CostEstimate {
+    let n = samples.servers.len().max(1) as f64;
     let e = |v: &[f64]| stats::estimate(v.iter().copied());
+    let widened = |v: &[f64], counts: &[(f64, f64)]| -> Estimate {
+        let t = e(v);
+        if counts.is_empty() {
+            return t;
+        }
+        let (mut lo, mut hi) = (0.0, 0.0);
+        for &(price, k) in counts {
+            let (l, h) = poisson_interval(k);
+            lo += price * l / n;
+            hi += price * h / n;
+        }
+        let (low, high) = (t.low.min(lo), t.high.max(hi));
+        Estimate::between(t.mean, low, high, t.replications)
+    };
+    let lost = widened(&samples.lost, &samples.counts[0]);
+    let abandoned = widened(&samples.abandoned, &samples.counts[1]);
+    let servers = e(&samples.servers);
+    let waiting = e(&samples.waiting);
+    let t = e(&samples.total());
+    let parts = [servers, lost, abandoned, waiting];
+    let total = Estimate::between(
+        t.mean,
+        t.low.min(parts.iter().map(|p| p.low).sum()),
+        t.high.max(parts.iter().map(|p| p.high).sum()),
+        t.replications,
+    );
     CostEstimate {
-        total: e(&samples.total()),
-        servers: e(&samples.servers),
-        lost: e(&samples.lost),
-        abandoned: e(&samples.abandoned),
-        waiting: e(&samples.waiting),
+        total,
+        servers,
+        lost,
+        abandoned,
+        waiting,
     }
 }
 
@@ -190,10 +253,7 @@ impl CostSizing {
     /// Whether every evaluated neighbour costs more than the best at 95%
     /// (each paired difference's interval above 0).
     pub fn decided(&self) -> bool {
-        self.against
-            .iter()
-            .flatten()
-            .all(|(_, d)| d.low > 0.0)
+        self.against.iter().flatten().all(|(_, d)| d.low > 0.0)
     }
 }
 
@@ -201,10 +261,14 @@ impl CostSizing {
 #[derive(Debug, thiserror::Error)]
 pub enum CostError {
     /// The scenario has no prices.
-    #[error("the scenario has no [prices]: give at least server_hour and lost_call (or abandoned_call, wait_minute) prices")]
+    #[error(
+        "the scenario has no [prices]: give at least server_hour and lost_call (or abandoned_call, wait_minute) prices"
+    )]
     NoPrices,
     /// Only servers are priced: fewest servers is cheapest.
-    #[error("[prices] prices servers but no lost call, abandoned call or waiting minute: the cheapest design is no servers at all; price what a lost or waiting call costs")]
+    #[error(
+        "[prices] prices servers but no lost call, abandoned call or waiting minute: the cheapest design is no servers at all; price what a lost or waiting call costs"
+    )]
     OnlyServers,
     /// A run failed.
     #[error(transparent)]
@@ -320,7 +384,10 @@ pub fn size_for_cost(
         start - module
     };
     let mut worse = 0;
-    let mut best_mean = points.iter().map(|p| p.cost.total.mean).fold(f64::INFINITY, f64::min);
+    let mut best_mean = points
+        .iter()
+        .map(|p| p.cost.total.mean)
+        .fold(f64::INFINITY, f64::min);
     while worse < 2 && !partial.get() {
         let next = if step_up {
             if n + module > cap {
@@ -345,12 +412,30 @@ pub fn size_for_cost(
     }
     points.sort_by_key(|p| p.servers);
     let best = (0..points.len())
-        .min_by(|&a, &b| points[a].cost.total.mean.total_cmp(&points[b].cost.total.mean))
+        .min_by(|&a, &b| {
+            points[a]
+                .cost
+                .total
+                .mean
+                .total_cmp(&points[b].cost.total.mean)
+        })
         .unwrap_or(0);
+    // Neighbour minus best, paired; where calls are rare the exact bounds
+    // of each side's priced calls widen it (the servers' part is exact).
     let paired = |j: usize| -> (u32, Estimate) {
         let (a, b) = (points[j].samples.total(), points[best].samples.total());
         let d: Vec<f64> = a.iter().zip(&b).map(|(x, y)| x - y).collect();
-        (points[j].servers, stats::estimate(d.iter().copied()))
+        let t = stats::estimate(d.iter().copied());
+        let (nb, bc) = (&points[j].cost, &points[best].cost);
+        let calls_low = |c: &CostEstimate| c.lost.low + c.abandoned.low + c.waiting.low;
+        let calls_high = |c: &CostEstimate| c.lost.high + c.abandoned.high + c.waiting.high;
+        let fixed = nb.servers.mean - bc.servers.mean;
+        let low = t.low.min(fixed + calls_low(nb) - calls_high(bc));
+        let high = t.high.max(fixed + calls_high(nb) - calls_low(bc));
+        (
+            points[j].servers,
+            Estimate::between(t.mean, low, high, t.replications),
+        )
     };
     let against = [
         best.checked_sub(1).map(paired),

@@ -8,6 +8,7 @@
 
 pub mod check;
 pub mod compare;
+pub mod cost;
 pub mod describe;
 pub mod explain;
 pub mod figures;
@@ -24,6 +25,7 @@ pub mod text;
 
 pub use check::CheckDocument;
 pub use compare::CompareDocument;
+pub use cost::CostDocument;
 pub use explain::ExplainDocument;
 pub use figures::{FigureSet, FigureValue, Figures, FormulaValue};
 pub use run::RunDocument;

@@ -500,10 +500,15 @@ impl Compiler {
         if let Some((g, &m)) = (module.iter().enumerate())
             .find(|&(_, &m)| m.fract() != 0.0 || !(1.0..=1e6).contains(&m))
         {
-            let name = groups.iter().find(|&(_, &i)| i == g).map_or("", |(n, _)| *n);
+            let name = groups
+                .iter()
+                .find(|&(_, &i)| i == g)
+                .map_or("", |(n, _)| *n);
             return Err(self.err(
                 format!("prices.module.{name}"),
-                format!("{m} is not a pack size: expected a whole number of servers from 1 to 1000000"),
+                format!(
+                    "{m} is not a pack size: expected a whole number of servers from 1 to 1000000"
+                ),
             ));
         }
         Ok(crate::scenario::Prices {
