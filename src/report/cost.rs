@@ -78,6 +78,9 @@ pub struct CostDocument {
     pub words: String,
 }
 
+/// One part of a row's cost.
+type Pick = fn(&CostRow) -> Estimate;
+
 /// The closed form's name.
 const MOE: &str = "Erlang B cost optimum (Moe's principle, Jensen 1950)";
 
@@ -122,11 +125,8 @@ impl CostDocument {
         let e = |x: &Estimate| text::estimate(Unit::Count, x);
         // The parts with a price (a part that is 0 at every size is left
         // out of the table; the JSON and CSV keep it).
-        let parts: Vec<(&str, fn(&CostRow) -> Estimate)> = [
-            (
-                "servers cost",
-                (|r: &CostRow| r.servers_cost) as fn(&CostRow) -> Estimate,
-            ),
+        let parts: Vec<(&str, Pick)> = [
+            ("servers cost", (|r: &CostRow| r.servers_cost) as Pick),
             ("lost calls cost", |r| r.lost_calls_cost),
             ("abandoned calls cost", |r| r.abandoned_calls_cost),
             ("waiting cost", |r| r.waiting_cost),
@@ -271,7 +271,7 @@ impl Charted for CostDocument {
                 .map(|r| (f64::from(r.servers), pick(r)))
                 .collect()
         };
-        let parts: [(&str, fn(&CostRow) -> Estimate, Paint); 5] = [
+        let parts: [(&str, Pick, Paint); 5] = [
             ("total", |r| r.total, Paint::Carried),
             ("servers", |r| r.servers_cost, Paint::Stream(0)),
             ("lost calls", |r| r.lost_calls_cost, Paint::Stream(1)),
