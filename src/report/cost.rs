@@ -273,14 +273,14 @@ impl Charted for CostDocument {
         };
         let parts: [(&str, Pick, Paint); 5] = [
             ("total", |r| r.total, Paint::Carried),
-            ("servers", |r| r.servers_cost, Paint::Stream(0)),
+            ("servers", |r| r.servers_cost, Paint::Stream(2)),
             ("lost calls", |r| r.lost_calls_cost, Paint::Stream(1)),
             (
                 "abandoned calls",
                 |r| r.abandoned_calls_cost,
-                Paint::Stream(2),
+                Paint::Stream(3),
             ),
-            ("waiting", |r| r.waiting_cost, Paint::Stream(3)),
+            ("waiting", |r| r.waiting_cost, Paint::Stream(4)),
         ];
         for (name, pick, paint) in parts {
             let pts = series(pick);
@@ -295,8 +295,9 @@ impl Charted for CostDocument {
             .filter_map(|r| Some((f64::from(r.servers), r.formula_total?)))
             .collect();
         if !formula.is_empty() {
-            c.series
-                .push(Series::formula(format!("total, {MOE}"), formula).painted(Paint::Carried));
+            c.series.push(
+                Series::formula("total by Erlang B (closed form)", formula).painted(Paint::Carried),
+            );
         }
         plot::render_svg(&c)
     }
