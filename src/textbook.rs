@@ -142,6 +142,22 @@ fn poisson_rate(s: &Stream) -> Option<f64> {
     }
 }
 
+/// Whether stream `st`'s patience is exponential (or absent) and the same
+/// as every stream's before it (`seen`, which it then holds): the queue
+/// formulas take one exponential patience or none.
+fn same_exponential_patience(seen: &mut Option<Option<f64>>, st: &Stream) -> bool {
+    let p = match &st.patience {
+        None => None,
+        Some(l) if l.is_exponential() => Some(l.mean()),
+        Some(_) => return false,
+    };
+    if seen.is_some_and(|x| x != p) {
+        return false;
+    }
+    *seen = Some(p);
+    true
+}
+
 /// Streams whose route includes group `g`, with the position of `g`.
 fn users(model: &Model, g: usize) -> Vec<(usize, usize)> {
     model
@@ -265,15 +281,9 @@ fn interval_stationary_group(col: &mut Column, g: usize) {
             return;
         }
         holding = Some(h);
-        let p = match &st.patience {
-            None => None,
-            Some(l) if l.is_exponential() => Some(l.mean()),
-            Some(_) => return,
-        };
-        if patience.is_some_and(|x| x != p) {
+        if !same_exponential_patience(&mut patience, st) {
             return;
         }
-        patience = Some(p);
     }
     let (Some(h), Some(patience)) = (holding, patience) else {
         return;
@@ -578,15 +588,9 @@ fn queue_group(col: &mut Column, g: usize) {
             return; // the two-moment methods need one cv
         }
         cv = Some(c);
-        let p = match &st.patience {
-            None => None,
-            Some(l) if l.is_exponential() => Some(l.mean()),
-            Some(_) => return,
-        };
-        if patience.is_some_and(|x| x != p) {
+        if !same_exponential_patience(&mut patience, st) {
             return;
         }
-        patience = Some(p);
         traffic += rate * h;
     }
     let (Some(h), Some(patience)) = (holding, patience) else {

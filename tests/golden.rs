@@ -274,7 +274,15 @@ fn sweep_documents_and_their_merge() {
 #[test]
 fn cost_documents() {
     let s = Scratch::new("cost");
-    let args = ["size", "priced.toml", "--group", "ports", "--goal", "cost", "-q"];
+    let args = [
+        "size",
+        "priced.toml",
+        "--group",
+        "ports",
+        "--goal",
+        "cost",
+        "-q",
+    ];
     let with = |extra: &[&str]| s.run(&[&args[..], extra].concat(), 0);
     matches_golden("size-cost.json", &with(&["--json"]));
     matches_golden("size-cost.csv", &with(&["--csv"]));

@@ -51,15 +51,7 @@ pub fn run(a: &ExplainArgs) -> Result<Status> {
         files.output("--report", report, OutputKind::Html);
     }
     files.check()?;
-    let layout = busyhour::stats::layout(&model);
-    let mut figures = Vec::new();
-    for name in &a.figure {
-        match layout.iter().find(|f| f.name() == name) {
-            Some(f) if !figures.contains(&f.figure) => figures.push(f.figure),
-            Some(_) => {}
-            None => bail!("--figure {name}: this scenario reports no figure of that name"),
-        }
-    }
+    let figures = super::figures_named(&model, &a.figure)?;
     let replications = match (a.reps.replications, &model.plan.replications) {
         (Some(n), _) => n,
         (None, Replications::Fixed(n)) => *n,

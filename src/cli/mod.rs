@@ -803,6 +803,23 @@ fn size_per_interval(a: &SizeArgs) -> Result<Status> {
     })
 }
 
+/// The figures `--figure` names, each once, in the order given.
+pub(crate) fn figures_named(
+    model: &scenario::Model,
+    names: &[String],
+) -> Result<Vec<busyhour::stats::Figure>> {
+    let layout = busyhour::stats::layout(model);
+    let mut figures = Vec::new();
+    for name in names {
+        match layout.iter().find(|f| f.name() == name) {
+            Some(f) if !figures.contains(&f.figure) => figures.push(f.figure),
+            Some(_) => {}
+            None => bail!("--figure {name}: this scenario reports no figure of that name"),
+        }
+    }
+    Ok(figures)
+}
+
 /// `busyhour sweep --set`: one setting swept, or several one at a time
 /// with their effects.
 fn sweep_settings(a: &SweepArgs, model: &scenario::Model) -> Result<Status> {
@@ -843,15 +860,7 @@ fn sweep_settings(a: &SweepArgs, model: &scenario::Model) -> Result<Status> {
         .iter()
         .map(|g| busyhour::experiment::size::Goal::parse(g, model, 0))
         .collect::<Result<Vec<_>, _>>()?;
-    let layout = busyhour::stats::layout(model);
-    let mut figures = Vec::new();
-    for name in &a.figure {
-        match layout.iter().find(|f| f.name() == name) {
-            Some(f) if !figures.contains(&f.figure) => figures.push(f.figure),
-            Some(_) => {}
-            None => bail!("--figure {name}: this scenario reports no figure of that name"),
-        }
-    }
+    let figures = figures_named(model, &a.figure)?;
     let plan = a.reps.plan(model);
     for spec in &specs {
         guard::check_sweep(model, spec, &plan, &a.reps, a.output.quiet)?;
@@ -924,15 +933,7 @@ pub fn sweep(a: &SweepArgs) -> Result<Status> {
         .iter()
         .map(|g| busyhour::experiment::size::Goal::parse(g, &model, goal_group))
         .collect::<Result<Vec<_>, _>>()?;
-    let layout = busyhour::stats::layout(&model);
-    let mut figures = Vec::new();
-    for name in &a.figure {
-        match layout.iter().find(|f| f.name() == name) {
-            Some(f) if !figures.contains(&f.figure) => figures.push(f.figure),
-            Some(_) => {}
-            None => bail!("--figure {name}: this scenario reports no figure of that name"),
-        }
-    }
+    let figures = figures_named(&model, &a.figure)?;
     let plan = a.reps.plan(&model);
     if let Some(shard) = a.shard {
         use busyhour::experiment::shard;
