@@ -64,6 +64,21 @@
 //! - Engset: one finite-source stream alone on a loss group (insensitive to
 //!   the holding and idle laws).
 //!
+//! - Forecast uncertainty (a stream's rate times a random factor per day):
+//!   the simulated figures are averages over the factor's law, and a book
+//!   value at the forecast's mean load is not one of them, so every entry
+//!   of a group that an uncertain stream reaches (directly or through
+//!   overflow), and of every stream through such a group, is dropped. In
+//!   its place, on a group that meets the Erlang B conditions with one
+//!   random factor among its streams (one uncertain stream, or several
+//!   sharing a factor), "Erlang B over the forecast's spread (integrated)":
+//!   loss and first-attempt blocking E\[F B(N, A(F))\] / E\[F\] for an
+//!   uncertain stream (E\[B\] for a known one), time congestion E\[B\],
+//!   carried traffic, occupancy and overflow mean likewise, A(F) the
+//!   group's load on a day of factor F, the expectation by quadrature over
+//!   the factor's law ([`factor_expectation`]). No peakedness (the pooled
+//!   variance holds the day-to-day spread).
+//!
 //! Every formula here reads a group's servers as constant: none is shown
 //! for a group whose schedule changes its servers over the run, nor for the
 //! streams routed through one. Shrinkage alone (a constant schedule) keeps
@@ -228,6 +243,9 @@ pub fn formula_column(model: &Model) -> HashMap<FigureId, Formula> {
     for g in 0..model.groups.len() {
         interval_stationary_group(&mut col, g);
     }
+    if model.has_forecast_spread() {
+        forecast_spread(&mut col);
+    }
     col.map
 }
 
@@ -366,6 +384,199 @@ fn interval_stationary_group(col: &mut Column, g: usize) {
             }
         }
     }
+}
+
+/// Label of the Erlang B value averaged over a forecast's spread.
+pub const FORECAST_ERLANG_B: &str = "Erlang B over the forecast's spread (integrated)";
+
+/// Largest group the integrated Erlang B is computed for (each quadrature
+/// node costs one Erlang B recursion of N steps).
+const FORECAST_MAX_SERVERS: u32 = 100_000;
+
+/// Groups reached by a stream with forecast uncertainty, directly or
+/// through the overflow of another stream that such a group passes on, and
+/// the streams through them (see the module's "Forecast uncertainty").
+pub fn forecast_reach(model: &Model) -> (Vec<bool>, Vec<bool>) {
+    let mut streams: Vec<bool> = model.streams.iter().map(|s| s.forecast.is_some()).collect();
+    let mut groups = vec![false; model.groups.len()];
+    loop {
+        let mut changed = false;
+        for (si, st) in model.streams.iter().enumerate() {
+            let touches = st.route.iter().any(|&g| groups[g as usize]);
+            if touches && !streams[si] {
+                streams[si] = true;
+                changed = true;
+            }
+            if streams[si] {
+                for &g in &st.route {
+                    changed |= !groups[g as usize];
+                    groups[g as usize] = true;
+                }
+            }
+        }
+        if !changed {
+            return (groups, streams);
+        }
+    }
+}
+
+/// The column of a model with forecast uncertainty: drop every entry the
+/// spread reaches, then put the integrated Erlang B where it applies.
+fn forecast_spread(col: &mut Column) {
+    let model = col.model;
+    let (groups, streams) = forecast_reach(model);
+    col.map.retain(|id, _| match id.scope {
+        Scope::Group(g) | Scope::GroupInterval(_, g) => !groups[g],
+        Scope::Stream(s) | Scope::StreamInterval(_, s) => !streams[s],
+    });
+    for (g, &reached) in groups.iter().enumerate() {
+        if reached {
+            forecast_erlang_b_group(col, g);
+        }
+    }
+}
+
+/// A loss group under the Erlang B conditions (direct Poisson streams, one
+/// server a call, no reservation, no redials, constant servers) whose
+/// uncertain streams share one factor: its figures averaged over the
+/// factor's law.
+fn forecast_erlang_b_group(col: &mut Column, g: usize) {
+    let model = col.model;
+    let grp = &model.groups[g];
+    let n = grp.servers;
+    if grp.servers_change() || n > FORECAST_MAX_SERVERS {
+        return;
+    }
+    if direct_poisson_load(model, g, false).is_none() {
+        return;
+    }
+    let users = users(model, g);
+    if users.iter().any(|&(s, _)| model.streams[s].retry.is_some()) {
+        return;
+    }
+    // The known load and the load that moves with the one factor.
+    let (mut known, mut moving) = (0.0, 0.0);
+    let mut factor: Option<(u64, &crate::dist::Law)> = None;
+    for &(s, _) in &users {
+        let st = &model.streams[s];
+        let Some(rate) = poisson_rate(st) else { return };
+        let a = rate * st.holding.mean();
+        match &st.forecast {
+            None => known += a,
+            Some(f) => {
+                if factor.is_some_and(|(key, _)| key != f.key) {
+                    return; // two independent factors: no one-dimensional integral
+                }
+                factor = Some((f.key, &f.law));
+                moving += a;
+            }
+        }
+    }
+    let Some((_, law)) = factor else { return };
+    let load = |f: f64| known + moving * f;
+    let b = |f: f64| erlang_b::blocking(n, load(f)).unwrap_or(f64::NAN);
+    let e = |h: &dyn Fn(f64) -> f64| factor_expectation(law, h).unwrap_or(f64::NAN);
+    // E[F] = 1 by construction; by the same quadrature, so that the
+    // ratio's errors cancel.
+    let mean_f = e(&|f| f);
+    let time_congestion = e(&|f| b(f));
+    let lost_share = e(&|f| f * b(f)) / mean_f;
+    let carried = e(&|f| load(f) * (1.0 - b(f)));
+    let overflow = e(&|f| load(f) * b(f));
+    col.group(
+        g,
+        Figure::TimeCongestion,
+        FORECAST_ERLANG_B,
+        time_congestion,
+    );
+    col.group(g, Figure::CarriedTraffic, FORECAST_ERLANG_B, carried);
+    col.group(
+        g,
+        Figure::Occupancy,
+        FORECAST_ERLANG_B,
+        carried / f64::from(n),
+    );
+    col.group(g, Figure::OverflowMean, FORECAST_ERLANG_B, overflow);
+    for &(s, _) in &users {
+        let st = &model.streams[s];
+        if st.route.len() != 1 {
+            continue;
+        }
+        let Some(rate) = poisson_rate(st) else {
+            continue;
+        };
+        let a = rate * st.holding.mean();
+        let (loss, carried) = if st.forecast.is_some() {
+            (lost_share, a * e(&|f| f * (1.0 - b(f))))
+        } else {
+            (time_congestion, a * (1.0 - time_congestion))
+        };
+        col.stream(s, Figure::FirstAttemptBlocking, FORECAST_ERLANG_B, loss);
+        col.stream(s, Figure::Loss, FORECAST_ERLANG_B, loss);
+        col.stream(s, Figure::CarriedTraffic, FORECAST_ERLANG_B, carried);
+    }
+}
+
+/// A map of the quadrature variable (the node to the factor, or to the
+/// log-weight).
+type Map = Box<dyn Fn(f64) -> f64>;
+
+/// E\[h(F)\] for a forecast factor F of `law` (gamma or lognormal, mean
+/// 1); `None` for another law.
+///
+/// # Numerics
+///
+/// The trapezoid rule over a uniform grid of 801 nodes in the variable in
+/// which the density is smooth and decays on both sides: z = (ln F - mu) /
+/// sigma on [-12, 12] for the lognormal; y = ln F for the gamma (density
+/// of y proportional to exp(k y - k e^y), k = 1 / cv^2), on the span where
+/// that exponent is within 60 of its peak. The weights are normalised by
+/// their own sum, so the law's normalising constant is not needed. For a
+/// smooth integrand decaying at both ends the trapezoid rule converges
+/// geometrically (Trefethen and Weideman, SIAM Review 56(3), 2014).
+pub fn factor_expectation(law: &crate::dist::Law, h: &dyn Fn(f64) -> f64) -> Option<f64> {
+    const NODES: usize = 801;
+    let cv = law.cv();
+    if !(cv > 0.0 && cv.is_finite()) {
+        return None;
+    }
+    let (lo, hi, x_of, log_weight): (f64, f64, Map, Map) = match law.name() {
+        "lognormal" => {
+            let sigma2 = (1.0 + cv * cv).ln();
+            let (sigma, mu) = (sigma2.sqrt(), -0.5 * sigma2);
+            (
+                -12.0,
+                12.0,
+                Box::new(move |z| (mu + sigma * z).exp()),
+                Box::new(|z| -0.5 * z * z),
+            )
+        }
+        "gamma" => {
+            let k = 1.0 / (cv * cv);
+            // Exponent less its peak (at y = 0): k (y + 1 - e^y) <= 0.
+            let rel = move |y: f64| k * (y + 1.0 - y.exp());
+            let step = 0.05 * cv.min(1.0);
+            let (mut lo, mut hi) = (0.0, 0.0);
+            while rel(lo) > -60.0 {
+                lo -= step;
+            }
+            while rel(hi) > -60.0 {
+                hi += step;
+            }
+            (lo, hi, Box::new(f64::exp), Box::new(rel))
+        }
+        _ => return None,
+    };
+    let dx = (hi - lo) / (NODES - 1) as f64;
+    let (mut num, mut den) = (0.0, 0.0);
+    for i in 0..NODES {
+        let t = lo + i as f64 * dx;
+        let end = if i == 0 || i + 1 == NODES { 0.5 } else { 1.0 };
+        let w = end * log_weight(t).exp();
+        num += w * h(x_of(t));
+        den += w;
+    }
+    Some(num / den)
 }
 
 /// Label of the redial fixed point.
@@ -1133,8 +1344,10 @@ pub fn busy_hour(model: &Model) -> Option<BusyHour> {
         let Some(users) = profiled_loss_users(model, g) else {
             continue;
         };
-        if model.groups[g].servers_change() {
-            continue;
+        if model.groups[g].servers_change()
+            || (users.iter()).any(|&(s, _)| model.streams[s].forecast.is_some())
+        {
+            continue; // a book value at the forecast's mean load (see the module)
         }
         let a = window_load(users.iter().map(|&(s, _)| &model.streams[s]), t0, t1);
         if let Ok(b) = erlang_b::blocking(model.groups[g].servers, a) {

@@ -230,10 +230,59 @@ struct Sim<'m> {
 }
 
 /// Simulate replication `replication` of `model` and return its counters.
+///
+/// A model with forecast uncertainty runs as the day's model
+/// ([`day_model`]): the rates are scaled once here, before the replication
+/// starts, so that the event loop is the same code either way.
 pub fn run_replication(model: &Model, replication: u64) -> Tally {
-    let mut sim = Sim::new(model, replication);
+    let day = day_model(model, replication);
+    let mut sim = Sim::new(day.as_ref().unwrap_or(model), replication);
     sim.run();
     sim.tally
+}
+
+/// The day's factor of every stream of `model` in replication
+/// `replication`: 1 for a stream whose rate is known, else one draw of its
+/// [`Forecast`](crate::scenario::Forecast) law from the stream
+/// `seeds::FORECAST` of its key (streams sharing a label share the key and
+/// so the draw).
+pub fn day_factors(model: &Model, replication: u64) -> Vec<f64> {
+    (model.streams.iter())
+        .map(|s| match &s.forecast {
+            None => 1.0,
+            Some(f) => {
+                let mut rng =
+                    seeds::generator(model.plan.seed, replication, f.key, seeds::FORECAST);
+                f.law.sample(&mut rng)
+            }
+        })
+        .collect()
+}
+
+/// The model of replication `replication`'s day: every uncertain stream's
+/// rate, or its whole peak profile, times the day's factor
+/// ([`day_factors`]); `None` when no stream is uncertain (the model runs as
+/// it is). The warm-up and everything else stay as compiled; a steady start
+/// seats the calls in progress at the day's rate.
+pub fn day_model(model: &Model, replication: u64) -> Option<Model> {
+    if !model.has_forecast_spread() {
+        return None;
+    }
+    let factors = day_factors(model, replication);
+    let mut day = model.clone();
+    for (s, f) in day.streams.iter_mut().zip(factors) {
+        if s.forecast.is_none() {
+            continue;
+        }
+        match &mut s.arrivals {
+            Arrivals::Poisson { rate } => *rate *= f,
+            Arrivals::Profile { rates, .. } => rates.iter_mut().for_each(|r| *r *= f),
+            Arrivals::Renewal { .. } | Arrivals::Sources { .. } => {
+                unreachable!("the scenario refuses uncertainty on renewal and finite sources")
+            }
+        }
+    }
+    Some(day)
 }
 
 impl<'m> Sim<'m> {

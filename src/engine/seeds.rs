@@ -21,6 +21,11 @@ pub const PATIENCE: u64 = 4;
 /// Purpose: the calls in progress seated at time 0 (steady start): their
 /// keys and residual holding times.
 pub const INITIAL: u64 = 5;
+/// Purpose: the day's forecast factor of a stream's rate (one draw per
+/// replication, keyed by the stream or by the label of a shared factor).
+/// A purpose of its own, so that no other stream's numbers move when a
+/// scenario gains or loses uncertainty.
+pub const FORECAST: u64 = 6;
 
 /// SplitMix64's finaliser (Steele, Lea and Flood, 2014): a bijective mix of
 /// 64 bits with good avalanche.

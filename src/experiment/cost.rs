@@ -296,7 +296,10 @@ fn closed_form_cost(model: &Model, prices: &Prices, group: usize) -> Option<impl
         if !st.route.contains(&(group as u32)) {
             continue;
         }
-        let direct = matches!(st.arrivals, crate::scenario::Arrivals::Poisson { .. });
+        // A known Poisson load: with a forecast spread Erlang B of the mean
+        // load is not the expected cost.
+        let direct = matches!(st.arrivals, crate::scenario::Arrivals::Poisson { .. })
+            && st.forecast.is_none();
         if st.route.len() != 1 || st.units != 1 || st.retry.is_some() || !direct {
             return None;
         }

@@ -10,7 +10,7 @@
 //!
 //! The effects are added in a fixed order, the order a planner questions
 //! the book: holding-time law, arrival process (renewal streams), peak
-//! profile, patience, redials (redials after patience: on a queue without
+//! profile, forecast spread (`uncertainty`), patience, redials (redials after patience: on a queue without
 //! patience nobody is lost, so nobody redials). The share of the gap an
 //! effect takes depends on that order when effects interact (patience
 //! matters more on a peak than on a flat load); each effect alone on the
@@ -35,6 +35,8 @@ pub enum Effect {
     ArrivalProcess,
     /// The peak profile instead of its mean rate all through.
     PeakProfile,
+    /// The forecast's spread from day to day (`uncertainty`).
+    ForecastSpread,
     /// Blocked or abandoning callers redial.
     Redials,
     /// Waiting callers give up.
@@ -43,10 +45,11 @@ pub enum Effect {
 
 impl Effect {
     /// Every effect, in the ladder's order.
-    pub const ORDER: [Effect; 5] = [
+    pub const ORDER: [Effect; 6] = [
         Effect::HoldingLaw,
         Effect::ArrivalProcess,
         Effect::PeakProfile,
+        Effect::ForecastSpread,
         Effect::Patience,
         Effect::Redials,
     ];
@@ -57,6 +60,7 @@ impl Effect {
             Effect::HoldingLaw => "holding-time law",
             Effect::ArrivalProcess => "arrival process",
             Effect::PeakProfile => "peak profile",
+            Effect::ForecastSpread => "forecast spread",
             Effect::Redials => "redials",
             Effect::Patience => "patience",
         }
@@ -68,6 +72,7 @@ impl Effect {
             Effect::HoldingLaw => "holding_law",
             Effect::ArrivalProcess => "arrival_process",
             Effect::PeakProfile => "peak_profile",
+            Effect::ForecastSpread => "forecast_spread",
             Effect::Redials => "redials",
             Effect::Patience => "patience",
         }
@@ -80,6 +85,7 @@ impl Effect {
             Effect::HoldingLaw => !s.holding.is_exponential(),
             Effect::ArrivalProcess => matches!(s.arrivals, Arrivals::Renewal { .. }),
             Effect::PeakProfile => matches!(s.arrivals, Arrivals::Profile { .. }),
+            Effect::ForecastSpread => s.forecast.is_some(),
             Effect::Redials => s.retry.is_some(),
             Effect::Patience => s.patience.is_some(),
         })
@@ -110,6 +116,9 @@ fn with_effects(model: &Model, on: &[Effect], keep_patience: bool) -> Model {
             && let Some(rate) = s.arrivals.mean_rate(length)
         {
             s.arrivals = Arrivals::Poisson { rate };
+        }
+        if !on.contains(&Effect::ForecastSpread) {
+            s.forecast = None;
         }
         if !on.contains(&Effect::Redials) {
             s.retry = None;

@@ -6,7 +6,9 @@
 
 use super::{Accumulated, Completion, ExperimentError, RunOptions, RunResult, Runner, outcome_of};
 use crate::dist::Law;
-use crate::scenario::{Arrivals, Group, Model, Queue, Retry, RunPlan, Schedule, Start, Stream};
+use crate::scenario::{
+    Arrivals, Forecast, Group, Model, Queue, Retry, RunPlan, Schedule, Start, Stream,
+};
 use crate::stats::{self, Obs, Scope};
 use serde::{Deserialize, Serialize};
 use std::time::Instant;
@@ -14,8 +16,9 @@ use thiserror::Error;
 
 /// Version of the part format; parts of another version are refused.
 /// Version 3: the fingerprint hashes the model field by field
-/// ([`fingerprint`]) instead of its debug form.
-pub const PART_FORMAT_VERSION: u32 = 3;
+/// ([`fingerprint`]) instead of its debug form. Version 4: it hashes a
+/// stream's forecast uncertainty.
+pub const PART_FORMAT_VERSION: u32 = 4;
 /// The `format` field of every part.
 pub const PART_FORMAT: &str = "busyhour-part";
 
@@ -327,6 +330,7 @@ fn hash_stream(h: &mut Fnv, stream: &Stream) {
         patience,
         answer_within_s,
         seed_key,
+        forecast,
     } = stream;
     h.text(name);
     match arrivals {
@@ -377,6 +381,21 @@ fn hash_stream(h: &mut Fnv, stream: &Stream) {
     }
     h.option_f64(*answer_within_s);
     h.u64(*seed_key);
+    match forecast {
+        None => h.tag(0),
+        Some(Forecast { law, shared, key }) => {
+            h.tag(1);
+            hash_law(h, law);
+            match shared {
+                None => h.tag(0),
+                Some(label) => {
+                    h.tag(1);
+                    h.text(label);
+                }
+            }
+            h.u64(*key);
+        }
+    }
 }
 
 /// A law by its name, mean and cv, and the parameter that sets its shape
@@ -1058,6 +1077,14 @@ patience = { law = "exponential", mean = "1m" }
             SCENARIO.replace(r#"warmup = "10m""#, r#"warmup = "11m""#),
             SCENARIO.replace(r#""office""#, r#""depot""#),
             SCENARIO.replace(r#"law = "gamma""#, r#"law = "lognormal""#),
+            SCENARIO.replace(
+                r#"route = ["trunk"]"#,
+                "route = [\"trunk\"]\nuncertainty = \"10%\"",
+            ),
+            SCENARIO.replace(
+                r#"route = ["trunk"]"#,
+                "route = [\"trunk\"]\nuncertainty = \"10%\"\nuncertainty_shared = \"weather\"",
+            ),
         ];
         for text in &changed {
             assert_ne!(fingerprint(&model(text)), fp, "{text}");
@@ -1069,6 +1096,6 @@ patience = { law = "exponential", mean = "1m" }
         // Pinned: the value this serialisation gave when it was written. A
         // change means parts of the same model from two builds no longer
         // merge; then bump PART_FORMAT_VERSION and pin the new value.
-        assert_eq!(fingerprint(&model(SCENARIO)), "9ba87da0f4360080");
+        assert_eq!(fingerprint(&model(SCENARIO)), "b54df87ef7c2d980");
     }
 }

@@ -14,6 +14,33 @@ pub(crate) fn warmup_origin(derived: bool, start: Start) -> &'static str {
     }
 }
 
+/// What the figures of a model with forecast uncertainty are, in one line
+/// (`None` when every rate is known): averages over the forecast's spread.
+pub fn forecast_line(model: &Model) -> Option<String> {
+    let parts: Vec<String> = (model.streams.iter())
+        .filter_map(|s| {
+            let f = s.forecast.as_ref()?;
+            let shared = f
+                .shared
+                .as_ref()
+                .map_or(String::new(), |l| format!(", shared factor \"{l}\""));
+            Some(format!(
+                "{} (cv {}, {}{shared})",
+                s.name,
+                format_share(f.cv()),
+                f.law.name()
+            ))
+        })
+        .collect();
+    if parts.is_empty() {
+        return None;
+    }
+    Some(format!(
+        "Figures are averaged over the forecast's spread: each replication (a day) multiplies the rate of {} by a random factor of mean 1 drawn for that day",
+        parts.join(", ")
+    ))
+}
+
 /// The compiled model in plain words, for `check`.
 pub fn describe_model(model: &Model, file: &str) -> String {
     let p = &model.plan;
@@ -38,6 +65,10 @@ pub fn describe_model(model: &Model, file: &str) -> String {
             format_duration(i)
         ))
     ));
+    if let Some(line) = forecast_line(model) {
+        out.push_str(&line);
+        out.push('\n');
+    }
     out.push_str("\nGroups\n");
     for g in &model.groups {
         let queue = match g.queue {
@@ -119,6 +150,16 @@ pub fn describe_model(model: &Model, file: &str) -> String {
         }
         if let Some(pt) = &s.patience {
             out.push_str(&format!("    patience {}\n", pt.describe()));
+        }
+        if let Some(f) = &s.forecast {
+            out.push_str(&format!(
+                "    forecast uncertainty: rate times a {} factor of mean 1 and cv {} per day{}\n",
+                f.law.name(),
+                format_share(f.cv()),
+                f.shared
+                    .as_ref()
+                    .map_or(String::new(), |l| format!(", shared as \"{l}\""))
+            ));
         }
         if let Some(aw) = s.answer_within_s {
             out.push_str(&format!(

@@ -218,7 +218,7 @@ impl ExplainDocument {
             .map(|r| r.rung.trim_start_matches("+ "))
             .collect();
         let mut s = format!(
-            "From the textbook model (Poisson arrivals at the mean rate, exponential holding of the same mean, a flat load, no redials{}) to the scenario, one effect added per rung, in this order: {}; {} replications per rung, the same seeds on every rung.",
+            "From the textbook model (Poisson arrivals at the mean rate, exponential holding of the same mean, a flat load known exactly, no redials{}) to the scenario, one effect added per rung, in this order: {}; {} replications per rung, the same seeds on every rung.",
             if self.patience_kept {
                 "; patience kept, since without it a queue would grow without bound"
             } else {

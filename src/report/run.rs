@@ -4,7 +4,7 @@
 //! table, the CSV, the HTML page and the per-interval chart all render it.
 
 use super::check::FormulaView;
-use super::describe::{describe_model, warmup_origin};
+use super::describe::{describe_model, forecast_line, warmup_origin};
 use super::figures::{FigureSet, FigureValue};
 use super::json::finite;
 use super::plot::{self, ChartError, Line, LineChart, Paint, Series};
@@ -99,6 +99,10 @@ pub struct RunDocument {
     /// each stream's simulated loss over it beside Erlang B of its load.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub busy_hour: Option<BusyHourFigures>,
+    /// When some stream's rate is uncertain: what the figures are (averages
+    /// over the forecast's spread), in one line.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub forecast_spread: Option<String>,
     /// Warnings about the start or the load.
     pub warnings: Vec<String>,
     /// The safety caution.
@@ -257,6 +261,7 @@ impl RunDocument {
             intervals,
             worst_interval,
             busy_hour: BusyHourFigures::new(model, outcome),
+            forecast_spread: forecast_line(model),
             warnings: outcome.warnings.iter().map(|w| w.to_string()).collect(),
             caution: CAUTION,
             clock_start: plan.clock_start_s,
@@ -308,6 +313,9 @@ impl RunDocument {
                 },
                 format_share(pr.achieved)
             ));
+        }
+        if let Some(line) = &self.forecast_spread {
+            s.push_str(&format!("\n{line}"));
         }
         s
     }

@@ -6,6 +6,7 @@ pub mod model;
 pub mod setting;
 pub mod spec;
 
+pub use model::Forecast;
 pub use model::{
     Arrivals, Group, Model, Prices, Queue, Replications, Retry, RunPlan, Schedule, Start, Stream,
     TransformError, residual_quantile,
@@ -319,6 +320,12 @@ struct Grid {
     clock_start_s: f64,
 }
 
+/// The random-stream key of a forecast factor shared under `label`: apart
+/// from every stream's own key (a stream may bear the label's name).
+pub fn forecast_key(label: &str) -> u64 {
+    name_key(label) ^ 0x5eed_f0ca_57f0_ca57
+}
+
 struct Compiler {
     file: String,
     base: PathBuf,
@@ -436,6 +443,7 @@ impl Compiler {
             .iter()
             .map(|s| self.stream(s, &group_index, &groups))
             .collect::<R<Vec<Stream>>>()?;
+        self.check_shared_forecasts(&streams)?;
         let prices = match &spec.prices {
             None => None,
             Some(p) => Some(self.prices(p, &group_index, &stream_index)?),
@@ -949,7 +957,100 @@ impl Compiler {
             patience,
             answer_within_s,
             seed_key: name_key(&s.name),
+            forecast: self.forecast(s, &k)?,
         })
+    }
+
+    /// A stream's forecast uncertainty (`uncertainty`, `uncertainty_law`,
+    /// `uncertainty_shared`; rules in docs/semantics.md, "Forecast
+    /// uncertainty"). `k` makes the key path of a field.
+    fn forecast(&self, s: &spec::StreamSpec, k: &dyn Fn(&str) -> String) -> R<Option<Forecast>> {
+        let Some(a) = &s.uncertainty else {
+            for (field, given) in [
+                ("uncertainty_law", s.uncertainty_law.is_some()),
+                ("uncertainty_shared", s.uncertainty_shared.is_some()),
+            ] {
+                if given {
+                    return Err(self.err(
+                        k(field),
+                        format!("{field} needs uncertainty, the cv of the day's rate factor, like uncertainty = \"10%\""),
+                    ));
+                }
+            }
+            return Ok(None);
+        };
+        let cv = self.share(&k("uncertainty"), a).map_err(|e| match e {
+            ScenarioError::Invalid { message, .. } => self.err(
+                k("uncertainty"),
+                format!("{message} (the cv of the day's rate factor, from 0% to 100%)"),
+            ),
+            other => other,
+        })?;
+        if !matches!(s.arrivals.law.as_str(), "poisson") {
+            return Err(self.err(
+                k("uncertainty"),
+                format!(
+                    "uncertainty applies to poisson arrivals (a rate or a peak profile), not to {} arrivals: give the forecast's spread on a stream with a rate",
+                    s.arrivals.law
+                ),
+            ));
+        }
+        if cv == 0.0 {
+            // A known rate: the same model as without the key.
+            return Ok(None);
+        }
+        let law = match s.uncertainty_law.as_deref() {
+            None | Some("gamma") => Law::gamma(1.0, cv),
+            Some("lognormal") => Law::lognormal(1.0, cv),
+            Some(other) => {
+                return Err(self.err(
+                    k("uncertainty_law"),
+                    format!("\"{other}\" is not a law of the rate factor: expected \"gamma\" or \"lognormal\""),
+                ));
+            }
+        }
+        .map_err(|e| self.err(k("uncertainty"), e.to_string()))?;
+        let (shared, key) = match &s.uncertainty_shared {
+            None => (None, name_key(&s.name)),
+            Some(label) => {
+                check_name(label).map_err(|m| self.err(k("uncertainty_shared"), m))?;
+                (Some(label.clone()), forecast_key(label))
+            }
+        };
+        Ok(Some(Forecast { law, shared, key }))
+    }
+
+    /// Streams sharing a factor (`uncertainty_shared`) must give it the
+    /// same cv and law: one factor has one law.
+    fn check_shared_forecasts(&self, streams: &[Stream]) -> R<()> {
+        let mut first: HashMap<&str, (&Stream, &Forecast)> = HashMap::new();
+        for st in streams {
+            let Some(f) = &st.forecast else { continue };
+            let Some(label) = f.shared.as_deref() else {
+                continue;
+            };
+            match first.get(label) {
+                None => {
+                    first.insert(label, (st, f));
+                }
+                Some((other, g)) => {
+                    if g.law.name() != f.law.name() || g.cv() != f.cv() {
+                        return Err(self.err(
+                            format!("stream \"{}\".uncertainty_shared", st.name),
+                            format!(
+                                "the factor \"{label}\" is {} of cv {} for stream \"{}\" but {} of cv {} here: streams sharing a factor give it the same uncertainty and uncertainty_law",
+                                g.law.name(),
+                                units::format_share(g.cv()),
+                                other.name,
+                                f.law.name(),
+                                units::format_share(f.cv())
+                            ),
+                        ));
+                    }
+                }
+            }
+        }
+        Ok(())
     }
 
     /// A stream's `retry` table (`key` is its path).

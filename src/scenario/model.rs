@@ -348,6 +348,31 @@ pub struct Stream {
     /// Key for this stream's random numbers, from its name, so that adding,
     /// removing or reordering other streams leaves its numbers unchanged.
     pub seed_key: u64,
+    /// Forecast uncertainty of the stream's rate (none: the rate is known).
+    pub forecast: Option<Forecast>,
+}
+
+/// A stream's forecast uncertainty (`uncertainty`, `uncertainty_law`,
+/// `uncertainty_shared`): each replication (one day) the stream's rate, or
+/// its whole peak profile, is multiplied by a factor drawn once from `law`
+/// (mean 1, cv `cv`), from the random stream keyed by `key`. Poisson and
+/// peak-profile arrivals only (the scenario refuses it elsewhere).
+#[derive(Debug, Clone)]
+pub struct Forecast {
+    /// Law of the day's factor: mean 1, cv in (0, 1].
+    pub law: Law,
+    /// The label of a factor shared with other streams, when one is named.
+    pub shared: Option<String>,
+    /// Key of the factor's random stream: the stream's own `seed_key`, or
+    /// a hash of the shared label (the same for every stream naming it).
+    pub key: u64,
+}
+
+impl Forecast {
+    /// The factor's coefficient of variation.
+    pub fn cv(&self) -> f64 {
+        self.law.cv()
+    }
 }
 
 impl Stream {
@@ -503,6 +528,12 @@ impl Model {
         }
         let needed = self.warmup_needed_s().ceil();
         (self.plan.warmup_s < needed).then_some(needed)
+    }
+
+    /// Whether some stream's rate is uncertain (`uncertainty`): figures are
+    /// then averaged over the forecast's spread.
+    pub fn has_forecast_spread(&self) -> bool {
+        self.streams.iter().any(|s| s.forecast.is_some())
     }
 
     /// Index of the group with this name.

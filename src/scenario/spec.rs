@@ -278,6 +278,15 @@ pub struct StreamSpec {
     pub patience: Option<LawSpec>,
     /// Target answer time for `service_level`.
     pub answer_within: Option<Amount>,
+    /// Forecast uncertainty: the cv of the day's random rate factor (mean
+    /// 1, one draw per replication), like "10%".
+    pub uncertainty: Option<Amount>,
+    /// The law of that factor: "gamma" (the default) or "lognormal".
+    pub uncertainty_law: Option<String>,
+    /// Streams naming the same label share one factor per day (one cause,
+    /// like the weather, moves them together); without it each stream
+    /// draws its own.
+    pub uncertainty_shared: Option<String>,
 }
 
 /// `arrivals = { law = ..., ... }`.
