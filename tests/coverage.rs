@@ -90,3 +90,10 @@ fn coverage_schedule_figures_cover_the_exact_transient() {
     // the chain (`formulas::transient`).
     assert_covers_truth("schedule-agents");
 }
+
+#[test]
+fn coverage_forecast_spread_covers_the_integrated_erlang_b() {
+    // A gamma day factor of cv 20% on 25 E and 30 circuits: the pooled
+    // loss over days against E[F B(N, A F)] / E[F].
+    assert_covers_truth("forecast-spread");
+}

@@ -673,6 +673,66 @@ fn schedule_agents() -> Result<Case, FormulaError> {
     })
 }
 
+/// A loss group under an uncertain forecast: each replication (day) the
+/// rate is multiplied by a gamma factor of mean 1 and cv 20%; the loss is
+/// the ratio of expected lost to expected offered calls, E[F B(N, A F)] /
+/// E[F], by numerical integration over the factor's law (the formula
+/// column's "Erlang B over the forecast's spread", itself checked against
+/// statrs' gamma density in `tests/forecast.rs`).
+fn forecast_spread() -> Result<Case, FormulaError> {
+    let (n, a) = (30, 25.0);
+    let text = format!(
+        "[simulation]\nwarmup = \"30m\"\nlength = \"1h\"\n\n\
+         [[group]]\nname = \"circuits\"\nservers = {n}\n\n\
+         [[stream]]\nname = \"calls\"\n\
+         arrivals = {{ law = \"poisson\", rate = \"{}/h\" }}\n\
+         holding = {{ law = \"exponential\", mean = \"3m\" }}\n\
+         uncertainty = \"20%\"\n\
+         route = [\"circuits\"]\n",
+        per_hour(a)
+    );
+    let model = scenario::parse(&text, "case.toml", Path::new("."), "forecast").map_err(|_| {
+        FormulaError::NoSolution {
+            goal: "forecast case",
+            value: a,
+            reason: "the case's scenario does not compile",
+        }
+    })?;
+    let column = busyhour::report::formula_column(&model);
+    let exact = |scope: Scope, figure: busyhour::stats::Figure| {
+        column
+            .get(&busyhour::stats::FigureId { scope, figure })
+            .map(|f| f.value)
+            .ok_or(FormulaError::NoSolution {
+                goal: "forecast case",
+                value: a,
+                reason: "no integrated Erlang B in the formula column",
+            })
+    };
+    use busyhour::stats::Figure;
+    Ok(Case {
+        name: "forecast-spread",
+        about: "30 circuits, 25 E by the forecast, gamma day factor cv 20%, exponential 3 min, 30 min warm-up, 1 h replications",
+        text,
+        replications: 40,
+        checks: vec![
+            stream(
+                0,
+                "loss",
+                exact(Scope::Stream(0), Figure::Loss)?,
+                "Erlang B over the forecast's spread",
+            ),
+            group(
+                0,
+                "circuits",
+                "time_congestion",
+                exact(Scope::Group(0), Figure::TimeCongestion)?,
+                "Erlang B over the forecast's spread",
+            ),
+        ],
+    })
+}
+
 /// Every case, in the harness's order.
 pub fn cases() -> Result<Vec<Case>, FormulaError> {
     Ok(vec![
@@ -686,6 +746,7 @@ pub fn cases() -> Result<Vec<Case>, FormulaError> {
         engset_sources()?,
         overflow_network()?,
         schedule_agents()?,
+        forecast_spread()?,
     ])
 }
 
