@@ -77,21 +77,7 @@ fn paid_servers(model: &Model, g: usize) -> f64 {
     let length = model.plan.length_s;
     match &grp.schedule {
         None => f64::from(grp.servers),
-        Some(s) => {
-            let mut sum = 0.0;
-            let mut t = 0.0;
-            while t < length {
-                let i = s.entry_at(t);
-                let end = if i + 1 < s.scheduled.len() {
-                    ((i + 1) as f64 * s.interval_s).min(length)
-                } else {
-                    length
-                };
-                sum += f64::from(s.scheduled[i]) * (end - t);
-                t = end;
-            }
-            sum / length
-        }
+        Some(s) => s.mean_over(&s.scheduled, 0.0, length),
     }
 }
 

@@ -139,9 +139,7 @@ impl Document for SensitivityDocument {
         let mut out = String::new();
         for d in &self.sweeps {
             // Each sweep's table without its caution; one caution at the end.
-            let t = d.table();
-            let body = t.split("\nCaution: ").next().unwrap_or(&t);
-            out.push_str(body.trim_end());
+            out.push_str(d.body().trim_end());
             out.push_str("\n\n");
         }
         out.push_str(EFFECTS);

@@ -558,8 +558,10 @@ impl Charted for SweepDocument {
     }
 }
 
-impl Document for SweepDocument {
-    fn table(&self) -> String {
+impl SweepDocument {
+    /// The table without its closing caution (a document that shows
+    /// several sweeps adds one caution at its end).
+    pub fn body(&self) -> String {
         let mut out = if self.setting {
             format!(
                 "Sweep of {} in {}  ({})\n",
@@ -582,8 +584,13 @@ impl Document for SweepDocument {
         if let Some(summary) = self.goal_summary() {
             out.push_str(&format!("\n{summary}\n"));
         }
-        out.push_str(&format!("\nCaution: {CAUTION}\n"));
         out
+    }
+}
+
+impl Document for SweepDocument {
+    fn table(&self) -> String {
+        format!("{}\nCaution: {CAUTION}\n", self.body())
     }
 
     /// Long format: one row per step and whole-period figure (only the

@@ -90,6 +90,22 @@ pub fn load(path: &Path) -> Result<Model, ScenarioError> {
 /// its user can read, so a service that runs scenarios written by others
 /// confines them to a folder.
 pub fn load_confined(path: &Path, data_dir: Option<&Path>) -> Result<Model, ScenarioError> {
+    let t = read_text(path)?;
+    parse_confined(&t.text, &t.file, &t.base, &t.default_title, data_dir)
+}
+
+/// A scenario file's text, with what its parsing needs: the file's name
+/// as errors print it, the folder its data paths are relative to, and the
+/// title to use when the file gives none.
+pub(crate) struct ScenarioText {
+    pub text: String,
+    pub file: String,
+    pub base: PathBuf,
+    pub default_title: String,
+}
+
+/// Read a scenario file (size-checked, UTF-8) without compiling it.
+pub(crate) fn read_text(path: &Path) -> Result<ScenarioText, ScenarioError> {
     let file = printable(&path.display().to_string());
     let read_err = |reason: String| ScenarioError::Read {
         file: file.clone(),
@@ -117,7 +133,12 @@ pub fn load_confined(path: &Path, data_dir: Option<&Path>) -> Result<Model, Scen
         .file_stem()
         .map(|s| s.to_string_lossy().into_owned())
         .unwrap_or_default();
-    parse_confined(&text, &file, &base, &default_title, data_dir)
+    Ok(ScenarioText {
+        text,
+        file,
+        base,
+        default_title,
+    })
 }
 
 /// Parse and validate scenario text. `file` names it in errors; `base` is the

@@ -142,24 +142,7 @@ impl Group {
         let Some(s) = &self.schedule else {
             return f64::from(self.servers);
         };
-        if !(t1 > t0) {
-            return f64::from(s.present_at(t0));
-        }
-        // Server-seconds over the entries the span crosses.
-        let mut sum = 0.0;
-        let mut t = t0;
-        while t < t1 {
-            let i = s.entry_at(t);
-            let entry_end = if i + 1 >= s.present.len() {
-                t1
-            } else {
-                ((i + 1) as f64 * s.interval_s).min(t1)
-            };
-            let entry_end = if entry_end > t { entry_end } else { t1 };
-            sum += f64::from(s.present[i]) * (entry_end - t);
-            t = entry_end;
-        }
-        sum / (t1 - t0)
+        s.mean_over(&s.present, t0, t1)
     }
 }
 
@@ -199,6 +182,30 @@ impl Schedule {
         } else {
             ((t / self.interval_s) as usize).min(self.present.len() - 1)
         }
+    }
+
+    /// The time average from `t0` to `t1` of a per-entry list of this
+    /// schedule (`present` or `scheduled`); the entry in force at `t0` when
+    /// the span is empty.
+    pub fn mean_over(&self, list: &[u32], t0: f64, t1: f64) -> f64 {
+        if !(t1 > t0) {
+            return f64::from(list[self.entry_at(t0)]);
+        }
+        // Server-seconds over the entries the span crosses.
+        let mut sum = 0.0;
+        let mut t = t0;
+        while t < t1 {
+            let i = self.entry_at(t);
+            let entry_end = if i + 1 >= list.len() {
+                t1
+            } else {
+                ((i + 1) as f64 * self.interval_s).min(t1)
+            };
+            let entry_end = if entry_end > t { entry_end } else { t1 };
+            sum += f64::from(list[i]) * (entry_end - t);
+            t = entry_end;
+        }
+        sum / (t1 - t0)
     }
 
     /// Whether the number taking calls never changes.

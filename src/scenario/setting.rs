@@ -275,26 +275,21 @@ impl Editable {
     ///
     /// The file cannot be read, is not a valid scenario as it stands.
     pub fn load(path: &Path, data_dir: Option<&Path>) -> Result<Editable, ScenarioError> {
+        let t = super::read_text(path)?;
         // Compile it once as it stands, for its own messages.
-        super::load_confined(path, data_dir)?;
-        let text = std::fs::read_to_string(path).map_err(|e| ScenarioError::Read {
-            file: path.display().to_string(),
-            reason: e.to_string(),
-        })?;
+        super::parse_confined(&t.text, &t.file, &t.base, &t.default_title, data_dir)?;
         let table: toml::Table =
-            text.parse()
+            t.text
+                .parse()
                 .map_err(|e: toml::de::Error| ScenarioError::Read {
-                    file: path.display().to_string(),
+                    file: t.file.clone(),
                     reason: e.to_string(),
                 })?;
         Ok(Editable {
             table,
-            file: path.display().to_string(),
-            base: path.parent().map(Path::to_path_buf).unwrap_or_default(),
-            default_title: path
-                .file_stem()
-                .map(|s| s.to_string_lossy().into_owned())
-                .unwrap_or_default(),
+            file: t.file,
+            base: t.base,
+            default_title: t.default_title,
             data_dir: data_dir.map(Path::to_path_buf),
         })
     }
