@@ -230,6 +230,22 @@ fn size_documents() {
     args.extend(["--goal", "loss<=5%"]);
     args.extend(quick);
     matches_golden("size-overflow.json", &s.run(&args, 0));
+    // A goal on the share of days: judged on that share, the long-run
+    // figure beside it; and its table.
+    let mut args = vec!["size", "queue.toml", "--group", "agents"];
+    args.extend(["--goal", "service_level>=70% on 40% of days"]);
+    args.extend(quick);
+    matches_golden(
+        "size-days.json",
+        &s.run(&[&args[..], &["--json"]].concat(), 0),
+    );
+    // (The text's "Took" line is wall-clock time: left out.)
+    let table = s.run(&args, 0);
+    let table: String = (table.lines())
+        .filter(|l| !l.starts_with("Took "))
+        .map(|l| format!("{l}\n"))
+        .collect();
+    matches_golden("size-days.txt", &table);
 }
 
 #[test]

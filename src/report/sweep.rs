@@ -279,7 +279,9 @@ impl SweepDocument {
             caution: CAUTION,
             scenario: model.title.clone(),
             columns,
-            goals: (goals.iter())
+            // A goal on the share of days bounds each day's figure, not the
+            // long-run figure the charts draw: it gets no line there.
+            goals: (goals.iter().filter(|g| g.days.is_none()))
                 .map(|g| GoalLine {
                     text: g.text.clone(),
                     figure: g.figure,
