@@ -159,7 +159,17 @@ impl Document for SensitivityDocument {
     /// The effects, one row per figure and setting.
     fn csv(&self) -> Option<String> {
         let head: Vec<String> = [
-            "figure", "setting", "from", "to", "at_from", "at_to", "spread", "decided",
+            "figure",
+            "setting",
+            "from",
+            "to",
+            "at_from",
+            "at_to",
+            "spread",
+            "change",
+            "change_low",
+            "change_high",
+            "decided",
         ]
         .into_iter()
         .map(String::from)
@@ -173,6 +183,9 @@ impl Document for SensitivityDocument {
                 text::csv_number(e.at_from),
                 text::csv_number(e.at_to),
                 text::csv_number(e.spread),
+                text::csv_number(e.change.mean),
+                text::csv_number(e.change.low),
+                text::csv_number(e.change.high),
                 e.decided.to_string(),
             ]
         });
