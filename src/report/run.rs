@@ -511,12 +511,11 @@ shows the closed-form value where its assumptions hold.",
         }
         blocks.push(Block::Heading("Textbook view".into()));
         blocks.push(Block::Pre(self.textbook.text()));
-        blocks.push(Block::Heading("Assumptions".into()));
-        blocks.push(Block::List(html::assumptions()));
-        html::page(
+        html::simulated_page(
             &self.scenario,
             &format!("busyhour run of {}", self.file),
-            &blocks,
+            blocks,
+            &[],
         )
     }
 

@@ -232,12 +232,11 @@ impl Charted for SensitivityDocument {
             blocks.push(Block::Heading("Each setting's figures".into()));
             blocks.push(Block::Svg(svg.to_string()));
         }
-        blocks.push(Block::Heading("Assumptions".into()));
-        blocks.push(Block::List(html::assumptions()));
-        html::page(
+        html::simulated_page(
             &self.scenario,
             &format!("busyhour sweep of {}: several settings", self.file),
-            &blocks,
+            blocks,
+            &[],
         )
     }
 }

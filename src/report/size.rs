@@ -455,12 +455,11 @@ at one size each verdict uses a {:.2}% interval (Bonferroni), so the chance of a
             self.looks,
             self.level()
         )));
-        blocks.push(Block::Heading("Assumptions".into()));
-        blocks.push(Block::List(html::assumptions()));
-        html::page(
+        html::simulated_page(
             &self.scenario,
             &format!("busyhour size of {} in {}", self.group, self.file),
-            &blocks,
+            blocks,
+            &[],
         )
     }
 }

@@ -888,15 +888,14 @@ from ({}), simulated with the same seeds.",
                 "the stationary requirement, or one more than the load where no formula covers the goals"
             }
         )));
-        blocks.push(Block::Heading("Assumptions".into()));
-        blocks.push(Block::List(html::assumptions()));
-        html::page(
+        html::simulated_page(
             &self.scenario,
             &format!(
                 "busyhour size --per-interval of {} in {}",
                 self.group, self.file
             ),
-            &blocks,
+            blocks,
+            &[],
         )
     }
 }

@@ -498,12 +498,11 @@ impl Charted for SweepDocument {
         if let Some(svg) = chart {
             blocks.push(Block::Svg(svg.to_string()));
         }
-        blocks.push(Block::Heading("Assumptions".into()));
-        blocks.push(Block::List(html::assumptions()));
-        html::page(
+        html::simulated_page(
             &self.scenario,
             &format!("busyhour sweep of {}: {}", self.file, self.swept),
-            &blocks,
+            blocks,
+            &[],
         )
     }
 
