@@ -81,6 +81,7 @@ pub(super) fn spans(model: &Model) -> (Vec<Vec<u32>>, Vec<Vec<u32>>) {
 impl Sim<'_> {
     /// A new call of stream `si`, a flow with stages: its plan, its
     /// counts as an offered call, then its first attempt.
+    #[inline(never)]
     pub(super) fn new_flow(&mut self, si: usize, now: f64) {
         let model = self.model;
         let stages = &model.streams[si].stages;
@@ -247,6 +248,7 @@ impl Sim<'_> {
     }
 
     /// Flow `f` seizes a server of group `g` for its current stage.
+    #[inline(never)]
     pub(super) fn flow_seizes(&mut self, f: u32, g: usize, now: f64) {
         self.touch(g, now);
         let grp = &mut self.groups[g];
@@ -289,6 +291,7 @@ impl Sim<'_> {
 
     /// Flow `f`'s current stage ends: its "stage" server is released; the
     /// call ends or enters the next stage.
+    #[inline(never)]
     pub(super) fn stage_ends(&mut self, f: u32, now: f64) {
         let flow = &mut self.flows[f as usize];
         let (si, k) = (flow.call.stream as usize, flow.stage as usize);
@@ -365,6 +368,7 @@ impl Sim<'_> {
     }
 
     /// Flow `f`'s call gave up waiting at its current stage.
+    #[inline(never)]
     pub(super) fn flow_abandons(&mut self, f: u32, now: f64) {
         let flow = &mut self.flows[f as usize];
         flow.in_stage = false;
@@ -395,6 +399,7 @@ impl Sim<'_> {
     }
 
     /// The redial of flow `f` is due.
+    #[inline(never)]
     pub(super) fn flow_redials(&mut self, f: u32, now: f64) {
         self.flows[f as usize].call.attempt_at = now;
         self.flow_attempt(f, now);
