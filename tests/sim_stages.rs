@@ -222,3 +222,55 @@ fn no_closed_form_covers_a_flow_that_waits_downstream() {
     let col = formula_column(&m);
     assert!(col.is_empty(), "{col:?}");
 }
+
+#[test]
+fn finite_sources_calling_through_stages_block_as_engset_of_the_total_holding() {
+    // Engset's loss formula is insensitive to the holding law (Cohen 1957):
+    // with S sources idle for exponential times of mean 1/gamma and calls
+    // of mean total holding h, the call congestion is
+    // C(S-1, N) b^N / sum_k C(S-1, k) b^k with b = gamma h, computed here
+    // term by term. The holding is a deterministic menu and a lognormal
+    // talk, on trunks held to the end with agents as many as trunks.
+    let (sources, n) = (20u32, 5u32);
+    let (idle_s, total_s) = (600.0f64, 30.0 + 90.0);
+    let b = total_s / idle_s;
+    let term = |k: u32| {
+        let mut c = 1.0;
+        for i in 0..k {
+            c *= f64::from(sources - 1 - i) / f64::from(i + 1);
+        }
+        c * b.powi(k as i32)
+    };
+    let exact = term(n) / (0..=n).map(term).sum::<f64>();
+    let text = format!(
+        r#"
+[simulation]
+warmup = "1h"
+length = "40h"
+replications = 20
+seed = 57
+[[group]]
+name = "trunks"
+servers = {n}
+[[group]]
+name = "ports"
+servers = {n}
+[[group]]
+name = "agents"
+servers = {n}
+queue = "unlimited"
+[[stream]]
+name = "terminals"
+arrivals = {{ law = "sources", count = {sources}, idle = {{ law = "exponential", mean = "{idle_s}s" }} }}
+stages = [
+    {{ name = "trunk", route = ["trunks"], hold = "to-end" }},
+    {{ name = "menu", route = ["ports"], holding = {{ law = "deterministic", mean = "30s" }} }},
+    {{ name = "talk", route = ["agents"], holding = {{ law = "lognormal", mean = "90s", cv = 1.5 }} }},
+]
+"#
+    );
+    let o = run(&model(&text));
+    let e = o.get(Scope::Stream(0), "first_attempt_blocking").unwrap();
+    assert_covers("Engset call congestion", e, exact, 4.0);
+    assert_precise("Engset call congestion", e, 0.15);
+}

@@ -1,6 +1,8 @@
 //! Call flows with stages: the path of a stream's calls through its stages
 //! (`Stream::stages`), kept apart from the one-stage path, which streams
-//! without stages take unchanged (`StreamState::staged` sends a call here).
+//! without stages take unchanged: a flow's calls arrive as `Event::FlowCall`
+//! (never through the arrival lane or `new_call`), and the queue code sends
+//! a waiting call of a stream marked `StreamState::staged` here.
 //!
 //! # Life of a flow's call
 //!
@@ -79,10 +81,24 @@ pub(super) fn spans(model: &Model) -> (Vec<Vec<u32>>, Vec<Vec<u32>>) {
 }
 
 impl Sim<'_> {
+    /// A call of flow stream `si` arrives: an open stream's next arrival is
+    /// put on the calendar (as `Event::FlowCall`: the arrival lane and
+    /// `new_call` serve one-stage streams only), then the call starts.
+    #[inline(never)]
+    pub(super) fn flow_call(&mut self, si: usize, now: f64) {
+        if !self.streams[si].sources
+            && let Some(t) = self.next_arrival(si, now)
+        {
+            let stream = si as u32;
+            self.calendar.schedule(t, Event::FlowCall { stream });
+        }
+        self.new_flow(si, now);
+    }
+
     /// A new call of stream `si`, a flow with stages: its plan, its
     /// counts as an offered call, then its first attempt.
     #[inline(never)]
-    pub(super) fn new_flow(&mut self, si: usize, now: f64) {
+    fn new_flow(&mut self, si: usize, now: f64) {
         let model = self.model;
         let stages = &model.streams[si].stages;
         let f = match self.free_flows.pop() {

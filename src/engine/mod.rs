@@ -129,6 +129,9 @@ enum Event {
     StageEnd { flow: u32 },
     /// A redial of the call flow in `flows[flow]`, from its first stage.
     FlowRedial { flow: u32 },
+    /// A new call of stream `stream`, a flow with stages (its open arrivals
+    /// run here rather than in the arrival lane, see `flow`).
+    FlowCall { stream: u32 },
 }
 
 /// A call waiting in a queue, kept in a slab so that abandonment and overflow
@@ -431,15 +434,20 @@ impl<'m> Sim<'m> {
             let stream = &self.model.streams[si];
             match &stream.arrivals {
                 Arrivals::Sources { count, idle } => {
+                    let call = self.source_call(si);
                     for _ in 0..*count {
                         let t = idle.sample(&mut self.streams[si].arrivals);
-                        self.calendar
-                            .schedule(t, Event::SourceCall { stream: si as u32 });
+                        self.calendar.schedule(t, call);
                     }
                 }
                 _ => {
                     if let Some(t) = self.next_arrival(si, 0.0) {
-                        self.calendar.schedule_arrival(t, si as u32);
+                        if self.streams[si].staged {
+                            let stream = si as u32;
+                            self.calendar.schedule(t, Event::FlowCall { stream });
+                        } else {
+                            self.calendar.schedule_arrival(t, si as u32);
+                        }
                     }
                 }
             }
@@ -627,6 +635,7 @@ impl<'m> Sim<'m> {
             Event::Capacity { group, step } => self.capacity_changes(group as usize, step, now),
             Event::StageEnd { flow } => self.stage_ends(flow, now),
             Event::FlowRedial { flow } => self.flow_redials(flow, now),
+            Event::FlowCall { stream } => self.flow_call(stream as usize, now),
         }
     }
 
@@ -711,10 +720,6 @@ impl<'m> Sim<'m> {
 
     #[inline(always)]
     fn new_call(&mut self, si: usize, now: f64) {
-        if self.streams[si].staged {
-            self.new_flow(si, now);
-            return;
-        }
         let holding = sample(
             &self.model.streams[si].holding,
             &mut self.streams[si].holding,
@@ -1078,8 +1083,20 @@ impl<'m> Sim<'m> {
     fn source_idles(&mut self, si: usize, now: f64) {
         if let Arrivals::Sources { idle, .. } = &self.model.streams[si].arrivals {
             let t = now + idle.sample(&mut self.streams[si].arrivals);
-            self.calendar
-                .schedule(t, Event::SourceCall { stream: si as u32 });
+            let call = self.source_call(si);
+            self.calendar.schedule(t, call);
+        }
+    }
+
+    /// The event of a call of stream `si` from outside the arrival lane (a
+    /// finite source's call; every call of a flow with stages, so that the
+    /// one-stage path never tests for stages).
+    fn source_call(&self, si: usize) -> Event {
+        let stream = si as u32;
+        if self.streams[si].staged {
+            Event::FlowCall { stream }
+        } else {
+            Event::SourceCall { stream }
         }
     }
 
