@@ -274,3 +274,36 @@ stages = [
     assert_covers("Engset call congestion", e, exact, 4.0);
     assert_precise("Engset call congestion", e, 0.15);
 }
+
+#[test]
+fn trunks_overflowing_at_the_first_stage_carry_the_rest_of_the_call() {
+    // The overflow of a loss group has mean A B(N, A) whatever the holding
+    // law (the carried traffic of an M/G/N/N group is insensitive, and the
+    // overflow holds for the same holding: Riordan's mean, here with the
+    // total holding). First-stage route: 6 local trunks, then 10 carrier
+    // trunks, both held to the end; 5 E offered by 5 s + 40 s + 70% of 3 min.
+    let (n, a) = (6u32, 5.0);
+    let rate_per_h = a / TOTAL_MEAN_S * 3600.0;
+    let text = flow(
+        n,
+        16,
+        rate_per_h,
+        [DETERMINISTIC_5S, LOGNORMAL_40S, EXPONENTIAL_3M],
+        20,
+    )
+    .replace(
+        "[[group]]\nname = \"ports\"",
+        "[[group]]\nname = \"carrier\"\nservers = 10\n[[group]]\nname = \"ports\"",
+    )
+    .replace(r#"route = ["trunks"]"#, r#"route = ["trunks", "carrier"]"#)
+    .replace(
+        "servers = 6\n[[group]]\nname = \"agents\"",
+        "servers = 16\n[[group]]\nname = \"agents\"",
+    );
+    let m = model(&text);
+    let o = run(&m);
+    let b = erlang_b_statrs(u64::from(n), a);
+    let e = o.get(Scope::Group(0), "overflow_mean").unwrap();
+    assert_covers("overflow mean of the local trunks", e, a * b, 4.0);
+    assert_precise("overflow mean of the local trunks", e, 0.1);
+}

@@ -197,7 +197,13 @@ impl Sim<'_> {
         flow.in_stage = true;
         flow.stage_at = now;
         flow.call.holding = flow.holdings[k];
-        let (measured, holding) = (flow.call.measured(), flow.call.holding);
+        // What an overflowed call would have held here: the stage's time,
+        // or for a server held to the end the rest of the plan.
+        let holding = match self.model.streams[si].stages[k].hold {
+            Hold::Stage => flow.call.holding,
+            Hold::ToEnd => flow.holdings[k..].iter().sum(),
+        };
+        let measured = flow.call.measured();
         if measured {
             self.tally.stages[si][k].entered += 1;
         }
