@@ -142,7 +142,7 @@ const RUN: [&str; 4] = ["--seed", "7", "--replications", "4"];
 #[test]
 fn run_documents() {
     let s = Scratch::new("run");
-    for name in ["peak", "queue", "overflow"] {
+    for name in ["peak", "queue", "overflow", "flow"] {
         let file = format!("{name}.toml");
         let mut args = vec!["run", &file, "--quiet"];
         args.extend(RUN);
