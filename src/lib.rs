@@ -62,6 +62,7 @@
 // a comparison that lets NaN through.
 #![allow(clippy::neg_cmp_op_on_partial_ord)]
 
+pub mod api;
 pub mod dist;
 pub mod engine;
 pub mod experiment;
