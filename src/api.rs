@@ -1,9 +1,10 @@
 //! Entry points for programs that embed the library (the Python package in
 //! `python/`): a scenario from a table of keys, the replication overrides
 //! the binary takes as flags, and one call per command from a model to its
-//! finished report document. Owns no model logic: it strings together the
-//! calls the binary's handlers make, minus files and printing. Must not
-//! print, write files or read the terminal.
+//! finished report document (`check`, `run`, `size`, `sweep`, `records`).
+//! Owns no model logic: it strings together the calls the binary's handlers
+//! make, minus files and printing. Must not print, write files or read the
+//! terminal.
 //!
 //! Arguments are named as the embedding program names them (`group`,
 //! `goals`, `scale`), so messages read `scale: ...` where the binary's say
@@ -13,7 +14,9 @@ use crate::experiment::size::{self, Goal, GoalError, SizeOptions};
 use crate::experiment::sweep::{self, Sweep, SweepError};
 use crate::experiment::{self, ExperimentError, RunOptions};
 use crate::records::{self, RecordsError};
-use crate::report::{RunDocument, SizeDocument, SweepDocument, records::RecordsDocument};
+use crate::report::{
+    CheckDocument, RunDocument, SizeDocument, SweepDocument, records::RecordsDocument,
+};
 use crate::scenario::{self, Model, Replications, ScenarioError};
 use crate::stats::Figure;
 use std::path::Path;
@@ -176,6 +179,19 @@ pub fn figures_named(model: &Model, names: &[String]) -> Result<Vec<Figure>, Unk
 /// goal names no stream.
 pub fn goals(texts: &[String], model: &Model, group: usize) -> Result<Vec<Goal>, GoalError> {
     texts.iter().map(|g| Goal::parse(g, model, group)).collect()
+}
+
+/// `check`: the model in plain words, the closed-form figures of each
+/// stream and group, and the problems (which fail the check) and notes
+/// found, as the document `busyhour check --json` prints.
+pub fn check(model: &Model, file: &str) -> CheckDocument {
+    let (problems, notes): (Vec<_>, Vec<_>) = crate::experiment::warnings::model_warnings(model)
+        .into_iter()
+        .partition(|w| w.fails_check());
+    let problems = problems.iter().map(|p| p.to_string()).collect();
+    let mut doc = CheckDocument::new(model, file, &crate::report::formula_view(model), problems);
+    doc.notes = notes.iter().map(|n| n.to_string()).collect();
+    doc
 }
 
 /// `run`: the model's replications (the file's plan or `overrides`), as

@@ -29,10 +29,12 @@ __all__ = [
     "load",
     "loads",
     "from_dict",
+    "check",
     "run",
     "size",
     "sweep",
     "records",
+    "CheckResult",
     "RunResult",
     "SizeResult",
     "SweepResult",
@@ -216,6 +218,45 @@ class _Result:
         return f"{type(self).__name__}({self._doc.get('scenario', self._doc.get('file'))!r})"
 
 
+class CheckResult(_Result):
+    """The result of :func:`check`."""
+
+    @property
+    def passed(self) -> bool:
+        """Whether the scenario passed the check (no problem found)."""
+        return not self._doc.get("problems")
+
+    @property
+    def problems(self) -> List[str]:
+        """The problems found, as sentences (each fails the check)."""
+        return list(self._doc.get("problems", []))
+
+    @property
+    def notes(self) -> List[str]:
+        """The notes, as sentences (they do not fail the check)."""
+        return list(self._doc.get("notes", []))
+
+    def to_frame(self):
+        """One row per closed-form figure of each stream and group: ``kind``,
+        ``name``, ``figure``, ``formula``, ``formula_value``."""
+        rows = []
+        for kind in ("stream", "group"):
+            for entry in self._doc.get(kind + "s", []):
+                formulas = entry.get("formulas") or {}
+                for figure in sorted(formulas):
+                    value = formulas[figure]
+                    rows.append(
+                        {
+                            "kind": kind,
+                            "name": entry.get("name"),
+                            "figure": figure,
+                            "formula": value["name"],
+                            "formula_value": value["value"],
+                        }
+                    )
+        return _frame(rows, ["kind", "name", "figure", "formula", "formula_value"])
+
+
 class RunResult(_Result):
     """The result of :func:`run`."""
 
@@ -309,6 +350,14 @@ class RecordsResult(_Result):
         with outcomes ``answered``, ``blocked``, ``abandoned``."""
         columns = ["start", "calls", "answered", "blocked", "abandoned", "carried_traffic", "offered_traffic"]
         return _frame(self._doc["intervals"], columns)
+
+
+def check(scenario: Union[Scenario, Mapping[str, Any], PathLike]) -> CheckResult:
+    """Check a scenario without running it, as ``busyhour check``: the model
+    in plain words, the closed-form figures of each stream and group, and
+    any problems and notes. A scenario the library refuses raises
+    ScenarioError instead."""
+    return CheckResult(_busyhour.check(_scenario(scenario)._model))
 
 
 def run(

@@ -303,7 +303,14 @@ fn to_json(doc: &impl Document) -> PyResult<String> {
     report::render(Format::Json, doc).map_err(|e| PyRuntimeError::new_err(e.to_string()))
 }
 
-/// `run`: the JSON document and whether the run was stopped early.
+/// `check`: the JSON document (the model in words, its closed-form
+/// figures, problems and notes).
+#[pyfunction]
+fn check(model: &PyModel) -> PyResult<String> {
+    to_json(&api::check(&model.model, &model.file))
+}
+
+/// `run`: the JSON document.
 #[pyfunction]
 #[pyo3(signature = (model, replications=None, precision=None, max_replications=None, seed=None, threads=None))]
 fn run(
@@ -671,6 +678,7 @@ fn _busyhour(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add_function(wrap_pyfunction!(load_file, m)?)?;
     m.add_function(wrap_pyfunction!(parse_text, m)?)?;
     m.add_function(wrap_pyfunction!(parse_table, m)?)?;
+    m.add_function(wrap_pyfunction!(check, m)?)?;
     m.add_function(wrap_pyfunction!(run, m)?)?;
     m.add_function(wrap_pyfunction!(size, m)?)?;
     m.add_function(wrap_pyfunction!(sweep, m)?)?;

@@ -179,3 +179,17 @@ def test_ctrl_c_stops_the_simulation_with_keyboard_interrupt():
         timer.cancel()
     # The package is usable afterwards.
     assert bh.erlang_b_servers(traffic=10.0, grade=0.01) == 18
+
+
+@pytest.mark.parametrize("name", ["peak.toml", "overloaded.toml", "overflow.toml"])
+def test_check_is_the_binarys_document(binary, name):
+    path = GOLDEN_INPUTS / name
+    stdout, _, status = run_binary(binary, "check", path, "--json")
+    result = bh.check(path)
+    assert result.to_json() == stdout
+    # The binary's exit status 1 is a failed check.
+    assert result.passed == (status == 0)
+    frame = result.to_frame()
+    doc = result.to_dict()
+    expected_rows = sum(len(e.get("formulas", {})) for k in ("streams", "groups") for e in doc[k])
+    assert len(frame) == expected_rows

@@ -597,14 +597,7 @@ fn emit_run(doc: &RunDocument, output: &OutputArgs, chart_path: Option<&Path>) -
 pub fn check(a: &CheckArgs) -> Result<Status> {
     let model = scenario::load_confined(&a.scenario, a.data_dir.as_deref())?;
     let file = a.scenario.display().to_string();
-    let (problems, notes): (Vec<_>, Vec<_>) =
-        busyhour::experiment::warnings::model_warnings(&model)
-            .into_iter()
-            .partition(|w| w.fails_check());
-    let problems = problems.iter().map(|p| p.to_string()).collect();
-    let mut doc =
-        report::CheckDocument::new(&model, &file, &report::formula_view(&model), problems);
-    doc.notes = notes.iter().map(|n| n.to_string()).collect();
+    let doc = busyhour::api::check(&model, &file);
     let format = if a.json { Format::Json } else { Format::Table };
     emit(format, &doc, None)?;
     Ok(if doc.passed() {
