@@ -8,6 +8,8 @@
 //! Data flows one way: file -> [`scenario`] -> `Model` -> [`engine`] (one
 //! replication) -> [`stats`] summary -> [`experiment`] (many replications) ->
 //! [`report`]. [`formulas`] is a leaf that `report` and `experiment` call.
+//! [`api`] strings these together for programs that embed the library (the
+//! Python package in `python/`), as the binary's handlers do.
 //!
 //! # Example
 //!
@@ -62,6 +64,7 @@
 // a comparison that lets NaN through.
 #![allow(clippy::neg_cmp_op_on_partial_ord)]
 
+pub mod api;
 pub mod dist;
 pub mod engine;
 pub mod experiment;

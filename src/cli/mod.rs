@@ -382,30 +382,28 @@ impl ReplicationArgs {
     /// applied: the one place a command loads its model.
     fn load(&self, scenario: &Path) -> Result<Model> {
         let mut model = scenario::load_confined(scenario, self.data_dir.as_deref())?;
-        if let Some(seed) = self.seed {
-            model.plan.seed = seed;
-        }
+        self.overrides().apply(&mut model);
         Ok(model)
+    }
+
+    /// What the flags override in the file's plan.
+    fn overrides(&self) -> busyhour::api::Overrides {
+        busyhour::api::Overrides {
+            replications: self.replications,
+            precision: self.precision,
+            max_replications: self.max_replications,
+            seed: self.seed,
+        }
     }
 
     /// The replication plan the flags ask for, if they override the file's.
     fn plan_override(&self, model: &Model) -> Option<Replications> {
-        if let Some(n) = self.replications {
-            return Some(Replications::Fixed(n));
-        }
-        let target = self.precision?;
-        let max = match (self.max_replications, &model.plan.replications) {
-            (Some(m), _) => m,
-            (None, Replications::Precision { max, .. }) => *max,
-            (None, _) => scenario::DEFAULT_MAX_REPLICATIONS,
-        };
-        Some(Replications::Precision { target, max })
+        self.overrides().plan_override(model)
     }
 
     /// The replication plan: the flags' override, or the file's.
     fn plan(&self, model: &Model) -> Replications {
-        self.plan_override(model)
-            .unwrap_or_else(|| model.plan.replications.clone())
+        self.overrides().plan(model)
     }
 }
 
@@ -602,14 +600,7 @@ fn emit_run(doc: &RunDocument, output: &OutputArgs, chart_path: Option<&Path>) -
 pub fn check(a: &CheckArgs) -> Result<Status> {
     let model = scenario::load_confined(&a.scenario, a.data_dir.as_deref())?;
     let file = a.scenario.display().to_string();
-    let (problems, notes): (Vec<_>, Vec<_>) =
-        busyhour::experiment::warnings::model_warnings(&model)
-            .into_iter()
-            .partition(|w| w.fails_check());
-    let problems = problems.iter().map(|p| p.to_string()).collect();
-    let mut doc =
-        report::CheckDocument::new(&model, &file, &report::formula_view(&model), problems);
-    doc.notes = notes.iter().map(|n| n.to_string()).collect();
+    let doc = busyhour::api::check(&model, &file);
     let format = if a.json { Format::Json } else { Format::Table };
     emit(format, &doc, None)?;
     Ok(if doc.passed() {
@@ -811,16 +802,7 @@ pub(crate) fn figures_named(
     model: &scenario::Model,
     names: &[String],
 ) -> Result<Vec<busyhour::stats::Figure>> {
-    let layout = busyhour::stats::layout(model);
-    let mut figures = Vec::new();
-    for name in names {
-        match layout.iter().find(|f| f.name() == name) {
-            Some(f) if !figures.contains(&f.figure) => figures.push(f.figure),
-            Some(_) => {}
-            None => bail!("--figure {name}: this scenario reports no figure of that name"),
-        }
-    }
-    Ok(figures)
+    busyhour::api::figures_named(model, names).map_err(|e| anyhow::anyhow!("--figure {e}"))
 }
 
 /// `busyhour sweep --set`: one setting swept, or several one at a time

@@ -1,0 +1,195 @@
+"""run, size, sweep and records against the binary: the same document as
+`busyhour CMD --json` for the same scenario and seed (figures identical,
+not close), the tidy frames read from it, the threads and Ctrl-C."""
+
+import json
+import threading
+import _thread
+
+import pytest
+
+import busyhour as bh
+from conftest import GOLDEN_INPUTS, SCENARIOS, run_binary
+
+
+def binary_json(binary, *args):
+    quiet = [] if args[0] == "records" else ["--quiet"]
+    stdout, stderr, status = run_binary(binary, *args, "--json", *quiet)
+    assert status in (0, 1), stderr
+    return json.loads(stdout)
+
+
+def without_wall(doc):
+    """wall_s is the only key that depends on the machine's speed."""
+    doc = dict(doc)
+    doc.pop("wall_s", None)
+    return doc
+
+
+@pytest.mark.parametrize("name", ["queue.toml", "overflow.toml", "peak.toml"])
+def test_run_is_the_binarys_document(binary, name):
+    path = GOLDEN_INPUTS / name
+    expected = binary_json(binary, "run", path, "--seed", 11, "--replications", 6)
+    result = bh.run(path, seed=11, replications=6)
+    assert result.to_dict() == expected
+    stdout, _, _ = run_binary(binary, "run", path, "--seed", 11, "--replications", 6, "--json", "--quiet")
+    assert result.to_json() == stdout
+
+
+def test_run_with_a_precision_goal_is_the_binarys(binary):
+    path = GOLDEN_INPUTS / "queue.toml"
+    expected = binary_json(binary, "run", path, "--precision", "20%", "--max-replications", 60)
+    assert bh.run(path, precision=0.2, max_replications=60).to_dict() == expected
+
+
+def test_results_do_not_depend_on_threads():
+    path = SCENARIOS / "campus-overflow.toml"
+    one = bh.run(path, replications=8, threads=1).to_dict()
+    two = bh.run(path, replications=8, threads=2).to_dict()
+    assert one == two
+
+
+def test_run_frame_has_one_row_per_figure_and_scope():
+    result = bh.run(GOLDEN_INPUTS / "peak.toml", replications=4)
+    doc = result.to_dict()
+    frame = result.to_frame()
+    estimates = [
+        (entry["name"], figure, est)
+        for scope in [doc] + doc["intervals"]
+        for kind in ("streams", "groups")
+        for entry in scope[kind]
+        for figure, est in entry.items()
+        if isinstance(est, dict) and "estimator" in est
+    ]
+    assert len(frame) == len(estimates) > 0
+    assert list(frame.columns[:5]) == ["kind", "name", "interval_start_s", "interval_end_s", "figure"]
+    whole = frame[frame["interval_start_s"].isna()]
+    loss = whole[(whole["kind"] == "stream") & (whole["figure"] == "loss")].iloc[0]
+    assert loss["mean"] == doc["streams"][0]["loss"]["mean"]
+    assert loss["half_width"] == doc["streams"][0]["loss"]["half_width"]
+    assert loss["replications"] == 4
+    congestion = whole[(whole["kind"] == "group") & (whole["figure"] == "time_congestion")].iloc[0]
+    formula = doc["groups"][0]["time_congestion"]["formula"]
+    assert congestion["formula"] == formula["name"] and congestion["formula_value"] == formula["value"]
+    assert frame["interval_start_s"].notna().sum() > 0
+    assert result.estimate("callers", "loss") == doc["streams"][0]["loss"]
+
+
+def test_size_is_the_binarys_document(binary):
+    path = GOLDEN_INPUTS / "queue.toml"
+    args = ["--group", "agents", "--goal", "service_level>=70%", "--replications", 8]
+    expected = binary_json(binary, "size", path, *args)
+    result = bh.size(path, group="agents", goals="service_level>=70%", replications=8)
+    assert without_wall(result.to_dict()) == without_wall(expected)
+    assert result.servers == expected["servers"]
+    frame = result.to_frame()
+    assert set(frame["at"]) <= {"answer", "one_fewer"} and len(frame) >= 1
+    assert frame.iloc[0]["servers"] == expected["servers"]
+
+
+def test_size_refuses_an_unknown_group_and_goal():
+    path = GOLDEN_INPUTS / "queue.toml"
+    with pytest.raises(ValueError, match="^group: nobody: no group of .*queue.toml has that name$"):
+        bh.size(path, group="nobody", goals="loss<=1%")
+    with pytest.raises(ValueError, match="^goals: goal 'speed<=1'"):
+        bh.size(path, group="agents", goals="speed<=1")
+
+
+def test_sweep_is_the_binarys_document(binary):
+    path = GOLDEN_INPUTS / "overflow.toml"
+    args = ["--scale", "0.8:1.2:0.2", "--replications", 3, "--figure", "loss", "--goal", "loss<=5%"]
+    expected = binary_json(binary, "sweep", path, *args)
+    result = bh.sweep(path, scale="0.8:1.2:0.2", replications=3, figures=["loss"], goals=["loss<=5%"])
+    assert result.to_dict() == expected
+    frame = result.to_frame()
+    assert sorted(set(frame["value"])) == pytest.approx([0.8, 1.0, 1.2])
+    assert set(frame["figure"]) == {"loss"}
+
+
+def test_sweep_of_servers_is_the_binarys_document(binary):
+    path = GOLDEN_INPUTS / "queue.toml"
+    expected = binary_json(binary, "sweep", path, "--servers", "agents=5:7", "--replications", 3)
+    assert bh.sweep(path, servers="agents=5:7", replications=3).to_dict() == expected
+
+
+def test_sweep_refuses_a_bad_range():
+    with pytest.raises(ValueError, match="^scale: '0.8-1.2': expected a range"):
+        bh.sweep(GOLDEN_INPUTS / "overflow.toml", scale="0.8-1.2")
+
+
+def test_records_is_the_binarys_document(binary):
+    path = GOLDEN_INPUTS / "calls.csv"
+    expected = binary_json(binary, "records", path, "--interval", "1h")
+    result = bh.records(path, interval="1h")
+    assert result.to_dict() == expected
+    frame = result.to_frame()
+    assert len(frame) == len(expected["intervals"])
+    assert frame["calls"].sum() == sum(i["calls"] for i in expected["intervals"])
+
+
+def test_records_from_a_data_frame():
+    pandas = pytest.importorskip("pandas")
+    path = GOLDEN_INPUTS / "calls.csv"
+    frame = pandas.read_csv(path, comment="#", dtype=str, keep_default_na=False)
+    from_frame = bh.records(frame, interval="1h", name=str(path)).to_dict()
+    from_file = bh.records(path, interval="1h").to_dict()
+    assert from_frame == from_file
+
+
+def test_records_errors_are_value_errors():
+    with pytest.raises(ValueError, match="cannot read the call records"):
+        bh.records(GOLDEN_INPUTS / "no-such.csv")
+    with pytest.raises(ValueError, match="interval"):
+        bh.records(GOLDEN_INPUTS / "calls.csv", interval="7m")
+
+
+def test_bad_overrides_are_refused():
+    path = GOLDEN_INPUTS / "queue.toml"
+    with pytest.raises(ValueError, match="^replications: 1: at least 2"):
+        bh.run(path, replications=1)
+    with pytest.raises(ValueError, match="^precision: "):
+        bh.run(path, precision=1.5)
+    with pytest.raises(ValueError, match="^threads: 0"):
+        bh.run(path, threads=0)
+
+
+LONG = {
+    "simulation": {"length": "1000h", "replications": 100000, "seed": 1},
+    "group": [{"name": "trunks", "servers": 30}],
+    "stream": [
+        {
+            "name": "calls",
+            "arrivals": {"law": "poisson", "rate": "600/h"},
+            "holding": {"law": "exponential", "mean": "2m"},
+            "route": ["trunks"],
+        }
+    ],
+}
+
+
+def test_ctrl_c_stops_the_simulation_with_keyboard_interrupt():
+    # A run of hours, interrupted after half a second as Ctrl-C would
+    # (interrupt_main raises SIGINT's KeyboardInterrupt in the main thread).
+    timer = threading.Timer(0.5, _thread.interrupt_main)
+    timer.start()
+    try:
+        with pytest.raises(KeyboardInterrupt):
+            bh.run(LONG)
+    finally:
+        timer.cancel()
+    # The package is usable afterwards.
+    assert bh.erlang_b_servers(traffic=10.0, grade=0.01) == 18
+
+
+@pytest.mark.parametrize("name", ["peak.toml", "overloaded.toml", "overflow.toml"])
+def test_check_is_the_binarys_document(binary, name):
+    path = GOLDEN_INPUTS / name
+    stdout, _, status = run_binary(binary, "check", path, "--json")
+    result = bh.check(path)
+    assert result.to_json() == stdout
+    # The binary's exit status 1 is a failed check.
+    assert result.passed == (status == 0)
+    frame = result.to_frame()
+    doc = result.to_dict()
+    expected_rows = sum(len(e.get("formulas", {})) for k in ("streams", "groups") for e in doc[k])
+    assert len(frame) == expected_rows
