@@ -7,7 +7,7 @@
 use super::{Accumulated, Completion, ExperimentError, RunOptions, RunResult, Runner, outcome_of};
 use crate::dist::Law;
 use crate::scenario::{
-    Arrivals, Forecast, Group, Model, Queue, Retry, RunPlan, Schedule, Start, Stream,
+    Arrivals, Forecast, Group, Model, Queue, Retry, RunPlan, Schedule, SeenBy, Start, Stream,
 };
 use crate::stats::{self, Obs, Scope};
 use serde::{Deserialize, Serialize};
@@ -17,8 +17,11 @@ use thiserror::Error;
 /// Version of the part format; parts of another version are refused.
 /// Version 3: the fingerprint hashes the model field by field
 /// ([`fingerprint`]) instead of its debug form. Version 4: it hashes a
-/// stream's forecast uncertainty.
-pub const PART_FORMAT_VERSION: u32 = 4;
+/// stream's forecast uncertainty. Version 5: it hashes queue classes (a
+/// stream's `priority`, a group's `prefer` and the classes they give) and
+/// a stream's `seen_by` groups, each only where given, so that the
+/// fingerprints of scenarios without them stay those of version 4.
+pub const PART_FORMAT_VERSION: u32 = 5;
 /// The `format` field of every part.
 pub const PART_FORMAT: &str = "busyhour-part";
 
@@ -282,6 +285,8 @@ fn hash_group(h: &mut Fnv, group: &Group) {
         // Planning only (the shift plan of `size --per-interval`): no
         // replication reads it, so a part's figures do not depend on it.
         shift_types: _,
+        prefer,
+        class_of,
     } = group;
     h.text(name);
     h.u32(*servers);
@@ -317,6 +322,17 @@ fn hash_group(h: &mut Fnv, group: &Group) {
     for &may in reserved_for {
         h.tag(u8::from(may));
     }
+    // Queue classes, hashed only when given (part format 5).
+    if !prefer.is_empty() {
+        h.tag(9);
+        h.count(prefer.len());
+        prefer.iter().for_each(|&s| h.u32(s));
+    }
+    if class_of.iter().any(|&c| c > 0) {
+        h.tag(10);
+        h.count(class_of.len());
+        class_of.iter().for_each(|&c| h.u32(c));
+    }
 }
 
 fn hash_stream(h: &mut Fnv, stream: &Stream) {
@@ -331,6 +347,8 @@ fn hash_stream(h: &mut Fnv, stream: &Stream) {
         answer_within_s,
         seed_key,
         forecast,
+        priority,
+        seen_by,
     } = stream;
     h.text(name);
     match arrivals {
@@ -394,6 +412,19 @@ fn hash_stream(h: &mut Fnv, stream: &Stream) {
                 }
             }
             h.u64(*key);
+        }
+    }
+    // Hashed only when given (part format 5).
+    if let Some(p) = priority {
+        h.tag(11);
+        h.u32(*p);
+    }
+    if !seen_by.is_empty() {
+        h.tag(12);
+        h.count(seen_by.len());
+        for SeenBy { group, after_s } in seen_by {
+            h.u32(*group);
+            h.f64(*after_s);
         }
     }
 }
@@ -1085,10 +1116,42 @@ patience = { law = "exponential", mean = "1m" }
                 r#"route = ["trunk"]"#,
                 "route = [\"trunk\"]\nuncertainty = \"10%\"\nuncertainty_shared = \"weather\"",
             ),
+            SCENARIO.replace(r#"route = ["trunk"]"#, "route = [\"trunk\"]\npriority = 2"),
+            format!("{SCENARIO}{SECOND}"),
+            format!("{SCENARIO}{SECOND}").replace("priority = 1", "priority = 3"),
+            format!("{SCENARIO}{SECOND}")
+                .replace("queue = 3\n", "queue = 3\nprefer = [\"depot\"]\n"),
+            with_seen(&format!("{SCENARIO}{SEEN}")),
+            with_seen(&format!("{SCENARIO}{SEEN}")).replace(r#""20s""#, r#""21s""#),
         ];
         for text in &changed {
             assert_ne!(fingerprint(&model(text)), fp, "{text}");
         }
+    }
+
+    /// A second stream on the trunk, answered first.
+    const SECOND: &str = r#"
+[[stream]]
+name = "depot"
+arrivals = { law = "poisson", rate = "30/h" }
+holding = { law = "exponential", mean = "2m" }
+route = ["trunk"]
+priority = 1
+"#;
+
+    /// A second group that sees the office's waiting calls after 20 s.
+    const SEEN: &str = r#"
+[[group]]
+name = "spare"
+servers = 2
+queue = 2
+"#;
+
+    fn with_seen(text: &str) -> String {
+        text.replace(
+            r#"route = ["trunk"]"#,
+            "route = [\"trunk\"]\nseen_by = [{ group = \"spare\", after = \"20s\" }]",
+        )
     }
 
     #[test]
@@ -1096,6 +1159,12 @@ patience = { law = "exponential", mean = "1m" }
         // Pinned: the value this serialisation gave when it was written. A
         // change means parts of the same model from two builds no longer
         // merge; then bump PART_FORMAT_VERSION and pin the new value.
+        // Part format 5 hashes queue classes and seen_by only where given,
+        // so a scenario without them keeps its format 4 value.
         assert_eq!(fingerprint(&model(SCENARIO)), "b54df87ef7c2d980");
+        let classes = fingerprint(&model(&format!("{SCENARIO}{SECOND}")));
+        assert_eq!(classes, "8c553ec6a35846d6");
+        let seen = fingerprint(&model(&with_seen(&format!("{SCENARIO}{SEEN}"))));
+        assert_eq!(seen, "0da4314cfaa0d07f");
     }
 }
