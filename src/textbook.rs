@@ -79,6 +79,19 @@
 //!   the factor's law ([`factor_expectation`]). No peakedness (the pooled
 //!   variance holds the day-to-day spread).
 //!
+//! - Queue classes (`priority`, `prefer`): the group's figures keep the
+//!   one-class values (with equal holding laws the number of calls in the
+//!   group does not depend on the order of answering); under the Erlang C
+//!   conditions a stream's mean wait is Cobham's per-class formula for
+//!   non-pre-emptive priority ([`COBHAM`]) and its P(wait) Erlang C's; no
+//!   service level per class, and no per-class value under any other
+//!   queue formula.
+//! - Calls seen by several groups (`seen_by`): every entry of the groups
+//!   such calls reach and of the streams through them is dropped; where a
+//!   set of groups pools completely (each waiting call seen at once by
+//!   all of them, the Erlang C conditions otherwise), Erlang C of the
+//!   pooled groups ([`POOLED_ERLANG_C`]).
+//!
 //! Every formula here reads a group's servers as constant: none is shown
 //! for a group whose schedule changes its servers over the run, nor for the
 //! streams routed through one. Shrinkage alone (a constant schedule) keeps
