@@ -18,11 +18,11 @@ fn chain_mean_queues(n: usize, l1: f64, l2: f64, mu: f64, cap: usize) -> (f64, f
     let full = |q1: usize, q2: usize| n + q1 * side + q2;
     // Outgoing transitions of each state: (target, rate).
     let mut out: Vec<Vec<(usize, f64)>> = vec![Vec::new(); states];
-    for b in 0..n {
+    for (b, o) in out.iter_mut().enumerate().take(n) {
         let up = if b + 1 < n { b + 1 } else { full(0, 0) };
-        out[b].push((up, l1 + l2));
+        o.push((up, l1 + l2));
         if b > 0 {
-            out[b].push((b - 1, b as f64 * mu));
+            o.push((b - 1, b as f64 * mu));
         }
     }
     for q1 in 0..side {
@@ -50,13 +50,13 @@ fn chain_mean_queues(n: usize, l1: f64, l2: f64, mu: f64, cap: usize) -> (f64, f
     let mut p = vec![1.0 / states as f64; states];
     for _ in 0..200_000 {
         let mut next = vec![0.0; states];
-        for s in 0..states {
+        for (s, (moves, &ps)) in out.iter().zip(&p).enumerate() {
             let mut stay = 1.0;
-            for &(t, r) in &out[s] {
-                next[t] += p[s] * r / rate;
+            for &(t, r) in moves {
+                next[t] += ps * r / rate;
                 stay -= r / rate;
             }
-            next[s] += p[s] * stay;
+            next[s] += ps * stay;
         }
         let change: f64 = next.iter().zip(&p).map(|(a, b)| (a - b).abs()).sum();
         p = next;
