@@ -91,6 +91,20 @@
 //!   set of groups pools completely (each waiting call seen at once by
 //!   all of them, the Erlang C conditions otherwise), Erlang C of the
 //!   pooled groups ([`POOLED_ERLANG_C`]).
+//! - Call flows with stages: a flow's groups carry calls that hold several
+//!   servers in turn, which no formula above describes, so every entry of
+//!   a group a flow uses, and of every stream through such a group, is
+//!   dropped. In its place, on a trunk group that is the flows' only place
+//!   of loss (every user a Poisson flow that seizes it alone at its first
+//!   stage and holds it to the end; each later group serving only those
+//!   flows with at least as many servers, so that nobody waits or is
+//!   blocked downstream), "Erlang B of the total holding (insensitivity)":
+//!   the trunk group is an M/G/N/N system whose holding is the sum of the
+//!   stages (the mean weighted by the share that reaches each stage), and
+//!   Erlang B is exact whatever the stage laws: time congestion, carried
+//!   traffic and occupancy of the trunks; first-attempt blocking, loss,
+//!   carried traffic and P(wait) = 0 of the streams; the first stage's
+//!   blocking.
 //!
 //! Every formula here reads a group's servers as constant: none is shown
 //! for a group whose schedule changes its servers over the run, nor for the
@@ -102,7 +116,7 @@ use crate::formulas::{
     redial_fixed_point,
 };
 use crate::scenario::{Arrivals, Model, Queue, Stream};
-use crate::stats::{Figure, FigureId, Scope, group_figures, stream_figures};
+use crate::stats::{Figure, FigureId, Scope, group_figures, stage_figures, stream_figures};
 use std::collections::HashMap;
 
 /// A closed-form value and the method that gave it.
@@ -254,7 +268,7 @@ pub fn formula_column(model: &Model) -> HashMap<FigureId, Formula> {
     let through_changing = |s: usize| model.streams[s].route.iter().any(|&g| changing(g as usize));
     col.map.retain(|id, _| match id.scope {
         Scope::Group(g) | Scope::GroupInterval(_, g) => !changing(g),
-        Scope::Stream(s) | Scope::StreamInterval(_, s) => !through_changing(s),
+        Scope::Stream(s) | Scope::StreamInterval(_, s) | Scope::Stage(s, _) => !through_changing(s),
     });
     // Per interval, such groups still have the stationary formula of each
     // interval's load on that interval's servers.
@@ -267,7 +281,110 @@ pub fn formula_column(model: &Model) -> HashMap<FigureId, Formula> {
     if model.has_forecast_spread() {
         forecast_spread(&mut col);
     }
+    if model.streams.iter().any(Stream::has_stages) {
+        call_flows(&mut col);
+    }
     col.map
+}
+
+/// Label of the trunk group's Erlang B of the flow's total holding.
+pub const FLOW_ERLANG_B: &str = "Erlang B of the total holding (insensitivity)";
+
+/// The column of a model with call flows (see the module's "Call flows"):
+/// drop every entry of a group a flow uses, and of every stream through
+/// such a group, then put Erlang B of the total holding on each trunk
+/// group that is the flows' only place of loss.
+fn call_flows(col: &mut Column) {
+    let model = col.model;
+    let mut flow_group = vec![false; model.groups.len()];
+    for st in model.streams.iter().filter(|s| s.has_stages()) {
+        for &g in &st.route {
+            flow_group[g as usize] = true;
+        }
+    }
+    let touched: Vec<bool> = (model.streams.iter())
+        .map(|st| st.route.iter().any(|&g| flow_group[g as usize]))
+        .collect();
+    col.map.retain(|id, _| match id.scope {
+        Scope::Group(g) | Scope::GroupInterval(_, g) => !flow_group[g],
+        Scope::Stream(s) | Scope::StreamInterval(_, s) | Scope::Stage(s, _) => !touched[s],
+    });
+    for g in 0..model.groups.len() {
+        flow_trunk_group(col, g);
+    }
+}
+
+/// Group `g` as the trunks of call flows, held to the end and the only
+/// place of loss: every stream that uses it is a flow with Poisson arrivals
+/// (a known rate, no redials) whose first stage seizes `g` alone and holds
+/// it to the end; `g` is a loss group with constant servers and no
+/// reservation; and every group of those flows' later stages serves only
+/// them, with no reservation and at least as many servers (constant) as
+/// `g`, so that nobody waits or is blocked after seizing a trunk (the
+/// trunks bound the calls in progress). Then each call holds a trunk for
+/// its total holding, the sum of its stages' times, and the trunk group is
+/// an M/G/N/N loss system: Erlang B of the offered load (rate times the
+/// mean total holding, [`Stream::flow_holding_mean`]) is exact whatever the
+/// stage laws (insensitivity: Sevastyanov 1957).
+fn flow_trunk_group(col: &mut Column, g: usize) {
+    let model = col.model;
+    let grp = &model.groups[g];
+    if grp.queue != Queue::None || grp.reserve > 0 || grp.schedule.is_some() {
+        return;
+    }
+    let n = grp.servers;
+    let trunk_users = users(model, g);
+    if trunk_users.is_empty() {
+        return;
+    }
+    let mut load = 0.0;
+    let mut later = Vec::new();
+    for &(s, _) in &trunk_users {
+        let st = &model.streams[s];
+        let Some(first) = st.stages.first() else {
+            return;
+        };
+        if first.route != [g as u32] || first.hold != crate::scenario::Hold::ToEnd {
+            return;
+        }
+        if st.retry.is_some() || st.forecast.is_some() {
+            return;
+        }
+        let Some(rate) = poisson_rate(st) else { return };
+        load += rate * st.flow_holding_mean();
+        later.extend(st.stages[1..].iter().flat_map(|k| k.route.iter().copied()));
+    }
+    for &h in &later {
+        let other = &model.groups[h as usize];
+        let only_these = users(model, h as usize)
+            .iter()
+            .all(|&(s, _)| trunk_users.iter().any(|&(u, _)| u == s));
+        if !only_these || other.reserve > 0 || other.schedule.is_some() || other.servers < n {
+            return;
+        }
+    }
+    let Ok(b) = erlang_b::blocking(n, load) else {
+        return;
+    };
+    col.group(g, Figure::TimeCongestion, FLOW_ERLANG_B, b);
+    col.group(g, Figure::CarriedTraffic, FLOW_ERLANG_B, load * (1.0 - b));
+    col.group(
+        g,
+        Figure::Occupancy,
+        FLOW_ERLANG_B,
+        load * (1.0 - b) / f64::from(n),
+    );
+    for &(s, _) in &trunk_users {
+        let st = &model.streams[s];
+        let a = poisson_rate(st).unwrap_or(f64::NAN) * st.flow_holding_mean();
+        col.stream(s, Figure::FirstAttemptBlocking, FLOW_ERLANG_B, b);
+        col.stream(s, Figure::Loss, FLOW_ERLANG_B, b);
+        col.stream(s, Figure::CarriedTraffic, FLOW_ERLANG_B, a * (1.0 - b));
+        col.stream(s, Figure::WaitProbability, FLOW_ERLANG_B, 0.0);
+        if stage_figures(model, s, 0).contains(&Figure::StageBlocked) {
+            col.set(Scope::Stage(s, 0), Figure::StageBlocked, FLOW_ERLANG_B, b);
+        }
+    }
 }
 
 /// Labels of the stationary per-interval formulas on the interval's own
@@ -435,7 +552,9 @@ fn priority_group(col: &mut Column, g: usize) {
         .filter(|&s| model.streams[s].reach().any(|x| x as usize == g))
         .collect();
     col.map.retain(|id, _| match id.scope {
-        Scope::Stream(s) | Scope::StreamInterval(_, s) => !streams.contains(&s),
+        Scope::Stream(s) | Scope::StreamInterval(_, s) | Scope::Stage(s, _) => {
+            !streams.contains(&s)
+        }
         Scope::Group(_) | Scope::GroupInterval(_, _) => true,
     });
     if !erlang_c || users.is_empty() || users.len() != streams.len() {
@@ -500,7 +619,7 @@ fn seen_by(col: &mut Column) {
         .collect();
     col.map.retain(|id, _| match id.scope {
         Scope::Group(g) | Scope::GroupInterval(_, g) => !touched[g],
-        Scope::Stream(s) | Scope::StreamInterval(_, s) => !reaches_touched[s],
+        Scope::Stream(s) | Scope::StreamInterval(_, s) | Scope::Stage(s, _) => !reaches_touched[s],
     });
     // Pools: the groups a stream reaches, joined through shared streams.
     let mut pool_of: Vec<usize> = (0..model.groups.len()).collect();
@@ -643,7 +762,7 @@ fn forecast_spread(col: &mut Column) {
     let (groups, streams) = forecast_reach(model);
     col.map.retain(|id, _| match id.scope {
         Scope::Group(g) | Scope::GroupInterval(_, g) => !groups[g],
-        Scope::Stream(s) | Scope::StreamInterval(_, s) => !streams[s],
+        Scope::Stream(s) | Scope::StreamInterval(_, s) | Scope::Stage(s, _) => !streams[s],
     });
     for (g, &reached) in groups.iter().enumerate() {
         if reached {

@@ -50,6 +50,13 @@ fn coverage_small_hour_loss_and_carried_traffic_cover_erlang_b() {
 }
 
 #[test]
+fn coverage_trunks_of_call_flows_cover_erlang_b_of_the_total_holding() {
+    // Insensitivity (Sevastyanov 1957): trunks held through announcement,
+    // menu and talk block as Erlang B of rate x the mean total holding.
+    assert_covers_truth("call-flow-trunks");
+}
+
+#[test]
 fn coverage_redial_figures_cover_the_exact_retrial_chain() {
     assert_covers_truth("redials");
 }

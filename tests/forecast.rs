@@ -7,6 +7,9 @@
 
 mod common;
 use busyhour::engine;
+use busyhour::experiment::RunOptions;
+use busyhour::experiment::size::{self, Goal, SizeOptions};
+use busyhour::scenario::Replications;
 use busyhour::stats::{Figure, Scope};
 use busyhour::textbook::{self, FORECAST_ERLANG_B};
 use common::*;
@@ -134,7 +137,7 @@ fn calls_in_progress_follow_the_mixed_poisson_variance() {
 warmup = "2000s"
 length = "0.001s"
 replications = 2
-seed = 99
+seed = 4242
 [[group]]
 name = "big"
 servers = 1000
@@ -343,4 +346,90 @@ route = ["g"]
         );
         assert_eq!(format!("{x:?}"), format!("{y:?}"));
     }
+}
+
+/// The least traffic factor f at which Erlang B of `servers` at
+/// `traffic * f` exceeds `bound` (bisection: B rises with the load).
+fn factor_at_bound(servers: u64, traffic: f64, bound: f64) -> f64 {
+    let (mut lo, mut hi) = (1e-6, 10.0);
+    for _ in 0..100 {
+        let mid = 0.5 * (lo + hi);
+        if erlang_b_statrs(servers, traffic * mid) <= bound {
+            lo = mid;
+        } else {
+            hi = mid;
+        }
+    }
+    lo
+}
+
+#[test]
+fn goal_on_share_of_days_sizes_from_the_factor_law() {
+    // A day's loss on a long day is close to Erlang B at the day's load
+    // (7,200 calls a day: the day's own noise moves its loss as much as a
+    // few per cent of the factor would, against a factor cv of 10%). So the
+    // share of days with loss <= 1% at N servers is close to
+    // P(F <= f*(N)), f*(N) solving B(N, A f*) = 1% (Erlang B from statrs'
+    // Poisson law; F gamma with mean 1 and cv 10%: shape 100, rate 100,
+    // from statrs). The search must find n, where the long-run goal needs
+    // fewer.
+    let (traffic, cv, bound) = (20.0, 0.1, 0.01);
+    let factor = sd::Gamma::new(1.0 / (cv * cv), 1.0 / (cv * cv)).unwrap();
+    let share_at = |n: u64| factor.cdf(factor_at_bound(n, traffic, bound));
+    // The size whose share of days first passes 90%, and the goal's share
+    // halfway between its share and the share one server fewer, rounded
+    // to a per cent: the case is as far from a tie as a whole server
+    // allows.
+    let n = (1..200u64).find(|&n| share_at(n) >= 0.9).unwrap();
+    let (at_n, below) = (share_at(n), share_at(n - 1));
+    let share = (50.0 * (at_n + below)).round() / 100.0;
+    assert!(
+        at_n >= share + 0.03 && below <= share - 0.03,
+        "case too close to call: share {at_n} at {n}, {below} at {}",
+        n - 1
+    );
+    let goal = format!("loss<=1% on {}% of days", share * 100.0);
+    let text = loss_group(n as u32 - 10, traffic, 300, "6h", r#"uncertainty = "10%""#);
+    let m = model(&text);
+    let goals = [
+        Goal::parse(&goal, &m, 0).unwrap(),
+        Goal::parse("loss<=1%", &m, 0).unwrap(),
+    ];
+    let how = SizeOptions {
+        replications: Replications::Fixed(300),
+        max_replications: 2400,
+    };
+    let on_days = size::size(&m, 0, goals[..1].to_vec(), &how, &RunOptions::default()).unwrap();
+    assert_eq!(
+        on_days.servers,
+        Some(n as u32),
+        "shares from the factor law: {at_n} at {n}, {below} at {}; tried {:?}",
+        n - 1,
+        on_days.tried
+    );
+    // The verdict is on the share of days: at the answer its whole interval
+    // (at the look's level) is at least 90%.
+    let at = on_days.at_answer.as_ref().unwrap();
+    assert!(at.goals[0].1.low >= share, "{:?}", at.goals[0].1);
+    assert_eq!(on_days.formula_servers, None);
+    // The long-run goal is met with fewer servers (the average day is
+    // easier than nine days in ten).
+    let long_run = size::size(&m, 0, goals[1..].to_vec(), &how, &RunOptions::default()).unwrap();
+    assert!(long_run.servers.unwrap() < n as u32, "{:?}", long_run.tried);
+}
+
+#[test]
+fn goal_on_share_of_days_refuses_bad_shares() {
+    let m = model(&loss_group(10, 5.0, 10, "1h", ""));
+    for (goal, says) in [
+        ("loss<=1% on 100% of days", "strictly between 0% and 100%"),
+        ("loss<=1% on 0% of days", "strictly between 0% and 100%"),
+        ("loss<=1% on 90% of weeks", "expected 'on SHARE of days'"),
+        ("loss<=1% on most days", "expected 'on SHARE of days'"),
+    ] {
+        let e = Goal::parse(goal, &m, 0).unwrap_err().to_string();
+        assert!(e.contains(says), "{goal}: {e}");
+    }
+    let g = Goal::parse("loss<=1% on 90% of periods", &m, 0).unwrap();
+    assert_eq!(g.days, Some(0.9));
 }

@@ -13,7 +13,7 @@ mod common;
 
 use busyhour::formulas::chains::{self, Chain, FirstChoice};
 use busyhour::formulas::{erlang_b, overflow};
-use common::erlang_b_statrs;
+use common::{dense_stationary, erlang_b_statrs};
 
 #[track_caller]
 fn assert_close(what: &str, actual: f64, expected: f64, tolerance: f64) {
@@ -26,36 +26,6 @@ fn assert_close(what: &str, actual: f64, expected: f64, tolerance: f64) {
         error <= tolerance,
         "{what}\n  expected {expected:.15e}\n  actual   {actual:.15e}\n  relative error {error:.2e} > {tolerance:.0e}"
     );
-}
-
-/// Stationary distribution by dense Gaussian elimination with partial
-/// pivoting, the last balance equation replaced by `Σ π = 1`: a solver
-/// independent of the one under test.
-fn dense_stationary(states: usize, transitions: &[(usize, usize, f64)]) -> Vec<f64> {
-    let mut m = vec![vec![0.0f64; states + 1]; states];
-    for &(from, to, rate) in transitions {
-        m[to][from] += rate;
-        m[from][from] -= rate;
-    }
-    for cell in m[states - 1].iter_mut() {
-        *cell = 1.0;
-    }
-    for col in 0..states {
-        let pivot = (col..states)
-            .max_by(|&a, &b| m[a][col].abs().total_cmp(&m[b][col].abs()))
-            .expect("rows left");
-        m.swap(col, pivot);
-        let pivot_row = m[col].clone();
-        for (row, r) in m.iter_mut().enumerate() {
-            if row != col && r[col] != 0.0 {
-                let f = r[col] / pivot_row[col];
-                for (x, p) in r.iter_mut().zip(&pivot_row).skip(col) {
-                    *x -= f * p;
-                }
-            }
-        }
-    }
-    (0..states).map(|i| m[i][states] / m[i][i]).collect()
 }
 
 #[test]

@@ -10,6 +10,7 @@
 //! - Erlang B (no waiting room), Erlang C and Erlang A as the waiting room
 //!   grows (Palm 1943; Gans, Koole and Mandelbaum 2003).
 
+mod common;
 use busyhour::formulas::{erlang_a, erlang_b, erlang_c, finite_queue};
 
 #[track_caller]
@@ -28,45 +29,23 @@ fn assert_close(what: &str, actual: f64, expected: f64, tolerance: f64) {
 /// Stationary law of the birth-death chain on `0..=n+q`: births `a` below
 /// `n + q`, deaths `min(k, n) + max(k - n, 0) gamma` (time in holding
 /// times), solved as a general linear system `π Q = 0`, `Σ π = 1` by
-/// Gaussian elimination with partial pivoting.
+/// Gaussian elimination with partial pivoting (tests/common).
 fn chain(n: usize, q: usize, a: f64, gamma: f64) -> Vec<f64> {
     let states = n + q + 1;
-    let mut m = vec![vec![0.0f64; states + 1]; states];
-    let mut add = |from: usize, to: usize, rate: f64| {
-        m[to][from] += rate;
-        m[from][from] -= rate;
-    };
+    let mut t = Vec::new();
     for k in 0..states {
         if k + 1 < states {
-            add(k, k + 1, a);
+            t.push((k, k + 1, a));
         }
         if k > 0 {
-            add(
+            t.push((
                 k,
                 k - 1,
                 k.min(n) as f64 + k.saturating_sub(n) as f64 * gamma,
-            );
+            ));
         }
     }
-    for cell in m[states - 1].iter_mut() {
-        *cell = 1.0;
-    }
-    for col in 0..states {
-        let pivot = (col..states)
-            .max_by(|&x, &y| m[x][col].abs().total_cmp(&m[y][col].abs()))
-            .unwrap();
-        m.swap(col, pivot);
-        let pivot_row = m[col].clone();
-        for (row, r) in m.iter_mut().enumerate() {
-            if row != col && r[col] != 0.0 {
-                let f = r[col] / pivot_row[col];
-                for (x, p) in r.iter_mut().zip(&pivot_row).skip(col) {
-                    *x -= f * p;
-                }
-            }
-        }
-    }
-    (0..states).map(|i| m[i][states] / m[i][i]).collect()
+    common::dense_stationary(states, &t)
 }
 
 /// A tagged caller who finds `ahead` callers waiting (every agent busy):

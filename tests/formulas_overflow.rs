@@ -10,6 +10,7 @@
 //! `A B(N1 + N2, A)`, and for two primary groups it comes from a
 //! three-dimensional chain.
 
+mod common;
 use busyhour::formulas::{erlang_b, overflow};
 
 fn assert_close(what: &str, actual: f64, expected: f64, tolerance: f64) {
@@ -20,37 +21,9 @@ fn assert_close(what: &str, actual: f64, expected: f64, tolerance: f64) {
     );
 }
 
-/// Stationary distribution of a continuous-time Markov chain with `states`
-/// states and transitions `(from, to, rate)`: solves `π Q = 0`, `Σ π = 1` by
-/// Gaussian elimination with partial pivoting (the last balance equation is
-/// replaced by the normalisation).
+/// The tests' exact chain solver (tests/common).
 fn stationary(states: usize, transitions: &[(usize, usize, f64)]) -> Vec<f64> {
-    // Row r of the system: Σ_i π_i Q[i][r] = 0, i.e. matrix M = Qᵀ.
-    let mut m = vec![vec![0.0f64; states + 1]; states];
-    for &(from, to, rate) in transitions {
-        m[to][from] += rate;
-        m[from][from] -= rate;
-    }
-    // Normalisation Σ π = 1 in place of the last balance equation.
-    for cell in m[states - 1].iter_mut() {
-        *cell = 1.0;
-    }
-    for col in 0..states {
-        let pivot = (col..states)
-            .max_by(|&a, &b| m[a][col].abs().total_cmp(&m[b][col].abs()))
-            .unwrap();
-        m.swap(col, pivot);
-        let pivot_row = m[col].clone();
-        for (row, r) in m.iter_mut().enumerate() {
-            if row != col && r[col] != 0.0 {
-                let f = r[col] / pivot_row[col];
-                for (x, p) in r.iter_mut().zip(&pivot_row).skip(col) {
-                    *x -= f * p;
-                }
-            }
-        }
-    }
-    (0..states).map(|i| m[i][states] / m[i][i]).collect()
+    common::dense_stationary(states, transitions)
 }
 
 /// Mean and variance of the overflow-group occupancy for a primary group of

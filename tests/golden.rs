@@ -142,7 +142,7 @@ const RUN: [&str; 4] = ["--seed", "7", "--replications", "4"];
 #[test]
 fn run_documents() {
     let s = Scratch::new("run");
-    for name in ["peak", "queue", "overflow", "classes"] {
+    for name in ["peak", "queue", "overflow", "flow", "classes"] {
         let file = format!("{name}.toml");
         let mut args = vec!["run", &file, "--quiet"];
         args.extend(RUN);
@@ -234,6 +234,22 @@ fn size_documents() {
     args.extend(["--goal", "loss<=5%"]);
     args.extend(quick);
     matches_golden("size-overflow.json", &s.run(&args, 0));
+    // A goal on the share of days: judged on that share, the long-run
+    // figure beside it; and its table.
+    let mut args = vec!["size", "queue.toml", "--group", "agents"];
+    args.extend(["--goal", "service_level>=70% on 40% of days"]);
+    args.extend(quick);
+    matches_golden(
+        "size-days.json",
+        &s.run(&[&args[..], &["--json"]].concat(), 0),
+    );
+    // (The text's "Took" line is wall-clock time: left out.)
+    let table = s.run(&args, 0);
+    let table: String = (table.lines())
+        .filter(|l| !l.starts_with("Took "))
+        .map(|l| format!("{l}\n"))
+        .collect();
+    matches_golden("size-days.txt", &table);
 }
 
 #[test]

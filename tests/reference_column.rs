@@ -394,3 +394,73 @@ fn the_modified_offered_load_follows_the_simulated_peak() {
         }
     }
 }
+
+/// Trunks held to the end of a call flow through a menu and a talk stage,
+/// with `agents` agents; `other` adds a one-stage stream on the agents.
+fn flow_scenario(agents: u32, other: bool) -> String {
+    let mut text = format!(
+        r#"
+[simulation]
+length = "1h"
+replications = 2
+[[group]]
+name = "trunks"
+servers = 6
+[[group]]
+name = "ports"
+servers = 6
+[[group]]
+name = "agents"
+servers = {agents}
+queue = "unlimited"
+[[stream]]
+name = "flow"
+arrivals = {{ law = "poisson", rate = "90/h" }}
+stages = [
+    {{ name = "trunk", route = ["trunks"], hold = "to-end" }},
+    {{ name = "menu", route = ["ports"], holding = {{ law = "uniform", mean = "1m", cv = 0.5 }}, finish = "50%" }},
+    {{ name = "talk", route = ["agents"], holding = {{ law = "weibull", mean = "4m", cv = 1.4 }} }},
+]
+"#
+    );
+    if other {
+        text.push_str(
+            "[[stream]]\nname = \"direct\"\narrivals = { law = \"poisson\", rate = \"10/h\" }\nholding = { law = \"exponential\", mean = \"2m\" }\nroute = [\"agents\"]\n",
+        );
+    }
+    text
+}
+
+#[test]
+fn a_trunk_group_of_call_flows_shows_erlang_b_of_the_total_holding_only_where_it_holds() {
+    // Erlang B (statrs' truncated Poisson law) of 90/h x (1 m + 50% x 4 m)
+    // = 4.5 E on 6 trunks: exact by insensitivity (Sevastyanov 1957) when
+    // nobody can wait or be blocked after seizing a trunk.
+    let exact = erlang_b_statrs(6, 90.0 / 3600.0 * (60.0 + 0.5 * 240.0));
+    let col = formula_column(&model(&flow_scenario(6, false)));
+    let at = |scope, figure| FigureId { scope, figure };
+    for key in [
+        at(Scope::Group(0), Figure::TimeCongestion),
+        at(Scope::Stream(0), Figure::Loss),
+        at(Scope::Stream(0), Figure::FirstAttemptBlocking),
+        at(Scope::Stage(0, 0), Figure::StageBlocked),
+    ] {
+        let f = col.get(&key).unwrap_or_else(|| panic!("{key:?} missing"));
+        assert_eq!(f.name, "Erlang B of the total holding (insensitivity)");
+        assert!(
+            (f.value - exact).abs() < 1e-12,
+            "{key:?}: {} vs {exact}",
+            f.value
+        );
+    }
+    // Fewer agents than trunks (calls wait after seizing a trunk), or
+    // another stream on the agents: no closed form for the flow at all.
+    for text in [flow_scenario(5, false), flow_scenario(6, true)] {
+        let col = formula_column(&model(&text));
+        assert!(
+            !col.keys()
+                .any(|k| matches!(k.scope, Scope::Stream(0) | Scope::Group(0 | 2))),
+            "{col:?}"
+        );
+    }
+}

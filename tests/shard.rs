@@ -48,6 +48,8 @@ fn any_shard_split_merges_to_the_unsharded_json() {
     for scenario in [
         "scenarios/ferry-booking.toml",
         "scenarios/harbour-peak.toml",
+        // Call flows with stages: the per-stage figures merge too.
+        "scenarios/utility-line.toml",
         // Priorities, a preference and calls seen by two groups.
         "scenarios/transport-desk.toml",
     ] {

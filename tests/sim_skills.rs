@@ -230,3 +230,60 @@ fn calls_seen_by_several_groups_give_the_same_bits_whatever_the_thread_count() {
     };
     assert_eq!(bits(&run_with(1)), bits(&run_with(2)));
 }
+
+/// A call flow with stages (trunk held to the end, then agents with
+/// patience) with a priority, beside a stream whose waiting calls the
+/// agents see after 10 s and prefer.
+const WITH_A_FLOW: &str = r#"
+[simulation]
+length = "4h"
+replications = 6
+seed = 3
+[[group]]
+name = "trunks"
+servers = 12
+[[group]]
+name = "agents"
+servers = 6
+queue = 10
+prefer = ["walk-in"]
+[[group]]
+name = "desk"
+servers = 2
+queue = 5
+[[stream]]
+name = "line"
+arrivals = { law = "poisson", rate = "100/h" }
+priority = 1
+stages = [
+  { name = "trunk", route = ["trunks"], hold = "to-end" },
+  { name = "talk", route = ["agents"], holding = { law = "exponential", mean = "3m" }, patience = { law = "exponential", mean = "2m" } },
+]
+[[stream]]
+name = "walk-in"
+arrivals = { law = "poisson", rate = "30/h" }
+holding = { law = "exponential", mean = "3m" }
+route = ["desk"]
+patience = { law = "exponential", mean = "3m" }
+seen_by = [{ group = "agents", after = "10s" }]
+"#;
+
+#[test]
+fn queues_shared_by_a_call_flow_conserve_their_calls_too() {
+    let m = model(WITH_A_FLOW);
+    for r in 0..3 {
+        let t = busyhour::engine::run_replication(&m, r);
+        for (g, gt) in t.groups.iter().enumerate().skip(1) {
+            let q = gt.queue;
+            assert!(q.joined > 0 && q.abandoned > 0, "group {g}: {q:?}");
+            assert_eq!(
+                q.joined,
+                q.answered + q.taken_elsewhere + q.abandoned + q.moved_on + q.pending_end,
+                "group {g}, replication {r}: {q:?}"
+            );
+            assert_eq!(q.waiting_end, q.pending_end, "group {g}: {q:?}");
+        }
+        // The agents took some of the desk's calls.
+        assert!(t.groups[2].queue.taken_elsewhere > 0);
+    }
+}

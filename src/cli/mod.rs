@@ -311,8 +311,11 @@ pub struct SizeArgs {
     pub group: String,
     /// A goal every answer must meet, as [stream.]figure<=value or >=value:
     /// "loss<=1%", "office.service_level>=80%", "wait_p90<=30s",
-    /// "occupancy>=60%". Repeat for several goals. "cost" alone (with
-    /// [prices] in the scenario) finds the size of least expected cost.
+    /// "occupancy>=60%". Add "on 90% of days" to ask that the share of
+    /// replications (days) whose own figures meet the bound be at least
+    /// 90%, rather than the long-run figure. Repeat for several goals.
+    /// "cost" alone (with [prices] in the scenario) finds the size of least
+    /// expected cost.
     #[arg(long, value_name = "GOAL", required = true)]
     pub goal: Vec<String>,
     #[command(flatten)]

@@ -67,13 +67,14 @@
 //! longer for them.
 
 pub mod calendar;
+mod flow;
 pub mod seeds;
 
 use crate::dist::Law;
 use crate::scenario::{Arrivals, Model, Start};
 use crate::stats::tally::{
-    GroupIntervalTally, GroupTally, QueueTally, StreamIntervalTally, StreamTally, Tally,
-    WAIT_DIGITS, WAIT_MAX_MS,
+    GroupIntervalTally, GroupTally, QueueTally, StageTally, StreamIntervalTally, StreamTally,
+    Tally, WAIT_DIGITS, WAIT_MAX_MS,
 };
 use calendar::{Lanes, Next};
 use hdrhistogram::Histogram;
@@ -132,6 +133,14 @@ enum Event {
     /// (not counted in `Tally::events`, so that a constant schedule gives
     /// the tally of a constant group).
     Capacity { group: u32, step: u32 },
+    /// The current stage of the call flow in `flows[flow]` ends (see
+    /// `flow`).
+    StageEnd { flow: u32 },
+    /// A redial of the call flow in `flows[flow]`, from its first stage.
+    FlowRedial { flow: u32 },
+    /// A new call of stream `stream`, a flow with stages (its open arrivals
+    /// run here rather than in the arrival lane, see `flow`).
+    FlowCall { stream: u32 },
 }
 
 /// A call waiting in a queue, kept in a slab so that abandonment and overflow
@@ -236,6 +245,8 @@ struct StreamState {
     /// Finite sources: a source idles when its call ends.
     sources: bool,
     answer_within_s: Option<f64>,
+    /// A call flow with stages: its calls take the `flow` path.
+    staged: bool,
 }
 
 struct Sim<'m> {
@@ -261,6 +272,17 @@ struct Sim<'m> {
     /// Schedule changes handled (left out of `Tally::events`).
     capacity_events: u64,
     tally: Tally,
+    /// Call flows in progress (see `flow`), reused through `free_flows`.
+    flows: Vec<flow::Flow>,
+    free_flows: Vec<u32>,
+    /// The flow of each `slab` entry a flow's call waits in (read only for
+    /// streams with stages).
+    slab_flow: Vec<u32>,
+    /// Per stream with stages, per position of its route: the end of the
+    /// stage's span of positions (empty for other streams).
+    stage_span_end: Vec<Vec<u32>>,
+    /// Per stream with stages, per stage: its first position in the route.
+    stage_start: Vec<Vec<u32>>,
 }
 
 /// Simulate replication `replication` of `model` and return its counters.
@@ -333,6 +355,7 @@ impl<'m> Sim<'m> {
                 units: s.units,
                 sources: matches!(s.arrivals, Arrivals::Sources { .. }),
                 answer_within_s: s.answer_within_s,
+                staged: s.has_stages(),
             })
             .collect();
         let routes = model
@@ -428,7 +451,11 @@ impl<'m> Sim<'m> {
             group_intervals: vec![vec![GroupIntervalTally::default(); n_groups]; bins],
             events: 0,
             peak_busy: vec![0; n_groups],
+            stages: (model.streams.iter())
+                .map(|s| vec![StageTally::default(); s.stages.len()])
+                .collect(),
         };
+        let (stage_start, stage_span_end) = flow::spans(model);
         Sim {
             model,
             calendar: Lanes::new(),
@@ -448,6 +475,11 @@ impl<'m> Sim<'m> {
             pending: 0,
             capacity_events: 0,
             tally,
+            flows: Vec::new(),
+            free_flows: Vec::new(),
+            slab_flow: Vec::new(),
+            stage_span_end,
+            stage_start,
         }
     }
 
@@ -465,15 +497,20 @@ impl<'m> Sim<'m> {
             let stream = &self.model.streams[si];
             match &stream.arrivals {
                 Arrivals::Sources { count, idle } => {
+                    let call = self.source_call(si);
                     for _ in 0..*count {
                         let t = idle.sample(&mut self.streams[si].arrivals);
-                        self.calendar
-                            .schedule(t, Event::SourceCall { stream: si as u32 });
+                        self.calendar.schedule(t, call);
                     }
                 }
                 _ => {
                     if let Some(t) = self.next_arrival(si, 0.0) {
-                        self.calendar.schedule_arrival(t, si as u32);
+                        if self.streams[si].staged {
+                            let stream = si as u32;
+                            self.calendar.schedule(t, Event::FlowCall { stream });
+                        } else {
+                            self.calendar.schedule_arrival(t, si as u32);
+                        }
                     }
                 }
             }
@@ -515,12 +552,13 @@ impl<'m> Sim<'m> {
             gt.queue.waiting_end = u64::from(grp.waiting);
             self.tally.peak_busy[g] = grp.peak_busy;
         }
-        // Measured calls still waiting or between redials count as pending.
+        // Measured calls still waiting or between redials count as pending
+        // (a flow's call once, below, whatever it is doing).
         for w in &self.slab {
             if !w.active {
                 continue;
             }
-            if w.call.measured() {
+            if w.call.measured() && !self.streams[w.call.stream as usize].staged {
                 self.tally.streams[w.call.stream as usize].pending_end += 1;
             }
             self.tally.groups[w.group as usize].queue.pending_end += 1;
@@ -543,6 +581,9 @@ impl<'m> Sim<'m> {
         for (s, n) in redialling.into_iter().enumerate() {
             self.tally.streams[s].pending_end += n;
         }
+        if !self.flows.is_empty() {
+            self.flows_at_end();
+        }
     }
 
     /// A steady start: seat the calls in progress at time 0 (see the
@@ -558,6 +599,9 @@ impl<'m> Sim<'m> {
             let Some(rate) = s.arrivals.initial_rate() else {
                 continue;
             };
+            if s.has_stages() {
+                continue; // a call flow starts empty (`Model::is_seated`)
+            }
             let traffic = rate * s.holding.mean();
             if !(traffic > 0.0 && traffic.is_finite()) {
                 continue;
@@ -655,6 +699,10 @@ impl<'m> Sim<'m> {
                 if w.seen != 0 {
                     self.leave_seen(&w, usize::MAX, true);
                 }
+                if self.streams[w.call.stream as usize].staged {
+                    self.flow_abandons(self.slab_flow[slot as usize], now);
+                    return;
+                }
                 self.attempt_failed(w.call, now, true);
             }
             Event::OverflowTimer { slot, generation } => {
@@ -672,6 +720,9 @@ impl<'m> Sim<'m> {
                 self.see_due(slot, now);
             }
             Event::Capacity { group, step } => self.capacity_changes(group as usize, step, now),
+            Event::StageEnd { flow } => self.stage_ends(flow, now),
+            Event::FlowRedial { flow } => self.flow_redials(flow, now),
+            Event::FlowCall { stream } => self.flow_call(stream as usize, now),
         }
     }
 
@@ -862,7 +913,15 @@ impl<'m> Sim<'m> {
         if !call.measured() {
             return;
         }
-        let wait = now - call.attempt_at;
+        self.count_answered(call, now - call.attempt_at, answer_within);
+    }
+
+    /// A measured call answered after waiting `wait` (s) in all: counted
+    /// and resolved in its stream and in the interval of its first attempt.
+    #[inline(always)]
+    fn count_answered(&mut self, call: Call, wait: f64, answer_within: Option<f64>) {
+        let si = call.stream as usize;
+        let tally = &mut self.tally;
         let within = answer_within.is_some_and(|aw| wait <= aw);
         let st = &mut tally.streams[si];
         st.answered += 1;
@@ -1078,6 +1137,10 @@ impl<'m> Sim<'m> {
             self.leave_other_queues(&w, g);
         }
         self.release_slot(slot);
+        if self.streams[w.call.stream as usize].staged {
+            self.flow_seizes(self.slab_flow[slot as usize], g, now);
+            return;
+        }
         self.seize(g, w.call, now);
     }
 
@@ -1191,7 +1254,13 @@ impl<'m> Sim<'m> {
     /// later can serve or hold the call, it keeps its place.
     fn move_on(&mut self, slot: u32, w: Waiting, now: f64) {
         let si = w.call.stream as usize;
-        for pos in (w.position as usize + 1)..self.routes[si].len() {
+        // A flow's call moves on within its stage's groups only.
+        let end = if self.streams[si].staged {
+            self.stage_span_end[si][w.position as usize] as usize
+        } else {
+            self.routes[si].len()
+        };
+        for pos in (w.position as usize + 1)..end {
             let step = self.routes[si][pos];
             let g = step.group as usize;
             let grp = &self.groups[g];
@@ -1209,6 +1278,10 @@ impl<'m> Sim<'m> {
                     self.leave_seen(&w, usize::MAX, false);
                 }
                 self.release_slot(slot);
+                if self.streams[si].staged {
+                    self.flow_seizes(self.slab_flow[slot as usize], g, now);
+                    return;
+                }
                 self.seize(g, w.call, now);
             } else {
                 // Same slot and generation: the pending abandon event stays
@@ -1242,8 +1315,30 @@ impl<'m> Sim<'m> {
 
     fn attempt_failed(&mut self, mut call: Call, now: f64, abandoned: bool) {
         let si = call.stream as usize;
+        self.count_failed_attempt(&call, abandoned);
+        if let Some(delay) = self.redial_delay(si, call.attempt) {
+            call.attempt += 1;
+            let slot = match self.free_redials.pop() {
+                Some(slot) => {
+                    self.redials[slot as usize] = call;
+                    slot
+                }
+                None => {
+                    self.redials.push(call);
+                    (self.redials.len() - 1) as u32
+                }
+            };
+            self.calendar.schedule(now + delay, Event::Redial { slot });
+            return;
+        }
+        self.lost_for_good(call, now, abandoned);
+    }
+
+    /// A measured attempt that was blocked or abandoned, counted.
+    #[inline(always)]
+    fn count_failed_attempt(&mut self, call: &Call, abandoned: bool) {
         if call.measured() {
-            let st = &mut self.tally.streams[si];
+            let st = &mut self.tally.streams[call.stream as usize];
             if abandoned {
                 st.attempts_abandoned += 1;
             } else {
@@ -1253,27 +1348,13 @@ impl<'m> Sim<'m> {
                 }
             }
         }
-        if let Some(retry) = &self.model.streams[si].retry {
-            let chance = retry.chance_after(call.attempt);
-            let rng = &mut self.streams[si].retry;
-            let u: f64 = rng.random();
-            if call.attempt < retry.max_attempts && u < chance {
-                let delay = retry.delay.sample(rng);
-                call.attempt += 1;
-                let slot = match self.free_redials.pop() {
-                    Some(slot) => {
-                        self.redials[slot as usize] = call;
-                        slot
-                    }
-                    None => {
-                        self.redials.push(call);
-                        (self.redials.len() - 1) as u32
-                    }
-                };
-                self.calendar.schedule(now + delay, Event::Redial { slot });
-                return;
-            }
-        }
+    }
+
+    /// A call that failed and does not redial: counted as finally blocked
+    /// or abandoned and resolved as lost; its finite source idles.
+    #[inline(always)]
+    fn lost_for_good(&mut self, call: Call, now: f64, abandoned: bool) {
+        let si = call.stream as usize;
         if call.measured() {
             let st = &mut self.tally.streams[si];
             if abandoned {
@@ -1291,13 +1372,38 @@ impl<'m> Sim<'m> {
         }
     }
 
+    /// Whether a caller of stream `si` whose attempt `attempt` failed
+    /// redials (the stream's `retry`: one uniform draw against the chance,
+    /// then the delay, both from the stream's retry generator), and after
+    /// what delay.
+    #[inline(always)]
+    fn redial_delay(&mut self, si: usize, attempt: u32) -> Option<f64> {
+        let retry = self.model.streams[si].retry.as_ref()?;
+        let chance = retry.chance_after(attempt);
+        let rng = &mut self.streams[si].retry;
+        let u: f64 = rng.random();
+        (attempt < retry.max_attempts && u < chance).then(|| retry.delay.sample(rng))
+    }
+
     /// A finite source's call has ended: it idles, then calls again.
     #[inline(never)]
     fn source_idles(&mut self, si: usize, now: f64) {
         if let Arrivals::Sources { idle, .. } = &self.model.streams[si].arrivals {
             let t = now + idle.sample(&mut self.streams[si].arrivals);
-            self.calendar
-                .schedule(t, Event::SourceCall { stream: si as u32 });
+            let call = self.source_call(si);
+            self.calendar.schedule(t, call);
+        }
+    }
+
+    /// The event of a call of stream `si` from outside the arrival lane (a
+    /// finite source's call; every call of a flow with stages, so that the
+    /// one-stage path never tests for stages).
+    fn source_call(&self, si: usize) -> Event {
+        let stream = si as u32;
+        if self.streams[si].staged {
+            Event::FlowCall { stream }
+        } else {
+            Event::SourceCall { stream }
         }
     }
 

@@ -167,6 +167,14 @@ impl Owner {
             Scope::Group(g) => (None, false, &model.groups[g].name),
             Scope::StreamInterval(b, s) => (Some(b), true, &model.streams[s].name),
             Scope::GroupInterval(b, g) => (Some(b), false, &model.groups[g].name),
+            Scope::Stage(s, k) => {
+                let st = &model.streams[s];
+                return Owner {
+                    interval: None,
+                    stream: true,
+                    name: format!("{}/{}", st.name, st.stages[k].name),
+                };
+            }
         };
         Owner {
             interval,

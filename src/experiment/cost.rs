@@ -286,7 +286,9 @@ fn closed_form_cost(model: &Model, prices: &Prices, group: usize) -> Option<impl
         // load is not the expected cost.
         let direct = matches!(st.arrivals, crate::scenario::Arrivals::Poisson { .. })
             && st.forecast.is_none();
-        if st.route.len() != 1 || st.units != 1 || st.retry.is_some() || !direct {
+        // A call flow's holding of the group is not one law's (stages).
+        if st.route.len() != 1 || st.units != 1 || st.retry.is_some() || !direct || st.has_stages()
+        {
             return None;
         }
         if prices.abandoned_call[s] > 0.0 || prices.wait_minute[s] > 0.0 {

@@ -186,12 +186,17 @@ pub struct Ladder {
 ///
 /// # Errors
 ///
-/// Worker threads that cannot start.
+/// Worker threads that cannot start; a model with call flows with stages.
 pub fn explain(
     model: &Model,
     replications: u32,
     opts: &RunOptions,
 ) -> Result<Ladder, ExperimentError> {
+    if let Some(s) = model.streams.iter().find(|s| s.has_stages()) {
+        return Err(ExperimentError::FlowNotExplained {
+            stream: s.name.clone(),
+        });
+    }
     let started = Instant::now();
     let effects: Vec<Effect> = (Effect::ORDER.iter().copied())
         .filter(|e| e.present(model))

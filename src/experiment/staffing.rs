@@ -127,6 +127,7 @@ pub fn interval_goals(model: &Model, goals: &[Goal], b: usize) -> Option<Vec<Goa
                             Scope::StreamInterval(b, s)
                         }
                         Scope::Group(g) | Scope::GroupInterval(_, g) => Scope::GroupInterval(b, g),
+                        Scope::Stage(..) => t.scope,
                     };
                     FigureId {
                         scope,
@@ -137,6 +138,7 @@ pub fn interval_goals(model: &Model, goals: &[Goal], b: usize) -> Option<Vec<Goa
                     Scope::StreamInterval(_, s) => {
                         stats::stream_interval_figures(model, s).contains(&t.figure)
                     }
+                    Scope::Stage(..) => false,
                     _ => stats::GROUP_INTERVAL_FIGURES.contains(&t.figure),
                 })
                 .collect();

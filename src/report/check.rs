@@ -45,6 +45,7 @@ impl FormulaView {
                 Scope::Group(g) => (1, g, 0),
                 Scope::StreamInterval(b, s) => (2, s, b),
                 Scope::GroupInterval(b, g) => (3, g, b),
+                Scope::Stage(s, k) => (4, s, k),
             };
             (kind, i, b, f.figure.compact_order(), f.figure)
         });
@@ -64,6 +65,10 @@ impl FormulaView {
                     }
                     Scope::Group(g) | Scope::GroupInterval(_, g) => {
                         format!("group {}", model.groups[g].name)
+                    }
+                    Scope::Stage(s, k) => {
+                        let st = &model.streams[s];
+                        format!("stream {} stage {}", st.name, st.stages[k].name)
                     }
                 },
                 figure: f.figure,

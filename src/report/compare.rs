@@ -594,19 +594,16 @@ impl Charted for CompareDocument {
             blocks.push(Block::Heading("Differences".into()));
             blocks.push(Block::Svg(svg.to_string()));
         }
-        blocks.push(Block::Heading("Assumptions".into()));
-        let mut assumptions = html::assumptions();
-        assumptions.push(
+        let paired = [
             "Both designs run on A's plan with the same seed and replication numbers: a stream of \
 the same name draws the same arrival and holding times in both, so the difference is estimated from \
-paired replications. Streams that differ between the files draw their own numbers."
-                .into(),
-        );
-        blocks.push(Block::List(assumptions));
-        html::page(
+paired replications. Streams that differ between the files draw their own numbers.",
+        ];
+        html::simulated_page(
             "Comparison of two designs (B - A)",
             &format!("busyhour compare of {} and {}", self.a.file, self.b.file),
-            &blocks,
+            blocks,
+            &paired,
         )
     }
 }

@@ -317,15 +317,14 @@ impl Charted for CostDocument {
         if let Some(svg) = chart {
             blocks.push(Block::Svg(svg.to_string()));
         }
-        blocks.push(Block::Heading("Assumptions".into()));
-        blocks.push(Block::List(html::assumptions()));
-        html::page(
+        html::simulated_page(
             &self.scenario,
             &format!(
                 "busyhour size --goal cost of {} in {}",
                 self.group, self.file
             ),
-            &blocks,
+            blocks,
+            &[],
         )
     }
 }

@@ -142,12 +142,16 @@ pub fn describe_model(model: &Model, file: &str) -> String {
             )),
             None => out.push_str("    offered traffic depends on how many sources are idle\n"),
         }
-        out.push_str(&format!("    holding {}\n", s.holding.describe()));
-        out.push_str(&format!("    route {}", route.join(" -> ")));
-        if s.units > 1 {
-            out.push_str(&format!(", {} servers per call", s.units));
+        if s.has_stages() {
+            describe_stages(&mut out, model, s);
+        } else {
+            out.push_str(&format!("    holding {}\n", s.holding.describe()));
+            out.push_str(&format!("    route {}", route.join(" -> ")));
+            if s.units > 1 {
+                out.push_str(&format!(", {} servers per call", s.units));
+            }
+            out.push('\n');
         }
-        out.push('\n');
         if let Some(rt) = &s.retry {
             let chances: Vec<String> = rt.chances.iter().map(|c| format_share(*c)).collect();
             out.push_str(&format!(
@@ -238,4 +242,35 @@ fn servers_in_words(g: &crate::scenario::Group) -> String {
         ));
     }
     words
+}
+
+/// The stages of stream `s`'s call flow, one line each, and the mean total
+/// holding.
+fn describe_stages(out: &mut String, model: &Model, s: &crate::scenario::Stream) {
+    out.push_str(&format!(
+        "    call flow of {} stages, mean total holding {} when nobody waits\n",
+        s.stages.len(),
+        format_duration(s.flow_holding_mean())
+    ));
+    for (k, st) in s.stages.iter().enumerate() {
+        let route: Vec<&str> = (st.route.iter())
+            .map(|&g| model.groups[g as usize].name.as_str())
+            .collect();
+        let mut line = format!("    {}. {}: {}", k + 1, st.name, route.join(" -> "));
+        match &st.holding {
+            Some(h) => line.push_str(&format!(", holding {}", h.describe())),
+            None => line.push_str(", no time of its own"),
+        }
+        if st.hold == crate::scenario::Hold::ToEnd {
+            line.push_str(", held to the end of the call");
+        }
+        if let Some(p) = &st.patience {
+            line.push_str(&format!(", patience {}", p.describe()));
+        }
+        if st.finish > 0.0 {
+            line.push_str(&format!(", {} end here", format_share(st.finish)));
+        }
+        out.push_str(&line);
+        out.push('\n');
+    }
 }

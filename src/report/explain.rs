@@ -390,12 +390,11 @@ impl Charted for ExplainDocument {
                 rows: self.effect_rows(),
             }));
         }
-        blocks.push(Block::Heading("Assumptions".into()));
-        blocks.push(Block::List(html::assumptions()));
-        html::page(
+        html::simulated_page(
             &self.scenario,
             &format!("busyhour explain of {}", self.file),
-            &blocks,
+            blocks,
+            &[],
         )
     }
 }

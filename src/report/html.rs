@@ -170,8 +170,24 @@ pub fn page(title: &str, subtitle: &str, blocks: &[Block]) -> String {
     out
 }
 
+/// The page of a simulated report ([`page`]): its blocks, then the
+/// assumptions every simulated report rests on, and the report's own
+/// `more` after them. The one home of that closing section.
+pub fn simulated_page(
+    title: &str,
+    subtitle: &str,
+    mut blocks: Vec<Block>,
+    more: &[&str],
+) -> String {
+    blocks.push(Block::Heading("Assumptions".into()));
+    let mut list = assumptions();
+    list.extend(more.iter().map(|m| m.to_string()));
+    blocks.push(Block::List(list));
+    page(title, subtitle, &blocks)
+}
+
 /// The assumptions every simulated report rests on.
-pub fn assumptions() -> Vec<String> {
+fn assumptions() -> Vec<String> {
     vec![
         "Every simulated figure is the mean across independent replications with a 95% Student-t \
 half-width; the true value lies outside that interval about one time in twenty."

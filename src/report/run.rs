@@ -85,6 +85,10 @@ pub struct RunDocument {
     pub streams: Vec<FigureSet>,
     /// Every group's figures over the measured period.
     pub groups: Vec<FigureSet>,
+    /// Every stage of every call flow, stream by stream (none without
+    /// stages).
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub stages: Vec<StageFigures>,
     /// The precision goal, when one was set.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub precision: Option<Precision>,
@@ -194,6 +198,16 @@ impl BusyHourFigures {
     }
 }
 
+/// The figures of one stage of a stream's call flow.
+#[derive(Debug, Clone, Serialize)]
+pub struct StageFigures {
+    /// The stream's name.
+    pub stream: String,
+    /// The stage's name (as `name`) and its figures.
+    #[serde(flatten)]
+    pub set: FigureSet,
+}
+
 impl RunDocument {
     /// The document of `outcome`, a run of `model` read from `file`.
     pub fn new(model: &Model, outcome: &RunResult, file: &str) -> RunDocument {
@@ -209,6 +223,16 @@ impl RunDocument {
         let mut groups: Vec<FigureSet> = (model.groups.iter())
             .map(|gr| FigureSet::new(&gr.name, Some(gr.servers)))
             .collect();
+        // Each stage's place in `stages`, by stream.
+        let mut stages: Vec<StageFigures> = Vec::new();
+        let mut stage_at: Vec<usize> = Vec::with_capacity(model.streams.len());
+        for st in &model.streams {
+            stage_at.push(stages.len());
+            stages.extend(st.stages.iter().map(|k| StageFigures {
+                stream: st.name.clone(),
+                set: FigureSet::new(&k.name, None),
+            }));
+        }
         let mut intervals: Vec<Interval> = (0..plan.interval_count())
             .map(|b| Interval {
                 start_s: b as f64 * width,
@@ -236,6 +260,7 @@ impl RunDocument {
                 Scope::Group(g) => &mut groups[g],
                 Scope::StreamInterval(b, s) => &mut intervals[b].streams[s],
                 Scope::GroupInterval(b, g) => &mut intervals[b].groups[g],
+                Scope::Stage(s, k) => &mut stages[stage_at[s] + k].set,
             };
             (set.figures.0).push(FigureValue::new(f.figure, *e, formulas.get(f)));
         }
@@ -253,6 +278,7 @@ impl RunDocument {
             partial: outcome.partial,
             streams,
             groups,
+            stages,
             precision: outcome.precision.map(|p| Precision {
                 target: p.target,
                 achieved: p.achieved,
@@ -359,6 +385,19 @@ impl RunDocument {
             title: "Groups".into(),
             rows,
         });
+        if !self.stages.is_empty() {
+            let mut rows = vec![header("stream / stage")];
+            for st in &self.stages {
+                rows.extend(figure_rows(
+                    &st.set,
+                    &format!("{} / {}", st.stream, st.set.name),
+                ));
+            }
+            tables.push(Table {
+                title: "Stages of the call flows".into(),
+                rows,
+            });
+        }
         if !self.intervals.is_empty() {
             tables.push(Table {
                 title: if self.clock_start.is_some() {
@@ -511,12 +550,11 @@ shows the closed-form value where its assumptions hold.",
         }
         blocks.push(Block::Heading("Textbook view".into()));
         blocks.push(Block::Pre(self.textbook.text()));
-        blocks.push(Block::Heading("Assumptions".into()));
-        blocks.push(Block::List(html::assumptions()));
-        html::page(
+        html::simulated_page(
             &self.scenario,
             &format!("busyhour run of {}", self.file),
-            &blocks,
+            blocks,
+            &[],
         )
     }
 
@@ -840,9 +878,17 @@ impl Document for RunDocument {
                 .chain(iv.groups.iter().map(|g| ("group", g)))
                 .map(move |(kind, set)| (kind, set, start.clone()))
         });
-        let rows = whole.chain(by_interval).flat_map(|(kind, set, start)| {
+        let stage_names: Vec<String> = (self.stages.iter())
+            .map(|st| format!("{}/{}", st.stream, st.set.name))
+            .collect();
+        let whole = whole.map(|(kind, set, start)| (kind, set, None, start));
+        let by_interval = by_interval.map(|(kind, set, start)| (kind, set, None, start));
+        let stages = (self.stages.iter().zip(&stage_names))
+            .map(|(st, name)| ("stage", &st.set, Some(name), String::new()));
+        let rows = (whole.chain(stages).chain(by_interval)).flat_map(|(kind, set, name, start)| {
             set.figures.iter().map(move |v| {
-                let lead = [kind.to_string(), set.name.clone(), start.clone()];
+                let name = name.unwrap_or(&set.name).clone();
+                let lead = [kind.to_string(), name, start.clone()];
                 lead.into_iter().chain(v.csv_cells()).collect()
             })
         });

@@ -9,6 +9,7 @@ use super::plot::{self, ChartError};
 use super::sweep::{Column, SweepDocument, value_at};
 use super::text::{self, Table, align};
 use super::{CAUTION, Charted, Document, html};
+use crate::stats::Estimate;
 use serde::Serialize;
 
 /// How far one figure moves across one setting's range.
@@ -29,9 +30,11 @@ pub struct Effect {
     /// The largest minus the smallest mean over the range (the effect's
     /// size, the order of the table).
     pub spread: f64,
-    /// Whether the spread is larger than the widest 95% half-width seen
-    /// across the range (otherwise the range moves the figure less than
-    /// the simulation can tell).
+    /// The figure at the last value minus at the first, as a paired
+    /// difference over the common seeds, with its 95% interval.
+    pub change: Estimate,
+    /// Whether the change's interval excludes zero (otherwise the range
+    /// moves the figure less than the simulation can tell).
     pub decided: bool,
     /// The figure's unit, for the table.
     #[serde(skip)]
@@ -63,6 +66,8 @@ impl SensitivityDocument {
             let mut of_figure: Vec<Effect> = sweeps
                 .iter()
                 .filter_map(|d| {
+                    let at = d.columns.iter().position(|x| x == c)?;
+                    let change = d.change.get(at).copied().flatten()?;
                     let means: Vec<(f64, f64, f64)> = (d.steps.iter())
                         .filter_map(|st| {
                             let v = value_at(&st.result, c)?;
@@ -73,7 +78,6 @@ impl SensitivityDocument {
                     let (first, last) = (means.first()?, means.last()?);
                     let high = means.iter().map(|x| x.1).fold(f64::NEG_INFINITY, f64::max);
                     let low = means.iter().map(|x| x.1).fold(f64::INFINITY, f64::min);
-                    let widest = means.iter().map(|x| x.2).fold(0.0, f64::max);
                     Some(Effect {
                         figure: d.column_name(c),
                         setting: d.swept.clone(),
@@ -82,7 +86,8 @@ impl SensitivityDocument {
                         at_from: first.1,
                         at_to: last.1,
                         spread: high - low,
-                        decided: high - low > widest,
+                        change,
+                        decided: change.low > 0.0 || change.high < 0.0,
                         unit: c.figure.unit(),
                     })
                 })
@@ -109,6 +114,7 @@ impl SensitivityDocument {
             "figure from".into(),
             "to".into(),
             "spread".into(),
+            "change, last - first (paired, 95%)".into(),
             "".into(),
         ]];
         let number = |x: f64| crate::units::trim_float(x, 4);
@@ -120,6 +126,7 @@ impl SensitivityDocument {
                 text::value(e.unit, e.at_from),
                 text::value(e.unit, e.at_to),
                 text::value(e.unit, e.spread),
+                text::estimate(e.unit, &e.change),
                 if e.decided {
                     String::new()
                 } else {
@@ -132,7 +139,7 @@ impl SensitivityDocument {
 }
 
 /// The heading of the effects table.
-const EFFECTS: &str = "One-at-a-time effects (each setting alone, the others as the file has them, the same seeds at every step): the spread is the largest minus the smallest mean over the setting's range, largest first per figure";
+const EFFECTS: &str = "One-at-a-time effects (each setting alone, the others as the file has them, the same seeds at every step): the spread is the largest minus the smallest mean over the setting's range, largest first per figure; the change is the figure at the last value minus at the first, paired over the common seeds, \"within the noise\" when its 95% interval covers zero";
 
 impl Document for SensitivityDocument {
     fn table(&self) -> String {
@@ -152,7 +159,17 @@ impl Document for SensitivityDocument {
     /// The effects, one row per figure and setting.
     fn csv(&self) -> Option<String> {
         let head: Vec<String> = [
-            "figure", "setting", "from", "to", "at_from", "at_to", "spread", "decided",
+            "figure",
+            "setting",
+            "from",
+            "to",
+            "at_from",
+            "at_to",
+            "spread",
+            "change",
+            "change_low",
+            "change_high",
+            "decided",
         ]
         .into_iter()
         .map(String::from)
@@ -166,6 +183,9 @@ impl Document for SensitivityDocument {
                 text::csv_number(e.at_from),
                 text::csv_number(e.at_to),
                 text::csv_number(e.spread),
+                text::csv_number(e.change.mean),
+                text::csv_number(e.change.low),
+                text::csv_number(e.change.high),
                 e.decided.to_string(),
             ]
         });
@@ -212,12 +232,11 @@ impl Charted for SensitivityDocument {
             blocks.push(Block::Heading("Each setting's figures".into()));
             blocks.push(Block::Svg(svg.to_string()));
         }
-        blocks.push(Block::Heading("Assumptions".into()));
-        blocks.push(Block::List(html::assumptions()));
-        html::page(
+        html::simulated_page(
             &self.scenario,
             &format!("busyhour sweep of {}: several settings", self.file),
-            &blocks,
+            blocks,
+            &[],
         )
     }
 }

@@ -8,7 +8,7 @@ use super::json::verdict_word;
 use super::plot::{self, ChartError, Line, LineChart, Markers, Paint, Series};
 use super::text::{self, Table, align};
 use super::{CAUTION, Charted, Document, html};
-use crate::experiment::size::{Evaluation, SizeResult, Verdict};
+use crate::experiment::size::{Evaluation, Goal, SizeResult, Verdict};
 use crate::scenario::Model;
 use crate::stats::{Estimate, Figure, Scope, Unit};
 use serde::{Serialize, Serializer};
@@ -29,10 +29,26 @@ pub struct SizeGoal {
     pub at_most: bool,
     /// The bound, in the figure's unit (a share, seconds, erlangs or a ratio).
     pub bound: f64,
+    /// A goal on the share of days: the least share of replications (days)
+    /// whose own figures meet the bound; absent for a goal on the long-run
+    /// figure.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub days: Option<f64>,
     /// Whether the goal covers several streams or groups (the table then
     /// names the one that decides).
     #[serde(skip)]
     pub several: bool,
+}
+
+impl SizeGoal {
+    /// "80%" or "80% on 90% of days".
+    fn bound_words(&self) -> String {
+        let bound = text::value(self.figure.unit(), self.bound);
+        match self.days {
+            Some(d) => format!("{bound} on {} of days", text::value(Unit::Share, d)),
+            None => bound,
+        }
+    }
 }
 
 /// The stream or group whose figure decides a goal.
@@ -54,12 +70,14 @@ pub struct GoalAtSize {
     #[serde(serialize_with = "verdict_word")]
     pub verdict: Verdict,
     /// The deciding estimate (the worst of the figures the goal covers),
-    /// with its 95% interval.
+    /// with the interval of the verdict's level; for a goal on the share of
+    /// days, the long-run figure beside the share the verdict is on.
     pub estimate: FigureValue,
     /// Whose figure that is.
     pub decided_by: Option<Owner>,
     /// Share of replications (periods) whose own figure met the bound, with
-    /// its exact 95% interval.
+    /// its exact 95% interval (at the verdict's level for a goal on the
+    /// share of days, which is judged on it).
     pub periods_meeting: Estimate,
 }
 
@@ -155,12 +173,27 @@ impl SizeDocument {
                 .zip(&e.goals)
                 .zip(&e.periods)
                 .zip(&e.deciding))
-            .map(|(((g, (verdict, est)), periods), deciding)| GoalAtSize {
-                goal: g.text.clone(),
-                verdict: *verdict,
-                estimate: FigureValue::new(g.figure, *est, None),
-                decided_by: deciding.and_then(|f| owner(f.scope)),
-                periods_meeting: *periods,
+            .map(|(((g, (verdict, est)), periods), deciding)| {
+                // A goal on the share of days is judged on the share; the
+                // long-run figure is shown beside it.
+                let (figure, periods, deciding) = match g.days {
+                    None => (*est, *periods, *deciding),
+                    Some(_) => {
+                        let long_run = Goal {
+                            days: None,
+                            ..g.clone()
+                        };
+                        let (_, figure, worst) = long_run.judge_targets(&e.outcome, r.looks);
+                        (figure, *est, worst)
+                    }
+                };
+                GoalAtSize {
+                    goal: g.text.clone(),
+                    verdict: *verdict,
+                    estimate: FigureValue::new(g.figure, figure, None),
+                    decided_by: deciding.and_then(|f| owner(f.scope)),
+                    periods_meeting: periods,
+                }
             })
             .collect(),
         };
@@ -174,6 +207,7 @@ impl SizeDocument {
                     figure: g.figure,
                     at_most: g.at_most,
                     bound: g.bound,
+                    days: g.days,
                     several: g.targets.len() > 1,
                 })
                 .collect(),
@@ -229,11 +263,8 @@ impl SizeDocument {
         let mut rows = vec![head];
         for (i, goal) in self.goals.iter().enumerate() {
             let unit = goal.figure.unit();
-            let mut row = vec![format!(
-                "{} (bound {})",
-                goal.goal,
-                text::value(unit, goal.bound)
-            )];
+            let on_days = goal.days.is_some();
+            let mut row = vec![format!("{} (bound {})", goal.goal, goal.bound_words())];
             for e in &cols {
                 let at = &e.goals[i];
                 // Name the stream or group whose figure decides, when the
@@ -246,25 +277,46 @@ impl SizeDocument {
                     "{}{whose}",
                     text::estimate(unit, &at.estimate.estimate)
                 ));
-                row.push(
-                    match at.verdict {
-                        Verdict::Holds => "holds",
-                        Verdict::Fails => "FAILS",
-                        Verdict::Undecided => "undecided",
-                    }
-                    .into(),
-                );
+                // A goal on the share of days has its verdict on the row
+                // of that share.
+                row.push(if on_days {
+                    String::new()
+                } else {
+                    verdict_cell(at.verdict)
+                });
             }
             rows.push(row);
-            let mut row = vec!["  periods meeting it (one per replication)".to_string()];
+            let label = match goal.days {
+                Some(d) => format!(
+                    "  days meeting it (one per replication; goal: at least {})",
+                    text::value(Unit::Share, d)
+                ),
+                None => "  periods meeting it (one per replication)".to_string(),
+            };
+            let mut row = vec![label];
             for e in &cols {
-                row.push(text::estimate(Unit::Share, &e.goals[i].periods_meeting));
-                row.push(String::new());
+                let at = &e.goals[i];
+                row.push(text::estimate(Unit::Share, &at.periods_meeting));
+                row.push(if on_days {
+                    verdict_cell(at.verdict)
+                } else {
+                    String::new()
+                });
             }
             rows.push(row);
         }
         rows
     }
+}
+
+/// A verdict as the goal table shows it (a failure in capitals).
+fn verdict_cell(v: Verdict) -> String {
+    match v {
+        Verdict::Holds => "holds",
+        Verdict::Fails => "FAILS",
+        Verdict::Undecided => "undecided",
+    }
+    .into()
 }
 
 impl Charted for SizeDocument {
@@ -283,7 +335,10 @@ impl Charted for SizeDocument {
         };
         let mut panels = Vec::new();
         for (i, goal) in self.goals.iter().enumerate() {
-            let (y_label, scale) = plot::axis(goal.figure);
+            let (y_label, scale) = match goal.days {
+                Some(_) => ("days meeting the bound (%)".to_string(), 100.0),
+                None => plot::axis(goal.figure),
+            };
             let what = format!("{} against {} on {}", goal.goal, self.what, self.group);
             let mut c = LineChart::new(
                 if i == 0 {
@@ -312,12 +367,8 @@ impl Charted for SizeDocument {
             // The goal line spans half a size beyond the first and last
             // sizes, which sets the x axis.
             c.series.push(Series::goal(
-                format!(
-                    "goal {} (bound {})",
-                    goal.goal,
-                    text::value(goal.figure.unit(), goal.bound)
-                ),
-                goal.bound * scale,
+                format!("goal {} (bound {})", goal.goal, goal.bound_words()),
+                goal.days.unwrap_or(goal.bound) * scale,
                 (x0 - 0.5, x1 + 0.5),
             ));
             // Sizes are whole numbers: a dot and whisker at each size tried.
@@ -404,12 +455,11 @@ at one size each verdict uses a {:.2}% interval (Bonferroni), so the chance of a
             self.looks,
             self.level()
         )));
-        blocks.push(Block::Heading("Assumptions".into()));
-        blocks.push(Block::List(html::assumptions()));
-        html::page(
+        html::simulated_page(
             &self.scenario,
             &format!("busyhour size of {} in {}", self.group, self.file),
-            &blocks,
+            blocks,
+            &[],
         )
     }
 }
@@ -426,10 +476,17 @@ impl Document for SizeDocument {
             "A goal holds at a size when its whole interval lies on the right side of the bound; with up to {} looks \
 at one size the intervals are {:.2}% (Bonferroni), 95% overall. The goal is judged on the long-run figure \
 (shares pooled over all calls); \"periods meeting it\" is the share of replications, each one measured period long, \
-whose own figure met the bound (95% exact interval).\n\n",
+whose own figure met the bound (95% exact interval).\n",
             self.looks,
             self.level()
         ));
+        if self.goals.iter().any(|g| g.days.is_some()) {
+            out.push_str(
+                "A goal \"on X of days\" is judged instead on the share of replications (days) whose own figures met \
+the bound, with its exact interval at the verdict's level: it holds when that whole interval is at least X.\n",
+            );
+        }
+        out.push('\n');
         let undecided = self
             .tried
             .last()

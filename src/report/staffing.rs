@@ -47,7 +47,7 @@ fn judged(model: &Model, goals: &[Goal], b: usize, result: &RunResult) -> Vec<In
                 goal: g.text.clone(),
                 verdict,
                 estimate,
-                unit: g.figure.unit(),
+                unit: g.judged_unit(),
                 days_meeting: g.period_share(result),
             }
         })
@@ -203,10 +203,10 @@ pub struct StaffingDocument {
     /// midnight), for labels.
     #[serde(skip)]
     pub clock_start: Option<f64>,
-    /// Each goal's figure and bound (in the figure's unit), for the chart's
-    /// goal lines.
+    /// Each goal's figure, bound (in the figure's unit) and share of days
+    /// (for a goal on the share of days), for the chart's goal lines.
     #[serde(skip)]
-    pub bounds: Vec<(Figure, f64)>,
+    pub bounds: Vec<(Figure, f64, Option<f64>)>,
     /// The scenario in plain words, for the HTML page.
     #[serde(skip)]
     pub words: String,
@@ -284,7 +284,7 @@ impl StaffingDocument {
             shift_plan: shifts.map(|p| ShiftPlanSection::new(model, goals, p)),
             caution: CAUTION,
             clock_start: model.plan.clock_start_s,
-            bounds: goals.iter().map(|g| (g.figure, g.bound)).collect(),
+            bounds: goals.iter().map(|g| (g.figure, g.bound, g.days)).collect(),
             words: super::describe::describe_model(model, file),
             redials: (model.streams.iter())
                 .any(|s| s.route.contains(&(group as u32)) && s.retry.is_some()),
@@ -736,12 +736,29 @@ impl Charted for StaffingDocument {
         let mut panels = vec![plot::render_svg(&load)?];
         let span = (0.0, self.intervals.last().map_or(0.0, |r| r.end_s / 3600.0));
         let mid = |r: &StaffingInterval| (r.start_s + r.end_s) / 7200.0;
-        for (i, (goal, (figure, bound))) in self.goals.iter().zip(&self.bounds).enumerate() {
-            let (y_label, scale) = plot::axis(*figure);
+        for (i, (goal, (figure, bound, days))) in self.goals.iter().zip(&self.bounds).enumerate() {
+            // A goal on the share of days is judged, and drawn, on that
+            // share.
+            let ((y_label, scale), line, drawn_at) = match days {
+                Some(d) => (
+                    ("days meeting the bound (%)".to_string(), 100.0),
+                    format!(
+                        "{} on {} of days",
+                        text::value(figure.unit(), *bound),
+                        text::value(stats::Unit::Share, *d)
+                    ),
+                    *d,
+                ),
+                None => (
+                    plot::axis(*figure),
+                    text::value(figure.unit(), *bound),
+                    *bound,
+                ),
+            };
             let mut c = self.panel(format!("Goal {goal} per interval"), y_label, false);
             c.series.push(Series::goal(
-                format!("goal {goal} (bound {})", text::value(figure.unit(), *bound)),
-                bound * scale,
+                format!("goal {goal} (bound {line})"),
+                drawn_at * scale,
                 span,
             ));
             let under = |start: bool| -> Vec<(f64, Estimate)> {
@@ -871,15 +888,14 @@ from ({}), simulated with the same seeds.",
                 "the stationary requirement, or one more than the load where no formula covers the goals"
             }
         )));
-        blocks.push(Block::Heading("Assumptions".into()));
-        blocks.push(Block::List(html::assumptions()));
-        html::page(
+        html::simulated_page(
             &self.scenario,
             &format!(
                 "busyhour size --per-interval of {} in {}",
                 self.group, self.file
             ),
-            &blocks,
+            blocks,
+            &[],
         )
     }
 }

@@ -10,10 +10,10 @@ use super::plot::{self, ChartError, LineChart, Paint, Series};
 use super::run::RunDocument;
 use super::text::{self, Table, align};
 use super::{CAUTION, Charted, Document, html};
-use crate::experiment::size::{Goal, Verdict};
+use crate::experiment::size::{Goal, Verdict, paired_difference};
 use crate::experiment::sweep::{Step, Sweep};
 use crate::scenario::Model;
-use crate::stats::{Estimate, Figure, Unit};
+use crate::stats::{Estimate, Figure, Scope, Unit};
 use crate::units::trim_float;
 use serde::{Serialize, Serializer};
 
@@ -157,6 +157,11 @@ pub struct SweepDocument {
     /// A setting of the file is swept (the table's title says so).
     #[serde(skip)]
     pub setting: bool,
+    /// Per column, the change of its figure from the first step to the
+    /// last, as a paired difference over the common seeds (95%); `None`
+    /// where a step does not report it.
+    #[serde(skip)]
+    pub change: Vec<Option<Estimate>>,
 }
 
 impl SweepDocument {
@@ -174,6 +179,7 @@ impl SweepDocument {
         figures: &[Figure],
         goals: &[Goal],
     ) -> SweepDocument {
+        let ends = steps.first().zip(steps.last());
         let steps: Vec<SweepStep> = (steps.iter().enumerate())
             .map(|(i, st)| {
                 let mut result = RunDocument::new(&st.model, &st.outcome, file);
@@ -209,7 +215,7 @@ impl SweepDocument {
                         | (Place::Group(_), Figure::Occupancy)
                 )
         };
-        let columns = steps
+        let columns: Vec<Column> = steps
             .first()
             .map(|st| {
                 let places = (st.result.streams.iter().enumerate())
@@ -229,6 +235,18 @@ impl SweepDocument {
                     .collect()
             })
             .unwrap_or_default();
+        let change = (columns.iter())
+            .map(|c: &Column| {
+                let (first, last) = ends?;
+                let scope = match c.place {
+                    Place::Stream(s) => Scope::Stream(s),
+                    Place::Group(g) => Scope::Group(g),
+                };
+                let a = first.outcome.index_of(scope, c.figure)?;
+                let b = last.outcome.index_of(scope, c.figure)?;
+                Some(paired_difference(&first.outcome, &last.outcome, a, b))
+            })
+            .collect();
         let load_swept = swept.scales_load();
         let grid = matches!(swept, Sweep::Grid { .. });
         let setting = swept.is_setting();
@@ -279,7 +297,9 @@ impl SweepDocument {
             caution: CAUTION,
             scenario: model.title.clone(),
             columns,
-            goals: (goals.iter())
+            // A goal on the share of days bounds each day's figure, not the
+            // long-run figure the charts draw: it gets no line there.
+            goals: (goals.iter().filter(|g| g.days.is_none()))
                 .map(|g| GoalLine {
                     text: g.text.clone(),
                     figure: g.figure,
@@ -289,6 +309,7 @@ impl SweepDocument {
             words: describe_model(model, file),
             load_swept,
             setting,
+            change,
         }
     }
 
@@ -477,12 +498,11 @@ impl Charted for SweepDocument {
         if let Some(svg) = chart {
             blocks.push(Block::Svg(svg.to_string()));
         }
-        blocks.push(Block::Heading("Assumptions".into()));
-        blocks.push(Block::List(html::assumptions()));
-        html::page(
+        html::simulated_page(
             &self.scenario,
             &format!("busyhour sweep of {}: {}", self.file, self.swept),
-            &blocks,
+            blocks,
+            &[],
         )
     }
 

@@ -8,8 +8,8 @@ pub mod spec;
 
 pub use model::Forecast;
 pub use model::{
-    Arrivals, Group, Model, Prices, Queue, Replications, Retry, RunPlan, Schedule, SeenBy, Start,
-    Stream, TransformError, residual_quantile,
+    Arrivals, Group, Hold, Model, Prices, Queue, Replications, Retry, RunPlan, Schedule, SeenBy,
+    Stage, Start, Stream, TransformError, residual_quantile,
 };
 
 use crate::dist::{self, Law, LawParams};
@@ -26,6 +26,8 @@ use thiserror::Error;
 pub const MAX_GROUP_SERVERS: i64 = 1_000_000;
 /// Longest warm-up or measured period accepted (s): ten years.
 pub const MAX_LENGTH_S: f64 = 10.0 * 365.0 * 86400.0;
+/// Most stages in one call flow.
+pub const MAX_STAGES: usize = 16;
 /// Most replications accepted.
 pub const MAX_REPLICATIONS: i64 = 1_000_000;
 /// Most finite sources, waiting places or attempts per call accepted.
@@ -972,24 +974,41 @@ impl Compiler {
     ) -> R<Stream> {
         let k = |field: &str| format!("stream \"{}\".{field}", s.name);
         let arrivals = self.arrivals(&k("arrivals"), &s.arrivals)?;
-        let holding = self.law(&k("holding"), &s.holding)?;
-        if s.route.is_empty() {
-            return Err(self.err(k("route"), "the route is empty: name at least one group"));
-        }
-        let mut route = Vec::with_capacity(s.route.len());
-        for (j, name) in s.route.iter().enumerate() {
-            let key = format!("{}[{}]", k("route"), j + 1);
-            let gi = *group_index
-                .get(name.as_str())
-                .ok_or_else(|| self.err(&key, format!("no group is named \"{name}\"")))?;
-            if route.contains(&(gi as u32)) {
-                return Err(self.err(
-                    key,
-                    format!("the group \"{name}\" appears twice in the route"),
-                ));
+        let (holding, route, stages) = match &s.stages {
+            Some(stages) => {
+                for (field, given) in [
+                    ("route", s.route.is_some()),
+                    ("holding", s.holding.is_some()),
+                    ("units", s.units.is_some()),
+                    ("patience", s.patience.is_some()),
+                ] {
+                    if given {
+                        return Err(self.err(
+                            k(field),
+                            format!("a stream with stages takes no {field} of its own: give it in each stage"),
+                        ));
+                    }
+                }
+                self.stages(&k("stages"), stages, group_index)?
             }
-            route.push(gi as u32);
-        }
+            None => {
+                let Some(holding) = &s.holding else {
+                    return Err(self.err(
+                        k("holding"),
+                        "missing: give a holding law, or stages for a call flow",
+                    ));
+                };
+                let holding = self.law(&k("holding"), holding)?;
+                let Some(names) = &s.route else {
+                    return Err(self.err(
+                        k("route"),
+                        "missing: give the groups tried in order, or stages for a call flow",
+                    ));
+                };
+                let route = self.route(&k("route"), names, group_index, &mut Vec::new())?;
+                (holding, route, Vec::new())
+            }
+        };
         let units = match s.units {
             None => 1,
             Some(u) => self.count(&k("units"), u, 1, MAX_GROUP_SERVERS)?,
@@ -1025,6 +1044,12 @@ impl Compiler {
             }
             Some(p) => Some(self.count(&k("priority"), p, 1, MAX_PRIORITY)?),
         };
+        if !stages.is_empty() && s.seen_by.is_some() {
+            return Err(self.err(
+                k("seen_by"),
+                "a stream with stages takes no seen_by: a call flow waits in one stage's queue at a time",
+            ));
+        }
         let seen_by = self.seen_by(s, &k, group_index, groups, &route, units, queued)?;
         Ok(Stream {
             name: s.name.clone(),
@@ -1039,6 +1064,7 @@ impl Compiler {
             forecast: self.forecast(s, &k)?,
             priority,
             seen_by,
+            stages,
         })
     }
 
@@ -1134,6 +1160,129 @@ impl Compiler {
             }
         }
         Ok(())
+    }
+
+    /// A route of group names at `key`: each group known and named once in
+    /// `taken` (the groups of the flow so far, which it then holds).
+    fn route(
+        &self,
+        key: &str,
+        names: &[String],
+        group_index: &HashMap<&str, usize>,
+        taken: &mut Vec<u32>,
+    ) -> R<Vec<u32>> {
+        if names.is_empty() {
+            return Err(self.err(key, "the route is empty: name at least one group"));
+        }
+        let mut route = Vec::with_capacity(names.len());
+        for (j, name) in names.iter().enumerate() {
+            let at = format!("{key}[{}]", j + 1);
+            let gi = *group_index
+                .get(name.as_str())
+                .ok_or_else(|| self.err(&at, format!("no group is named \"{name}\"")))?;
+            if route.contains(&(gi as u32)) {
+                return Err(self.err(
+                    at,
+                    format!("the group \"{name}\" appears twice in the route"),
+                ));
+            }
+            if taken.contains(&(gi as u32)) {
+                return Err(self.err(
+                    at,
+                    format!("the group \"{name}\" already serves an earlier stage: a group serves one stage of a flow"),
+                ));
+            }
+            route.push(gi as u32);
+        }
+        taken.extend(&route);
+        Ok(route)
+    }
+
+    /// A stream's stages (rules in docs/semantics.md, "Call flows with
+    /// stages"): the stages, the route of every group of the flow, and the
+    /// fixed law at the mean total holding that stands for the flow's
+    /// holding where only its mean is read.
+    fn stages(
+        &self,
+        key: &str,
+        specs: &[spec::StageSpec],
+        group_index: &HashMap<&str, usize>,
+    ) -> R<(Law, Vec<u32>, Vec<Stage>)> {
+        if specs.is_empty() {
+            return Err(self.err(
+                key,
+                "no stages: give at least one, or a route and a holding",
+            ));
+        }
+        if specs.len() > MAX_STAGES {
+            return Err(self.err(
+                key,
+                format!("{} stages: a flow has at most {MAX_STAGES}", specs.len()),
+            ));
+        }
+        let mut taken = Vec::new();
+        let mut stages: Vec<Stage> = Vec::with_capacity(specs.len());
+        for (j, st) in specs.iter().enumerate() {
+            let at = format!("{key}[{}]", j + 1);
+            let f = |field: &str| format!("{at}.{field}");
+            if st.name.is_empty() {
+                return Err(self.err(f("name"), "the stage needs a name"));
+            }
+            if stages.iter().any(|p| p.name == st.name) {
+                return Err(self.err(f("name"), format!("two stages are named \"{}\"", st.name)));
+            }
+            let route = self.route(&f("route"), &st.route, group_index, &mut taken)?;
+            let holding = match &st.holding {
+                None => None,
+                Some(l) => Some(self.law(&f("holding"), l)?),
+            };
+            let patience = match &st.patience {
+                None => None,
+                Some(l) => Some(self.law(&f("patience"), l)?),
+            };
+            let hold = match st.hold.as_deref() {
+                None | Some("stage") => Hold::Stage,
+                Some("to-end") => Hold::ToEnd,
+                Some(other) => {
+                    return Err(self.err(
+                        f("hold"),
+                        format!("\"{other}\": expected \"stage\" (until the stage ends) or \"to-end\" (until the call ends)"),
+                    ));
+                }
+            };
+            if holding.is_none() && hold == Hold::Stage {
+                return Err(self.err(
+                    f("holding"),
+                    "missing: a stage released when it ends needs a holding law (a stage without one must hold its server to the end: hold = \"to-end\")",
+                ));
+            }
+            let last = j + 1 == specs.len();
+            let finish = match &st.finish {
+                None => 0.0,
+                Some(_) if last => {
+                    return Err(self.err(
+                        f("finish"),
+                        "every call ends after the last stage: finish belongs to an earlier stage",
+                    ));
+                }
+                Some(a) => self.share(&f("finish"), a)?,
+            };
+            stages.push(Stage {
+                name: st.name.clone(),
+                route,
+                holding,
+                patience,
+                finish,
+                hold,
+            });
+        }
+        let holding = Law::deterministic(model::flow_holding_mean(&stages)).map_err(|_| {
+            self.err(
+                key,
+                "the flow takes no time: give at least one stage a holding law with a mean above zero",
+            )
+        })?;
+        Ok((holding, taken, stages))
     }
 
     /// A stream's forecast uncertainty (`uncertainty`, `uncertainty_law`,

@@ -370,6 +370,13 @@ pub struct Stream {
     /// Groups that also see the stream's waiting calls (`seen_by`), each
     /// after its delay, in order of delay (ties in the file's order).
     pub seen_by: Vec<SeenBy>,
+    /// The stages of a call flow, in order (empty: the one-stage stream of
+    /// `route` and `holding`). For a stream with stages, `route` lists every
+    /// group of every stage, stage by stage, and `holding` is a fixed law
+    /// at the mean total holding ([`Stream::flow_holding_mean`]), read only
+    /// for its mean (offered traffic, drain and warm-up estimates): the
+    /// engine draws each stage's own law.
+    pub stages: Vec<Stage>,
 }
 
 /// A group that sees a stream's waiting call without the call moving
@@ -382,6 +389,68 @@ pub struct SeenBy {
     pub group: u32,
     /// Delay from the start of the wait (s), >= 0.
     pub after_s: f64,
+}
+
+/// How long a stage's server is held.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Hold {
+    /// Until the stage ends (`hold = "stage"`, the default): a self-service
+    /// port, an agent.
+    Stage,
+    /// Until the whole call ends (`hold = "to-end"`): a trunk, held through
+    /// the later stages, their waits included.
+    ToEnd,
+}
+
+/// One stage of a call flow (`stages = [...]`; rules in docs/semantics.md,
+/// "Call flows with stages").
+#[derive(Debug, Clone)]
+pub struct Stage {
+    /// Name from the file.
+    pub name: String,
+    /// Group indices tried in order (route semantics: seize, else wait where
+    /// the group has places, else the next group).
+    pub route: Vec<u32>,
+    /// Time in the stage once its server is seized (none: the stage takes
+    /// no time, it only seizes, like a trunk held to the end).
+    pub holding: Option<Law>,
+    /// Patience of a caller waiting at this stage (none: waits for ever).
+    pub patience: Option<Law>,
+    /// Share of the callers served here whose call ends after this stage
+    /// (0 at the last stage, where every call ends).
+    pub finish: f64,
+    /// How long the server is held.
+    pub hold: Hold,
+}
+
+/// The share of a flow's calls that reach each of `stages` when none is
+/// lost: 1 for the first, then the product of `1 - finish` of the stages
+/// before.
+pub fn stage_reach(stages: &[Stage]) -> Vec<f64> {
+    let mut reach = 1.0;
+    (stages.iter())
+        .map(|st| {
+            let r = reach;
+            reach *= 1.0 - st.finish;
+            r
+        })
+        .collect()
+}
+
+/// The mean total holding of a call through `stages` when none waits or is
+/// lost: the sum of the stage means, each weighted by the share that
+/// reaches it.
+pub fn flow_holding_mean(stages: &[Stage]) -> f64 {
+    (stages.iter().zip(stage_reach(stages)))
+        .map(|(st, r)| r * st.holding_mean())
+        .sum()
+}
+
+impl Stage {
+    /// Mean time in the stage once seized (0 without a holding law).
+    pub fn holding_mean(&self) -> f64 {
+        self.holding.as_ref().map_or(0.0, Law::mean)
+    }
 }
 
 /// A stream's forecast uncertainty (`uncertainty`, `uncertainty_law`,
@@ -412,6 +481,30 @@ impl Stream {
     /// then its `seen_by` groups.
     pub fn reach(&self) -> impl Iterator<Item = u32> + '_ {
         (self.route.iter().copied()).chain(self.seen_by.iter().map(|s| s.group))
+    }
+
+    /// Whether the stream is a call flow with stages.
+    pub fn has_stages(&self) -> bool {
+        !self.stages.is_empty()
+    }
+
+    /// The share of a flow's calls that reach each stage when none is lost:
+    /// 1 for the first, then the product of `1 - finish` of the stages
+    /// before.
+    pub fn stage_reach(&self) -> Vec<f64> {
+        stage_reach(&self.stages)
+    }
+
+    /// The mean total holding of a flow's call when none waits or is lost
+    /// ([`flow_holding_mean`] of its stages; 0 without stages).
+    pub fn flow_holding_mean(&self) -> f64 {
+        flow_holding_mean(&self.stages)
+    }
+
+    /// The positions in `route` of stage `k`'s groups.
+    pub fn stage_span(&self, k: usize) -> std::ops::Range<usize> {
+        let start: usize = self.stages[..k].iter().map(|st| st.route.len()).sum();
+        start..start + self.stages[k].route.len()
     }
 
     /// Offered traffic of first attempts in erlangs (None for finite sources).
@@ -507,9 +600,11 @@ impl Model {
         self.groups.iter().any(|g| g.queue != Queue::None)
     }
 
-    /// Whether stream `stream`'s calls in progress are seated at time 0.
+    /// Whether stream `stream`'s calls in progress are seated at time 0 (a
+    /// call flow with stages starts empty).
     pub fn is_seated(&self, stream: usize) -> bool {
-        self.plan.start == Start::Steady && self.streams[stream].arrivals.initial_rate().is_some()
+        let s = &self.streams[stream];
+        self.plan.start == Start::Steady && s.arrivals.initial_rate().is_some() && !s.has_stages()
     }
 
     /// The warm-up the holding laws ask for (s), before rounding: the largest
@@ -543,7 +638,15 @@ impl Model {
             } else {
                 WARMUP_TAIL_EMPTY
             };
-            let mut w = residual_quantile(&s.holding, eps);
+            // A flow (not seated) waits for each stage's tail in turn.
+            let mut w = if s.has_stages() {
+                (s.stages.iter())
+                    .filter_map(|st| st.holding.as_ref())
+                    .map(|l| residual_quantile(l, eps))
+                    .sum()
+            } else {
+                residual_quantile(&s.holding, eps)
+            };
             let queued = s
                 .route
                 .iter()

@@ -269,10 +269,13 @@ pub struct StreamSpec {
     pub name: String,
     /// How calls arrive.
     pub arrivals: ArrivalSpec,
-    /// Holding-time law.
-    pub holding: LawSpec,
-    /// Groups tried in order.
-    pub route: Vec<String>,
+    /// Holding-time law (absent when `stages` give the flow).
+    pub holding: Option<LawSpec>,
+    /// Groups tried in order (absent when `stages` give the flow).
+    pub route: Option<Vec<String>>,
+    /// A call flow: the stages each call passes through, in order, instead
+    /// of one `route` and `holding`.
+    pub stages: Option<Vec<StageSpec>>,
     /// Servers one call occupies.
     pub units: Option<i64>,
     /// Redial behaviour after a busy signal or an abandoned wait.
@@ -306,6 +309,28 @@ pub struct SeenBySpec {
     pub group: String,
     /// Delay from the start of the wait; absent: at once.
     pub after: Option<Amount>,
+}
+
+/// One stage of a call flow: `{ name = "menu", route = ["ports"], holding
+/// = { law = "deterministic", mean = "40s" }, finish = "30%" }`.
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct StageSpec {
+    /// Name, unique within the stream.
+    pub name: String,
+    /// Groups tried in order at this stage.
+    pub route: Vec<String>,
+    /// Time spent in the stage once its server is seized (absent: none,
+    /// for a stage held to the end that only seizes, like a trunk).
+    pub holding: Option<LawSpec>,
+    /// Patience of a caller waiting at this stage.
+    pub patience: Option<LawSpec>,
+    /// Share of callers served at this stage whose call ends after it
+    /// (finished in the menu).
+    pub finish: Option<Amount>,
+    /// How long the stage's server is held: "stage" (the default: until the
+    /// stage ends) or "to-end" (until the call ends, like a trunk).
+    pub hold: Option<String>,
 }
 
 /// `arrivals = { law = ..., ... }`.

@@ -49,6 +49,16 @@ pub enum Figure {
     OverflowMeanSquare,
     /// Variance over mean of that occupancy.
     OverflowPeakedness,
+    /// Entries into a stage of a call flow (measured calls, every attempt).
+    StageCalls,
+    /// Share of a stage's entries served to the end of the stage.
+    StageServed,
+    /// Share of a stage's entries that ended the call after the stage.
+    StageFinished,
+    /// Share of a stage's entries that gave up waiting there.
+    StageAbandoned,
+    /// Share of a stage's entries that found no server and no place there.
+    StageBlocked,
 }
 
 /// How a figure is printed.
@@ -136,7 +146,7 @@ impl Range {
 }
 
 /// Every figure, in the order of the design.
-pub const ALL: [Figure; 20] = [
+pub const ALL: [Figure; 25] = [
     Figure::OfferedCalls,
     Figure::OfferedTraffic,
     Figure::AttemptsPerCall,
@@ -157,6 +167,11 @@ pub const ALL: [Figure; 20] = [
     Figure::OverflowMean,
     Figure::OverflowMeanSquare,
     Figure::OverflowPeakedness,
+    Figure::StageCalls,
+    Figure::StageServed,
+    Figure::StageFinished,
+    Figure::StageAbandoned,
+    Figure::StageBlocked,
 ];
 
 impl Figure {
@@ -183,6 +198,11 @@ impl Figure {
             Figure::OverflowMean => "overflow_mean",
             Figure::OverflowMeanSquare => "overflow_mean_square",
             Figure::OverflowPeakedness => "overflow_peakedness",
+            Figure::StageCalls => "stage_calls",
+            Figure::StageServed => "stage_served",
+            Figure::StageFinished => "stage_finished",
+            Figure::StageAbandoned => "stage_abandoned",
+            Figure::StageBlocked => "stage_blocked",
         }
     }
 
@@ -214,13 +234,18 @@ impl Figure {
             Figure::OverflowMean => "overflow traffic, mean",
             Figure::OverflowMeanSquare => "overflow traffic, mean square",
             Figure::OverflowPeakedness => "overflow peakedness",
+            Figure::StageCalls => "calls entering the stage",
+            Figure::StageServed => "served at the stage",
+            Figure::StageFinished => "ended after the stage",
+            Figure::StageAbandoned => "abandoned at the stage",
+            Figure::StageBlocked => "blocked at the stage",
         }
     }
 
     /// How the figure is printed.
     pub fn unit(self) -> Unit {
         match self {
-            Figure::OfferedCalls | Figure::OverflowCalls => Unit::Count,
+            Figure::OfferedCalls | Figure::OverflowCalls | Figure::StageCalls => Unit::Count,
             Figure::OfferedTraffic | Figure::CarriedTraffic | Figure::OverflowMean => Unit::Erlangs,
             Figure::WaitMean | Figure::WaitP50 | Figure::WaitP90 | Figure::WaitP99 => Unit::Seconds,
             Figure::AttemptsPerCall | Figure::OverflowMeanSquare | Figure::OverflowPeakedness => {
@@ -233,7 +258,11 @@ impl Figure {
             | Figure::WaitProbability
             | Figure::ServiceLevel
             | Figure::Occupancy
-            | Figure::TimeCongestion => Unit::Share,
+            | Figure::TimeCongestion
+            | Figure::StageServed
+            | Figure::StageFinished
+            | Figure::StageAbandoned
+            | Figure::StageBlocked => Unit::Share,
         }
     }
 
@@ -247,14 +276,20 @@ impl Figure {
             | Figure::Abandonment
             | Figure::WaitProbability
             | Figure::WaitMean
-            | Figure::ServiceLevel => Estimator::RatioOfSums,
+            | Figure::ServiceLevel
+            | Figure::StageServed
+            | Figure::StageFinished
+            | Figure::StageAbandoned
+            | Figure::StageBlocked => Estimator::RatioOfSums,
             Figure::OfferedTraffic
             | Figure::CarriedTraffic
             | Figure::Occupancy
             | Figure::TimeCongestion
             | Figure::OverflowMean
             | Figure::OverflowMeanSquare => Estimator::TimeAverage,
-            Figure::OfferedCalls | Figure::OverflowCalls => Estimator::MeanOfReplications,
+            Figure::OfferedCalls | Figure::OverflowCalls | Figure::StageCalls => {
+                Estimator::MeanOfReplications
+            }
             Figure::WaitP50 | Figure::WaitP90 | Figure::WaitP99 => {
                 Estimator::MeanOfReplicationPercentiles
             }

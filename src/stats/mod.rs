@@ -23,6 +23,8 @@ pub enum Scope {
     StreamInterval(usize, usize),
     /// A group in a reporting interval: (interval, group).
     GroupInterval(usize, usize),
+    /// A stage of a stream's call flow: (stream, stage).
+    Stage(usize, usize),
 }
 
 impl Scope {
@@ -85,14 +87,48 @@ pub fn stream_can_wait(model: &Model, s: usize) -> bool {
         .any(|&g| model.groups[g as usize].queue != Queue::None)
 }
 
-/// Whether group `g` passes calls on to another group on some route.
+/// Whether group `g` passes calls on to another group on some route (for a
+/// call flow, a later group of the same stage's route).
 pub fn group_overflows(model: &Model, g: usize) -> bool {
     model.streams.iter().any(|s| {
-        s.route
-            .iter()
-            .position(|&x| x as usize == g)
-            .is_some_and(|p| p + 1 < s.route.len())
+        let Some(p) = s.route.iter().position(|&x| x as usize == g) else {
+            return false;
+        };
+        if s.has_stages() {
+            (0..s.stages.len()).any(|k| {
+                let span = s.stage_span(k);
+                span.contains(&p) && p + 1 < span.end
+            })
+        } else {
+            p + 1 < s.route.len()
+        }
     })
+}
+
+/// Whether a caller of stream `s` can abandon: its patience, or for a
+/// call flow the patience of some stage.
+pub fn stream_patient(model: &Model, s: usize) -> bool {
+    let st = &model.streams[s];
+    st.patience.is_some() || st.stages.iter().any(|k| k.patience.is_some())
+}
+
+/// The figures reported for stage `k` of stream `s`'s call flow.
+pub fn stage_figures(model: &Model, s: usize, k: usize) -> Vec<Figure> {
+    let st = &model.streams[s];
+    let stage = &st.stages[k];
+    let mut v = vec![Figure::StageCalls, Figure::StageServed];
+    if k + 1 == st.stages.len() || stage.finish > 0.0 {
+        v.push(Figure::StageFinished);
+    }
+    if stage.patience.is_some() {
+        v.push(Figure::StageAbandoned);
+    }
+    v.push(Figure::StageBlocked);
+    let waits = (stage.route.iter()).any(|&g| model.groups[g as usize].queue != Queue::None);
+    if waits {
+        v.push(Figure::WaitMean);
+    }
+    v
 }
 
 /// The figures a model reports, in a fixed order: streams, groups, then
@@ -120,6 +156,11 @@ pub fn layout(model: &Model) -> Vec<FigureId> {
             push(Scope::GroupInterval(b, g), GROUP_INTERVAL_FIGURES.to_vec());
         }
     }
+    for (s, st) in model.streams.iter().enumerate() {
+        for k in 0..st.stages.len() {
+            push(Scope::Stage(s, k), stage_figures(model, s, k));
+        }
+    }
     out
 }
 
@@ -143,7 +184,7 @@ pub fn stream_figures(model: &Model, s: usize) -> Vec<Figure> {
     }
     v.push(Figure::Loss);
     let can_wait = stream_can_wait(model, s);
-    if can_wait && stream.patience.is_some() {
+    if can_wait && stream_patient(model, s) {
         v.push(Figure::Abandonment);
     }
     if can_wait {
@@ -186,7 +227,7 @@ pub fn group_figures(model: &Model, g: usize) -> Vec<Figure> {
 pub fn stream_interval_figures(model: &Model, s: usize) -> Vec<Figure> {
     let mut v = vec![Figure::OfferedCalls, Figure::OfferedTraffic, Figure::Loss];
     let can_wait = stream_can_wait(model, s);
-    if can_wait && model.streams[s].patience.is_some() {
+    if can_wait && stream_patient(model, s) {
         v.push(Figure::Abandonment);
     }
     if can_wait {
@@ -318,6 +359,19 @@ pub fn observe(model: &Model, layout: &[FigureId], t: &Tally) -> Vec<Obs> {
                     Figure::TimeCongestion => (it.full_s / len).min(1.0),
                     other => unreachable!("{other} is not an interval figure"),
                 })
+            }
+            Scope::Stage(s, k) => {
+                let st = &t.stages[s][k];
+                let share = |n: u64| Obs::ratio(n as f64, st.entered as f64);
+                match f.figure {
+                    Figure::StageCalls => Obs::value(st.entered as f64),
+                    Figure::StageServed => share(st.served),
+                    Figure::StageFinished => share(st.finished),
+                    Figure::StageAbandoned => share(st.abandoned),
+                    Figure::StageBlocked => share(st.blocked),
+                    Figure::WaitMean => Obs::ratio(st.wait_sum_s, st.served as f64),
+                    other => unreachable!("{other} is not a stage figure"),
+                }
             }
         })
         .collect()

@@ -106,6 +106,29 @@ pub struct QueueTally {
     pub waiting_end: u64,
 }
 
+/// Counters of one stage of a call flow (measured calls; each attempt that
+/// reaches the stage enters it once). Every entry leaves once: `entered =
+/// served + abandoned + blocked + pending_end`.
+#[derive(Debug, Clone, Copy, Default)]
+pub struct StageTally {
+    /// Entries into the stage.
+    pub entered: u64,
+    /// Of them, served to the end of the stage's holding.
+    pub served: u64,
+    /// Of the served, calls that ended after this stage (the finish share,
+    /// or every served call at the last stage).
+    pub finished: u64,
+    /// Of them, gave up waiting at this stage.
+    pub abandoned: u64,
+    /// Of them, found no server and no waiting place at this stage.
+    pub blocked: u64,
+    /// Of them, still waiting or in service at the stage when the
+    /// replication stopped.
+    pub pending_end: u64,
+    /// Sum of the waits at this stage of the served entries (s).
+    pub wait_sum_s: f64,
+}
+
 /// Counters of one stream in one reporting interval (calls by the interval of
 /// their first attempt).
 #[derive(Debug, Clone, Copy, Default)]
@@ -154,6 +177,9 @@ pub struct Tally {
     pub stream_intervals: Vec<Vec<StreamIntervalTally>>,
     /// Per interval, per group.
     pub group_intervals: Vec<Vec<GroupIntervalTally>>,
+    /// Per stream, per stage of its call flow (empty for a stream without
+    /// stages).
+    pub stages: Vec<Vec<StageTally>>,
     /// Events processed (for throughput figures).
     pub events: u64,
     /// Most calls ever in progress on any group at once (a check of the

@@ -816,6 +816,68 @@ fn pooled_groups() -> Result<Case, FormulaError> {
     })
 }
 
+/// Trunks held to the end of call flows through an announcement
+/// (deterministic 5 s), a menu (lognormal 40 s, cv 1.5, 30% finish there)
+/// and a talk (exponential 3 min), with as many ports and agents as trunks
+/// so that nobody waits or is blocked after the trunk: the trunk group is
+/// M/G/N/N with the total holding (171 s mean), and Erlang B of rate x
+/// 171 s is exact by insensitivity (Sevastyanov 1957). Flows start empty:
+/// a one-hour warm-up (21 mean holding times).
+fn call_flow_trunks() -> Result<Case, FormulaError> {
+    let (n, a) = (10, 8.0);
+    let total_s = 5.0 + 40.0 + 0.7 * 180.0;
+    let b = erlang_b::blocking(n, a)?;
+    let text = format!(
+        "[simulation]\nwarmup = \"1h\"\nlength = \"1h\"\n\n\
+         [[group]]\nname = \"trunks\"\nservers = {n}\n\n\
+         [[group]]\nname = \"ports\"\nservers = {n}\n\n\
+         [[group]]\nname = \"agents\"\nservers = {n}\nqueue = \"unlimited\"\n\n\
+         [[stream]]\nname = \"callers\"\n\
+         arrivals = {{ law = \"poisson\", rate = \"{}/h\" }}\n\
+         stages = [\n\
+         {{ name = \"trunk\", route = [\"trunks\"], hold = \"to-end\", holding = {{ law = \"deterministic\", mean = \"5s\" }} }},\n\
+         {{ name = \"menu\", route = [\"ports\"], holding = {{ law = \"lognormal\", mean = \"40s\", cv = 1.5 }}, finish = \"30%\" }},\n\
+         {{ name = \"talk\", route = [\"agents\"], holding = {{ law = \"exponential\", mean = \"3m\" }} }},\n\
+         ]\n",
+        a / total_s * 3600.0
+    );
+    Ok(Case {
+        name: "call-flow-trunks",
+        about: "10 trunks held through announcement, menu and talk (deterministic, lognormal cv 1.5, exponential; 171 s in all), 8 E, 1 h warm-up, 1 h replications",
+        text,
+        replications: 40,
+        checks: vec![
+            stream(
+                0,
+                "first_attempt_blocking",
+                b,
+                "Erlang B of the total holding",
+            ),
+            group(
+                0,
+                "trunks",
+                "time_congestion",
+                b,
+                "Erlang B of the total holding",
+            ),
+            group(
+                0,
+                "trunks",
+                "carried_traffic",
+                a * (1.0 - b),
+                "Erlang B of the total holding",
+            ),
+            Check {
+                scope: Scope::Stage(0, 0),
+                figure: "stage_blocked",
+                place: "stage trunk".into(),
+                exact: b,
+                source: "Erlang B of the total holding",
+            },
+        ],
+    })
+}
+
 /// Every case, in the harness's order.
 pub fn cases() -> Result<Vec<Case>, FormulaError> {
     Ok(vec![
@@ -830,6 +892,7 @@ pub fn cases() -> Result<Vec<Case>, FormulaError> {
         overflow_network()?,
         schedule_agents()?,
         forecast_spread()?,
+        call_flow_trunks()?,
         priority_two_classes()?,
         pooled_groups()?,
     ])

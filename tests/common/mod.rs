@@ -64,3 +64,35 @@ pub fn erlang_b_statrs(n: u64, a: f64) -> f64 {
     let p = Poisson::new(a).expect("valid traffic");
     p.pmf(n) / p.cdf(n)
 }
+
+/// Stationary distribution of a continuous-time Markov chain with `states`
+/// states and transitions `(from, to, rate)`: solves `π Q = 0`, `Σ π = 1`
+/// by dense Gaussian elimination with partial pivoting, the last balance
+/// equation replaced by the normalisation. A solver independent of the
+/// library's (`formulas::chains`), for the tests' exact references.
+pub fn dense_stationary(states: usize, transitions: &[(usize, usize, f64)]) -> Vec<f64> {
+    let mut m = vec![vec![0.0f64; states + 1]; states];
+    for &(from, to, rate) in transitions {
+        m[to][from] += rate;
+        m[from][from] -= rate;
+    }
+    for cell in m[states - 1].iter_mut() {
+        *cell = 1.0;
+    }
+    for col in 0..states {
+        let pivot = (col..states)
+            .max_by(|&a, &b| m[a][col].abs().total_cmp(&m[b][col].abs()))
+            .expect("rows left");
+        m.swap(col, pivot);
+        let pivot_row = m[col].clone();
+        for (row, r) in m.iter_mut().enumerate() {
+            if row != col && r[col] != 0.0 {
+                let f = r[col] / pivot_row[col];
+                for (x, p) in r.iter_mut().zip(&pivot_row).skip(col) {
+                    *x -= f * p;
+                }
+            }
+        }
+    }
+    (0..states).map(|i| m[i][states] / m[i][i]).collect()
+}
