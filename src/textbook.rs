@@ -79,6 +79,18 @@
 //!   the factor's law ([`factor_expectation`]). No peakedness (the pooled
 //!   variance holds the day-to-day spread).
 //!
+//! - Queue classes (`priority`, `prefer`): the group's figures keep the
+//!   one-class values (with equal holding laws the number of calls in the
+//!   group does not depend on the order of answering); under the Erlang C
+//!   conditions a stream's mean wait is Cobham's per-class formula for
+//!   non-pre-emptive priority ([`COBHAM`]) and its P(wait) Erlang C's; no
+//!   service level per class, and no per-class value under any other
+//!   queue formula.
+//! - Calls seen by several groups (`seen_by`): every entry of the groups
+//!   such calls reach and of the streams through them is dropped; where a
+//!   set of groups pools completely (each waiting call seen at once by
+//!   all of them, the Erlang C conditions otherwise), Erlang C of the
+//!   pooled groups ([`POOLED_ERLANG_C`]).
 //! - Call flows with stages: a flow's groups carry calls that hold several
 //!   servers in turn, which no formula above describes, so every entry of
 //!   a group a flow uses, and of every stream through such a group, is
@@ -244,6 +256,11 @@ pub fn formula_column(model: &Model) -> HashMap<FigureId, Formula> {
     for g in 0..model.groups.len() {
         profile_group(&mut col, g);
     }
+    for g in 0..model.groups.len() {
+        if model.has_classes(g) {
+            priority_group(&mut col, g);
+        }
+    }
     // The formulas above read a group's servers as constant: none is shown
     // for a group whose servers change over the run, nor for a stream that
     // passes through one.
@@ -257,6 +274,9 @@ pub fn formula_column(model: &Model) -> HashMap<FigureId, Formula> {
     // interval's load on that interval's servers.
     for g in 0..model.groups.len() {
         interval_stationary_group(&mut col, g);
+    }
+    if model.has_seen_by() {
+        seen_by(&mut col);
     }
     if model.has_forecast_spread() {
         forecast_spread(&mut col);
@@ -393,6 +413,7 @@ fn interval_stationary_group(col: &mut Column, g: usize) {
         (users.iter()).any(|&(s, _)| matches!(model.streams[s].arrivals, Arrivals::Profile { .. }));
     let wanted = grp.servers_change() || (profiled && grp.queue != Queue::None);
     if !wanted
+        || model.has_classes(g)
         || model.plan.interval_s.is_none()
         || users.is_empty()
         || grp.reserve > 0
@@ -500,6 +521,202 @@ fn interval_stationary_group(col: &mut Column, g: usize) {
                     }
                 }
             }
+        }
+    }
+}
+
+/// Label of the per-class mean wait of non-pre-emptive priority.
+pub const COBHAM: &str = "Cobham, non-pre-emptive priority";
+
+/// A group whose queue holds several classes (`priority`, `prefer`). Its
+/// group figures (carried traffic, occupancy, time congestion) keep the
+/// values of one class: with equal holding laws the number of calls in
+/// the group does not depend on the order waiting calls are answered in.
+/// A stream's figures do: under the Erlang C conditions its mean wait is
+/// Cobham's per-class formula and its P(wait) stays Erlang C's (an arrival
+/// waits when every agent is busy, whatever its class); no closed form
+/// gives a class's service level. Under any other queue formula (Erlang A,
+/// the finite queue, M/G/N) no per-class form is shown.
+fn priority_group(col: &mut Column, g: usize) {
+    let model = col.model;
+    let grp = &model.groups[g];
+    let users = users(model, g);
+    let erlang_c = (users.iter()).all(|&(s, _)| {
+        let id = FigureId {
+            scope: Scope::Stream(s),
+            figure: Figure::WaitMean,
+        };
+        col.map.get(&id).is_some_and(|f| f.name == "Erlang C")
+    });
+    let streams: Vec<usize> = (0..model.streams.len())
+        .filter(|&s| model.streams[s].reach().any(|x| x as usize == g))
+        .collect();
+    col.map.retain(|id, _| match id.scope {
+        Scope::Stream(s) | Scope::StreamInterval(_, s) | Scope::Stage(s, _) => {
+            !streams.contains(&s)
+        }
+        Scope::Group(_) | Scope::GroupInterval(_, _) => true,
+    });
+    if !erlang_c || users.is_empty() || users.len() != streams.len() {
+        return;
+    }
+    // The Erlang C conditions held (queue_group): Poisson streams, one
+    // exponential holding mean, no patience, unlimited queue.
+    let classes = grp.class_of.iter().max().map_or(0, |&c| c as usize) + 1;
+    let mut traffic = vec![0.0; classes];
+    for &(s, _) in &users {
+        let st = &model.streams[s];
+        let Some(rate) = poisson_rate(st) else { return };
+        traffic[grp.class_of[s] as usize] += rate * st.holding.mean();
+    }
+    let h = model.streams[users[0].0].holding.mean();
+    let total: f64 = traffic.iter().sum();
+    let (Ok(waits), Ok(c)) = (
+        crate::formulas::priority::class_mean_waits(grp.servers, &traffic, h),
+        erlang_c::wait_probability(grp.servers, total),
+    ) else {
+        return;
+    };
+    for &(s, _) in &users {
+        col.stream(s, Figure::WaitMean, COBHAM, waits[grp.class_of[s] as usize]);
+        col.stream(s, Figure::WaitProbability, "Erlang C", c);
+        col.stream(s, Figure::Loss, "Erlang C", 0.0);
+    }
+}
+
+/// Label of Erlang C on a pool of groups that see every waiting call.
+pub const POOLED_ERLANG_C: &str = "Erlang C of the pooled groups";
+
+/// Streams whose waiting calls are seen by other groups (`seen_by`): no
+/// formula above covers them or the groups they reach, so every entry of a
+/// group that sees such a call or where one waits (a route's groups from
+/// the first with waiting places on), and of every stream that reaches
+/// one, is dropped. In its place, where a set of groups pools completely
+/// (every stream that reaches one of them waits in one of them and is
+/// seen at once, with no delay, by all the others; one class in each
+/// queue), the pool is one M/M/N group of their servers together, first
+/// come first served: Erlang C of the pooled groups for the streams' P(wait),
+/// mean wait, loss and service level, under the Erlang C conditions
+/// (Poisson, one exponential holding mean, no patience, no redials, one
+/// server a call, unlimited queues, no reservation, no `overflow_after`,
+/// constant servers, no forecast spread).
+fn seen_by(col: &mut Column) {
+    let model = col.model;
+    let mut touched = vec![false; model.groups.len()];
+    for st in model.streams.iter().filter(|s| !s.seen_by.is_empty()) {
+        st.seen_by
+            .iter()
+            .for_each(|x| touched[x.group as usize] = true);
+        let first_queue = (st.route.iter())
+            .position(|&g| model.groups[g as usize].queue != Queue::None)
+            .unwrap_or(st.route.len());
+        st.route[first_queue..]
+            .iter()
+            .for_each(|&g| touched[g as usize] = true);
+    }
+    let reaches_touched: Vec<bool> = (model.streams.iter())
+        .map(|s| s.reach().any(|g| touched[g as usize]))
+        .collect();
+    col.map.retain(|id, _| match id.scope {
+        Scope::Group(g) | Scope::GroupInterval(_, g) => !touched[g],
+        Scope::Stream(s) | Scope::StreamInterval(_, s) | Scope::Stage(s, _) => !reaches_touched[s],
+    });
+    // Pools: the groups a stream reaches, joined through shared streams.
+    let mut pool_of: Vec<usize> = (0..model.groups.len()).collect();
+    fn root(p: &mut [usize], mut g: usize) -> usize {
+        while p[g] != g {
+            p[g] = p[p[g]];
+            g = p[g];
+        }
+        g
+    }
+    for st in &model.streams {
+        let mut reach = st.reach();
+        if let Some(first) = reach.next() {
+            for g in reach {
+                let (a, b) = (
+                    root(&mut pool_of, first as usize),
+                    root(&mut pool_of, g as usize),
+                );
+                pool_of[a] = b;
+            }
+        }
+    }
+    for (g, &t) in touched.iter().enumerate() {
+        if !t || root(&mut pool_of, g) != g {
+            continue;
+        }
+        let pool: Vec<usize> = (0..model.groups.len())
+            .filter(|&x| root(&mut pool_of, x) == g)
+            .collect();
+        pooled_erlang_c(col, &pool);
+    }
+}
+
+/// [`seen_by`]'s pooled Erlang C for one pool of groups, where it applies.
+fn pooled_erlang_c(col: &mut Column, pool: &[usize]) {
+    let model = col.model;
+    for &g in pool {
+        let grp = &model.groups[g];
+        if grp.queue != Queue::Unlimited
+            || grp.reserve > 0
+            || grp.overflow_after_s.is_some()
+            || grp.servers_change()
+            || model.has_classes(g)
+        {
+            return;
+        }
+    }
+    let streams: Vec<usize> = (0..model.streams.len())
+        .filter(|&s| {
+            model.streams[s]
+                .reach()
+                .any(|g| pool.contains(&(g as usize)))
+        })
+        .collect();
+    let mut traffic = 0.0;
+    let mut holding = None::<f64>;
+    for &s in &streams {
+        let st = &model.streams[s];
+        let sees_all = (pool.iter()).all(|&g| {
+            st.route == [g as u32]
+                || st
+                    .seen_by
+                    .iter()
+                    .any(|x| x.group as usize == g && x.after_s == 0.0)
+        });
+        let Some(rate) = poisson_rate(st) else { return };
+        let h = st.holding.mean();
+        if st.route.len() != 1
+            || !sees_all
+            || st.units != 1
+            || st.retry.is_some()
+            || st.patience.is_some()
+            || st.forecast.is_some()
+            || !st.holding.is_exponential()
+            || holding.is_some_and(|x| (x - h).abs() > 1e-12 * h)
+        {
+            return;
+        }
+        holding = Some(h);
+        traffic += rate * h;
+    }
+    let Some(h) = holding else { return };
+    let n: u32 = pool.iter().map(|&g| model.groups[g].servers).sum();
+    let (Ok(c), Ok(w)) = (
+        erlang_c::wait_probability(n, traffic),
+        erlang_c::mean_wait(n, traffic, h),
+    ) else {
+        return;
+    };
+    for &s in &streams {
+        col.stream(s, Figure::WaitProbability, POOLED_ERLANG_C, c);
+        col.stream(s, Figure::WaitMean, POOLED_ERLANG_C, w);
+        col.stream(s, Figure::Loss, POOLED_ERLANG_C, 0.0);
+        if let Some(aw) = model.streams[s].answer_within_s
+            && let Ok(sl) = erlang_c::service_level(n, traffic, h, aw)
+        {
+            col.stream(s, Figure::ServiceLevel, POOLED_ERLANG_C, sl);
         }
     }
 }

@@ -142,7 +142,7 @@ const RUN: [&str; 4] = ["--seed", "7", "--replications", "4"];
 #[test]
 fn run_documents() {
     let s = Scratch::new("run");
-    for name in ["peak", "queue", "overflow", "flow"] {
+    for name in ["peak", "queue", "overflow", "flow", "classes"] {
         let file = format!("{name}.toml");
         let mut args = vec!["run", &file, "--quiet"];
         args.extend(RUN);
@@ -200,6 +200,10 @@ fn check_documents() {
     matches_golden(
         "check-peak.json",
         &s.run(&["check", "peak.toml", "--json"], 0),
+    );
+    matches_golden(
+        "check-classes.json",
+        &s.run(&["check", "classes.toml", "--json"], 0),
     );
     // A failed check: exit status 1, the problems in the document.
     matches_golden(

@@ -50,6 +50,8 @@ fn any_shard_split_merges_to_the_unsharded_json() {
         "scenarios/harbour-peak.toml",
         // Call flows with stages: the per-stage figures merge too.
         "scenarios/utility-line.toml",
+        // Priorities, a preference and calls seen by two groups.
+        "scenarios/transport-desk.toml",
     ] {
         let whole = busyhour(&["run", scenario, "--replications", "14", "--json"]);
         assert!(whole.status.success());

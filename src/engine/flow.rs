@@ -245,6 +245,8 @@ impl Sim<'_> {
                     position: 0,
                     generation: 0,
                     active: false,
+                    seen: 0,
+                    next_seen: 0,
                 });
                 (self.slab.len() - 1) as u32
             }
@@ -255,12 +257,15 @@ impl Sim<'_> {
         w.position = position;
         w.generation = w.generation.wrapping_add(1);
         w.active = true;
+        // The scenario refuses seen_by on a stream with stages.
+        w.seen = 0;
+        w.next_seen = 0;
         let generation = w.generation;
         if self.slab_flow.len() < self.slab.len() {
             self.slab_flow.resize(self.slab.len(), 0);
         }
         self.slab_flow[slot as usize] = f;
-        self.join_queue(g, slot, generation, now);
+        self.join_queue(g, slot, generation, call.stream, now);
         let si = call.stream as usize;
         if let Some(p) = &self.model.streams[si].stages[k].patience {
             let patience = p.sample(&mut self.streams[si].patience);

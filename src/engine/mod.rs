@@ -14,7 +14,14 @@
 //! when a server frees, abandons when its patience runs out, or moves on along
 //! the route after `overflow_after`. A group that can neither serve nor hold it
 //! is overflowed, and the next group is tried. Full on every group, the attempt
-//! is blocked. A blocked or abandoned attempt may redial after a delay (the
+//! is blocked. A group's queue is a short ordered list of class queues
+//! (`priority`, `prefer`), first come first served within a class; a
+//! freed server takes the head of the first class with a waiting call. A
+//! waiting call may also be seen by other groups (`seen_by`), each from a
+//! delay after it started waiting: it keeps its place where it waits, is in
+//! each of their queues too, and leaves them all when one group takes it
+//! (rules in docs/semantics.md, "Queue classes and calls seen by several
+//! groups"). A blocked or abandoned attempt may redial after a delay (the
 //! stream's `retry`), up to `max_attempts`; otherwise the call is lost. A
 //! finite source whose call has ended idles, then calls again.
 //!
@@ -66,8 +73,8 @@ pub mod seeds;
 use crate::dist::Law;
 use crate::scenario::{Arrivals, Model, Start};
 use crate::stats::tally::{
-    GroupIntervalTally, GroupTally, StageTally, StreamIntervalTally, StreamTally, Tally,
-    WAIT_DIGITS, WAIT_MAX_MS,
+    GroupIntervalTally, GroupTally, QueueTally, StageTally, StreamIntervalTally, StreamTally,
+    Tally, WAIT_DIGITS, WAIT_MAX_MS,
 };
 use calendar::{Lanes, Next};
 use hdrhistogram::Histogram;
@@ -117,6 +124,8 @@ enum Event {
     Abandon { slot: u32, generation: u32 },
     /// A waiting call may move on along its route.
     OverflowTimer { slot: u32, generation: u32 },
+    /// The delay of a waiting call's next `seen_by` group has run out.
+    SeenBy { slot: u32, generation: u32 },
     /// The middle of the measured period: read off each group's busy
     /// integral so far (changes no state; not counted in `Tally::events`).
     HalfPeriod,
@@ -144,6 +153,21 @@ struct Waiting {
     position: u32,
     generation: u32,
     active: bool,
+    /// Bit j set: the stream's `seen_by[j]` group holds the call in its
+    /// queue now (0 for every stream without `seen_by`).
+    seen: u32,
+    /// The next `seen_by` entry whose delay has not run out.
+    next_seen: u32,
+}
+
+/// One `seen_by` entry, precompiled.
+#[derive(Debug, Clone, Copy)]
+struct SeenStep {
+    group: u32,
+    /// As in `Step`.
+    need: u32,
+    /// Delay from the start of the wait (s).
+    after_s: f64,
 }
 
 /// One route entry, precompiled.
@@ -163,8 +187,16 @@ struct GroupState {
     /// carried until `busy` is below `servers`).
     busy: u32,
     queue_places: u32,
-    waiting: u32,                // live entries in `queue`
-    queue: VecDeque<(u32, u32)>, // (slot, generation), may hold stale entries
+    waiting: u32,                // live entries in `queue` and `more_classes`
+    queue: VecDeque<(u32, u32)>, // class 0: (slot, generation), may hold stale entries
+    /// The queues of classes 1, 2, ... (answered after class 0, in order);
+    /// empty for a group with one class, the case of every group without
+    /// priorities or preferences, which then runs the code of one queue.
+    more_classes: Vec<VecDeque<(u32, u32)>>,
+    /// Per stream: the class of its waiting calls (empty with one class).
+    class_of: Vec<u32>,
+    /// How calls left the queue (a conservation check).
+    counts: QueueTally,
     overflow_after_s: Option<f64>,
     last_change: f64,
     virtual_busy: u32,
@@ -222,6 +254,8 @@ struct Sim<'m> {
     calendar: Lanes<Event>,
     streams: Vec<StreamState>,
     routes: Vec<Vec<Step>>,
+    /// Per stream: its `seen_by` entries (empty for most streams).
+    seen_steps: Vec<Vec<SeenStep>>,
     groups: Vec<GroupState>,
     slab: Vec<Waiting>,
     free_slots: Vec<u32>,
@@ -342,6 +376,24 @@ impl<'m> Sim<'m> {
                     .collect()
             })
             .collect();
+        let seen_steps = model
+            .streams
+            .iter()
+            .enumerate()
+            .map(|(si, s)| {
+                (s.seen_by.iter())
+                    .map(|seen| {
+                        let grp = &model.groups[seen.group as usize];
+                        let reserve = if grp.reserved_for[si] { 0 } else { grp.reserve };
+                        SeenStep {
+                            group: seen.group,
+                            need: s.units.saturating_add(reserve),
+                            after_s: seen.after_s,
+                        }
+                    })
+                    .collect()
+            })
+            .collect();
         let groups = model
             .groups
             .iter()
@@ -351,6 +403,16 @@ impl<'m> Sim<'m> {
                 queue_places: g.queue.places(),
                 waiting: 0,
                 queue: VecDeque::new(),
+                more_classes: {
+                    let classes = g.class_of.iter().max().map_or(0, |&c| c as usize);
+                    vec![VecDeque::new(); classes]
+                },
+                class_of: if g.class_of.iter().any(|&c| c > 0) {
+                    g.class_of.clone()
+                } else {
+                    Vec::new()
+                },
+                counts: QueueTally::default(),
                 overflow_after_s: g.overflow_after_s,
                 last_change: 0.0,
                 virtual_busy: 0,
@@ -399,6 +461,7 @@ impl<'m> Sim<'m> {
             calendar: Lanes::new(),
             streams: stream_states,
             routes,
+            seen_steps,
             groups,
             slab: Vec::new(),
             free_slots: Vec::new(),
@@ -485,13 +548,25 @@ impl<'m> Sim<'m> {
             gt.full_s = grp.full_s;
             gt.overflow_s = grp.overflow_s;
             gt.overflow_sq_s = grp.overflow_sq_s;
+            gt.queue = grp.counts;
+            gt.queue.waiting_end = u64::from(grp.waiting);
             self.tally.peak_busy[g] = grp.peak_busy;
         }
         // Measured calls still waiting or between redials count as pending
         // (a flow's call once, below, whatever it is doing).
         for w in &self.slab {
-            if w.active && w.call.measured() && !self.streams[w.call.stream as usize].staged {
+            if !w.active {
+                continue;
+            }
+            if w.call.measured() && !self.streams[w.call.stream as usize].staged {
                 self.tally.streams[w.call.stream as usize].pending_end += 1;
+            }
+            self.tally.groups[w.group as usize].queue.pending_end += 1;
+            let steps = &self.seen_steps[w.call.stream as usize];
+            for (j, step) in steps.iter().enumerate() {
+                if w.seen & (1 << j) != 0 {
+                    self.tally.groups[step.group as usize].queue.pending_end += 1;
+                }
             }
         }
         let mut redialling = vec![0u64; self.model.streams.len()];
@@ -618,7 +693,12 @@ impl<'m> Sim<'m> {
                     return; // answered or moved on meanwhile: lazily cancelled
                 }
                 self.release_slot(slot);
-                self.groups[w.group as usize].waiting -= 1;
+                let home = &mut self.groups[w.group as usize];
+                home.waiting -= 1;
+                home.counts.abandoned += 1;
+                if w.seen != 0 {
+                    self.leave_seen(&w, usize::MAX, true);
+                }
                 if self.streams[w.call.stream as usize].staged {
                     self.flow_abandons(self.slab_flow[slot as usize], now);
                     return;
@@ -631,6 +711,13 @@ impl<'m> Sim<'m> {
                     return;
                 }
                 self.move_on(slot, w, now);
+            }
+            Event::SeenBy { slot, generation } => {
+                let w = self.slab[slot as usize];
+                if !w.active || w.generation != generation {
+                    return; // answered, abandoned or redialled meanwhile
+                }
+                self.see_due(slot, now);
             }
             Event::Capacity { group, step } => self.capacity_changes(group as usize, step, now),
             Event::StageEnd { flow } => self.stage_ends(flow, now),
@@ -772,6 +859,9 @@ impl<'m> Sim<'m> {
                 return;
             }
             if grp.has_waiting_place() {
+                if !self.seen_steps[si].is_empty() && self.seen_at_once(call, now) {
+                    return;
+                }
                 self.enqueue(g, pos as u32, call, now);
                 return;
             }
@@ -883,6 +973,8 @@ impl<'m> Sim<'m> {
                     position: 0,
                     generation: 0,
                     active: false,
+                    seen: 0,
+                    next_seen: 0,
                 });
                 (self.slab.len() - 1) as u32
             }
@@ -893,25 +985,184 @@ impl<'m> Sim<'m> {
         w.position = position;
         w.generation = w.generation.wrapping_add(1);
         w.active = true;
+        w.seen = 0;
+        w.next_seen = 0;
         let generation = w.generation;
-        self.join_queue(g, slot, generation, now);
+        self.join_queue(g, slot, generation, call.stream, now);
         let si = call.stream as usize;
         if let Some(p) = &self.model.streams[si].patience {
             let patience = p.sample(&mut self.streams[si].patience);
             self.calendar
                 .schedule(now + patience, Event::Abandon { slot, generation });
         }
+        if !self.seen_steps[si].is_empty() {
+            self.see_due(slot, now);
+        }
+    }
+
+    /// A call about to wait, whose stream has `seen_by` groups: the first
+    /// of those that see it at once (delay 0), in the file's order, that
+    /// can carry it now does; `false` when none can.
+    #[inline(never)]
+    fn seen_at_once(&mut self, call: Call, now: f64) -> bool {
+        let si = call.stream as usize;
+        for j in 0..self.seen_steps[si].len() {
+            let step = self.seen_steps[si][j];
+            if step.after_s > 0.0 {
+                break; // in order of delay
+            }
+            if self.groups[step.group as usize].admits(step.need) {
+                self.seize(step.group as usize, call, now);
+                return true;
+            }
+        }
+        false
+    }
+
+    /// The `seen_by` entries of the waiting call in `slot` whose delays
+    /// have run out by `now`, in order: a group that can carry the call
+    /// takes it at once (it leaves every queue); one with a free waiting
+    /// place holds it in its queue too; a full one never sees it (on this
+    /// attempt). Then the timer of the next entry, if any.
+    #[inline(never)]
+    fn see_due(&mut self, slot: u32, now: f64) {
+        let w = self.slab[slot as usize];
+        let si = w.call.stream as usize;
+        // The wait started with the attempt: a call queues on arrival.
+        let start = w.call.attempt_at;
+        let mut j = w.next_seen as usize;
+        while j < self.seen_steps[si].len() && start + self.seen_steps[si][j].after_s <= now {
+            let step = self.seen_steps[si][j];
+            let h = step.group as usize;
+            if self.groups[h].admits(step.need) {
+                let w = self.slab[slot as usize];
+                let home = &mut self.groups[w.group as usize];
+                home.waiting -= 1;
+                home.counts.taken_elsewhere += 1;
+                if w.seen != 0 {
+                    self.leave_seen(&w, usize::MAX, false);
+                }
+                self.release_slot(slot);
+                self.seize(h, w.call, now);
+                return;
+            }
+            if self.groups[h].has_waiting_place() {
+                self.slab[slot as usize].seen |= 1 << j;
+                self.push_class(h, slot, w.generation, w.call.stream);
+            }
+            j += 1;
+        }
+        self.slab[slot as usize].next_seen = j as u32;
+        if let Some(next) = self.seen_steps[si].get(j) {
+            let generation = w.generation;
+            self.calendar
+                .schedule(start + next.after_s, Event::SeenBy { slot, generation });
+        }
+    }
+
+    /// The waiting call `w` leaves the queues of the `seen_by` groups that
+    /// hold it, except group `except`: taken by another group, or
+    /// `abandoned`.
+    fn leave_seen(&mut self, w: &Waiting, except: usize, abandoned: bool) {
+        let steps = &self.seen_steps[w.call.stream as usize];
+        for (j, step) in steps.iter().enumerate() {
+            let h = step.group as usize;
+            if w.seen & (1 << j) == 0 || h == except {
+                continue;
+            }
+            let grp = &mut self.groups[h];
+            grp.waiting -= 1;
+            if abandoned {
+                grp.counts.abandoned += 1;
+            } else {
+                grp.counts.taken_elsewhere += 1;
+            }
+        }
+    }
+
+    /// Whether the queue entry of `w` with `generation` in group `g` is
+    /// live: the call still waits, in `g`'s queue as its own (where it
+    /// queued) or seen there.
+    #[inline(always)]
+    fn holds(&self, w: &Waiting, generation: u32, g: usize) -> bool {
+        w.active
+            && w.generation == generation
+            && (w.group as usize == g || (w.seen != 0 && self.seen_index(w, g).is_some()))
+    }
+
+    /// The `seen_by` entry of group `g` that holds `w` now, if any.
+    fn seen_index(&self, w: &Waiting, g: usize) -> Option<usize> {
+        (self.seen_steps[w.call.stream as usize].iter().enumerate())
+            .position(|(j, s)| s.group as usize == g && w.seen & (1 << j) != 0)
+    }
+
+    /// Servers the waiting call `w` needs free on group `g`, which holds it.
+    #[inline(always)]
+    fn need_on(&self, w: &Waiting, g: usize) -> u32 {
+        let si = w.call.stream as usize;
+        if w.group as usize == g {
+            return self.routes[si][w.position as usize].need;
+        }
+        match self.seen_index(w, g) {
+            Some(j) => self.seen_steps[si][j].need,
+            None => unreachable!("a live entry is held by its group"),
+        }
+    }
+
+    /// Put the entry at the back of its class's queue in group `g` (one
+    /// more call waiting there).
+    #[inline(always)]
+    fn push_class(&mut self, g: usize, slot: u32, generation: u32, stream: u32) {
+        let grp = &mut self.groups[g];
+        grp.waiting += 1;
+        grp.counts.joined += 1;
+        if grp.more_classes.is_empty() {
+            grp.queue.push_back((slot, generation));
+            return;
+        }
+        match grp.class_of[stream as usize] {
+            0 => grp.queue.push_back((slot, generation)),
+            c => grp.more_classes[c as usize - 1].push_back((slot, generation)),
+        }
+    }
+
+    /// Group `g` answers the waiting call `w` (in `slot`), just taken off
+    /// the front of one of its class queues: it leaves every other queue.
+    #[inline(always)]
+    fn answer_waiting(&mut self, g: usize, slot: u32, w: Waiting, now: f64) {
+        let grp = &mut self.groups[g];
+        grp.waiting -= 1;
+        grp.counts.answered += 1;
+        if w.seen != 0 {
+            self.leave_other_queues(&w, g);
+        }
+        self.release_slot(slot);
+        if self.streams[w.call.stream as usize].staged {
+            self.flow_seizes(self.slab_flow[slot as usize], g, now);
+            return;
+        }
+        self.seize(g, w.call, now);
+    }
+
+    /// `w`, answered by group `g`, leaves the queue where it waits (when
+    /// that is not `g`'s) and those of the other groups that see it.
+    #[inline(never)]
+    fn leave_other_queues(&mut self, w: &Waiting, g: usize) {
+        if w.group as usize != g {
+            let home = &mut self.groups[w.group as usize];
+            home.waiting -= 1;
+            home.counts.taken_elsewhere += 1;
+        }
+        self.leave_seen(w, g, false);
     }
 
     /// The waiting call in `slot` (of `generation`) takes the last place in
     /// group `g`'s queue, and its `overflow_after` timer starts: a call
     /// queued on arrival and one moved on from an earlier group alike.
     #[inline(always)]
-    fn join_queue(&mut self, g: usize, slot: u32, generation: u32, now: f64) {
-        let grp = &mut self.groups[g];
-        grp.waiting += 1;
-        grp.queue.push_back((slot, generation));
-        if let Some(after) = grp.overflow_after_s {
+    fn join_queue(&mut self, g: usize, slot: u32, generation: u32, stream: u32, now: f64) {
+        self.push_class(g, slot, generation, stream);
+        if let Some(after) = self.groups[g].overflow_after_s {
             self.calendar
                 .schedule(now + after, Event::OverflowTimer { slot, generation });
         }
@@ -924,27 +1175,78 @@ impl<'m> Sim<'m> {
 
     /// Answer waiting calls in order of arrival while the head can seize.
     fn serve_queue(&mut self, g: usize, now: f64) {
+        if !self.groups[g].more_classes.is_empty() {
+            self.serve_classes(g, now);
+            return;
+        }
         while self.groups[g].waiting > 0 {
             let Some(&(slot, generation)) = self.groups[g].queue.front() else {
                 break;
             };
             let w = self.slab[slot as usize];
-            if !w.active || w.generation != generation || w.group as usize != g {
-                self.groups[g].queue.pop_front(); // stale: abandoned or moved on
+            if !self.holds(&w, generation, g) {
+                // stale: answered elsewhere, abandoned or moved on
+                self.groups[g].queue.pop_front();
                 continue;
             }
-            let need = self.routes[w.call.stream as usize][w.position as usize].need;
+            let need = self.need_on(&w, g);
             if !self.groups[g].has_free(need) {
                 break; // strict order: the head holds the queue
             }
             self.groups[g].queue.pop_front();
-            self.groups[g].waiting -= 1;
-            self.release_slot(slot);
-            if self.streams[w.call.stream as usize].staged {
-                self.flow_seizes(self.slab_flow[slot as usize], g, now);
-                continue;
+            self.answer_waiting(g, slot, w, now);
+        }
+    }
+
+    /// `serve_queue` for a group with several classes: while calls wait,
+    /// the head of the first class that holds a live call is answered if
+    /// it can seize; if it cannot, it holds the queue (strict order, as
+    /// with one class).
+    #[inline(never)]
+    fn serve_classes(&mut self, g: usize, now: f64) {
+        while self.groups[g].waiting > 0 {
+            let mut head = None;
+            for c in 0..=self.groups[g].more_classes.len() {
+                loop {
+                    let grp = &self.groups[g];
+                    let q = if c == 0 {
+                        &grp.queue
+                    } else {
+                        &grp.more_classes[c - 1]
+                    };
+                    let Some(&(slot, generation)) = q.front() else {
+                        break;
+                    };
+                    let w = self.slab[slot as usize];
+                    if self.holds(&w, generation, g) {
+                        head = Some((c, slot, w));
+                        break;
+                    }
+                    let grp = &mut self.groups[g];
+                    if c == 0 {
+                        grp.queue.pop_front();
+                    } else {
+                        grp.more_classes[c - 1].pop_front();
+                    }
+                }
+                if head.is_some() {
+                    break;
+                }
             }
-            self.seize(g, w.call, now);
+            let Some((c, slot, w)) = head else {
+                break;
+            };
+            let need = self.need_on(&w, g);
+            if !self.groups[g].has_free(need) {
+                break;
+            }
+            let grp = &mut self.groups[g];
+            if c == 0 {
+                grp.queue.pop_front();
+            } else {
+                grp.more_classes[c - 1].pop_front();
+            }
+            self.answer_waiting(g, slot, w, now);
         }
     }
 
@@ -968,8 +1270,13 @@ impl<'m> Sim<'m> {
                 continue;
             }
             self.count_overflow(w.group as usize, now);
-            self.groups[w.group as usize].waiting -= 1;
+            let home = &mut self.groups[w.group as usize];
+            home.waiting -= 1;
+            home.counts.moved_on += 1;
             if can_seize {
+                if w.seen != 0 {
+                    self.leave_seen(&w, usize::MAX, false);
+                }
                 self.release_slot(slot);
                 if self.streams[si].staged {
                     self.flow_seizes(self.slab_flow[slot as usize], g, now);
@@ -984,7 +1291,7 @@ impl<'m> Sim<'m> {
                 entry.group = g as u32;
                 entry.position = pos as u32;
                 let generation = entry.generation;
-                self.join_queue(g, slot, generation, now);
+                self.join_queue(g, slot, generation, w.call.stream, now);
             }
             return;
         }

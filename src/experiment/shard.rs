@@ -7,7 +7,8 @@
 use super::{Accumulated, Completion, ExperimentError, RunOptions, RunResult, Runner, outcome_of};
 use crate::dist::Law;
 use crate::scenario::{
-    Arrivals, Forecast, Group, Hold, Model, Queue, Retry, RunPlan, Schedule, Stage, Start, Stream,
+    Arrivals, Forecast, Group, Hold, Model, Queue, Retry, RunPlan, Schedule, SeenBy, Stage, Start,
+    Stream,
 };
 use crate::stats::{self, Obs, Scope};
 use serde::{Deserialize, Serialize};
@@ -17,7 +18,10 @@ use thiserror::Error;
 /// Version of the part format; parts of another version are refused.
 /// Version 3: the fingerprint hashes the model field by field
 /// ([`fingerprint`]) instead of its debug form. Version 4: it hashes a
-/// stream's forecast uncertainty.
+/// stream's forecast uncertainty. Version 5: it hashes a stream's stages,
+/// and queue classes (a stream's `priority`, a group's `prefer` and the
+/// classes they give) and a stream's `seen_by` groups, these only where
+/// given.
 pub const PART_FORMAT_VERSION: u32 = 5;
 /// The `format` field of every part.
 pub const PART_FORMAT: &str = "busyhour-part";
@@ -282,6 +286,8 @@ fn hash_group(h: &mut Fnv, group: &Group) {
         // Planning only (the shift plan of `size --per-interval`): no
         // replication reads it, so a part's figures do not depend on it.
         shift_types: _,
+        prefer,
+        class_of,
     } = group;
     h.text(name);
     h.u32(*servers);
@@ -317,6 +323,17 @@ fn hash_group(h: &mut Fnv, group: &Group) {
     for &may in reserved_for {
         h.tag(u8::from(may));
     }
+    // Queue classes, hashed only when given (part format 5).
+    if !prefer.is_empty() {
+        h.tag(9);
+        h.count(prefer.len());
+        prefer.iter().for_each(|&s| h.u32(s));
+    }
+    if class_of.iter().any(|&c| c > 0) {
+        h.tag(10);
+        h.count(class_of.len());
+        class_of.iter().for_each(|&c| h.u32(c));
+    }
 }
 
 fn hash_stream(h: &mut Fnv, stream: &Stream) {
@@ -331,6 +348,8 @@ fn hash_stream(h: &mut Fnv, stream: &Stream) {
         answer_within_s,
         seed_key,
         forecast,
+        priority,
+        seen_by,
         stages,
     } = stream;
     h.text(name);
@@ -426,6 +445,19 @@ fn hash_stream(h: &mut Fnv, stream: &Stream) {
             Hold::Stage => 0,
             Hold::ToEnd => 1,
         });
+    }
+    // Hashed only when given (part format 5).
+    if let Some(p) = priority {
+        h.tag(11);
+        h.u32(*p);
+    }
+    if !seen_by.is_empty() {
+        h.tag(12);
+        h.count(seen_by.len());
+        for SeenBy { group, after_s } in seen_by {
+            h.u32(*group);
+            h.f64(*after_s);
+        }
     }
 }
 
@@ -1117,10 +1149,42 @@ patience = { law = "exponential", mean = "1m" }
                 r#"route = ["trunk"]"#,
                 "route = [\"trunk\"]\nuncertainty = \"10%\"\nuncertainty_shared = \"weather\"",
             ),
+            SCENARIO.replace(r#"route = ["trunk"]"#, "route = [\"trunk\"]\npriority = 2"),
+            format!("{SCENARIO}{SECOND}"),
+            format!("{SCENARIO}{SECOND}").replace("priority = 1", "priority = 3"),
+            format!("{SCENARIO}{SECOND}")
+                .replace("queue = 3\n", "queue = 3\nprefer = [\"depot\"]\n"),
+            with_seen(&format!("{SCENARIO}{SEEN}")),
+            with_seen(&format!("{SCENARIO}{SEEN}")).replace(r#""20s""#, r#""21s""#),
         ];
         for text in &changed {
             assert_ne!(fingerprint(&model(text)), fp, "{text}");
         }
+    }
+
+    /// A second stream on the trunk, answered first.
+    const SECOND: &str = r#"
+[[stream]]
+name = "depot"
+arrivals = { law = "poisson", rate = "30/h" }
+holding = { law = "exponential", mean = "2m" }
+route = ["trunk"]
+priority = 1
+"#;
+
+    /// A second group that sees the office's waiting calls after 20 s.
+    const SEEN: &str = r#"
+[[group]]
+name = "spare"
+servers = 2
+queue = 2
+"#;
+
+    fn with_seen(text: &str) -> String {
+        text.replace(
+            r#"route = ["trunk"]"#,
+            "route = [\"trunk\"]\nseen_by = [{ group = \"spare\", after = \"20s\" }]",
+        )
     }
 
     #[test]
@@ -1154,5 +1218,11 @@ patience = { law = "exponential", mean = "1m" }
         // change means parts of the same model from two builds no longer
         // merge; then bump PART_FORMAT_VERSION and pin the new value.
         assert_eq!(fingerprint(&model(SCENARIO)), "7104cce4517d0980");
+        // Queue classes and seen_by are hashed only where given: a scenario
+        // without them keeps the value above.
+        let classes = fingerprint(&model(&format!("{SCENARIO}{SECOND}")));
+        assert_eq!(classes, "5ff3f042ae50abb6");
+        let seen = fingerprint(&model(&with_seen(&format!("{SCENARIO}{SEEN}"))));
+        assert_eq!(seen, "bba87f98ac64099f");
     }
 }

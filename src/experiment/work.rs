@@ -129,7 +129,10 @@ pub fn events_per_replication(model: &Model) -> f64 {
             can_abandon |= s.patience.is_some();
             can_move_on |= g.overflow_after_s.is_some();
         }
-        let per_attempt = 2.0 + f64::from(u8::from(can_abandon)) + f64::from(u8::from(can_move_on));
+        // A `seen_by` entry with a delay is one more event per waiting call.
+        let seen = s.seen_by.iter().filter(|x| x.after_s > 0.0).count() as f64;
+        let per_attempt =
+            2.0 + f64::from(u8::from(can_abandon)) + f64::from(u8::from(can_move_on)) + seen;
         events += calls * attempts * per_attempt;
     }
     events

@@ -6,7 +6,9 @@
 //! Poisson process, Kaufman-Roberts multi-rate blocking, and M/G/N
 //! mean waits (Pollaczek-Khinchine, Allen-Cunneen, Cosmetatos), the finite
 //! queue M/M/N/K(+M), the redial fixed point of a loss group, and the exact
-//! transient of an agent group on a schedule (`transient`). Must not touch
+//! transient of an agent group on a schedule (`transient`), and the
+//! per-class mean waits of non-pre-emptive priority on M/M/N (Cobham,
+//! `priority`). Must not touch
 //! simulation, files or printing.
 //!
 //! Units: traffic in erlangs, times in seconds, shares between 0 and 1,
@@ -51,6 +53,7 @@ mod error;
 pub mod finite_queue;
 pub mod multirate;
 pub mod overflow;
+pub mod priority;
 pub mod queue_general;
 pub mod redial_fixed_point;
 mod scaled;

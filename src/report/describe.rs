@@ -83,6 +83,15 @@ pub fn describe_model(model: &Model, file: &str) -> String {
                 format_duration(a)
             ));
         }
+        if !g.prefer.is_empty() {
+            let names: Vec<&str> = (g.prefer.iter())
+                .map(|&s| model.streams[s as usize].name.as_str())
+                .collect();
+            out.push_str(&format!(
+                ", answers waiting calls in the order {}",
+                names.join(", ")
+            ));
+        }
         if g.reserve > 0 {
             let names: Vec<&str> = model
                 .streams
@@ -154,6 +163,27 @@ pub fn describe_model(model: &Model, file: &str) -> String {
         }
         if let Some(pt) = &s.patience {
             out.push_str(&format!("    patience {}\n", pt.describe()));
+        }
+        if let Some(pr) = s.priority {
+            out.push_str(&format!(
+                "    priority {pr} (a lower number is answered first)\n"
+            ));
+        }
+        if !s.seen_by.is_empty() {
+            let seen: Vec<String> = (s.seen_by.iter())
+                .map(|x| {
+                    let name = &model.groups[x.group as usize].name;
+                    if x.after_s > 0.0 {
+                        format!("{name} after {}", format_duration(x.after_s))
+                    } else {
+                        format!("{name} at once")
+                    }
+                })
+                .collect();
+            out.push_str(&format!(
+                "    a waiting call is also seen by {}\n",
+                seen.join(", ")
+            ));
         }
         if let Some(f) = &s.forecast {
             out.push_str(&format!(

@@ -8,8 +8,8 @@ pub mod spec;
 
 pub use model::Forecast;
 pub use model::{
-    Arrivals, Group, Hold, Model, Prices, Queue, Replications, Retry, RunPlan, Schedule, Stage,
-    Start, Stream, TransformError, residual_quantile,
+    Arrivals, Group, Hold, Model, Prices, Queue, Replications, Retry, RunPlan, Schedule, SeenBy,
+    Stage, Start, Stream, TransformError, residual_quantile,
 };
 
 use crate::dist::{self, Law, LawParams};
@@ -34,6 +34,11 @@ pub const MAX_REPLICATIONS: i64 = 1_000_000;
 pub const MAX_COUNT: i64 = 10_000_000;
 /// Most reporting intervals per replication.
 pub const MAX_INTERVALS: f64 = 100_000.0;
+/// Largest `priority` number of a stream.
+pub const MAX_PRIORITY: i64 = 1000;
+/// Most groups in one stream's `seen_by` (the engine keeps them in a
+/// 32-bit mask per waiting call).
+pub const MAX_SEEN_BY: usize = 32;
 /// Replications used when the file gives neither a count nor a precision.
 pub const DEFAULT_REPLICATIONS: u32 = 20;
 /// Replication cap for a precision goal when the file gives none.
@@ -467,6 +472,7 @@ impl Compiler {
             .map(|s| self.stream(s, &group_index, &groups))
             .collect::<R<Vec<Stream>>>()?;
         self.check_shared_forecasts(&streams)?;
+        self.check_preferences(&spec, &groups, &streams)?;
         let prices = match &spec.prices {
             None => None,
             Some(p) => Some(self.prices(p, &group_index, &stream_index)?),
@@ -479,6 +485,9 @@ impl Compiler {
             data_files: self.data_files.take(),
             prices,
         };
+        for g in 0..model.groups.len() {
+            model.groups[g].class_of = model.queue_classes(g).0;
+        }
         if !model.plan.warmup_given {
             // The default warm-up from the holding laws, whole seconds, at
             // most the longest warm-up a file may give.
@@ -633,6 +642,38 @@ impl Compiler {
                 reserve
             }
         };
+        let prefer = match &g.prefer {
+            None => Vec::new(),
+            Some(_) if queue == Queue::None => {
+                return Err(self.err(
+                    k("prefer"),
+                    "only a group with waiting places (queue > 0) chooses among waiting calls",
+                ));
+            }
+            Some(names) if names.is_empty() => {
+                return Err(self.err(
+                    k("prefer"),
+                    "the list is empty: name the streams in the order this group takes them",
+                ));
+            }
+            Some(names) => {
+                let mut prefer = Vec::with_capacity(names.len());
+                for (j, name) in names.iter().enumerate() {
+                    let key = format!("{}[{}]", k("prefer"), j + 1);
+                    let Some(&s) = stream_index.get(name.as_str()) else {
+                        return Err(self.err(key, format!("no stream is named \"{name}\"")));
+                    };
+                    if prefer.contains(&(s as u32)) {
+                        return Err(self.err(
+                            key,
+                            format!("the stream \"{name}\" appears twice in prefer"),
+                        ));
+                    }
+                    prefer.push(s as u32);
+                }
+                prefer
+            }
+        };
         Ok(Group {
             name: g.name.clone(),
             servers,
@@ -642,6 +683,9 @@ impl Compiler {
             reserve,
             reserved_for,
             shift_types,
+            prefer,
+            // Filled in once the streams are compiled (`queue_classes`).
+            class_of: vec![0; stream_index.len()],
         })
     }
 
@@ -987,6 +1031,26 @@ impl Compiler {
             None => None,
             Some(a) => Some(self.duration(&k("answer_within"), a)?),
         };
+        let queued = route
+            .iter()
+            .any(|&g| groups[g as usize].queue != Queue::None);
+        let priority = match s.priority {
+            None => None,
+            Some(_) if !queued => {
+                return Err(self.err(
+                    k("priority"),
+                    "priority orders waiting calls, and no group on the route has waiting places (queue > 0)",
+                ));
+            }
+            Some(p) => Some(self.count(&k("priority"), p, 1, MAX_PRIORITY)?),
+        };
+        if !stages.is_empty() && s.seen_by.is_some() {
+            return Err(self.err(
+                k("seen_by"),
+                "a stream with stages takes no seen_by: a call flow waits in one stage's queue at a time",
+            ));
+        }
+        let seen_by = self.seen_by(s, &k, group_index, groups, &route, units, queued)?;
         Ok(Stream {
             name: s.name.clone(),
             arrivals,
@@ -998,8 +1062,104 @@ impl Compiler {
             answer_within_s,
             seed_key: name_key(&s.name),
             forecast: self.forecast(s, &k)?,
+            priority,
+            seen_by,
             stages,
         })
+    }
+
+    /// A stream's `seen_by` groups, in order of delay (ties in the file's
+    /// order); rules in docs/semantics.md, "Queue classes and calls seen
+    /// by several groups".
+    #[allow(clippy::too_many_arguments)]
+    fn seen_by(
+        &self,
+        s: &spec::StreamSpec,
+        k: &dyn Fn(&str) -> String,
+        group_index: &HashMap<&str, usize>,
+        groups: &[Group],
+        route: &[u32],
+        units: u32,
+        queued: bool,
+    ) -> R<Vec<SeenBy>> {
+        let Some(entries) = &s.seen_by else {
+            return Ok(Vec::new());
+        };
+        if !queued {
+            return Err(self.err(
+                k("seen_by"),
+                "seen_by shares a waiting call, and no group on the route has waiting places (queue > 0)",
+            ));
+        }
+        if entries.is_empty() || entries.len() > MAX_SEEN_BY {
+            return Err(self.err(
+                k("seen_by"),
+                format!("name from 1 to {MAX_SEEN_BY} groups that also see the waiting call"),
+            ));
+        }
+        let mut seen: Vec<SeenBy> = Vec::with_capacity(entries.len());
+        for (j, e) in entries.iter().enumerate() {
+            let key = |field: &str| format!("{}[{}].{field}", k("seen_by"), j + 1);
+            let name = &e.group;
+            let Some(&gi) = group_index.get(name.as_str()) else {
+                return Err(self.err(key("group"), format!("no group is named \"{name}\"")));
+            };
+            let grp = &groups[gi];
+            if route.contains(&(gi as u32)) {
+                return Err(self.err(key("group"), format!("the group \"{name}\" is on the route: a call waits there already; name groups off the route")));
+            }
+            if seen.iter().any(|x| x.group == gi as u32) {
+                return Err(self.err(
+                    key("group"),
+                    format!("the group \"{name}\" appears twice in seen_by"),
+                ));
+            }
+            if grp.queue == Queue::None {
+                return Err(self.err(key("group"), format!("the group \"{name}\" has no waiting places (queue > 0): a waiting call can be seen only in a queue")));
+            }
+            if grp.servers < units {
+                return Err(self.err(
+                    key("group"),
+                    format!(
+                        "a call takes {units} servers and the group \"{name}\" has {}",
+                        grp.servers
+                    ),
+                ));
+            }
+            let after_s = match &e.after {
+                None => 0.0,
+                Some(a) => self.duration(&key("after"), a)?,
+            };
+            seen.push(SeenBy {
+                group: gi as u32,
+                after_s,
+            });
+        }
+        // Stable: equal delays keep the file's order.
+        seen.sort_by(|a, b| a.after_s.total_cmp(&b.after_s));
+        Ok(seen)
+    }
+
+    /// Every stream a group's `prefer` names reaches the group (on its
+    /// route or in its `seen_by`).
+    fn check_preferences(
+        &self,
+        spec: &ScenarioSpec,
+        groups: &[Group],
+        streams: &[Stream],
+    ) -> R<()> {
+        for (g, grp) in groups.iter().enumerate() {
+            for (j, &s) in grp.prefer.iter().enumerate() {
+                let st = &streams[s as usize];
+                if !st.reach().any(|x| x as usize == g) {
+                    return Err(self.err(
+                        format!("group \"{}\".prefer[{}]", spec.groups[g].name, j + 1),
+                        format!("the stream \"{}\" never reaches this group: name streams whose route or seen_by includes it", st.name),
+                    ));
+                }
+            }
+        }
+        Ok(())
     }
 
     /// A route of group names at `key`: each group known and named once in

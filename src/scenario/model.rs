@@ -126,6 +126,13 @@ pub struct Group {
     /// The kinds of shift a shift plan of this group may use, on the grid
     /// of the reporting intervals (planning only: no replication reads it).
     pub shift_types: Vec<crate::shifts::ShiftType>,
+    /// The group's order of preference over streams (`prefer`), as stream
+    /// indices, most preferred first; empty: no preference.
+    pub prefer: Vec<u32>,
+    /// Per stream index: the class of the stream's waiting calls in this
+    /// group's queue, 0 answered first (from `prefer`, then the streams'
+    /// `priority`; see [`Model::queue_classes`]). All 0 for one class.
+    pub class_of: Vec<u32>,
 }
 
 impl Group {
@@ -357,6 +364,12 @@ pub struct Stream {
     pub seed_key: u64,
     /// Forecast uncertainty of the stream's rate (none: the rate is known).
     pub forecast: Option<Forecast>,
+    /// Priority of the stream's waiting calls (`priority`): a lower number
+    /// is answered first; none: after every stream that has one.
+    pub priority: Option<u32>,
+    /// Groups that also see the stream's waiting calls (`seen_by`), each
+    /// after its delay, in order of delay (ties in the file's order).
+    pub seen_by: Vec<SeenBy>,
     /// The stages of a call flow, in order (empty: the one-stage stream of
     /// `route` and `holding`). For a stream with stages, `route` lists every
     /// group of every stage, stage by stage, and `holding` is a fixed law
@@ -364,6 +377,18 @@ pub struct Stream {
     /// for its mean (offered traffic, drain and warm-up estimates): the
     /// engine draws each stage's own law.
     pub stages: Vec<Stage>,
+}
+
+/// A group that sees a stream's waiting call without the call moving
+/// there: from `after_s` seconds after the call started waiting, a server
+/// of `group` that frees may take it (it keeps its place in the queue it
+/// waits in).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct SeenBy {
+    /// The group's index.
+    pub group: u32,
+    /// Delay from the start of the wait (s), >= 0.
+    pub after_s: f64,
 }
 
 /// How long a stage's server is held.
@@ -452,6 +477,12 @@ impl Forecast {
 }
 
 impl Stream {
+    /// The groups that can carry or hold the stream's calls: its route,
+    /// then its `seen_by` groups.
+    pub fn reach(&self) -> impl Iterator<Item = u32> + '_ {
+        (self.route.iter().copied()).chain(self.seen_by.iter().map(|s| s.group))
+    }
+
     /// Whether the stream is a call flow with stages.
     pub fn has_stages(&self) -> bool {
         !self.stages.is_empty()
@@ -519,6 +550,51 @@ pub struct Prices {
 }
 
 impl Model {
+    /// The classes of group `g`'s queue: per stream index, the class of
+    /// its waiting calls there (0 answered first), and the number of
+    /// classes among the streams that reach `g` (route or `seen_by`).
+    ///
+    /// A stream's class is its rank by the key (preference, priority):
+    /// first the group's `prefer` order (a stream it does not name after
+    /// those it names), then the stream's `priority` (lower first; none
+    /// after every number). A group's own stated order wins over the
+    /// streams' priorities there. Streams with equal keys share a class,
+    /// first come first served among them. A stream that never reaches `g`
+    /// gets class 0.
+    pub fn queue_classes(&self, g: usize) -> (Vec<u32>, u32) {
+        let grp = &self.groups[g];
+        let key = |s: usize| {
+            let rank = (grp.prefer.iter())
+                .position(|&p| p as usize == s)
+                .unwrap_or(grp.prefer.len());
+            let priority = self.streams[s].priority.unwrap_or(u32::MAX);
+            (rank, priority)
+        };
+        let reaching: Vec<usize> = (0..self.streams.len())
+            .filter(|&s| self.streams[s].reach().any(|x| x as usize == g))
+            .collect();
+        let mut keys: Vec<(usize, u32)> = reaching.iter().map(|&s| key(s)).collect();
+        keys.sort_unstable();
+        keys.dedup();
+        let mut class_of = vec![0; self.streams.len()];
+        for &s in &reaching {
+            let k = key(s);
+            class_of[s] = keys.iter().position(|&x| x == k).unwrap_or(0) as u32;
+        }
+        (class_of, keys.len().max(1) as u32)
+    }
+
+    /// Whether group `g`'s queue holds more than one class (priorities or
+    /// preferences that differ among the streams that reach it).
+    pub fn has_classes(&self, g: usize) -> bool {
+        self.groups[g].class_of.iter().any(|&c| c > 0)
+    }
+
+    /// Whether any stream's waiting calls are seen by other groups.
+    pub fn has_seen_by(&self) -> bool {
+        self.streams.iter().any(|s| !s.seen_by.is_empty())
+    }
+
     /// Whether any group has waiting places.
     pub fn has_queues(&self) -> bool {
         self.groups.iter().any(|g| g.queue != Queue::None)

@@ -201,6 +201,9 @@ pub struct GroupSpec {
     pub overflow_after: Option<Amount>,
     /// Trunk reservation.
     pub reserve: Option<ReserveSpec>,
+    /// The group's order of preference over the streams whose waiting
+    /// calls it takes, most preferred first.
+    pub prefer: Option<Vec<String>>,
 }
 
 /// One shift worked: `{ start = "08:00", length = "8h", agents = 6,
@@ -290,6 +293,22 @@ pub struct StreamSpec {
     /// like the weather, moves them together); without it each stream
     /// draws its own.
     pub uncertainty_shared: Option<String>,
+    /// Priority of the stream's waiting calls: a lower number is answered
+    /// first (1 before 2); without it, after every stream that has one.
+    pub priority: Option<i64>,
+    /// Groups that also see the stream's waiting calls, each after a delay.
+    pub seen_by: Option<Vec<SeenBySpec>>,
+}
+
+/// `seen_by = [{ group = "bilingual", after = "20s" }]`: from `after`
+/// (default 0) after the call started waiting, the group may take it.
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct SeenBySpec {
+    /// The group's name.
+    pub group: String,
+    /// Delay from the start of the wait; absent: at once.
+    pub after: Option<Amount>,
 }
 
 /// One stage of a call flow: `{ name = "menu", route = ["ports"], holding

@@ -76,6 +76,34 @@ pub struct GroupTally {
     pub overflow_s: f64,
     /// Integral of its square.
     pub overflow_sq_s: f64,
+    /// What happened to the calls that entered the group's queue.
+    pub queue: QueueTally,
+}
+
+/// The calls that entered one group's queue and how each left it, over the
+/// whole replication (warm-up and drain included, measured or not): a
+/// conservation check, `joined = answered + taken_elsewhere + abandoned +
+/// moved_on + pending_end`. A call seen by several groups (`seen_by`) is in
+/// each of their queues and counts in each.
+#[derive(Debug, Clone, Copy, Default, PartialEq, Eq)]
+pub struct QueueTally {
+    /// Calls that entered the queue (on arrival, moved on from an earlier
+    /// group, or seen from another group's queue).
+    pub joined: u64,
+    /// Answered by a server of this group.
+    pub answered: u64,
+    /// Left because another group took the call (a call seen by several).
+    pub taken_elsewhere: u64,
+    /// The caller gave up.
+    pub abandoned: u64,
+    /// Moved on along the route (`overflow_after`).
+    pub moved_on: u64,
+    /// Still in the queue when the replication stopped (by a scan of the
+    /// waiting calls).
+    pub pending_end: u64,
+    /// The engine's own count of waiting calls when the replication
+    /// stopped: equal to `pending_end` when that count is exact.
+    pub waiting_end: u64,
 }
 
 /// Counters of one stage of a call flow (measured calls; each attempt that

@@ -10,7 +10,7 @@
 
 use busyhour::experiment::{self, RunOptions};
 use busyhour::formulas::chains::{self, FirstChoice};
-use busyhour::formulas::{FormulaError, engset, erlang_a, erlang_b, erlang_c};
+use busyhour::formulas::{FormulaError, engset, erlang_a, erlang_b, erlang_c, priority};
 use busyhour::scenario::{self, Replications};
 use busyhour::stats::{Estimate, Scope};
 use std::path::Path;
@@ -733,6 +733,89 @@ fn forecast_spread() -> Result<Case, FormulaError> {
     })
 }
 
+fn priority_two_classes() -> Result<Case, FormulaError> {
+    let (n, a) = (10, [2.5, 4.5]);
+    let waits = priority::class_mean_waits(n, &a, HOLDING_S)?;
+    let stream_text = |name: &str, traffic: f64, priority: u32| {
+        format!(
+            "[[stream]]\nname = \"{name}\"\n\
+             arrivals = {{ law = \"poisson\", rate = \"{}/h\" }}\n\
+             holding = {{ law = \"exponential\", mean = \"3m\" }}\n\
+             route = [\"agents\"]\npriority = {priority}\n\n",
+            per_hour(traffic)
+        )
+    };
+    Ok(Case {
+        name: "priority-two-classes",
+        about: "10 agents, 2.5 E answered before 4.5 E (non-pre-emptive priority), unlimited queue, exponential 3 min, 2 h replications",
+        text: format!(
+            "[simulation]\nlength = \"2h\"\n\n\
+             [[group]]\nname = \"agents\"\nservers = {n}\nqueue = \"unlimited\"\n\n{}{}",
+            stream_text("urgent", a[0], 1),
+            stream_text("routine", a[1], 2),
+        ),
+        replications: 60,
+        checks: vec![
+            stream(0, "wait_mean", waits[0], "Cobham (1954)"),
+            stream(1, "wait_mean", waits[1], "Cobham (1954)"),
+            stream(
+                1,
+                "wait_probability",
+                erlang_c::wait_probability(n, a[0] + a[1])?,
+                "Erlang C",
+            ),
+        ],
+    })
+}
+
+fn pooled_groups() -> Result<Case, FormulaError> {
+    let (n1, n2, a) = (6, 5, [5.0, 4.0]);
+    let n = n1 + n2;
+    let total = a[0] + a[1];
+    let stream_text = |name: &str, traffic: f64, home: &str, other: &str| {
+        format!(
+            "[[stream]]\nname = \"{name}\"\n\
+             arrivals = {{ law = \"poisson\", rate = \"{}/h\" }}\n\
+             holding = {{ law = \"exponential\", mean = \"3m\" }}\n\
+             route = [\"{home}\"]\nseen_by = [{{ group = \"{other}\" }}]\n\
+             answer_within = \"20s\"\n\n",
+            per_hour(traffic)
+        )
+    };
+    Ok(Case {
+        name: "pooled-groups",
+        about: "6 and 5 agents seeing each other's waiting calls at once (seen_by), 5 E and 4 E, exponential 3 min, 1 h replications",
+        text: format!(
+            "[simulation]\nlength = \"1h\"\n\n\
+             [[group]]\nname = \"east\"\nservers = {n1}\nqueue = \"unlimited\"\n\n\
+             [[group]]\nname = \"west\"\nservers = {n2}\nqueue = \"unlimited\"\n\n{}{}",
+            stream_text("north", a[0], "east", "west"),
+            stream_text("south", a[1], "west", "east"),
+        ),
+        replications: 80,
+        checks: vec![
+            stream(
+                0,
+                "wait_mean",
+                erlang_c::mean_wait(n, total, HOLDING_S)?,
+                "Erlang C, pooled",
+            ),
+            stream(
+                1,
+                "wait_probability",
+                erlang_c::wait_probability(n, total)?,
+                "Erlang C, pooled",
+            ),
+            stream(
+                1,
+                "service_level",
+                erlang_c::service_level(n, total, HOLDING_S, 20.0)?,
+                "Erlang C, pooled",
+            ),
+        ],
+    })
+}
+
 /// Trunks held to the end of call flows through an announcement
 /// (deterministic 5 s), a menu (lognormal 40 s, cv 1.5, 30% finish there)
 /// and a talk (exponential 3 min), with as many ports and agents as trunks
@@ -810,6 +893,8 @@ pub fn cases() -> Result<Vec<Case>, FormulaError> {
         schedule_agents()?,
         forecast_spread()?,
         call_flow_trunks()?,
+        priority_two_classes()?,
+        pooled_groups()?,
     ])
 }
 
