@@ -28,7 +28,7 @@
 //! that events stay small. A waiting flow's call sits in the groups' queues
 //! like any call (`Sim::slab`), with its flow in `Sim::slab_flow`.
 
-use super::{Call, Event, NOT_MEASURED, Sim, Waiting, sample, spread};
+use super::{Call, Event, NOT_MEASURED, Sim, sample, spread};
 use crate::scenario::{Hold, Model};
 use rand::RngExt;
 
@@ -236,31 +236,8 @@ impl Sim<'_> {
         let flow = &mut self.flows[f as usize];
         flow.call.waited = true;
         let (call, k) = (flow.call, flow.stage as usize);
-        let slot = match self.free_slots.pop() {
-            Some(s) => s,
-            None => {
-                self.slab.push(Waiting {
-                    call,
-                    group: 0,
-                    position: 0,
-                    generation: 0,
-                    active: false,
-                    seen: 0,
-                    next_seen: 0,
-                });
-                (self.slab.len() - 1) as u32
-            }
-        };
-        let w = &mut self.slab[slot as usize];
-        w.call = call;
-        w.group = g as u32;
-        w.position = position;
-        w.generation = w.generation.wrapping_add(1);
-        w.active = true;
-        // The scenario refuses seen_by on a stream with stages.
-        w.seen = 0;
-        w.next_seen = 0;
-        let generation = w.generation;
+        // (The scenario refuses seen_by on a stream with stages.)
+        let (slot, generation) = self.take_slot(call, g, position);
         if self.slab_flow.len() < self.slab.len() {
             self.slab_flow.resize(self.slab.len(), 0);
         }

@@ -962,8 +962,13 @@ impl<'m> Sim<'m> {
         );
     }
 
-    fn enqueue(&mut self, g: usize, position: u32, mut call: Call, now: f64) {
-        call.waited = true;
+    /// A waiting-slab entry for `call`, about to wait in group `g` at
+    /// `position` of its route: a free slot or a new one, active, with a
+    /// new generation and seen by no other group yet. Returns the slot and
+    /// its generation. (The one home of the entry's set-up: plain calls and
+    /// a flow's calls at a stage alike.)
+    #[inline(always)]
+    fn take_slot(&mut self, call: Call, g: usize, position: u32) -> (u32, u32) {
         let slot = match self.free_slots.pop() {
             Some(s) => s,
             None => {
@@ -987,7 +992,12 @@ impl<'m> Sim<'m> {
         w.active = true;
         w.seen = 0;
         w.next_seen = 0;
-        let generation = w.generation;
+        (slot, w.generation)
+    }
+
+    fn enqueue(&mut self, g: usize, position: u32, mut call: Call, now: f64) {
+        call.waited = true;
+        let (slot, generation) = self.take_slot(call, g, position);
         self.join_queue(g, slot, generation, call.stream, now);
         let si = call.stream as usize;
         if let Some(p) = &self.model.streams[si].patience {
