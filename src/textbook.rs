@@ -86,6 +86,20 @@
 //!   non-pre-emptive priority ([`COBHAM`]) and its P(wait) Erlang C's; no
 //!   service level per class, and no per-class value under any other
 //!   queue formula.
+//! - Pre-emptive priority (`preemption`): every entry of the group, of the
+//!   groups its users' routes reach and of the streams through them is
+//!   dropped; in their place the highest class (the smallest `priority`
+//!   among the group's streams), which never sees the classes below it, is
+//!   the queue of its own load ([`PREEMPTIVE_ALONE`]): Erlang C on an
+//!   unlimited queue under the Erlang C conditions (of its own streams:
+//!   the classes below may hold for any law), Erlang B on a loss
+//!   group with `lose` (any holding law). With `resume`, the Erlang C
+//!   conditions and every stream alone on the group's route, the number in
+//!   the group is that of M/M/N first come first served: the group keeps
+//!   Erlang C's carried traffic and occupancy, every lower class's P(wait) is
+//!   Erlang C of the total, and with two classes the lower one's
+//!   interruptions per answered call are (λ_1 / λ_2) (C(N, A) - C(N, a_1))
+//!   by PASTA ([`PREEMPTIVE_RESUME`]).
 //! - Calls seen by several groups (`seen_by`): every entry of the groups
 //!   such calls reach and of the streams through them is dropped; where a
 //!   set of groups pools completely (each waiting call seen at once by
@@ -115,7 +129,7 @@ use crate::formulas::{
     engset, erlang_a, erlang_b, erlang_c, finite_queue, multirate, overflow, queue_general,
     redial_fixed_point,
 };
-use crate::scenario::{Arrivals, Model, Queue, Stream};
+use crate::scenario::{Arrivals, Model, Preemption, Queue, Stream};
 use crate::stats::{Figure, FigureId, Scope, group_figures, stage_figures, stream_figures};
 use std::collections::HashMap;
 
@@ -257,7 +271,9 @@ pub fn formula_column(model: &Model) -> HashMap<FigureId, Formula> {
         profile_group(&mut col, g);
     }
     for g in 0..model.groups.len() {
-        if model.has_classes(g) {
+        if model.groups[g].preemption.is_some() {
+            preemptive_group(&mut col, g);
+        } else if model.has_classes(g) {
             priority_group(&mut col, g);
         }
     }
@@ -581,6 +597,146 @@ fn priority_group(col: &mut Column, g: usize) {
         col.stream(s, Figure::WaitMean, COBHAM, waits[grp.class_of[s] as usize]);
         col.stream(s, Figure::WaitProbability, "Erlang C", c);
         col.stream(s, Figure::Loss, "Erlang C", 0.0);
+    }
+}
+
+/// Label of the highest class of a group with pre-emption: the queue of
+/// its own load alone.
+pub const PREEMPTIVE_ALONE: &str = "Erlang C, class alone (pre-emptive)";
+/// The same on a loss group with pre-emptive loss.
+pub const PREEMPTIVE_ALONE_LOSS: &str = "Erlang B, class alone (pre-emptive)";
+/// Label of the figures of pre-emptive resume that follow from the M/M/N
+/// number in system.
+pub const PREEMPTIVE_RESUME: &str = "Erlang C, total (pre-emptive resume)";
+
+/// A group with `preemption` (see the module's list): drop what the
+/// one-class formulas said of it, its users' other groups and every
+/// stream through them, then give the highest class the queue of its own
+/// load and, with resumption, what the M/M/N number in system implies.
+fn preemptive_group(col: &mut Column, g: usize) {
+    let model = col.model;
+    let grp = &model.groups[g];
+    let users = users(model, g);
+    let mut groups = vec![false; model.groups.len()];
+    groups[g] = true;
+    for &(s, _) in &users {
+        for &x in &model.streams[s].route {
+            groups[x as usize] = true;
+        }
+    }
+    let streams: Vec<bool> = (model.streams.iter())
+        .map(|st| st.reach().any(|x| groups[x as usize]))
+        .collect();
+    col.map.retain(|id, _| match id.scope {
+        Scope::Stream(s) | Scope::StreamInterval(_, s) | Scope::Stage(s, _) => !streams[s],
+        Scope::Group(x) | Scope::GroupInterval(_, x) => !groups[x],
+    });
+    if users.is_empty() || grp.reserve > 0 || grp.overflow_after_s.is_some() {
+        return;
+    }
+    // Every user Poisson, alone on the group (its whole route), one server
+    // a call, no redials, no patience; nobody else reaches the group.
+    let reaching = streams.iter().filter(|&&x| x).count();
+    let mut rates = Vec::with_capacity(users.len());
+    for &(s, _) in &users {
+        let st = &model.streams[s];
+        let Some(rate) = poisson_rate(st) else { return };
+        if st.route.len() != 1 || st.units != 1 || st.retry.is_some() || st.patience.is_some() {
+            return;
+        }
+        rates.push(rate);
+    }
+    if reaching != users.len() {
+        return;
+    }
+    let rank = |s: usize| model.streams[s].priority.unwrap_or(u32::MAX);
+    let top = (users.iter())
+        .map(|&(s, _)| rank(s))
+        .min()
+        .unwrap_or(u32::MAX);
+    let load = |pick: &dyn Fn(usize) -> bool| -> f64 {
+        (users.iter().zip(&rates))
+            .filter(|((s, _), _)| pick(*s))
+            .map(|((s, _), r)| r * model.streams[*s].holding.mean())
+            .sum()
+    };
+    let a_top = load(&|s| rank(s) == top);
+    let n = grp.servers;
+    match grp.queue {
+        Queue::None => {
+            if grp.preemption != Some(Preemption::Lose) {
+                return; // interrupted calls wait: not a loss system
+            }
+            let Ok(b) = erlang_b::blocking(n, a_top) else {
+                return;
+            };
+            for &(s, _) in users.iter().filter(|&&(s, _)| rank(s) == top) {
+                col.stream(s, Figure::Loss, PREEMPTIVE_ALONE_LOSS, b);
+                col.stream(s, Figure::FirstAttemptBlocking, PREEMPTIVE_ALONE_LOSS, b);
+            }
+        }
+        Queue::Limited(_) => {} // the waiting places are shared with the classes below
+        Queue::Unlimited => {
+            // The highest class alone needs one exponential holding mean
+            // among its own streams; the rest, below, among all.
+            let first_top = (users.iter()).find(|&&(s, _)| rank(s) == top);
+            let Some(&(s0, _)) = first_top else { return };
+            let h = model.streams[s0].holding.mean();
+            let one_mean = |s: usize| {
+                let law = &model.streams[s].holding;
+                law.is_exponential() && (law.mean() - h).abs() <= 1e-12 * h
+            };
+            if !(users.iter()).all(|&(s, _)| rank(s) != top || one_mean(s)) {
+                return;
+            }
+            let (Ok(c), Ok(w)) = (
+                erlang_c::wait_probability(n, a_top),
+                erlang_c::mean_wait(n, a_top, h),
+            ) else {
+                return;
+            };
+            for &(s, _) in users.iter().filter(|&&(s, _)| rank(s) == top) {
+                col.stream(s, Figure::WaitProbability, PREEMPTIVE_ALONE, c);
+                col.stream(s, Figure::WaitMean, PREEMPTIVE_ALONE, w);
+                col.stream(s, Figure::Loss, PREEMPTIVE_ALONE, 0.0);
+                if let Some(aw) = model.streams[s].answer_within_s
+                    && let Ok(sl) = erlang_c::service_level(n, a_top, h, aw)
+                {
+                    col.stream(s, Figure::ServiceLevel, PREEMPTIVE_ALONE, sl);
+                }
+            }
+            if grp.preemption != Some(Preemption::Resume)
+                || !users.iter().all(|&(s, _)| one_mean(s))
+            {
+                return;
+            }
+            let total = load(&|_| true);
+            let Ok(c_total) = erlang_c::wait_probability(n, total) else {
+                return;
+            };
+            col.group(g, Figure::CarriedTraffic, PREEMPTIVE_RESUME, total);
+            col.group(
+                g,
+                Figure::Occupancy,
+                PREEMPTIVE_RESUME,
+                total / f64::from(n),
+            );
+            let lower = |s: usize| rank(s) != top;
+            let ranks: std::collections::BTreeSet<u32> =
+                users.iter().map(|&(s, _)| rank(s)).collect();
+            let (rate_top, rate_low): (f64, f64) =
+                (users.iter().zip(&rates)).fold((0.0, 0.0), |(t, l), ((s, _), r)| {
+                    if lower(*s) { (t, l + r) } else { (t + r, l) }
+                });
+            for &(s, _) in users.iter().filter(|&&(s, _)| lower(s)) {
+                col.stream(s, Figure::WaitProbability, PREEMPTIVE_RESUME, c_total);
+                col.stream(s, Figure::Loss, PREEMPTIVE_RESUME, 0.0);
+                if ranks.len() == 2 && rate_low > 0.0 {
+                    let i = rate_top / rate_low * (c_total - c);
+                    col.stream(s, Figure::Interruptions, PREEMPTIVE_RESUME, i);
+                }
+            }
+        }
     }
 }
 

@@ -43,12 +43,8 @@ priority = 2
     )
 }
 
-/// Erlang C from Erlang B by the standard identity C = N B / (N - A (1 - B))
-/// (any teletraffic handbook); B from statrs.
 fn erlang_c(n: u32, a: f64) -> f64 {
-    let b = erlang_b_statrs(u64::from(n), a);
-    let nf = f64::from(n);
-    nf * b / (nf - a * (1.0 - b))
+    erlang_c_statrs(n, a)
 }
 
 /// Cobham (1954), non-pre-emptive priority on M/M/N with one exponential

@@ -112,6 +112,7 @@ impl Sim<'_> {
                         waited: false,
                         holding: 0.0,
                         attempt_at: 0.0,
+                        interrupted: false,
                     },
                     stage: 0,
                     last: 0,
@@ -159,6 +160,7 @@ impl Sim<'_> {
             waited: false,
             holding: 0.0,
             attempt_at: now,
+            interrupted: false,
         };
         flow.last = last as u32;
         if bin != NOT_MEASURED {

@@ -21,7 +21,11 @@
 //! delay after it started waiting: it keeps its place where it waits, is in
 //! each of their queues too, and leaves them all when one group takes it
 //! (rules in docs/semantics.md, "Queue classes and calls seen by several
-//! groups"). A blocked or abandoned attempt may redial after a delay (the
+//! groups"). On a group with `preemption`, an arriving call of higher
+//! priority that finds every server busy interrupts calls of lower
+//! priority (see `preempt`): an interrupted call waits at the head of its
+//! class to be served again, for the rest of its holding time or the whole
+//! of it, or is lost. A blocked or abandoned attempt may redial after a delay (the
 //! stream's `retry`), up to `max_attempts`; otherwise the call is lost. A
 //! finite source whose call has ended idles, then calls again.
 //!
@@ -68,10 +72,11 @@
 
 pub mod calendar;
 mod flow;
+mod preempt;
 pub mod seeds;
 
 use crate::dist::Law;
-use crate::scenario::{Arrivals, Model, Start};
+use crate::scenario::{Arrivals, Model, Preemption, Start};
 use crate::stats::tally::{
     GroupIntervalTally, GroupTally, QueueTally, StageTally, StreamIntervalTally, StreamTally,
     Tally, WAIT_DIGITS, WAIT_MAX_MS,
@@ -100,6 +105,9 @@ struct Call {
     holding: f64,
     /// Arrival time of the current attempt (s).
     attempt_at: f64,
+    /// Interrupted by a call of higher priority (`preemption`) and waiting
+    /// to be served again, or served again: answered and counted already.
+    interrupted: bool,
 }
 
 impl Call {
@@ -118,6 +126,9 @@ enum Event {
     Redial { slot: u32 },
     /// A carried call ends.
     Departure { group: u32, stream: u32 },
+    /// A call carried on a group with `preemption` ends: the call in
+    /// `service[slot]` (skipped if it was interrupted meanwhile).
+    TrackedEnd { slot: u32, generation: u32 },
     /// An overflowed call leaves the virtual overflow group of `group`.
     VirtualEnd { group: u32 },
     /// A waiting call's patience runs out (skipped if it is no longer waiting).
@@ -195,6 +206,11 @@ struct GroupState {
     more_classes: Vec<VecDeque<(u32, u32)>>,
     /// Per stream: the class of its waiting calls (empty with one class).
     class_of: Vec<u32>,
+    /// Pre-emptive priority (`preemption`); `None` for every other group,
+    /// whose calls in service are anonymous departures.
+    preemption: Option<Preemption>,
+    /// With `preemption`: the `service` slots of the calls in service here.
+    in_service: Vec<u32>,
     /// How calls left the queue (a conservation check).
     counts: QueueTally,
     overflow_after_s: Option<f64>,
@@ -283,6 +299,14 @@ struct Sim<'m> {
     stage_span_end: Vec<Vec<u32>>,
     /// Per stream with stages, per stage: its first position in the route.
     stage_start: Vec<Vec<u32>>,
+    /// Per stream: its rank for pre-emption, its `priority` (none: last).
+    rank: Vec<u32>,
+    /// Calls in service on groups with `preemption` (see `preempt`),
+    /// reused through `free_service`.
+    service: Vec<preempt::InService>,
+    free_service: Vec<u32>,
+    /// Scratch list of a pre-emption's candidate victims.
+    victims: Vec<u32>,
 }
 
 /// Simulate replication `replication` of `model` and return its counters.
@@ -412,6 +436,8 @@ impl<'m> Sim<'m> {
                 } else {
                     Vec::new()
                 },
+                preemption: g.preemption,
+                in_service: Vec::new(),
                 counts: QueueTally::default(),
                 overflow_after_s: g.overflow_after_s,
                 last_change: 0.0,
@@ -480,6 +506,12 @@ impl<'m> Sim<'m> {
             slab_flow: Vec::new(),
             stage_span_end,
             stage_start,
+            rank: (model.streams.iter())
+                .map(|s| s.priority.unwrap_or(u32::MAX))
+                .collect(),
+            service: Vec::new(),
+            free_service: Vec::new(),
+            victims: Vec::new(),
         }
     }
 
@@ -558,7 +590,12 @@ impl<'m> Sim<'m> {
             if !w.active {
                 continue;
             }
-            if w.call.measured() && !self.streams[w.call.stream as usize].staged {
+            // An interrupted call waiting to be served again was answered:
+            // it is resolved.
+            if w.call.measured()
+                && !w.call.interrupted
+                && !self.streams[w.call.stream as usize].staged
+            {
                 self.tally.streams[w.call.stream as usize].pending_end += 1;
             }
             self.tally.groups[w.group as usize].queue.pending_end += 1;
@@ -635,6 +672,7 @@ impl<'m> Sim<'m> {
                 waited: false,
                 holding: residual,
                 attempt_at: 0.0,
+                interrupted: false,
             };
             for pos in 0..self.routes[si].len() {
                 let step = self.routes[si][pos];
@@ -658,20 +696,9 @@ impl<'m> Sim<'m> {
                 self.attempt(call, now, 0);
             }
             Event::Departure { group, stream } => {
-                let g = group as usize;
-                let si = stream as usize;
-                self.touch(g, now);
-                let units = self.streams[si].units;
-                let grp = &mut self.groups[g];
-                debug_assert!(grp.busy >= units);
-                grp.busy -= units;
-                if grp.waiting > 0 {
-                    self.serve_queue(g, now);
-                }
-                if self.streams[si].sources {
-                    self.source_idles(si, now);
-                }
+                self.departs(group as usize, stream as usize, now);
             }
+            Event::TrackedEnd { slot, generation } => self.tracked_end(slot, generation, now),
             Event::HalfPeriod => {
                 for grp in &mut self.groups {
                     let t0 = if grp.last_change > self.start {
@@ -723,6 +750,23 @@ impl<'m> Sim<'m> {
             Event::StageEnd { flow } => self.stage_ends(flow, now),
             Event::FlowRedial { flow } => self.flow_redials(flow, now),
             Event::FlowCall { stream } => self.flow_call(stream as usize, now),
+        }
+    }
+
+    /// A call of stream `si` carried on group `g` ends: its servers free,
+    /// waiting calls are answered, a finite source idles.
+    #[inline(always)]
+    fn departs(&mut self, g: usize, si: usize, now: f64) {
+        self.touch(g, now);
+        let units = self.streams[si].units;
+        let grp = &mut self.groups[g];
+        debug_assert!(grp.busy >= units);
+        grp.busy -= units;
+        if grp.waiting > 0 {
+            self.serve_queue(g, now);
+        }
+        if self.streams[si].sources {
+            self.source_idles(si, now);
         }
     }
 
@@ -827,6 +871,7 @@ impl<'m> Sim<'m> {
             waited: false,
             holding,
             attempt_at: now,
+            interrupted: false,
         };
         if call.measured() {
             self.pending += 1;
@@ -858,6 +903,11 @@ impl<'m> Sim<'m> {
                 self.seize(g, call, now);
                 return;
             }
+            if grp.preemption.is_some() && self.preempts(g, si, step.need, now) {
+                self.seize(g, call, now);
+                return;
+            }
+            let grp = &self.groups[g];
             if grp.has_waiting_place() {
                 if !self.seen_steps[si].is_empty() && self.seen_at_once(call, now) {
                     return;
@@ -872,6 +922,14 @@ impl<'m> Sim<'m> {
 
     #[inline(always)]
     fn seize(&mut self, g: usize, call: Call, now: f64) {
+        self.seize_call::<false>(g, call, now);
+    }
+
+    /// Group `g` carries `call` from `now` to the end of its holding time.
+    /// `AGAIN`: an interrupted call served again (`preempt`), whose answer
+    /// was counted when it was first answered.
+    #[inline(always)]
+    fn seize_call<const AGAIN: bool>(&mut self, g: usize, call: Call, now: f64) {
         let si = call.stream as usize;
         let (units, answer_within) = {
             let s = &self.streams[si];
@@ -884,36 +942,47 @@ impl<'m> Sim<'m> {
         if grp.busy > grp.peak_busy {
             grp.peak_busy = grp.busy;
         }
+        let tracked = grp.preemption.is_some();
         let ends = now + call.holding;
-        self.calendar.schedule(
-            ends,
+        let event = if tracked {
+            self.track(g, call, now, ends, AGAIN)
+        } else {
             Event::Departure {
                 group: g as u32,
                 stream: call.stream,
-            },
-        );
-        // Carried call-seconds inside the measured period, for every call
-        // (measured or not): a time integral, not a per-call count. (`max`
-        // and `min` written as comparisons: the same values for times,
-        // which are never NaN or -0, in fewer instructions.)
-        let t0 = if now > self.start { now } else { self.start };
-        let t1 = if ends < self.end { ends } else { self.end };
+            }
+        };
+        self.calendar.schedule(ends, event);
+        self.count_carried::<false>(si, now, ends);
+        if AGAIN || !call.measured() {
+            return;
+        }
+        self.count_answered(call, now - call.attempt_at, answer_within);
+    }
+
+    /// Carried call-seconds of stream `si` from `from` to `to` inside the
+    /// measured period, added (`TAKE_OFF`: taken off, the part an
+    /// interrupted call no longer carries), for every call, measured or not: a time integral,
+    /// not a per-call count. (`max` and `min` written as comparisons: the
+    /// same values for times, which are never NaN or -0, in fewer
+    /// instructions.)
+    #[inline(always)]
+    fn count_carried<const TAKE_OFF: bool>(&mut self, si: usize, from: f64, to: f64) {
+        let t0 = if from > self.start { from } else { self.start };
+        let t1 = if to < self.end { to } else { self.end };
         let tally = &mut self.tally;
         let st = &mut tally.streams[si];
         if t1 > t0 {
-            st.carried_s += t1 - t0;
+            let signed = |dt: f64| if TAKE_OFF { -dt } else { dt };
+            st.carried_s += signed(t1 - t0);
             if self.bins > 0 {
                 let (start, width, bins) = (self.start, self.interval_s, self.bins);
                 let iv = &mut tally.stream_intervals;
                 spread(start, width, bins, t0, t1, |b, dt| {
-                    iv[b][si].carried_s += dt
+                    iv[b][si].carried_s += signed(dt)
                 });
             }
         }
-        if !call.measured() {
-            return;
-        }
-        self.count_answered(call, now - call.attempt_at, answer_within);
     }
 
     /// A measured call answered after waiting `wait` (s) in all: counted
@@ -1149,6 +1218,10 @@ impl<'m> Sim<'m> {
         self.release_slot(slot);
         if self.streams[w.call.stream as usize].staged {
             self.flow_seizes(self.slab_flow[slot as usize], g, now);
+            return;
+        }
+        if w.call.interrupted {
+            self.seize_call::<true>(g, w.call, now);
             return;
         }
         self.seize(g, w.call, now);

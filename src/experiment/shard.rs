@@ -288,6 +288,7 @@ fn hash_group(h: &mut Fnv, group: &Group) {
         shift_types: _,
         prefer,
         class_of,
+        preemption,
     } = group;
     h.text(name);
     h.u32(*servers);
@@ -333,6 +334,12 @@ fn hash_group(h: &mut Fnv, group: &Group) {
         h.tag(10);
         h.count(class_of.len());
         class_of.iter().for_each(|&c| h.u32(c));
+    }
+    // Hashed only when given: a group without it keeps the fingerprint of
+    // part format 5, whose figures it reproduces bit for bit.
+    if let Some(p) = preemption {
+        h.tag(11);
+        h.text(p.name());
     }
 }
 

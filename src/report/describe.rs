@@ -1,7 +1,7 @@
 //! The scenario in plain words: the compiled model as a reader checks it
 //! (groups, streams, laws, routes), for `check` and the HTML pages.
 
-use crate::scenario::{Arrivals, Model, Queue, Replications, Start};
+use crate::scenario::{Arrivals, Model, Preemption, Queue, Replications, Start};
 use crate::units::{format_duration, format_share, trim_float};
 
 /// How the warm-up was chosen and how replications start, for the run line.
@@ -91,6 +91,19 @@ pub fn describe_model(model: &Model, file: &str) -> String {
                 ", answers waiting calls in the order {}",
                 names.join(", ")
             ));
+        }
+        if let Some(p) = g.preemption {
+            out.push_str(match p {
+                Preemption::Resume => {
+                    ", a call of higher priority interrupts one of lower priority, which resumes later"
+                }
+                Preemption::Restart => {
+                    ", a call of higher priority interrupts one of lower priority, which starts again later"
+                }
+                Preemption::Lose => {
+                    ", a call of higher priority interrupts one of lower priority, which is lost"
+                }
+            });
         }
         if g.reserve > 0 {
             let names: Vec<&str> = model

@@ -8,8 +8,8 @@ pub mod spec;
 
 pub use model::Forecast;
 pub use model::{
-    Arrivals, Group, Hold, Model, Prices, Queue, Replications, Retry, RunPlan, Schedule, SeenBy,
-    Stage, Start, Stream, TransformError, residual_quantile,
+    Arrivals, Group, Hold, Model, Preemption, Prices, Queue, Replications, Retry, RunPlan,
+    Schedule, SeenBy, Stage, Start, Stream, TransformError, residual_quantile,
 };
 
 use crate::dist::{self, Law, LawParams};
@@ -674,6 +674,18 @@ impl Compiler {
                 prefer
             }
         };
+        let preemption = match &g.preemption {
+            None => None,
+            Some(text) => Some(Preemption::parse(text).ok_or_else(|| {
+                self.err(
+                    k("preemption"),
+                    format!(
+                        "\"{text}\" is not a pre-emption rule: expected \"{}\" (what happens to the interrupted call)",
+                        Preemption::NAMES.join("\", \"")
+                    ),
+                )
+            })?),
+        };
         Ok(Group {
             name: g.name.clone(),
             servers,
@@ -686,6 +698,7 @@ impl Compiler {
             prefer,
             // Filled in once the streams are compiled (`queue_classes`).
             class_of: vec![0; stream_index.len()],
+            preemption,
         })
     }
 
@@ -1034,12 +1047,24 @@ impl Compiler {
         let queued = route
             .iter()
             .any(|&g| groups[g as usize].queue != Queue::None);
+        let preemptive = |g: u32| groups[g as usize].preemption.is_some();
+        if !stages.is_empty()
+            && let Some(&g) = route.iter().find(|&&g| preemptive(g))
+        {
+            return Err(self.err(
+                k("stages"),
+                format!(
+                    "the group \"{}\" interrupts calls (preemption), and a call flow's stage cannot use such a group",
+                    groups[g as usize].name
+                ),
+            ));
+        }
         let priority = match s.priority {
             None => None,
-            Some(_) if !queued => {
+            Some(_) if !queued && !route.iter().any(|&g| preemptive(g)) => {
                 return Err(self.err(
                     k("priority"),
-                    "priority orders waiting calls, and no group on the route has waiting places (queue > 0)",
+                    "priority orders waiting calls, and no group on the route has waiting places (queue > 0) or preemption",
                 ));
             }
             Some(p) => Some(self.count(&k("priority"), p, 1, MAX_PRIORITY)?),
@@ -1116,6 +1141,9 @@ impl Compiler {
             }
             if grp.queue == Queue::None {
                 return Err(self.err(key("group"), format!("the group \"{name}\" has no waiting places (queue > 0): a waiting call can be seen only in a queue")));
+            }
+            if grp.preemption.is_some() {
+                return Err(self.err(key("group"), format!("the group \"{name}\" interrupts calls (preemption), which happens on arrival along a route: put it on the route instead")));
             }
             if grp.servers < units {
                 return Err(self.err(

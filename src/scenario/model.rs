@@ -133,6 +133,48 @@ pub struct Group {
     /// group's queue, 0 answered first (from `prefer`, then the streams'
     /// `priority`; see [`Model::queue_classes`]). All 0 for one class.
     pub class_of: Vec<u32>,
+    /// Pre-emptive priority (`preemption`): what happens to a call in
+    /// service that a call of higher `priority` interrupts; `None`: calls
+    /// in service are never interrupted.
+    pub preemption: Option<Preemption>,
+}
+
+/// What happens to a call interrupted by a call of higher priority
+/// (`preemption` on a group; rules in docs/semantics.md, "Pre-emption").
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Preemption {
+    /// It waits at the head of its class and is served again for the rest
+    /// of its holding time (pre-emptive resume).
+    Resume,
+    /// It waits at the head of its class and is served again for the whole
+    /// of its holding time (pre-emptive repeat, the same work again).
+    Restart,
+    /// It ends there (pre-emptive loss).
+    Lose,
+}
+
+impl Preemption {
+    /// The names the file uses, in the order of the message.
+    pub const NAMES: [&'static str; 3] = ["resume", "restart", "lose"];
+
+    /// The name the file uses.
+    pub fn name(self) -> &'static str {
+        match self {
+            Preemption::Resume => "resume",
+            Preemption::Restart => "restart",
+            Preemption::Lose => "lose",
+        }
+    }
+
+    /// From the file's name.
+    pub fn parse(text: &str) -> Option<Preemption> {
+        match text {
+            "resume" => Some(Preemption::Resume),
+            "restart" => Some(Preemption::Restart),
+            "lose" => Some(Preemption::Lose),
+            _ => None,
+        }
+    }
 }
 
 impl Group {

@@ -204,6 +204,10 @@ pub struct GroupSpec {
     /// The group's order of preference over the streams whose waiting
     /// calls it takes, most preferred first.
     pub prefer: Option<Vec<String>>,
+    /// Pre-emptive priority: an arriving call of higher priority that finds
+    /// every server busy interrupts a call of lower priority, which is then
+    /// "resume"d, "restart"ed or "lose"s (lost).
+    pub preemption: Option<String>,
 }
 
 /// One shift worked: `{ start = "08:00", length = "8h", agents = 6,

@@ -37,6 +37,9 @@ pub enum Figure {
     WaitP99,
     /// Share of resolved calls answered within `answer_within`.
     ServiceLevel,
+    /// Interruptions by calls of higher priority per answered call
+    /// (`preemption`): a share when a call is interrupted at most once.
+    Interruptions,
     /// Busy servers over servers (time average).
     Occupancy,
     /// Share of time with every server busy.
@@ -146,7 +149,7 @@ impl Range {
 }
 
 /// Every figure, in the order of the design.
-pub const ALL: [Figure; 25] = [
+pub const ALL: [Figure; 26] = [
     Figure::OfferedCalls,
     Figure::OfferedTraffic,
     Figure::AttemptsPerCall,
@@ -161,6 +164,7 @@ pub const ALL: [Figure; 25] = [
     Figure::WaitP90,
     Figure::WaitP99,
     Figure::ServiceLevel,
+    Figure::Interruptions,
     Figure::Occupancy,
     Figure::TimeCongestion,
     Figure::OverflowCalls,
@@ -192,6 +196,7 @@ impl Figure {
             Figure::WaitP90 => "wait_p90",
             Figure::WaitP99 => "wait_p99",
             Figure::ServiceLevel => "service_level",
+            Figure::Interruptions => "interruptions",
             Figure::Occupancy => "occupancy",
             Figure::TimeCongestion => "time_congestion",
             Figure::OverflowCalls => "overflow_calls",
@@ -228,6 +233,7 @@ impl Figure {
             Figure::WaitP90 => "wait, 90th percentile",
             Figure::WaitP99 => "wait, 99th percentile",
             Figure::ServiceLevel => "service level",
+            Figure::Interruptions => "interruptions per answered call",
             Figure::Occupancy => "occupancy",
             Figure::TimeCongestion => "time congestion",
             Figure::OverflowCalls => "overflow calls",
@@ -248,9 +254,10 @@ impl Figure {
             Figure::OfferedCalls | Figure::OverflowCalls | Figure::StageCalls => Unit::Count,
             Figure::OfferedTraffic | Figure::CarriedTraffic | Figure::OverflowMean => Unit::Erlangs,
             Figure::WaitMean | Figure::WaitP50 | Figure::WaitP90 | Figure::WaitP99 => Unit::Seconds,
-            Figure::AttemptsPerCall | Figure::OverflowMeanSquare | Figure::OverflowPeakedness => {
-                Unit::Ratio
-            }
+            Figure::AttemptsPerCall
+            | Figure::OverflowMeanSquare
+            | Figure::OverflowPeakedness
+            | Figure::Interruptions => Unit::Ratio,
             Figure::FirstAttemptBlocking
             | Figure::AttemptBlocking
             | Figure::Loss
@@ -277,6 +284,7 @@ impl Figure {
             | Figure::WaitProbability
             | Figure::WaitMean
             | Figure::ServiceLevel
+            | Figure::Interruptions
             | Figure::StageServed
             | Figure::StageFinished
             | Figure::StageAbandoned

@@ -202,7 +202,23 @@ pub fn stream_figures(model: &Model, s: usize) -> Vec<Figure> {
     if stream.answer_within_s.is_some() {
         v.push(Figure::ServiceLevel);
     }
+    if stream_interruptible(model, s) {
+        v.push(Figure::Interruptions);
+    }
     v
+}
+
+/// Whether calls of stream `s` can be interrupted: a group of its route
+/// with `preemption` is on the route of a stream of higher priority
+/// (a lower number; none ranks last).
+pub fn stream_interruptible(model: &Model, s: usize) -> bool {
+    let rank = |x: usize| model.streams[x].priority.unwrap_or(u32::MAX);
+    (model.streams[s].route.iter())
+        .filter(|&&g| model.groups[g as usize].preemption.is_some())
+        .any(|&g| {
+            (0..model.streams.len())
+                .any(|h| rank(h) < rank(s) && model.streams[h].route.contains(&g))
+        })
 }
 
 /// The figures reported for group `g`.
@@ -298,6 +314,9 @@ pub fn observe(model: &Model, layout: &[FigureId], t: &Tally) -> Vec<Obs> {
                     Figure::WaitP90 => quantile(0.9),
                     Figure::WaitP99 => quantile(0.99),
                     Figure::ServiceLevel => Obs::ratio(st.answered_within as f64, resolved),
+                    Figure::Interruptions => {
+                        Obs::ratio(st.interruptions as f64, st.answered as f64)
+                    }
                     other => unreachable!("{other} is not a stream figure"),
                 }
             }

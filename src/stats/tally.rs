@@ -39,6 +39,9 @@ pub struct StreamTally {
     pub waited: u64,
     /// Measured calls still unresolved when the replication stopped.
     pub pending_end: u64,
+    /// Interruptions of measured calls by calls of higher priority
+    /// (`preemption`), every one counted.
+    pub interruptions: u64,
     /// Sum of the waits of answered calls (s).
     pub wait_sum_s: f64,
     /// Call-seconds carried inside the measured period.

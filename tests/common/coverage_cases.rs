@@ -768,6 +768,58 @@ fn priority_two_classes() -> Result<Case, FormulaError> {
     })
 }
 
+/// Pre-emptive resume on M/M/N, one-hour replications: the urgent class
+/// is the M/M/N queue of its own load (it never sees the routine class),
+/// and the number in the group is that of M/M/N first come first served,
+/// so the routine class waits with probability C(N, A) and is interrupted
+/// (λ_1 / λ_2)(C(N, A) - C(N, a_1)) times per answered call (PASTA).
+fn preemptive_resume() -> Result<Case, FormulaError> {
+    let (n, a) = (8, [2.5, 3.5]);
+    let stream_text = |name: &str, traffic: f64, priority: u32| {
+        format!(
+            "[[stream]]\nname = \"{name}\"\n\
+             arrivals = {{ law = \"poisson\", rate = \"{}/h\" }}\n\
+             holding = {{ law = \"exponential\", mean = \"3m\" }}\n\
+             route = [\"crews\"]\npriority = {priority}\n\n",
+            per_hour(traffic)
+        )
+    };
+    let c_urgent = erlang_c::wait_probability(n, a[0])?;
+    let c_total = erlang_c::wait_probability(n, a[0] + a[1])?;
+    Ok(Case {
+        name: "preemptive-resume",
+        about: "8 crews, 2.5 E interrupting 3.5 E (pre-emptive resume), unlimited queue, exponential 3 min, 1 h replications",
+        text: format!(
+            "[simulation]\nlength = \"1h\"\n\n\
+             [[group]]\nname = \"crews\"\nservers = {n}\nqueue = \"unlimited\"\npreemption = \"resume\"\n\n{}{}",
+            stream_text("urgent", a[0], 1),
+            stream_text("routine", a[1], 2),
+        ),
+        replications: 40,
+        checks: vec![
+            stream(
+                0,
+                "wait_probability",
+                c_urgent,
+                "Erlang C of the class alone",
+            ),
+            stream(
+                0,
+                "wait_mean",
+                erlang_c::mean_wait(n, a[0], HOLDING_S)?,
+                "Erlang C of the class alone",
+            ),
+            stream(1, "wait_probability", c_total, "Erlang C of the total"),
+            stream(
+                1,
+                "interruptions",
+                a[0] / a[1] * (c_total - c_urgent),
+                "M/M/N number in system, PASTA",
+            ),
+        ],
+    })
+}
+
 fn pooled_groups() -> Result<Case, FormulaError> {
     let (n1, n2, a) = (6, 5, [5.0, 4.0]);
     let n = n1 + n2;
@@ -895,6 +947,7 @@ pub fn cases() -> Result<Vec<Case>, FormulaError> {
         call_flow_trunks()?,
         priority_two_classes()?,
         pooled_groups()?,
+        preemptive_resume()?,
     ])
 }
 

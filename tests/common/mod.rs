@@ -65,6 +65,14 @@ pub fn erlang_b_statrs(n: u64, a: f64) -> f64 {
     p.pmf(n) / p.cdf(n)
 }
 
+/// Erlang C from Erlang B by the standard identity C = N B / (N - A (1 - B))
+/// (any teletraffic handbook); B from statrs.
+pub fn erlang_c_statrs(n: u32, a: f64) -> f64 {
+    let b = erlang_b_statrs(u64::from(n), a);
+    let nf = f64::from(n);
+    nf * b / (nf - a * (1.0 - b))
+}
+
 /// Stationary distribution of a continuous-time Markov chain with `states`
 /// states and transitions `(from, to, rate)`: solves `π Q = 0`, `Σ π = 1`
 /// by dense Gaussian elimination with partial pivoting, the last balance
