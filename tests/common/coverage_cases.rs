@@ -768,13 +768,13 @@ fn priority_two_classes() -> Result<Case, FormulaError> {
     })
 }
 
-/// Pre-emptive resume on M/M/N, one-hour replications: the urgent class
+/// Pre-emptive resume on M/M/N, two-hour replications: the urgent class
 /// is the M/M/N queue of its own load (it never sees the routine class),
 /// and the number in the group is that of M/M/N first come first served,
 /// so the routine class waits with probability C(N, A) and is interrupted
 /// (λ_1 / λ_2)(C(N, A) - C(N, a_1)) times per answered call (PASTA).
 fn preemptive_resume() -> Result<Case, FormulaError> {
-    let (n, a) = (8, [2.5, 3.5]);
+    let (n, a) = (4, [2.0, 1.2]);
     let stream_text = |name: &str, traffic: f64, priority: u32| {
         format!(
             "[[stream]]\nname = \"{name}\"\n\
@@ -788,14 +788,14 @@ fn preemptive_resume() -> Result<Case, FormulaError> {
     let c_total = erlang_c::wait_probability(n, a[0] + a[1])?;
     Ok(Case {
         name: "preemptive-resume",
-        about: "8 crews, 2.5 E interrupting 3.5 E (pre-emptive resume), unlimited queue, exponential 3 min, 1 h replications",
+        about: "4 crews, 2 E interrupting 1.2 E (pre-emptive resume), unlimited queue, exponential 3 min, 2 h replications",
         text: format!(
-            "[simulation]\nlength = \"1h\"\n\n\
+            "[simulation]\nlength = \"2h\"\n\n\
              [[group]]\nname = \"crews\"\nservers = {n}\nqueue = \"unlimited\"\npreemption = \"resume\"\n\n{}{}",
             stream_text("urgent", a[0], 1),
             stream_text("routine", a[1], 2),
         ),
-        replications: 40,
+        replications: 60,
         checks: vec![
             stream(
                 0,
