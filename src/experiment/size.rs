@@ -50,7 +50,7 @@ pub enum GoalError {
     },
     /// No stream of the model reports the figure.
     #[error(
-        "goal '{0}': no stream in this scenario reports that figure (waits need a queue, service level needs answer_within, attempt figures need retry)"
+        "goal '{0}': no stream in this scenario reports that figure (waits need a queue, service level needs answer_within, attempt figures need retry, interruptions need preemption)"
     )]
     NotReported(String),
 }
@@ -67,10 +67,11 @@ const STREAM_GOALS: &[&str] = &[
     "wait_p99",
     "service_level",
     "attempts_per_call",
+    "interruptions",
 ];
 const GROUP_GOALS: &[&str] = &["occupancy", "time_congestion"];
 const ALLOWED: &str = "loss, first_attempt_blocking, attempt_blocking, abandonment, wait_probability, \
-wait_mean, wait_p50, wait_p90, wait_p99, service_level, attempts_per_call, occupancy, time_congestion";
+wait_mean, wait_p50, wait_p90, wait_p99, service_level, attempts_per_call, interruptions, occupancy, time_congestion";
 
 /// A design goal on one figure.
 #[derive(Debug, Clone, PartialEq)]
