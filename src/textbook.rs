@@ -600,6 +600,27 @@ fn priority_group(col: &mut Column, g: usize) {
     }
 }
 
+/// Stream `s`'s figures of an M/M/N queue (`method`): (servers, traffic,
+/// mean holding), and its (P(wait), mean wait) already solved: those two,
+/// no loss, and the service level where the stream has a target. The one
+/// home of the Erlang C stream entries (a queue, a pool, a class alone).
+fn erlang_c_stream(
+    col: &mut Column,
+    s: usize,
+    method: &'static str,
+    (n, traffic, h): (u32, f64, f64),
+    (c, w): (f64, f64),
+) {
+    col.stream(s, Figure::WaitProbability, method, c);
+    col.stream(s, Figure::WaitMean, method, w);
+    col.stream(s, Figure::Loss, method, 0.0);
+    if let Some(aw) = col.model.streams[s].answer_within_s
+        && let Ok(sl) = erlang_c::service_level(n, traffic, h, aw)
+    {
+        col.stream(s, Figure::ServiceLevel, method, sl);
+    }
+}
+
 /// Label of the highest class of a group with pre-emption: the queue of
 /// its own load alone.
 pub const PREEMPTIVE_ALONE: &str = "Erlang C, class alone (pre-emptive)";
@@ -696,14 +717,7 @@ fn preemptive_group(col: &mut Column, g: usize) {
                 return;
             };
             for &(s, _) in users.iter().filter(|&&(s, _)| rank(s) == top) {
-                col.stream(s, Figure::WaitProbability, PREEMPTIVE_ALONE, c);
-                col.stream(s, Figure::WaitMean, PREEMPTIVE_ALONE, w);
-                col.stream(s, Figure::Loss, PREEMPTIVE_ALONE, 0.0);
-                if let Some(aw) = model.streams[s].answer_within_s
-                    && let Ok(sl) = erlang_c::service_level(n, a_top, h, aw)
-                {
-                    col.stream(s, Figure::ServiceLevel, PREEMPTIVE_ALONE, sl);
-                }
+                erlang_c_stream(col, s, PREEMPTIVE_ALONE, (n, a_top, h), (c, w));
             }
             if grp.preemption != Some(Preemption::Resume)
                 || !users.iter().all(|&(s, _)| one_mean(s))
@@ -866,14 +880,7 @@ fn pooled_erlang_c(col: &mut Column, pool: &[usize]) {
         return;
     };
     for &s in &streams {
-        col.stream(s, Figure::WaitProbability, POOLED_ERLANG_C, c);
-        col.stream(s, Figure::WaitMean, POOLED_ERLANG_C, w);
-        col.stream(s, Figure::Loss, POOLED_ERLANG_C, 0.0);
-        if let Some(aw) = model.streams[s].answer_within_s
-            && let Ok(sl) = erlang_c::service_level(n, traffic, h, aw)
-        {
-            col.stream(s, Figure::ServiceLevel, POOLED_ERLANG_C, sl);
-        }
+        erlang_c_stream(col, s, POOLED_ERLANG_C, (n, traffic, h), (c, w));
     }
 }
 
@@ -1324,15 +1331,7 @@ fn queue_group(col: &mut Column, g: usize) {
             col.group(g, Figure::CarriedTraffic, "Erlang C", traffic);
             col.group(g, Figure::Occupancy, "Erlang C", traffic / f64::from(n));
             for &(s, _) in &users {
-                let st = &model.streams[s];
-                col.stream(s, Figure::WaitProbability, "Erlang C", c);
-                col.stream(s, Figure::WaitMean, "Erlang C", w);
-                col.stream(s, Figure::Loss, "Erlang C", 0.0);
-                if let Some(aw) = st.answer_within_s
-                    && let Ok(sl) = erlang_c::service_level(n, traffic, h, aw)
-                {
-                    col.stream(s, Figure::ServiceLevel, "Erlang C", sl);
-                }
+                erlang_c_stream(col, s, "Erlang C", (n, traffic, h), (c, w));
             }
         }
         Some(theta) => {
