@@ -15,7 +15,8 @@ use crate::experiment::sweep::{self, Sweep, SweepError};
 use crate::experiment::{self, ExperimentError, RunOptions};
 use crate::records::{self, RecordsError};
 use crate::report::{
-    CheckDocument, RunDocument, SizeDocument, SweepDocument, records::RecordsDocument,
+    CheckDocument, CompareDocument, ExplainDocument, RunDocument, SizeDocument, SweepDocument,
+    records::RecordsDocument,
 };
 use crate::scenario::{self, Model, Replications, ScenarioError};
 use crate::stats::Figure;
@@ -258,6 +259,84 @@ pub fn size(
     let result = size::size(&model, index, goals, &how, opts)?;
     let partial = result.partial;
     Ok((SizeDocument::new(&model, file, &result), partial))
+}
+
+/// `compare`: design B against design A on A's plan with common random
+/// numbers, as the document `busyhour compare A B --json` prints
+/// (differences B - A with their paired intervals). A fixed number of
+/// replications: `precision` is refused.
+pub fn compare(
+    a: &Model,
+    file_a: &str,
+    b: &Model,
+    file_b: &str,
+    overrides: &Overrides,
+    opts: &RunOptions,
+) -> Result<(CompareDocument, bool), ApiError> {
+    use crate::experiment::compare;
+    overrides.check()?;
+    if overrides.precision.is_some() {
+        return Err(argument(
+            "precision",
+            "compare runs a fixed number of paired replications; give replications",
+        ));
+    }
+    let (mut a, mut b) = (a.clone(), b.clone());
+    overrides.apply(&mut a);
+    overrides.apply(&mut b);
+    let plan = compare::plan(&a, &b, overrides.replications)
+        .map_err(|e| argument("b", format!("{file_b} against {file_a}: {e}")))?;
+    let result = compare::compare(&a, &b, plan, opts)?;
+    let partial = result.partial;
+    Ok((
+        CompareDocument::new(&a, file_a, &b, file_b, &result),
+        partial,
+    ))
+}
+
+/// `explain`: the assumption ladder from the textbook model to the
+/// scenario, as the document `busyhour explain --json` prints; `figures`
+/// names the figures explained (empty: each stream's loss and service
+/// level and each group's occupancy). A fixed number of replications on
+/// every rung: the override, or the file's.
+pub fn explain(
+    model: &Model,
+    file: &str,
+    figure_names: &[String],
+    overrides: &Overrides,
+    opts: &RunOptions,
+) -> Result<(ExplainDocument, bool), ApiError> {
+    overrides.check()?;
+    if overrides.precision.is_some() {
+        return Err(argument(
+            "precision",
+            "explain runs a fixed number of replications on every rung; give replications",
+        ));
+    }
+    let mut model = model.clone();
+    overrides.apply(&mut model);
+    let replications = explain_replications(&model, file, overrides.replications)
+        .map_err(|e| argument("replications", e))?;
+    let figures = figures_named(&model, figure_names).map_err(|e| argument("figures", e))?;
+    let ladder = crate::experiment::explain::explain(&model, replications, opts)?;
+    let partial = ladder.partial;
+    Ok((
+        ExplainDocument::new(&model, file, &ladder, &figures),
+        partial,
+    ))
+}
+
+/// The replications of every rung of `explain`: `given`, else the file's
+/// fixed number; a file with a precision goal is refused (the message
+/// names `file`).
+pub fn explain_replications(model: &Model, file: &str, given: Option<u32>) -> Result<u32, String> {
+    match (given, &model.plan.replications) {
+        (Some(n), _) => Ok(n),
+        (None, Replications::Fixed(n)) => Ok(*n),
+        (None, Replications::Precision { .. }) => Err(format!(
+            "{file}: [simulation] asks for a precision goal; explain runs a fixed number of replications on every rung: give a number of replications"
+        )),
+    }
 }
 
 /// What a sweep steps through: load scales (`[STREAM=]start:end:step`),

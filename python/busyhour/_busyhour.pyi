@@ -56,6 +56,20 @@ def sweep(
     seed: Optional[int] = None,
     threads: Optional[int] = None,
 ) -> str: ...
+def compare(
+    a: Model,
+    b: Model,
+    replications: Optional[int] = None,
+    seed: Optional[int] = None,
+    threads: Optional[int] = None,
+) -> str: ...
+def explain(
+    model: Model,
+    figures: List[str] = ...,
+    replications: Optional[int] = None,
+    seed: Optional[int] = None,
+    threads: Optional[int] = None,
+) -> str: ...
 def records(
     path: Optional[str] = None,
     text: Optional[str] = None,

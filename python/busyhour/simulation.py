@@ -34,11 +34,15 @@ __all__ = [
     "size",
     "sweep",
     "records",
+    "compare",
+    "explain",
     "CheckResult",
     "RunResult",
     "SizeResult",
     "SweepResult",
     "RecordsResult",
+    "CompareResult",
+    "ExplainResult",
 ]
 
 PathLike = Union[str, "os.PathLike[str]"]
@@ -350,6 +354,118 @@ class RecordsResult(_Result):
         with outcomes ``answered``, ``blocked``, ``abandoned``."""
         columns = ["start", "calls", "answered", "blocked", "abandoned", "carried_traffic", "offered_traffic"]
         return _frame(self._doc["intervals"], columns)
+
+
+def _estimate_columns(prefix: str, e: Optional[Mapping[str, Any]]) -> Dict[str, Any]:
+    """An estimate's mean, half-width and bounds as ``prefix_*`` columns."""
+    e = e or {}
+    return {f"{prefix}_{k}": e.get(k) for k in ("mean", "half_width", "low", "high")}
+
+
+class CompareResult(_Result):
+    """The paired comparison of two designs (``busyhour compare --json``):
+    every common figure of A and B and the difference B - A with its 95%
+    interval from the paired replications."""
+
+    def to_frame(self):
+        """One row per common figure and scope: ``kind``, ``name``,
+        ``figure``, A's, B's and the difference's ``*_mean``,
+        ``*_half_width``, ``*_low``, ``*_high``, the ``unpaired_half_width``
+        (two independent intervals), ``decided`` and ``verdict``."""
+        rows = []
+        for f in self.to_dict().get("figures", []):
+            row = {"kind": f.get("kind"), "name": f.get("name"), "figure": f.get("figure")}
+            for side in ("a", "b", "difference"):
+                row.update(_estimate_columns(side, f.get(side)))
+            row["unpaired_half_width"] = f.get("unpaired_half_width")
+            row["decided"] = f.get("decided")
+            row["verdict"] = f.get("verdict")
+            rows.append(row)
+        columns = ["kind", "name", "figure"]
+        for side in ("a", "b", "difference"):
+            columns += [f"{side}_{k}" for k in ("mean", "half_width", "low", "high")]
+        return _frame(rows, columns + ["unpaired_half_width", "decided", "verdict"])
+
+
+class ExplainResult(_Result):
+    """The assumption ladder (``busyhour explain --json``): each rung from
+    the textbook model to the scenario, and what each effect accounts for."""
+
+    def to_frame(self):
+        """One row per rung and figure (``rung``, ``figure``, ``mean``,
+        ``half_width``, ``low``, ``high``), in the ladder's order."""
+        rows = []
+        for r in self.to_dict().get("rungs", []):
+            for f in r.get("figures", []):
+                row = {"rung": r.get("rung"), "figure": f.get("figure")}
+                row.update({k: (f.get("estimate") or {}).get(k) for k in ("mean", "half_width", "low", "high")})
+                rows.append(row)
+        return _frame(rows, ["rung", "figure", "mean", "half_width", "low", "high"])
+
+    def effects_frame(self):
+        """One row per effect and figure: ``effect``, ``figure``, the
+        step's and the effect-alone ``*_mean`` and ``*_half_width``, and
+        ``share_of_gap``."""
+        rows = []
+        for e in self.to_dict().get("effects", []):
+            row = {"effect": e.get("effect"), "figure": e.get("figure")}
+            for part in ("step", "alone"):
+                est = e.get(part) or {}
+                row[f"{part}_mean"] = est.get("mean")
+                row[f"{part}_half_width"] = est.get("half_width")
+            row["share_of_gap"] = e.get("share_of_gap")
+            rows.append(row)
+        return _frame(
+            rows,
+            ["effect", "figure", "step_mean", "step_half_width", "alone_mean", "alone_half_width", "share_of_gap"],
+        )
+
+
+def compare(
+    a: Union[Scenario, Mapping[str, Any], PathLike],
+    b: Union[Scenario, Mapping[str, Any], PathLike],
+    *,
+    replications: Optional[int] = None,
+    seed: Optional[int] = None,
+    threads: Optional[int] = None,
+) -> CompareResult:
+    """Design ``b`` against design ``a`` with common random numbers, as
+    ``busyhour compare A B``: both run on A's plan (``replications`` and
+    ``seed`` override it); every common figure with the difference B - A
+    and its paired 95% interval, far narrower than two separate ones."""
+    return CompareResult(
+        _busyhour.compare(
+            _scenario(a)._model,
+            _scenario(b)._model,
+            replications=replications,
+            seed=seed,
+            threads=threads,
+        )
+    )
+
+
+def explain(
+    scenario: Union[Scenario, Mapping[str, Any], PathLike],
+    *,
+    figures: Sequence[str] = (),
+    replications: Optional[int] = None,
+    seed: Optional[int] = None,
+    threads: Optional[int] = None,
+) -> ExplainResult:
+    """The assumption ladder, as ``busyhour explain``: from the textbook
+    model of the design to the scenario, one real effect at a time on
+    common random numbers; ``figures`` names the figures explained
+    (default: each stream's loss and service level, each group's
+    occupancy)."""
+    return ExplainResult(
+        _busyhour.explain(
+            _scenario(scenario)._model,
+            figures=list(figures),
+            replications=replications,
+            seed=seed,
+            threads=threads,
+        )
+    )
 
 
 def check(scenario: Union[Scenario, Mapping[str, Any], PathLike]) -> CheckResult:

@@ -391,6 +391,47 @@ fn sweep(
     to_json(&doc)
 }
 
+/// `compare`: design `b` against design `a` (common random numbers): the
+/// JSON document.
+#[pyfunction]
+#[pyo3(signature = (a, b, replications=None, seed=None, threads=None))]
+fn compare(
+    py: Python<'_>,
+    a: &PyModel,
+    b: &PyModel,
+    replications: Option<u32>,
+    seed: Option<u64>,
+    threads: Option<usize>,
+) -> PyResult<String> {
+    let o = overrides(replications, None, None, seed);
+    let threads = threads_of(threads)?;
+    let (doc, _) = interruptible(py, threads, |opts| {
+        api::compare(&a.model, &a.file, &b.model, &b.file, &o, opts)
+    })?
+    .map_err(py_error)?;
+    to_json(&doc)
+}
+
+/// `explain`: the assumption ladder's JSON document.
+#[pyfunction]
+#[pyo3(signature = (model, figures=Vec::new(), replications=None, seed=None, threads=None))]
+fn explain(
+    py: Python<'_>,
+    model: &PyModel,
+    figures: Vec<String>,
+    replications: Option<u32>,
+    seed: Option<u64>,
+    threads: Option<usize>,
+) -> PyResult<String> {
+    let o = overrides(replications, None, None, seed);
+    let threads = threads_of(threads)?;
+    let (doc, _) = interruptible(py, threads, |opts| {
+        api::explain(&model.model, &model.file, &figures, &o, opts)
+    })?
+    .map_err(py_error)?;
+    to_json(&doc)
+}
+
 /// `records` of a file (`path`) or of CSV text (`text`, named `name`): the
 /// JSON document.
 #[pyfunction]
@@ -683,6 +724,8 @@ fn _busyhour(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add_function(wrap_pyfunction!(size, m)?)?;
     m.add_function(wrap_pyfunction!(sweep, m)?)?;
     m.add_function(wrap_pyfunction!(records, m)?)?;
+    m.add_function(wrap_pyfunction!(compare, m)?)?;
+    m.add_function(wrap_pyfunction!(explain, m)?)?;
     m.add_function(wrap_pyfunction!(evaluate, m)?)?;
     m.add_function(wrap_pyfunction!(evaluate_many, m)?)?;
     m.add_function(wrap_pyfunction!(erlang_a_figures, m)?)?;

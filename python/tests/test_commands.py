@@ -193,3 +193,44 @@ def test_check_is_the_binarys_document(binary, name):
     doc = result.to_dict()
     expected_rows = sum(len(e.get("formulas", {})) for k in ("streams", "groups") for e in doc[k])
     assert len(frame) == expected_rows
+
+
+def test_compare_is_the_binarys_document(binary):
+    a, b = SCENARIOS / "campus-overflow.toml", SCENARIOS / "compare-b.toml"
+    expected = binary_json(binary, "compare", a, b, "--replications", 6, "--seed", 5)
+    result = bh.compare(a, b, replications=6, seed=5)
+    assert without_wall(result.to_dict()) == without_wall(expected)
+    frame = result.to_frame()
+    assert len(frame) == len(expected["figures"])
+    row = expected["figures"][0]
+    assert frame["difference_mean"].iloc[0] == row["difference"]["mean"]
+    assert frame["unpaired_half_width"].iloc[0] == row["unpaired_half_width"]
+
+
+def test_compare_refuses_designs_of_different_lengths():
+    a = bh.from_dict({"simulation": {"length": "1h", "replications": 2}, "group": [{"name": "g", "servers": 3}],
+                      "stream": [{"name": "s", "arrivals": {"law": "poisson", "rate": "60/h"},
+                                  "holding": {"law": "exponential", "mean": "2m"}, "route": ["g"]}]})
+    b = bh.from_dict({"simulation": {"length": "2h", "replications": 2}, "group": [{"name": "g", "servers": 4}],
+                      "stream": [{"name": "s", "arrivals": {"law": "poisson", "rate": "60/h"},
+                                  "holding": {"law": "exponential", "mean": "2m"}, "route": ["g"]}]})
+    with pytest.raises(ValueError, match="^b: <dict> against <dict>: "):
+        bh.compare(a, b)
+
+
+def test_explain_is_the_binarys_document(binary):
+    path = SCENARIOS / "harbour-peak.toml"
+    expected = binary_json(binary, "explain", path, "--replications", 4)
+    result = bh.explain(path, replications=4)
+    assert without_wall(result.to_dict()) == without_wall(expected)
+    frame = result.to_frame()
+    rungs = expected["rungs"]
+    assert len(frame) == sum(len(r["figures"]) for r in rungs)
+    assert frame["rung"].iloc[0] == rungs[0]["rung"]
+    effects = result.effects_frame()
+    assert len(effects) == len(expected["effects"])
+
+
+def test_explain_refuses_an_unknown_figure():
+    with pytest.raises(ValueError, match="^figures: "):
+        bh.explain(SCENARIOS / "harbour-peak.toml", replications=2, figures=["nonsense"])

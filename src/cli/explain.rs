@@ -52,14 +52,12 @@ pub fn run(a: &ExplainArgs) -> Result<Status> {
     }
     files.check()?;
     let figures = super::figures_named(&model, &a.figure)?;
-    let replications = match (a.reps.replications, &model.plan.replications) {
-        (Some(n), _) => n,
-        (None, Replications::Fixed(n)) => *n,
-        (None, Replications::Precision { .. }) => bail!(
-            "{}: [simulation] asks for a precision goal; explain runs a fixed number of replications on every rung: give --replications N",
-            a.scenario.display()
-        ),
-    };
+    let replications = busyhour::api::explain_replications(
+        &model,
+        &a.scenario.display().to_string(),
+        a.reps.replications,
+    )
+    .map_err(anyhow::Error::msg)?;
     let cores = a
         .reps
         .threads
