@@ -124,6 +124,29 @@ fn a_sharded_setting_sweep_merges_to_the_unsharded_one() {
     let p = parts(&s, SET, 2, &d, "table");
     let merged = busyhour(&["merge", &p[0], &p[1]]);
     assert_eq!(whole.stdout, merged.stdout);
+    // And the report, but for the command line it records.
+    let (wr, mr) = (d.join("whole.html"), d.join("merged.html"));
+    let (wr, mr) = (wr.display().to_string(), mr.display().to_string());
+    let whole_args = [
+        "sweep",
+        &s,
+        "--set",
+        SET,
+        "--replications",
+        "6",
+        "-q",
+        "--report",
+        &wr,
+    ];
+    assert!(busyhour(&whole_args).status.success());
+    let merge_args = ["merge", &p[1], &p[0], "-q", "--report", &mr];
+    assert!(busyhour(&merge_args).status.success());
+    let w = std::fs::read_to_string(&wr).unwrap();
+    let m = std::fs::read_to_string(&mr).unwrap();
+    let w = w.replace(&format!("busyhour {}", whole_args.join(" ")), "COMMAND");
+    let m = m.replace(&format!("busyhour {}", merge_args.join(" ")), "COMMAND");
+    assert!(w.contains("COMMAND"), "the report records its command line");
+    assert_eq!(w, m);
 }
 
 #[test]
