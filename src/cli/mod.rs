@@ -264,7 +264,7 @@ pub struct SweepArgs {
     /// "group.agents.queue=0:10:2", "stream.office.retry.chance=20%:60%:10%".
     /// Repeat to sweep several settings one at a time (each alone, the
     /// others as the file has them) with a table of their effects.
-    #[arg(long, value_name = "KEY=RANGE", conflicts_with_all = ["scale", "servers", "shard"])]
+    #[arg(long, value_name = "KEY=RANGE", conflicts_with_all = ["scale", "servers"])]
     pub set: Vec<String>,
     /// With two --set: every value of the second at each value of the first
     /// (a grid), instead of one at a time.
@@ -820,6 +820,9 @@ fn sweep_settings(a: &SweepArgs, model: &scenario::Model) -> Result<Status> {
     let ranges = (a.set.iter())
         .map(|text| SettingRange::parse(text).context("--set"))
         .collect::<Result<Vec<_>>>()?;
+    if a.shard.is_some() && (a.grid || ranges.len() != 1) {
+        bail!("--shard runs one axis: shard one --set at a time, without --grid");
+    }
     let specs = if a.grid {
         let [outer, inner] = <[SettingRange; 2]>::try_from(ranges).map_err(|r| {
             anyhow::anyhow!(
@@ -847,6 +850,9 @@ fn sweep_settings(a: &SweepArgs, model: &scenario::Model) -> Result<Status> {
         .collect::<Result<Vec<_>, _>>()?;
     let figures = figures_named(model, &a.figure)?;
     let plan = a.reps.plan(model);
+    if let (Some(shard), [spec], [text]) = (a.shard, specs.as_slice(), a.set.as_slice()) {
+        return sweep_shard(a, model, spec, &plan, format!("set={text}"), shard);
+    }
     for spec in &specs {
         guard::check_sweep(model, spec, &plan, &a.reps, a.output.quiet)?;
     }
@@ -921,31 +927,12 @@ pub fn sweep(a: &SweepArgs) -> Result<Status> {
     let figures = figures_named(&model, &a.figure)?;
     let plan = a.reps.plan(&model);
     if let Some(shard) = a.shard {
-        use busyhour::experiment::shard;
-        let Replications::Fixed(total) = plan else {
-            bail!("--shard needs a fixed number of replications: use --replications N");
-        };
         let recorded = match (&a.scale, &a.servers) {
             (Some(s), _) => format!("scale={s}"),
             (None, Some(s)) => format!("servers={s}"),
             (None, None) => unreachable!("clap requires one of them"),
         };
-        let values = spec.values();
-        let models: Vec<(Option<f64>, scenario::Model)> = (0..values.len())
-            .map(|i| Ok((Some(values[i]), spec.model_at(&model, i)?)))
-            .collect::<Result<_>>()?;
-        let file = a.scenario.display().to_string();
-        let part = with_progress(a.output.quiet, a.reps.threads, |opts| {
-            shard::run_shard(
-                &models,
-                &file,
-                Some(recorded),
-                u64::from(total),
-                shard,
-                opts,
-            )
-        })??;
-        return emit_part(&a.output, &part);
+        return sweep_shard(a, &model, &spec, &plan, recorded, shard);
     }
     guard::check_sweep(&model, &spec, &plan, &a.reps, a.output.quiet)?;
     let (steps, completion) = with_progress(a.output.quiet, a.reps.threads, |opts| {
@@ -960,6 +947,39 @@ pub fn sweep(a: &SweepArgs) -> Result<Status> {
     } else {
         Status::Done
     })
+}
+
+/// `busyhour sweep ... --shard I/N --out PART`: every step of `spec`, the
+/// shard's slice of its replications; `recorded` is the sweep as given
+/// (`scale=...`, `servers=...` or `set=KEY=RANGE`), for the merge.
+fn sweep_shard(
+    a: &SweepArgs,
+    base: &scenario::Model,
+    spec: &busyhour::experiment::sweep::Sweep,
+    plan: &Replications,
+    recorded: String,
+    shard: ShardSpec,
+) -> Result<Status> {
+    use busyhour::experiment::shard;
+    let Replications::Fixed(total) = *plan else {
+        bail!("--shard needs a fixed number of replications: use --replications N");
+    };
+    let values = spec.values();
+    let models: Vec<(Option<f64>, scenario::Model)> = (0..values.len())
+        .map(|i| Ok((Some(values[i]), spec.model_at(base, i)?)))
+        .collect::<Result<_>>()?;
+    let file = a.scenario.display().to_string();
+    let part = with_progress(a.output.quiet, a.reps.threads, |opts| {
+        shard::run_shard(
+            &models,
+            &file,
+            Some(recorded),
+            u64::from(total),
+            shard,
+            opts,
+        )
+    })??;
+    emit_part(&a.output, &part)
 }
 
 /// `busyhour run --shard I/N --out PART`.
@@ -1010,7 +1030,8 @@ pub fn merge(a: &MergeArgs) -> Result<Status> {
     let model = shard::model_for(&loaded, &parts);
     let scenario_name = scenario_path.display().to_string();
     if let Some(spec) = parts[0].1.sweep.clone() {
-        return merge_sweep(a, &model, &recorded, &scenario_name, &spec, &parts);
+        let sw = sweep_from_spec(&spec, &model, a, &scenario_path)?;
+        return merge_sweep(a, &model, &recorded, &scenario_name, &sw, &parts);
     }
     let mut outcomes = shard::merge(&[(None, model.clone())], &scenario_name, &parts)?;
     let outcome = outcomes.remove(0);
@@ -1022,16 +1043,27 @@ pub fn merge(a: &MergeArgs) -> Result<Status> {
     Ok(Status::Done)
 }
 
-/// Parse a sweep as recorded in a part: `scale=[STREAM=]RANGE` or
-/// `servers=GROUP=RANGE`.
+/// Parse a sweep as recorded in a part: `scale=[STREAM=]RANGE`,
+/// `servers=GROUP=RANGE` or `set=KEY=RANGE` (the scenario file edited at
+/// each value, with the parts' seed).
 fn sweep_from_spec(
     spec: &str,
     model: &scenario::Model,
+    a: &MergeArgs,
+    scenario_path: &Path,
 ) -> Result<busyhour::experiment::sweep::Sweep> {
     use busyhour::experiment::sweep::Sweep;
+    use busyhour::scenario::setting::{Editable, SettingRange};
     Ok(match spec.split_once('=') {
         Some(("scale", rest)) => Sweep::parse_scale(rest, model)?,
         Some(("servers", rest)) => Sweep::parse_servers(rest, model)?,
+        Some(("set", rest)) => {
+            let range = SettingRange::parse(rest).context("the parts' --set")?;
+            let file = Editable::load(scenario_path, a.data_dir.as_deref())?;
+            let seed = model.plan.seed;
+            Sweep::setting(range, &file, |m| m.plan.seed = seed)
+                .with_context(|| format!("the parts' --set {rest}"))?
+        }
         _ => bail!("the parts record an unknown sweep '{spec}'"),
     })
 }
@@ -1041,11 +1073,10 @@ fn merge_sweep(
     model: &scenario::Model,
     recorded: &str,
     scenario_name: &str,
-    spec: &str,
+    sw: &busyhour::experiment::sweep::Sweep,
     parts: &[(String, busyhour::experiment::shard::Part)],
 ) -> Result<Status> {
     use busyhour::experiment::{shard, sweep};
-    let sw = sweep_from_spec(spec, model)?;
     let values = sw.values();
     let models: Vec<(Option<f64>, scenario::Model)> = (0..values.len())
         .map(|i| Ok((Some(values[i]), sw.model_at(model, i)?)))
@@ -1060,7 +1091,7 @@ fn merge_sweep(
             outcome,
         })
         .collect();
-    let doc = SweepDocument::new(model, recorded, &sw, &steps, false, &[], &[]);
+    let doc = SweepDocument::new(model, recorded, sw, &steps, false, &[], &[]);
     emit_charted(&doc, &a.output, None)?;
     Ok(Status::Done)
 }
