@@ -99,17 +99,18 @@ fn run(args: &Args) -> Result<bool, String> {
             started.elapsed().as_secs_f64()
         );
         println!(
-            "  {:32} {:>12} {:>24} {:>9} {:>15} {:>9}  verdict",
-            "figure", "exact", "mean ± se", "bias/se", "coverage ± se", "rel. hw"
+            "  {:32} {:>12} {:>24} {:>9} {:>15} {:>7} {:>9}  verdict",
+            "figure", "exact", "mean ± se", "bias/se", "coverage ± se", "warned", "rel. hw"
         );
         for (c, s) in &r.figures {
             println!(
-                "  {:32} {:>12.6} {:>24} {:>+9.2} {:>15} {:>8.2}%  {} ({})",
+                "  {:32} {:>12.6} {:>24} {:>+9.2} {:>15} {:>6.1}% {:>8.2}%  {} ({})",
                 format!("{} {}", c.place, c.figure),
                 s.exact,
                 format!("{:.6} ± {:.6}", s.mean, s.se),
                 s.bias_se,
                 format!("{:.1}% ± {:.1}%", 100.0 * s.coverage, 100.0 * s.coverage_se),
+                100.0 * s.warned,
                 100.0 * s.relative_half_width,
                 if s.passes() { "pass" } else { "FAIL" },
                 c.source

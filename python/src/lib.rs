@@ -20,7 +20,7 @@ use busyhour::formulas::{FormulaError, engset, erlang_a, erlang_b, erlang_c, mul
 use busyhour::report::{self, Document, Format};
 use busyhour::scenario::{self, Model};
 use pyo3::create_exception;
-use pyo3::exceptions::{PyRuntimeError, PyValueError};
+use pyo3::exceptions::{PyKeyboardInterrupt, PyRuntimeError, PyValueError};
 use pyo3::prelude::*;
 use pyo3::types::{PyBool, PyBytes, PyDict, PyFloat, PyList, PyString, PyTuple};
 use std::path::{Path, PathBuf};
@@ -211,17 +211,26 @@ fn to_value(v: &Bound<'_, PyAny>, name: &str, path: &str) -> PyResult<toml::Valu
 /// Python handle signals: on Ctrl-C the stop flag is set, the library
 /// finishes the replications in progress and starts no new one, the
 /// result is discarded and `KeyboardInterrupt` is raised.
+///
+/// Python runs a signal's handler wherever the main thread next executes
+/// Python code, and that can be a finalizer or a callback whose exception
+/// is discarded ("Exception ignored in ..."): the interrupt would then be
+/// lost and the simulation run on. So for the call's duration SIGINT's
+/// handler is wrapped ([`StopOnInterrupt`]): the wrapper calls the handler
+/// it replaced, and when that raises it also sets the stop flag, which
+/// the loop reads whatever became of the exception.
 fn interruptible<T: Send>(
     py: Python<'_>,
     threads: Option<usize>,
     work: impl FnOnce(&RunOptions) -> T + Send,
 ) -> PyResult<T> {
-    let stop = AtomicBool::new(false);
+    let stop = std::sync::Arc::new(AtomicBool::new(false));
+    let _handler = StopOnInterrupt::install(py, &stop);
     std::thread::scope(|scope| {
         let (sender, receiver) = std::sync::mpsc::channel();
         // Waited on with the GIL released, which needs a Sync reference.
         let receiver = std::sync::Mutex::new(receiver);
-        let stop_ref = &stop;
+        let stop_ref: &AtomicBool = &stop;
         let worker = scope.spawn(move || {
             let opts = RunOptions {
                 threads,
@@ -241,11 +250,14 @@ fn interruptible<T: Send>(
                 Err(std::sync::mpsc::RecvTimeoutError::Disconnected) => break None,
                 Err(std::sync::mpsc::RecvTimeoutError::Timeout) => {}
             }
-            if interrupted.is_none()
-                && let Err(e) = py.check_signals()
-            {
-                stop.store(true, Ordering::SeqCst);
-                interrupted = Some(e);
+            if interrupted.is_none() {
+                if let Err(e) = py.check_signals() {
+                    stop.store(true, Ordering::SeqCst);
+                    interrupted = Some(e);
+                } else if stop.load(Ordering::SeqCst) {
+                    // The handler raised somewhere that discarded it.
+                    interrupted = Some(PyKeyboardInterrupt::new_err(()));
+                }
             }
         };
         let joined = py.detach(|| worker.join());
@@ -269,6 +281,58 @@ fn interruptible<T: Send>(
             )),
         }
     })
+}
+
+/// SIGINT's Python handler wrapped for one simulation call (see
+/// [`interruptible`]); the handler it replaced comes back when this is
+/// dropped. Installed only where Python lets it be (the main thread) and
+/// where SIGINT has a Python handler at all (not `SIG_IGN` or `SIG_DFL`):
+/// elsewhere nothing changes and `check_signals` alone decides, as before.
+struct StopOnInterrupt<'py> {
+    signal: Bound<'py, PyAny>,
+    previous: Bound<'py, PyAny>,
+}
+
+impl<'py> StopOnInterrupt<'py> {
+    fn install(py: Python<'py>, stop: &std::sync::Arc<AtomicBool>) -> Option<StopOnInterrupt<'py>> {
+        let signal = py.import("signal").ok()?.into_any();
+        let sigint = signal.getattr("SIGINT").ok()?;
+        let previous = signal.call_method1("getsignal", (&sigint,)).ok()?;
+        if !previous.is_callable() {
+            return None;
+        }
+        let inner = previous.clone().unbind();
+        let flag = std::sync::Arc::clone(stop);
+        let wrapper = pyo3::types::PyCFunction::new_closure(
+            py,
+            None,
+            None,
+            move |args: &Bound<'_, PyTuple>,
+                  _kwargs: Option<&Bound<'_, PyDict>>|
+                  -> PyResult<Py<PyAny>> {
+                let py = args.py();
+                match inner.bind(py).call1(args) {
+                    Ok(v) => Ok(v.unbind()),
+                    Err(e) => {
+                        flag.store(true, Ordering::SeqCst);
+                        Err(e)
+                    }
+                }
+            },
+        )
+        .ok()?;
+        // ValueError off the main thread: leave the handler alone.
+        signal.call_method1("signal", (&sigint, wrapper)).ok()?;
+        Some(StopOnInterrupt { signal, previous })
+    }
+}
+
+impl Drop for StopOnInterrupt<'_> {
+    fn drop(&mut self) {
+        if let Ok(sigint) = self.signal.getattr("SIGINT") {
+            let _ = self.signal.call_method1("signal", (sigint, &self.previous));
+        }
+    }
 }
 
 fn overrides(

@@ -3,6 +3,7 @@
 not close), the tidy frames read from it, the threads and Ctrl-C."""
 
 import json
+import signal
 import threading
 import _thread
 
@@ -154,7 +155,7 @@ def test_bad_overrides_are_refused():
 
 
 LONG = {
-    "simulation": {"length": "1000h", "replications": 100000, "seed": 1},
+    "simulation": {"length": "1000h", "replications": 2000, "seed": 1},
     "group": [{"name": "trunks", "servers": 30}],
     "stream": [
         {
@@ -167,18 +168,42 @@ LONG = {
 }
 
 
-def test_ctrl_c_stops_the_simulation_with_keyboard_interrupt():
-    # A run of hours, interrupted after half a second as Ctrl-C would
-    # (interrupt_main raises SIGINT's KeyboardInterrupt in the main thread).
-    timer = threading.Timer(0.5, _thread.interrupt_main)
+def _assert_interrupted(interrupt):
+    # LONG is about a minute of work (so that a lost interrupt fails the
+    # test instead of hanging it); `interrupt` runs on a timer thread after
+    # half a second.
+    timer = threading.Timer(0.5, interrupt)
     timer.start()
     try:
         with pytest.raises(KeyboardInterrupt):
             bh.run(LONG)
     finally:
         timer.cancel()
+    # SIGINT's handler is the one it was before the call.
+    assert signal.getsignal(signal.SIGINT) is signal.default_int_handler
+
+
+def test_ctrl_c_stops_the_simulation_with_keyboard_interrupt():
+    # As Ctrl-C would: interrupt_main raises SIGINT's KeyboardInterrupt in
+    # the main thread.
+    _assert_interrupted(_thread.interrupt_main)
     # The package is usable afterwards.
     assert bh.erlang_b_servers(traffic=10.0, grade=0.01) == 18
+
+
+def test_ctrl_c_stops_even_when_its_exception_is_discarded():
+    # Python runs a signal's handler wherever the main thread next runs
+    # Python code; in a finalizer its KeyboardInterrupt is discarded. Here
+    # the handler is called from another thread and its exception dropped,
+    # as such a place would: the run must stop all the same.
+    def swallowed():
+        handler = signal.getsignal(signal.SIGINT)
+        try:
+            handler(signal.SIGINT, None)
+        except KeyboardInterrupt:
+            pass
+
+    _assert_interrupted(swallowed)
 
 
 @pytest.mark.parametrize("name", ["peak.toml", "overloaded.toml", "overflow.toml"])

@@ -338,7 +338,8 @@ pub fn outcome_of(
 ) -> RunResult {
     let layout = stats::layout(model);
     let estimates = estimates_of(&layout, &acc.per_replication);
-    let warnings = warnings::warnings(model, &acc.halves);
+    let mut warnings = warnings::warnings(model, &acc.halves);
+    warnings.extend(warnings::sparse(model, &layout, &acc.per_replication));
     RunResult {
         warnings,
         replications: acc.per_replication.len() as u64,

@@ -620,12 +620,40 @@ fn normal_quantile(p: f64) -> f64 {
     statrs::distribution::Normal::new(0.0, 1.0).map_or(f64::NAN, |n| n.inverse_cdf(p))
 }
 
+/// The interval of a mean from `n` independent values with sample
+/// skewness `skewness`, estimate `mean` and standard error `se`, by Hall's
+/// (1992) monotone transformation of the Studentized mean (P. Hall, "On the
+/// removal of skewness by transformation", JRSS B 54, 221-228; recalled from
+/// memory and derived again here). The Edgeworth expansion of
+/// T = (mean - mu) / se is P(T <= x) = Phi(x) + gamma (2x^2 + 1) phi(x) /
+/// (6 sqrt n) + O(1/n); g(T) = T + a T^2 + a^2 T^3 / 3 + b with
+/// a = gamma / (3 sqrt n), b = gamma / (6 sqrt n) removes the first-order
+/// term, and g(T) = ((1 + a T)^3 - 1) / (3a) + b is increasing, so the set
+/// {mu : |g(T)| <= q} is the interval [mean - se g^-1(q), mean - se
+/// g^-1(-q)] with g^-1(u) = ((1 + 3a (u - b))^(1/3) - 1) / a. With
+/// gamma = 0 it is the symmetric mean +- q se. `q` is the Student-t
+/// quantile (the t interval's own, a little wider than Hall's normal one).
+pub fn skew_corrected(mean: f64, se: f64, skewness: f64, n: f64, q: f64) -> (f64, f64) {
+    let a = skewness / (3.0 * n.sqrt());
+    let b = skewness / (6.0 * n.sqrt());
+    let inverse = |u: f64| {
+        if a.abs() < 1e-12 {
+            u - b
+        } else {
+            ((1.0 + 3.0 * a * (u - b)).cbrt() - 1.0) / a
+        }
+    };
+    (mean - se * inverse(q), mean - se * inverse(-q))
+}
+
 /// The ratio-of-sums estimate of observations from independent
 /// replications: R = sum num / sum den, with the delta-method (linearised)
 /// variance s^2 = sum (num_i - R den_i)^2 / (n - 1), standard error
 /// s / (sqrt(n) mean den), and Student-t quantiles with n - 1 degrees of
 /// freedom (the usual estimator for regenerative or replicated ratios; Law
-/// and Kelton, "Simulation Modeling and Analysis", ratio estimators).
+/// and Kelton, "Simulation Modeling and Analysis", ratio estimators), made
+/// on the logit scale for a share of calls and corrected for the skewness
+/// of the residuals otherwise ([`skew_corrected`]).
 /// `call_share`: the observations are counts of calls with num <= den, and
 /// the interval is widened to contain the exact Clopper-Pearson interval of
 /// the pooled counts, so that few or no events never give a narrow interval.
@@ -660,23 +688,37 @@ pub fn ratio_estimate(obs: &[Obs], level: f64, call_share: bool) -> Estimate {
     let se = (ss / (nf - 1.0) / nf).sqrt() / (x / nf);
     let hw = t_factor(n, level) * se;
     let (mut low, mut high) = (r - hw, r + hw);
-    // The delta interval is made on a scale where the estimate is closer to
-    // normal, then mapped back (same width to first order): the log scale
-    // for a positive ratio that is not a share (a mean wait, right-skewed
-    // when a few congested periods hold most of the waiting), the logit
-    // scale for a share of calls (right-skewed near 0, left-skewed near 1).
-    // Measured with the coverage harness: mean wait of Erlang C (14 agents
-    // at 86%, 40 half-hour replications) 90.6% coverage on the linear
-    // scale, 92.5% on the log scale; a 0.79% overflow loss from 30
-    // replications 90.8% linear.
+    // A share of calls: the delta interval is made on the logit scale, where
+    // the estimate is closer to normal (right-skewed near 0, left-skewed
+    // near 1), then mapped back (same width to first order). Measured with
+    // the coverage harness: a 0.79% overflow loss from 30 replications
+    // 90.8% coverage on the linear scale, 96.4% on the logit scale.
     if call_share && r > 0.0 && r < 1.0 {
         let logit = |p: f64| (p / (1.0 - p)).ln();
         let back = |x: f64| 1.0 / (1.0 + (-x).exp());
         let h = hw / (r * (1.0 - r));
         (low, high) = (back(logit(r) - h), back(logit(r) + h));
     } else if !call_share && r > 0.0 {
-        let f = (hw / r).exp();
-        (low, high) = (r / f, r * f);
+        // A mean wait (or interruptions or attempts per call) has no exact
+        // bound to lean on, and its per-replication sums are right-skewed
+        // (a few congested spells hold most of the waiting): the Studentized
+        // ratio is then left-skewed, and a symmetric interval misses high.
+        // The skewness of the linearised residuals corrects it
+        // ([`skew_corrected`]). Measured with the coverage harness (1,000
+        // studies each): the Erlang C mean wait from 40 half-hour
+        // replications covered 90.6% on the linear scale, 92.5% on the log
+        // scale used before, 94.8% corrected; from 20, 90.6% (log) and
+        // 93.4%; the urgent class of a pre-emptive group from 40 one-hour
+        // replications 90.5% and 92.9%.
+        let m3 = obs
+            .iter()
+            .filter(|o| !o.num.is_nan())
+            .map(|o| (o.num - r * o.den).powi(3))
+            .sum::<f64>()
+            / nf;
+        let m2 = ss / nf;
+        let skewness = if m2 > 0.0 { m3 / m2.powf(1.5) } else { 0.0 };
+        (low, high) = skew_corrected(r, se, skewness, nf, t_factor(n, level));
     }
     if call_share {
         let (cl, ch) = clopper_pearson(y, x, level);
@@ -877,9 +919,17 @@ mod tests {
         let e = ratio_estimate(&obs, 0.95, false);
         assert!((e.mean - 0.15).abs() < 1e-15);
         let se = (3.5f64 / 6.0).sqrt() / (40.0 / 3.0);
-        let hw = 4.302_652_7 * se;
-        assert!((e.high - 0.15 * (hw / 0.15).exp()).abs() < 1e-6);
-        assert!((e.low - 0.15 / (hw / 0.15).exp()).abs() < 1e-6);
+        // Skewness of the residuals: m3 = (-0.125 + 3.375 - 1) / 3 = 0.75,
+        // m2 = 3.5 / 3, gamma = m3 / m2^1.5; a = gamma / (3 sqrt 3),
+        // b = gamma / (6 sqrt 3); ends 0.15 - se g^-1(+-t).
+        let gamma = 0.75 / (3.5f64 / 3.0).powf(1.5);
+        let (a, b) = (gamma / (3.0 * 3f64.sqrt()), gamma / (6.0 * 3f64.sqrt()));
+        let g_inv = |u: f64| ((1.0 + 3.0 * a * (u - b)).cbrt() - 1.0) / a;
+        let t = 4.302_652_7;
+        assert!((e.low - (0.15 - se * g_inv(t))).abs() < 1e-6);
+        assert!((e.high - (0.15 - se * g_inv(-t))).abs() < 1e-6);
+        // Right-skewed residuals: the upper end reaches further.
+        assert!(e.high - 0.15 > 0.15 - e.low);
         // Zero events never give a zero-width interval for a share of calls.
         let none = [Obs::ratio(0.0, 500.0); 4];
         let e = estimate_figure(Figure::Loss, &none, 0.95);
@@ -893,6 +943,73 @@ mod tests {
         ];
         let e = estimate_figure(Figure::Loss, &few, 0.95);
         assert!(e.low >= 0.0 && e.high <= 1.0 && !e.is_symmetric());
+    }
+
+    #[test]
+    fn skew_correction_inverts_halls_transformation() {
+        // g(T) = T + a T^2 + a^2 T^3 / 3 + b (Hall 1992), written as the
+        // polynomial: each end of the interval maps back to -q or +q.
+        for &(gamma, n) in &[
+            (0.0, 10.0),
+            (0.8, 10.0),
+            (2.0, 40.0),
+            (-1.5, 20.0),
+            (6.0, 40.0),
+        ] {
+            let (mean, se, q) = (10.0, 2.0, 2.02);
+            let (low, high) = skew_corrected(mean, se, gamma, n, q);
+            let a = gamma / (3.0 * f64::sqrt(n));
+            let b = gamma / (6.0 * f64::sqrt(n));
+            let g = |t: f64| t + a * t * t + a * a * t * t * t / 3.0 + b;
+            // T = (mean - mu) / se at mu = low is +q, at mu = high -q.
+            assert!((g((mean - low) / se) - q).abs() < 1e-9, "{gamma} {n}");
+            assert!((g((mean - high) / se) + q).abs() < 1e-9, "{gamma} {n}");
+            assert!(low < mean && mean < high);
+            if gamma == 0.0 {
+                assert!(
+                    (high - mean - q * se).abs() < 1e-12 && (mean - low - q * se).abs() < 1e-12
+                );
+            }
+        }
+    }
+
+    #[test]
+    fn skew_correction_covers_the_mean_of_exponential_samples() {
+        // The mean of 10 exponential values (skewness 2): the t interval
+        // misses high (about 90% coverage at n = 10: Boos and Hughes-Oliver
+        // 2000, "How large does n have to be for Z and t intervals?",
+        // recalled from memory); Hall's correction brings it near 95%.
+        // 20,000 samples (coverage se 0.15%), a fixed seed: t 89.95%,
+        // corrected 93.6%.
+        use rand::SeedableRng;
+        use rand_distr::{Distribution, Exp};
+        let mut rng = rand_xoshiro::Xoshiro256PlusPlus::seed_from_u64(7);
+        let law = Exp::new(1.0).expect("rate 1");
+        let (n, samples) = (10usize, 20_000);
+        let q = t_quantile(n as u64 - 1, 0.975);
+        let (mut t_hits, mut hall_hits) = (0, 0);
+        for _ in 0..samples {
+            let x: Vec<f64> = (0..n).map(|_| law.sample(&mut rng)).collect();
+            let nf = n as f64;
+            let mean = x.iter().sum::<f64>() / nf;
+            let ss: f64 = x.iter().map(|v| (v - mean).powi(2)).sum();
+            let se = (ss / (nf - 1.0) / nf).sqrt();
+            let m2 = ss / nf;
+            let m3 = x.iter().map(|v| (v - mean).powi(3)).sum::<f64>() / nf;
+            let (low, high) = skew_corrected(mean, se, m3 / m2.powf(1.5), nf, q);
+            hall_hits += usize::from(low <= 1.0 && 1.0 <= high);
+            t_hits += usize::from((mean - 1.0).abs() <= q * se);
+        }
+        let (t_cov, hall_cov) = (
+            t_hits as f64 / samples as f64,
+            hall_hits as f64 / samples as f64,
+        );
+        assert!(t_cov < 0.92, "t interval {t_cov}");
+        assert!(
+            hall_cov > t_cov + 0.02 && hall_cov > 0.925,
+            "t {t_cov}, corrected {hall_cov}"
+        );
+        assert!(hall_cov < 0.97, "corrected {hall_cov}");
     }
 
     #[test]
