@@ -10,13 +10,15 @@
 //! `goals`, `scale`), so messages read `scale: ...` where the binary's say
 //! `--scale: ...`; the text after the name is the library's own message.
 
+use crate::experiment::cost::{self, CostError};
 use crate::experiment::size::{self, Goal, GoalError, SizeOptions};
+use crate::experiment::staffing;
 use crate::experiment::sweep::{self, Sweep, SweepError};
 use crate::experiment::{self, ExperimentError, RunOptions};
 use crate::records::{self, RecordsError};
 use crate::report::{
-    CheckDocument, CompareDocument, ExplainDocument, RunDocument, SizeDocument, SweepDocument,
-    records::RecordsDocument,
+    CheckDocument, CompareDocument, CostDocument, ExplainDocument, RunDocument, SizeDocument,
+    StaffingDocument, SweepDocument, records::RecordsDocument,
 };
 use crate::scenario::{self, Model, Replications, ScenarioError};
 use crate::stats::Figure;
@@ -234,7 +236,7 @@ pub fn size(
         return Err(argument(
             "goals",
             format!(
-                "'{g}': sizing for the least cost is the binary's `size --goal cost`; give goals on figures here"
+                "'{g}' stands alone: the least-cost size is its own request (size_cost; in Python size(goals=\"cost\")), and the cost already prices lost and waiting calls"
             ),
         ));
     }
@@ -259,6 +261,123 @@ pub fn size(
     let result = size::size(&model, index, goals, &how, opts)?;
     let partial = result.partial;
     Ok((SizeDocument::new(&model, file, &result), partial))
+}
+
+/// The index of the group named `group` of `model`, or the argument's
+/// error naming `file`.
+fn group_named(model: &Model, file: &str, group: &str) -> Result<usize, ApiError> {
+    model.group_index(group).ok_or_else(|| {
+        argument(
+            "group",
+            format!("{group}: no group of {file} has that name"),
+        )
+    })
+}
+
+/// `size --goal cost`: the size of `group` with the least expected total
+/// cost under the scenario's `[prices]`, with the cost curve, as the
+/// document `busyhour size --goal cost --json` prints.
+pub fn size_cost(
+    model: &Model,
+    file: &str,
+    group: &str,
+    overrides: &Overrides,
+    opts: &RunOptions,
+) -> Result<(CostDocument, bool), ApiError> {
+    overrides.check()?;
+    let mut model = model.clone();
+    overrides.apply(&mut model);
+    let index = group_named(&model, file, group)?;
+    let sizing =
+        cost::size_for_cost(&model, index, overrides.plan(&model), opts).map_err(|e| match e {
+            CostError::Run(e) => ApiError::Experiment(e),
+            e => argument("prices", e),
+        })?;
+    let partial = sizing.partial;
+    Ok((CostDocument::new(&model, file, &sizing), partial))
+}
+
+/// `size --per-interval`: the fewest servers of `group` in each reporting
+/// interval for which every interval meets every goal (at most `rounds`
+/// simulations of the day), beside the formulas' requirements, and the
+/// shift plan where the group has `shift_types`, as the document
+/// `busyhour size --per-interval --json` prints (not its `--scenario-out`).
+pub fn staffing(
+    model: &Model,
+    file: &str,
+    group: &str,
+    goal_texts: &[String],
+    overrides: &Overrides,
+    rounds: u32,
+    opts: &RunOptions,
+) -> Result<(StaffingDocument, bool), ApiError> {
+    overrides.check()?;
+    if goal_texts.is_empty() {
+        return Err(argument(
+            "goals",
+            "give at least one goal, like \"service_level>=80%\"",
+        ));
+    }
+    if !(2..=1000).contains(&rounds) {
+        return Err(argument(
+            "rounds",
+            format!("{rounds}: expected 2 to 1000 simulations of the day"),
+        ));
+    }
+    let mut model = model.clone();
+    overrides.apply(&mut model);
+    if model.plan.interval_s.is_none() {
+        return Err(argument(
+            "scenario",
+            format!(
+                "{file}: staffing sizes each reporting interval: give interval = \"30m\" (or another length) in [simulation]"
+            ),
+        ));
+    }
+    let index = group_named(&model, file, group)?;
+    let goals = goals(goal_texts, &model, index).map_err(|e| argument("goals", e))?;
+    if let Some(g) = staffing::not_per_interval(&model, &goals) {
+        return Err(argument(
+            "goals",
+            format!("{}: {}", g.text, staffing::NOT_PER_INTERVAL),
+        ));
+    }
+    let references = staffing::references(&model, index, &goals);
+    let start = staffing::formula_start(&references);
+    let plan = overrides.plan(&model);
+    let staffed = staffing::staff(
+        &model,
+        index,
+        &goals,
+        &start,
+        Some(plan.clone()),
+        opts,
+        rounds,
+    )?;
+    let partial = staffed.result.partial;
+    let shifts = if model.groups[index].shift_types.is_empty() || partial || !staffed.met {
+        None
+    } else {
+        Some(staffing::shift_plan(
+            &model,
+            index,
+            &goals,
+            &staffed.servers,
+            Some(plan),
+            opts,
+        )?)
+    };
+    let partial = partial || shifts.as_ref().is_some_and(|s| s.result.partial);
+    let doc = StaffingDocument::new(
+        &model,
+        file,
+        index,
+        &goals,
+        &references,
+        &staffed,
+        shifts.as_ref(),
+    );
+    Ok((doc, partial))
 }
 
 /// `compare`: design B against design A on A's plan with common random

@@ -149,3 +149,81 @@ fn unknown_figures_and_groups_are_named() {
         "group: nobody: no group of t.toml has that name"
     );
 }
+
+/// The binary's `--json` output for `args`.
+fn binary_json(args: &[&str]) -> String {
+    let out = std::process::Command::new(env!("CARGO_BIN_EXE_busyhour"))
+        .args(args)
+        .args(["--json", "--quiet"])
+        .env("SOURCE_DATE_EPOCH", "0")
+        .output()
+        .expect("the binary runs");
+    assert!(out.status.code().is_some_and(|c| c <= 1), "{out:?}");
+    String::from_utf8(out.stdout).expect("UTF-8")
+}
+
+/// A document's JSON without `wall_s`, the one key that depends on the
+/// machine's speed.
+fn without_wall(json: &str) -> serde_json::Value {
+    let mut v: serde_json::Value = serde_json::from_str(json).expect("JSON");
+    if let Some(m) = v.as_object_mut() {
+        m.remove("wall_s");
+    }
+    v
+}
+
+#[test]
+fn size_cost_and_staffing_give_the_binarys_documents() {
+    let opts = RunOptions::default();
+    let reps = Overrides {
+        replications: Some(20),
+        ..Overrides::default()
+    };
+    let file = "scenarios/gateway-costs.toml";
+    let model = scenario::load(Path::new(file)).unwrap();
+    let (doc, partial) = api::size_cost(&model, file, "ports", &reps, &opts).unwrap();
+    assert!(!partial);
+    let expected = binary_json(&[
+        "size",
+        file,
+        "--group",
+        "ports",
+        "--goal",
+        "cost",
+        "--replications",
+        "20",
+    ]);
+    assert_eq!(
+        without_wall(&render(Format::Json, &doc).unwrap()),
+        without_wall(&expected)
+    );
+
+    let file = "scenarios/clinic-day.toml";
+    let model = scenario::load(Path::new(file)).unwrap();
+    let goals = ["service_level>=80%".to_string()];
+    let (doc, _) = api::staffing(&model, file, "agents", &goals, &reps, 6, &opts).unwrap();
+    let expected = binary_json(&[
+        "size",
+        file,
+        "--group",
+        "agents",
+        "--goal",
+        "service_level>=80%",
+        "--per-interval",
+        "--rounds",
+        "6",
+        "--replications",
+        "20",
+    ]);
+    assert_eq!(
+        without_wall(&render(Format::Json, &doc).unwrap()),
+        without_wall(&expected)
+    );
+    // The least-cost size needs prices.
+    let e = api::size_cost(&model, file, "agents", &reps, &opts).unwrap_err();
+    assert!(
+        e.to_string()
+            .starts_with("prices: the scenario has no [prices]"),
+        "{e}"
+    );
+}

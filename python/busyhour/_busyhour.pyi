@@ -44,6 +44,26 @@ def size(
     decide_within: Optional[int] = None,
     threads: Optional[int] = None,
 ) -> str: ...
+def size_cost(
+    model: Model,
+    group: str,
+    replications: Optional[int] = None,
+    precision: Optional[float] = None,
+    max_replications: Optional[int] = None,
+    seed: Optional[int] = None,
+    threads: Optional[int] = None,
+) -> str: ...
+def staffing(
+    model: Model,
+    group: str,
+    goals: List[str],
+    rounds: int = 40,
+    replications: Optional[int] = None,
+    precision: Optional[float] = None,
+    max_replications: Optional[int] = None,
+    seed: Optional[int] = None,
+    threads: Optional[int] = None,
+) -> str: ...
 def sweep(
     model: Model,
     scale: Optional[str] = None,

@@ -32,6 +32,7 @@ __all__ = [
     "check",
     "run",
     "size",
+    "staffing",
     "sweep",
     "records",
     "compare",
@@ -39,6 +40,8 @@ __all__ = [
     "CheckResult",
     "RunResult",
     "SizeResult",
+    "CostResult",
+    "StaffingResult",
     "SweepResult",
     "RecordsResult",
     "CompareResult",
@@ -331,6 +334,107 @@ class SizeResult(_Result):
         return _frame(rows, columns)
 
 
+class CostResult(_Result):
+    """The result of :func:`size` with ``goals="cost"``: the size of least
+    expected total cost under the scenario's ``[prices]``."""
+
+    @property
+    def servers(self) -> Optional[int]:
+        """The size of least expected cost (a whole number of modules)."""
+        return self._doc["servers"]
+
+    @property
+    def formula_servers(self) -> Optional[int]:
+        """The closed-form optimum (Erlang B's marginal rule), where it
+        applies."""
+        return self._doc["formula_servers"]
+
+    @property
+    def decided(self) -> bool:
+        """Whether the least-cost size beats its neighbours on paired
+        seeds beyond their intervals."""
+        return self._doc["decided"]
+
+    def to_frame(self):
+        """The cost curve, one row per size and part (``servers_cost``,
+        ``lost_calls_cost``, ``abandoned_calls_cost``, ``waiting_cost``,
+        ``total``): ``servers``, ``part``, the estimate (``mean``,
+        ``half_width``, ``low``, ``high``, ``replications``) and, on the
+        total, the closed form's total where Erlang B applies."""
+        parts = ["servers_cost", "lost_calls_cost", "abandoned_calls_cost", "waiting_cost", "total"]
+        rows = []
+        for point in self._doc["curve"]:
+            for part in parts:
+                est = point.get(part) or {}
+                rows.append(
+                    {
+                        "servers": point["servers"],
+                        "part": part,
+                        "mean": est.get("mean"),
+                        "half_width": est.get("half_width"),
+                        "low": est.get("low"),
+                        "high": est.get("high"),
+                        "replications": est.get("replications"),
+                        "formula_total": point.get("formula_total") if part == "total" else None,
+                    }
+                )
+        columns = ["servers", "part", "mean", "half_width", "low", "high", "replications", "formula_total"]
+        return _frame(rows, columns)
+
+
+class StaffingResult(_Result):
+    """The result of :func:`staffing`: servers per reporting interval."""
+
+    @property
+    def met(self) -> bool:
+        """Whether every interval meets every goal under the simulated plan."""
+        return self._doc["met"]
+
+    @property
+    def servers(self) -> List[int]:
+        """The simulated plan's servers taking calls, one per interval."""
+        return [i["servers"] for i in self._doc["intervals"]]
+
+    @property
+    def scheduled(self) -> List[int]:
+        """The simulated plan's servers to schedule (shrinkage added)."""
+        return [i["scheduled"] for i in self._doc["intervals"]]
+
+    def to_frame(self):
+        """One row per interval and goal: ``start_s``, ``end_s``,
+        ``offered_traffic``, the requirements (``stationary``,
+        ``modified``, ``servers`` simulated, ``scheduled``), the goal, its
+        ``verdict`` and the estimate under the simulated plan (``mean``,
+        ``half_width``, ``low``, ``high``, ``replications``)."""
+        rows = []
+        for i in self._doc["intervals"]:
+            for g in i["goals"]:
+                est = g.get("estimate") or {}
+                rows.append(
+                    {
+                        "start_s": i["start_s"],
+                        "end_s": i["end_s"],
+                        "offered_traffic": i["offered_traffic"],
+                        "stationary": i["stationary"],
+                        "modified": i["modified"],
+                        "servers": i["servers"],
+                        "scheduled": i["scheduled"],
+                        "goal": g["goal"],
+                        "verdict": g["verdict"],
+                        "mean": est.get("mean"),
+                        "half_width": est.get("half_width"),
+                        "low": est.get("low"),
+                        "high": est.get("high"),
+                        "replications": est.get("replications"),
+                    }
+                )
+        columns = [
+            "start_s", "end_s", "offered_traffic", "stationary", "modified", "servers", "scheduled",
+            "goal", "verdict", "mean", "half_width", "low", "high", "replications",
+        ]
+        return _frame(rows, columns)
+
+
 class SweepResult(_Result):
     """The result of :func:`sweep`."""
 
@@ -515,12 +619,29 @@ def size(
     seed: Optional[int] = None,
     decide_within: Optional[int] = None,
     threads: Optional[int] = None,
-) -> SizeResult:
+) -> Union[SizeResult, CostResult]:
     """The fewest servers on ``group`` for which every goal holds, as
     ``busyhour size``: goals as the binary writes them (``"loss<=1%"``,
-    ``"office.service_level>=80%"``, ``"wait_p90<=30s"``)."""
+    ``"office.service_level>=80%"``, ``"wait_p90<=30s"``). ``goals="cost"``
+    alone asks instead for the size of least expected cost under the
+    scenario's ``[prices]`` (``busyhour size --goal cost``) and returns a
+    :class:`CostResult`."""
     s = _scenario(scenario)
     goal_list = [goals] if isinstance(goals, str) else list(goals)
+    if [g.strip() for g in goal_list] == ["cost"]:
+        if decide_within is not None:
+            raise ValueError("decide_within: the least-cost size decides on the replications asked for; leave it out")
+        return CostResult(
+            _busyhour.size_cost(
+                s._model,
+                group,
+                replications=replications,
+                precision=precision,
+                max_replications=max_replications,
+                seed=seed,
+                threads=threads,
+            )
+        )
     return SizeResult(
         _busyhour.size(
             s._model,
@@ -531,6 +652,41 @@ def size(
             max_replications=max_replications,
             seed=seed,
             decide_within=decide_within,
+            threads=threads,
+        )
+    )
+
+
+def staffing(
+    scenario: Union[Scenario, Mapping[str, Any], PathLike],
+    *,
+    group: str,
+    goals: Union[str, Sequence[str]],
+    rounds: int = 40,
+    replications: Optional[int] = None,
+    precision: Optional[float] = None,
+    max_replications: Optional[int] = None,
+    seed: Optional[int] = None,
+    threads: Optional[int] = None,
+) -> StaffingResult:
+    """The fewest servers on ``group`` in each reporting interval (the
+    scenario needs ``interval`` in ``[simulation]``) for which every
+    interval meets every goal, as ``busyhour size --per-interval``: the
+    whole day is simulated again after each adjustment (at most ``rounds``
+    times), beside the stationary and modified-offered-load requirements,
+    and, where the group has ``shift_types``, the shift plan covering it."""
+    s = _scenario(scenario)
+    goal_list = [goals] if isinstance(goals, str) else list(goals)
+    return StaffingResult(
+        _busyhour.staffing(
+            s._model,
+            group,
+            goal_list,
+            rounds=rounds,
+            replications=replications,
+            precision=precision,
+            max_replications=max_replications,
+            seed=seed,
             threads=threads,
         )
     )

@@ -428,6 +428,54 @@ fn size(
     to_json(&doc)
 }
 
+/// `size --goal cost`: the JSON document.
+#[pyfunction]
+#[pyo3(signature = (model, group, replications=None, precision=None, max_replications=None, seed=None, threads=None))]
+#[allow(clippy::too_many_arguments)]
+fn size_cost(
+    py: Python<'_>,
+    model: &PyModel,
+    group: &str,
+    replications: Option<u32>,
+    precision: Option<f64>,
+    max_replications: Option<u32>,
+    seed: Option<u64>,
+    threads: Option<usize>,
+) -> PyResult<String> {
+    let o = overrides(replications, precision, max_replications, seed);
+    let threads = threads_of(threads)?;
+    let (doc, _) = interruptible(py, threads, |opts| {
+        api::size_cost(&model.model, &model.file, group, &o, opts)
+    })?
+    .map_err(py_error)?;
+    to_json(&doc)
+}
+
+/// `size --per-interval`: the JSON document.
+#[pyfunction]
+#[pyo3(signature = (model, group, goals, rounds=40, replications=None, precision=None, max_replications=None, seed=None, threads=None))]
+#[allow(clippy::too_many_arguments)]
+fn staffing(
+    py: Python<'_>,
+    model: &PyModel,
+    group: &str,
+    goals: Vec<String>,
+    rounds: u32,
+    replications: Option<u32>,
+    precision: Option<f64>,
+    max_replications: Option<u32>,
+    seed: Option<u64>,
+    threads: Option<usize>,
+) -> PyResult<String> {
+    let o = overrides(replications, precision, max_replications, seed);
+    let threads = threads_of(threads)?;
+    let (doc, _) = interruptible(py, threads, |opts| {
+        api::staffing(&model.model, &model.file, group, &goals, &o, rounds, opts)
+    })?
+    .map_err(py_error)?;
+    to_json(&doc)
+}
+
 /// `sweep`: the JSON document.
 #[pyfunction]
 #[pyo3(signature = (model, scale=None, servers=None, figures=Vec::new(), goals=Vec::new(), replications=None, precision=None, max_replications=None, seed=None, threads=None))]
@@ -786,6 +834,8 @@ fn _busyhour(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add_function(wrap_pyfunction!(check, m)?)?;
     m.add_function(wrap_pyfunction!(run, m)?)?;
     m.add_function(wrap_pyfunction!(size, m)?)?;
+    m.add_function(wrap_pyfunction!(size_cost, m)?)?;
+    m.add_function(wrap_pyfunction!(staffing, m)?)?;
     m.add_function(wrap_pyfunction!(sweep, m)?)?;
     m.add_function(wrap_pyfunction!(records, m)?)?;
     m.add_function(wrap_pyfunction!(compare, m)?)?;

@@ -88,6 +88,47 @@ def test_size_is_the_binarys_document(binary):
     assert frame.iloc[0]["servers"] == expected["servers"]
 
 
+def test_size_for_least_cost_is_the_binarys_document(binary):
+    path = SCENARIOS / "gateway-costs.toml"
+    args = ["--group", "ports", "--goal", "cost", "--replications", 40]
+    expected = binary_json(binary, "size", path, *args)
+    result = bh.size(path, group="ports", goals="cost", replications=40)
+    assert isinstance(result, bh.CostResult)
+    assert without_wall(result.to_dict()) == without_wall(expected)
+    assert result.servers == expected["servers"]
+    frame = result.to_frame()
+    assert len(frame) == 5 * len(expected["curve"])
+    best = frame[(frame["part"] == "total") & (frame["servers"] == result.servers)]
+    assert best.iloc[0]["mean"] == min(p["total"]["mean"] for p in expected["curve"])
+    # "cost" stands alone.
+    with pytest.raises(ValueError, match="^goals: 'cost' stands alone"):
+        bh.size(path, group="ports", goals=["cost", "loss<=1%"])
+
+
+def test_staffing_is_the_binarys_document(binary):
+    path = SCENARIOS / "clinic-day.toml"
+    goal = "service_level>=80%"
+    args = ["--group", "agents", "--goal", goal, "--per-interval", "--replications", 20, "--rounds", 6]
+    expected = binary_json(binary, "size", path, *args)
+    result = bh.staffing(path, group="agents", goals=goal, replications=20, rounds=6)
+    assert isinstance(result, bh.StaffingResult)
+    assert without_wall(result.to_dict()) == without_wall(expected)
+    assert result.servers == [i["servers"] for i in expected["intervals"]]
+    frame = result.to_frame()
+    assert len(frame) == len(expected["intervals"])
+    assert list(frame["scheduled"]) == result.scheduled
+
+
+def test_staffing_refuses_what_it_cannot_size():
+    with pytest.raises(ValueError, match="^scenario: .*queue.toml: staffing sizes each reporting interval"):
+        bh.staffing(GOLDEN_INPUTS / "queue.toml", group="agents", goals="service_level>=80%")
+    path = SCENARIOS / "clinic-day.toml"
+    with pytest.raises(ValueError, match="^goals: wait_p90<=30s: that figure is not reported per interval"):
+        bh.staffing(path, group="agents", goals="wait_p90<=30s")
+    with pytest.raises(ValueError, match="^rounds: 1: expected 2 to 1000"):
+        bh.staffing(path, group="agents", goals="service_level>=80%", rounds=1)
+
+
 def test_size_refuses_an_unknown_group_and_goal():
     path = GOLDEN_INPUTS / "queue.toml"
     with pytest.raises(ValueError, match="^group: nobody: no group of .*queue.toml has that name$"):

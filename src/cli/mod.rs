@@ -715,13 +715,8 @@ fn size_per_interval(a: &SizeArgs) -> Result<Status> {
             a.scenario.display()
         );
     }
-    for g in &goals {
-        if staffing::interval_goals(&model, std::slice::from_ref(g), 0).is_none() {
-            bail!(
-                "--goal {}: that figure is not reported per interval; per-interval goals are on loss, abandonment, wait_probability, wait_mean, service_level, occupancy and time_congestion",
-                g.text
-            );
-        }
+    if let Some(g) = staffing::not_per_interval(&model, &goals) {
+        bail!("--goal {}: {}", g.text, staffing::NOT_PER_INTERVAL);
     }
     let references = staffing::references(&model, group, &goals);
     let start = staffing::formula_start(&references);

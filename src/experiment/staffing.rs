@@ -111,6 +111,17 @@ pub struct StaffingPlan {
     pub partial: bool,
 }
 
+/// Why a goal cannot be staffed per interval, after the goal's text.
+pub const NOT_PER_INTERVAL: &str = "that figure is not reported per interval; per-interval goals are on loss, abandonment, wait_probability, wait_mean, service_level, occupancy and time_congestion";
+
+/// The first of `goals` whose figure is not reported per interval
+/// ([`NOT_PER_INTERVAL`]), if any.
+pub fn not_per_interval<'a>(model: &Model, goals: &'a [Goal]) -> Option<&'a Goal> {
+    goals
+        .iter()
+        .find(|g| interval_goals(model, std::slice::from_ref(g), 0).is_none())
+}
+
 /// The goals of interval `b`: each goal's targets moved to the interval
 /// (a stream figure to the stream's interval figure, a group figure to the
 /// group's); `None` when a goal's figure is not reported per interval.
