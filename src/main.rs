@@ -21,7 +21,8 @@ enum Command {
     Run(cli::RunArgs),
     /// Find the fewest servers (circuits, ports or agents) on one group for which every goal holds.
     Size(cli::SizeArgs),
-    /// Run the scenario at a series of load scales or group sizes.
+    /// Run the scenario at a series of load scales, group sizes or values of
+    /// any numeric setting, on the same seeds at every step.
     Sweep(cli::SweepArgs),
     /// Run two designs with the same random numbers and report each common
     /// figure of both with their paired difference and its 95% interval.

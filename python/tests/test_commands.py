@@ -213,15 +213,23 @@ def _assert_interrupted(interrupt):
     # LONG is about a minute of work (so that a lost interrupt fails the
     # test instead of hanging it); `interrupt` runs on a timer thread after
     # half a second.
+    #
+    # A process started in the background by a non-interactive shell (as a
+    # CI job may start this suite) inherits SIGINT ignored, and Python then
+    # leaves it ignored: no Ctrl-C could reach it, and interrupt_main does
+    # nothing (a fresh-clone CI run hung here). A terminal or a notebook has
+    # Python's own handler; the test installs it for its duration.
+    previous = signal.signal(signal.SIGINT, signal.default_int_handler)
     timer = threading.Timer(0.5, interrupt)
     timer.start()
     try:
         with pytest.raises(KeyboardInterrupt):
             bh.run(LONG)
+        # SIGINT's handler is the one it was before the call.
+        assert signal.getsignal(signal.SIGINT) is signal.default_int_handler
     finally:
         timer.cancel()
-    # SIGINT's handler is the one it was before the call.
-    assert signal.getsignal(signal.SIGINT) is signal.default_int_handler
+        signal.signal(signal.SIGINT, previous)
 
 
 def test_ctrl_c_stops_the_simulation_with_keyboard_interrupt():
