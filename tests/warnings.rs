@@ -185,3 +185,47 @@ fn long_calls_against_the_profile_interval_warn_without_failing_the_check() {
     assert!(stdout.contains("The scenario is valid."), "{stdout}");
     std::fs::remove_dir_all(&dir).ok();
 }
+
+/// `size` reports the warnings of the runs it judged: an empty start
+/// without warm-up shows its transient at the answer, in the table and the
+/// JSON (before, a size answer said nothing of it).
+#[test]
+fn size_reports_the_warnings_of_the_runs_it_judged() {
+    let dir = std::env::temp_dir().join(format!("busyhour-size-warn-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let file = dir.join("empty.toml");
+    std::fs::write(
+        &file,
+        "[simulation]\nlength = \"1h\"\nwarmup = \"0s\"\nstart = \"empty\"\nreplications = 40\nseed = 3\n\n\
+         [[group]]\nname = \"crews\"\nservers = 8\nqueue = \"unlimited\"\n\n\
+         [[stream]]\nname = \"calls\"\narrivals = { law = \"poisson\", rate = \"64/h\" }\n\
+         holding = { law = \"exponential\", mean = \"3m\" }\nroute = [\"crews\"]\n",
+    )
+    .unwrap();
+    let run = |json: bool| {
+        let mut c = std::process::Command::new(env!("CARGO_BIN_EXE_busyhour"));
+        c.arg("size")
+            .arg(&file)
+            .args(["--group", "crews", "--goal", "wait_mean<=10s", "--quiet"]);
+        if json {
+            c.arg("--json");
+        }
+        c.output().expect("the binary runs")
+    };
+    let table = String::from_utf8(run(false).stdout).unwrap();
+    assert!(
+        table.contains("Warning at ") && table.contains("a transient is visible"),
+        "{table}"
+    );
+    let doc: serde_json::Value = serde_json::from_slice(&run(true).stdout).unwrap();
+    let warnings = doc["at_answer"]["warnings"]
+        .as_array()
+        .expect("warnings at the answer");
+    assert!(
+        warnings.iter().any(|w| w
+            .as_str()
+            .is_some_and(|w| w.contains("warm-up (0 s) is shorter"))),
+        "{warnings:?}"
+    );
+    let _ = std::fs::remove_dir_all(&dir);
+}

@@ -93,6 +93,9 @@ pub struct SizeEvaluation {
     pub verdict: Verdict,
     /// Each goal, in the order given.
     pub goals: Vec<GoalAtSize>,
+    /// The warnings of the runs judged at that size (a visible transient,
+    /// mean waits resting on a few replications), as sentences.
+    pub warnings: Vec<String>,
 }
 
 /// One size the search tried.
@@ -156,6 +159,16 @@ pub struct SizeDocument {
 }
 
 impl SizeDocument {
+    /// Each warning of the runs at the answer and at one server fewer, with
+    /// the size it was seen at.
+    fn judged_warnings(&self) -> Vec<(&String, &SizeEvaluation)> {
+        [&self.at_answer, &self.one_fewer]
+            .into_iter()
+            .flatten()
+            .flat_map(|e| e.warnings.iter().map(move |w| (w, e)))
+            .collect()
+    }
+
     /// The document of a sizing of `model` (read from `file`).
     pub fn new(model: &Model, file: &str, r: &SizeResult) -> SizeDocument {
         let owner = |scope: Scope| match scope {
@@ -167,6 +180,7 @@ impl SizeDocument {
             servers: e.servers,
             replications: e.outcome.replications,
             verdict: e.verdict(),
+            warnings: e.outcome.warnings.iter().map(|w| w.to_string()).collect(),
             goals: (r
                 .goals
                 .iter()
@@ -446,6 +460,12 @@ smallest size shown to meet them and may be one more than needed.",
             title: "Sizes tried".into(),
             rows: tried,
         }));
+        for (w, e) in self.judged_warnings() {
+            blocks.push(Block::Paragraph(format!(
+                "Warning at {} {}: {w}",
+                e.servers, self.what
+            )));
+        }
         if let Some(svg) = chart {
             blocks.push(Block::Svg(svg.to_string()));
         }
@@ -531,6 +551,9 @@ the answer is the smallest size shown to meet them, and may be one more than nee
             })
             .collect();
         out.push_str(&format!("\nSizes tried: {}\n", tried.join(", ")));
+        for (w, e) in self.judged_warnings() {
+            out.push_str(&format!("Warning at {} {}: {w}\n", e.servers, self.what));
+        }
         out.push_str(&format!("Took {:.2} s.\nCaution: {CAUTION}\n", self.wall_s));
         out
     }
