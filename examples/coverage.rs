@@ -110,7 +110,7 @@ fn run(args: &Args) -> Result<bool, String> {
                 format!("{:.6} ± {:.6}", s.mean, s.se),
                 s.bias_se,
                 format!("{:.1}% ± {:.1}%", 100.0 * s.coverage, 100.0 * s.coverage_se),
-                100.0 * s.warned,
+                100.0 * s.warned(),
                 100.0 * s.relative_half_width,
                 if s.passes() { "pass" } else { "FAIL" },
                 c.source

@@ -250,12 +250,7 @@ pub fn size(
     }
     let mut model = model.clone();
     overrides.apply(&mut model);
-    let index = model.group_index(group).ok_or_else(|| {
-        argument(
-            "group",
-            format!("{group}: no group of {file} has that name"),
-        )
-    })?;
+    let index = group_named(&model, file, group)?;
     let goals = goals(goal_texts, &model, index).map_err(|e| argument("goals", e))?;
     let how = SizeOptions::new(&model, &goals, overrides.plan(&model), decide_within);
     let result = size::size(&model, index, goals, &how, opts)?;

@@ -16,7 +16,7 @@ pub const TRANSIENT_FALSE_ALARM: f64 = 0.01;
 /// A stream's or stage's mean wait (or interruptions per answered call)
 /// whose events fell in fewer replications than this gets a
 /// [`Warning::Sparse`]. Measured with the coverage harness (docs/coverage.md,
-/// `stress-preempt-8`: an urgent class waiting 0.45% of the time, 40
+/// `rare-urgent-waits`: an urgent class waiting 0.11% of the time, 40
 /// one-hour replications): studies with waits in 1 or 2 replications
 /// covered about 84%, in 3 or more 99%; 5 leaves a margin.
 pub const SPARSE_BELOW: u64 = 5;

@@ -686,7 +686,8 @@ pub fn ratio_estimate(obs: &[Obs], level: f64, call_share: bool) -> Estimate {
         .sum();
     let nf = n as f64;
     let se = (ss / (nf - 1.0) / nf).sqrt() / (x / nf);
-    let hw = t_factor(n, level) * se;
+    let t = t_factor(n, level);
+    let hw = t * se;
     let (mut low, mut high) = (r - hw, r + hw);
     // A share of calls: the delta interval is made on the logit scale, where
     // the estimate is closer to normal (right-skewed near 0, left-skewed
@@ -718,7 +719,7 @@ pub fn ratio_estimate(obs: &[Obs], level: f64, call_share: bool) -> Estimate {
             / nf;
         let m2 = ss / nf;
         let skewness = if m2 > 0.0 { m3 / m2.powf(1.5) } else { 0.0 };
-        (low, high) = skew_corrected(r, se, skewness, nf, t_factor(n, level));
+        (low, high) = skew_corrected(r, se, skewness, nf, t);
     }
     if call_share {
         let (cl, ch) = clopper_pearson(y, x, level);
